@@ -1,0 +1,125 @@
+package evidence
+
+import "math"
+
+// sokalWindow is the c of Sokal's automatic windowing: the autocorrelation
+// sum is truncated at the first lag M with M >= c tau(M).
+const sokalWindow = 5
+
+// autocorrTime returns the integrated autocorrelation time
+//
+//	tau = 1 + 2 sum_{t=1}^{M} rho(t)
+//
+// of g with Sokal's automatic window, and whether the window closed before
+// lag len(g)/2 (if not, tau is a lower bound). A constant series has tau = 1.
+// It allocates nothing: autocovariances are computed lag by lag, which costs
+// O(len(g) M) and M is a few tau.
+func autocorrTime(g []float64) (tau float64, ok bool) {
+	n := len(g)
+	if n < 2 {
+		return 1, false
+	}
+	var mean float64
+	for _, v := range g {
+		mean += v
+	}
+	mean /= float64(n)
+	var c0 float64
+	for _, v := range g {
+		d := v - mean
+		c0 += d * d
+	}
+	if c0 == 0 || math.IsNaN(c0) {
+		return 1, true
+	}
+	tau = 1
+	for t := 1; t < n/2; t++ {
+		var ct float64
+		for i := 0; i+t < n; i++ {
+			ct += (g[i] - mean) * (g[i+t] - mean)
+		}
+		tau += 2 * ct / c0
+		if float64(t) >= sokalWindow*tau {
+			if tau < 1/float64(n) {
+				// Strongly anticorrelated series: keep the error positive.
+				tau = 1 / float64(n)
+			}
+			return tau, true
+		}
+	}
+	return math.Max(tau, 1/float64(n)), false
+}
+
+// obmVarOfMean returns the overlapping-batch-means estimate of the variance
+// of the mean of g with batch length b (Meketon & Schmeiser 1984):
+//
+//	sigma^2 = n b / ((n - b)(n - b + 1)) sum_{j=0}^{n-b} (Ybar_j - Ybar)^2,
+//	Var(Ybar) = sigma^2 / n,
+//
+// where Ybar_j is the mean of g[j:j+b]. For b = 1 it is the sample variance
+// over n. Batch sums slide along g, so nothing is allocated.
+func obmVarOfMean(g []float64, b int) float64 {
+	n := len(g)
+	if n < 2 {
+		return 0
+	}
+	if b < 1 {
+		b = 1
+	}
+	if b > n-1 {
+		b = n - 1
+	}
+	var mean float64
+	for _, v := range g {
+		mean += v
+	}
+	mean /= float64(n)
+	var win float64
+	for i := 0; i < b; i++ {
+		win += g[i] - mean
+	}
+	var ss float64
+	for j := 0; ; j++ {
+		d := win / float64(b)
+		ss += d * d
+		if j+b >= n {
+			break
+		}
+		win += g[j+b] - mean
+		win -= g[j] - mean
+	}
+	nb := float64(n - b)
+	sigma2 := float64(n) * float64(b) / (nb * (nb + 1)) * ss
+	return sigma2 / float64(n)
+}
+
+// seriesVar is the Monte-Carlo variance of the mean of one influence series
+// together with what was learnt on the way.
+type seriesVar struct {
+	varMean float64 // variance of the mean
+	tau     float64 // integrated autocorrelation time, in steps
+	batch   int     // batch length used
+	short   bool    // too few steps for the requested batch length
+}
+
+// minBatches is the least number of non-overlapping batch lengths the series
+// must hold for the batch-means variance to be usable (common practice:
+// 10 to 30 batches).
+const minBatches = 10
+
+// varOfMean estimates the variance of the mean of g with overlapping batch
+// means of length ceil(factor * tau).
+func varOfMean(g []float64, factor float64) seriesVar {
+	n := len(g)
+	tau, ok := autocorrTime(g)
+	b := int(math.Ceil(factor * tau))
+	if b < 1 {
+		b = 1
+	}
+	short := !ok
+	if limit := n / minBatches; b > limit {
+		b = max(limit, 1)
+		short = true
+	}
+	return seriesVar{varMean: obmVarOfMean(g, b), tau: tau, batch: b, short: short}
+}
