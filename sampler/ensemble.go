@@ -1,0 +1,534 @@
+package sampler
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"runtime"
+	"sync"
+)
+
+// Config sets up an Ensemble. The zero value of every field except Walkers
+// selects the documented default.
+type Config struct {
+	// Walkers is the number of walkers per rung: even and at least
+	// 2 x the dimension.
+	Walkers int
+	// Seed derives every random stream of the run.
+	Seed uint64
+	// Moves is the move mixture; nil means the stretch move with A = 2.
+	Moves []WeightedMove
+	// Betas is the ladder of inverse temperatures, cold rung first:
+	// Betas[0] = 1, strictly decreasing, the last >= 0. nil means {1}.
+	Betas []float64
+	// SwapEvery is the number of steps between swap rounds between
+	// neighbouring rungs; 0 means 1.
+	SwapEvery int
+	// AdaptLadder turns on ladder adaptation (Vousden, Farr & Mandel 2016)
+	// for the first AdaptSteps steps; the ladder is frozen afterwards.
+	AdaptLadder bool
+	// AdaptSteps is the length of the adaptation phase in steps; 0 means
+	// 1000 when AdaptLadder is set.
+	AdaptSteps int
+	// Workers is the number of goroutines evaluating densities; 0 means
+	// runtime.GOMAXPROCS(0). Results do not depend on it.
+	Workers int
+	// MinBatch is the least number of walker updates handed to one
+	// goroutine; 0 means DefaultMinBatch. Results do not depend on it.
+	MinBatch int
+	// Fingerprint identifies the data, model and settings of the run. It is
+	// stored in checkpoints and Restore refuses a checkpoint with another.
+	Fingerprint string
+}
+
+// DefaultMinBatch is the default least number of walker updates per
+// goroutine. It was chosen with BenchmarkHalfStep: for a density costing
+// about 0.3 µs, splitting fewer updates than this across goroutines costs
+// more in hand-off than it saves.
+const DefaultMinBatch = 16
+
+// maxInitTries caps the prior draws per walker when looking for a starting
+// point of finite density.
+const maxInitTries = 1000
+
+// errNoWalkers reports a configuration without walkers.
+var errNoWalkers = errors.New("sampler: no walkers")
+
+type rung struct {
+	pos    []float64 // walkers x dim
+	lp     []float64 // ln prior
+	ll     []float64 // ln likelihood
+	lpost  []float64 // lp + beta ll
+	acc    []int64   // accepted proposals per walker
+	pcg    []*rand.PCG
+	rng    []*rand.Rand
+	prop   []float64 // proposal scratch, walkers x dim
+	accept []bool    // per-walker outcome scratch for the current half
+}
+
+// An Ensemble is the state of an affine-invariant ensemble sampler
+// (Goodman & Weare 2010) with one ensemble per rung of a tempering ladder.
+// Use New, then call Step in a loop. An Ensemble is not safe for concurrent
+// use; Step itself parallelises the density evaluations.
+type Ensemble struct {
+	t        Target
+	cfg      Config
+	dim      int
+	nw       int
+	moves    []WeightedMove
+	cumW     []float64
+	betas    []float64
+	rungs    []rung
+	steps    int
+	swapPCG  *rand.PCG
+	swapRng  *rand.Rand
+	swapAcc  []int64
+	swapTry  []int64
+	roundAcc []float64
+	scratch  []float64
+	frozenAt int
+	workers  int
+	minBatch int
+	hist     *History
+	pool     *pool
+	wg       sync.WaitGroup
+	half     int // the half being updated, read by workers
+}
+
+// splitmix64 is the SplitMix64 output function (Steele, Lea & Flood 2014),
+// used to derive independent PCG seeds from the run seed and stream indices.
+func splitmix64(x uint64) uint64 {
+	x += 0x9e3779b97f4a7c15
+	x = (x ^ (x >> 30)) * 0xbf58476d1ce4e5b9
+	x = (x ^ (x >> 27)) * 0x94d049bb133111eb
+	return x ^ (x >> 31)
+}
+
+// streamPCG returns the PCG stream for (kind, a, b) derived from seed.
+func streamPCG(seed uint64, kind, a, b uint64) *rand.PCG {
+	h := splitmix64(seed ^ splitmix64(kind^splitmix64(a^splitmix64(b))))
+	return rand.NewPCG(h, splitmix64(h^0x5851f42d4c957f2d))
+}
+
+const (
+	streamWalker = 1
+	streamSwap   = 2
+	streamInit   = 3
+)
+
+// New checks cfg, draws the starting positions of every rung from the
+// prior (Target.Draw), redrawing points whose density is not finite, and
+// returns the ensemble at step 0.
+func New(t Target, cfg Config) (*Ensemble, error) {
+	e, err := build(t, cfg)
+	if err != nil {
+		return nil, err
+	}
+	if err := e.initialise(); err != nil {
+		return nil, err
+	}
+	e.startPool()
+	return e, nil
+}
+
+// build validates cfg and allocates the state without initialising it.
+func build(t Target, cfg Config) (*Ensemble, error) {
+	if t == nil {
+		return nil, errors.New("sampler: nil Target")
+	}
+	d := t.Dim()
+	if d < 1 {
+		return nil, fmt.Errorf("sampler: target dimension must be >= 1, got %d", d)
+	}
+	if cfg.Walkers <= 0 {
+		return nil, fmt.Errorf("%w: Walkers = %d, need an even number >= 2 x dimension = %d", errNoWalkers, cfg.Walkers, 2*d)
+	}
+	if cfg.Walkers < 2*d {
+		return nil, fmt.Errorf("sampler: %d walkers are too few for %d dimensions: need at least 2 x %d = %d", cfg.Walkers, d, d, 2*d)
+	}
+	if cfg.Walkers%2 != 0 {
+		return nil, fmt.Errorf("sampler: Walkers must be even (the ensemble is split in two halves), got %d", cfg.Walkers)
+	}
+	moves := cfg.Moves
+	if moves == nil {
+		moves = []WeightedMove{{Move: StretchMove{A: 2}, Weight: 1}}
+	}
+	if len(moves) == 0 {
+		return nil, errors.New("sampler: Moves is empty (nil means the stretch move)")
+	}
+	cum := make([]float64, len(moves))
+	total := 0.0
+	for i, m := range moves {
+		if m.Move == nil {
+			return nil, fmt.Errorf("sampler: Moves[%d].Move is nil", i)
+		}
+		if !(m.Weight > 0) || math.IsInf(m.Weight, 0) {
+			return nil, fmt.Errorf("sampler: Moves[%d].Weight must be finite and > 0, got %v", i, m.Weight)
+		}
+		if v, ok := m.Move.(interface{ validate() error }); ok {
+			if err := v.validate(); err != nil {
+				return nil, fmt.Errorf("Moves[%d]: %w", i, err)
+			}
+		}
+		if need := minOthers(m.Move); cfg.Walkers/2 < need {
+			return nil, fmt.Errorf("sampler: Moves[%d] needs %d walkers in each half, have %d", i, need, cfg.Walkers/2)
+		}
+		total += m.Weight
+		cum[i] = total
+	}
+	for i := range cum {
+		cum[i] /= total
+	}
+	cum[len(cum)-1] = 1
+	betas := cfg.Betas
+	if betas == nil {
+		betas = []float64{1}
+	}
+	if err := checkLadder(betas); err != nil {
+		return nil, err
+	}
+	betas = append([]float64(nil), betas...)
+	if cfg.SwapEvery < 0 {
+		return nil, fmt.Errorf("sampler: SwapEvery must be >= 0, got %d", cfg.SwapEvery)
+	}
+	if cfg.SwapEvery == 0 {
+		cfg.SwapEvery = 1
+	}
+	if cfg.AdaptSteps < 0 {
+		return nil, fmt.Errorf("sampler: AdaptSteps must be >= 0, got %d", cfg.AdaptSteps)
+	}
+	if cfg.AdaptLadder && cfg.AdaptSteps == 0 {
+		cfg.AdaptSteps = 1000
+	}
+	if !cfg.AdaptLadder {
+		cfg.AdaptSteps = 0
+	}
+	if cfg.Workers < 0 {
+		return nil, fmt.Errorf("sampler: Workers must be >= 0, got %d", cfg.Workers)
+	}
+	workers := cfg.Workers
+	if workers == 0 {
+		workers = runtime.GOMAXPROCS(0)
+	}
+	if cfg.MinBatch < 0 {
+		return nil, fmt.Errorf("sampler: MinBatch must be >= 0, got %d", cfg.MinBatch)
+	}
+	minBatch := cfg.MinBatch
+	if minBatch == 0 {
+		minBatch = DefaultMinBatch
+	}
+	nr := len(betas)
+	e := &Ensemble{
+		t: t, cfg: cfg, dim: d, nw: cfg.Walkers,
+		moves: moves, cumW: cum, betas: betas,
+		rungs:    make([]rung, nr),
+		swapAcc:  make([]int64, max(nr-1, 0)),
+		swapTry:  make([]int64, max(nr-1, 0)),
+		roundAcc: make([]float64, max(nr-1, 0)),
+		scratch:  make([]float64, nr),
+		frozenAt: cfg.AdaptSteps,
+		workers:  workers,
+		minBatch: minBatch,
+	}
+	nw := cfg.Walkers
+	for r := range e.rungs {
+		g := &e.rungs[r]
+		g.pos = make([]float64, nw*d)
+		g.prop = make([]float64, nw*d)
+		g.lp = make([]float64, nw)
+		g.ll = make([]float64, nw)
+		g.lpost = make([]float64, nw)
+		g.acc = make([]int64, nw)
+		g.accept = make([]bool, nw)
+		g.pcg = make([]*rand.PCG, nw)
+		g.rng = make([]*rand.Rand, nw)
+		for w := range nw {
+			g.pcg[w] = streamPCG(cfg.Seed, streamWalker, uint64(r), uint64(w))
+			g.rng[w] = rand.New(g.pcg[w])
+		}
+	}
+	e.swapPCG = streamPCG(cfg.Seed, streamSwap, 0, 0)
+	e.swapRng = rand.New(e.swapPCG)
+	return e, nil
+}
+
+// density evaluates ln prior and ln likelihood at x. ok is false when either
+// is not finite (LogLike is not called when the prior is not).
+func (e *Ensemble) density(x []float64) (lp, ll float64, ok bool) {
+	lp = e.t.LogPrior(x)
+	if math.IsNaN(lp) || math.IsInf(lp, 0) {
+		return lp, math.Inf(-1), false
+	}
+	ll = e.t.LogLike(x)
+	if math.IsNaN(ll) || math.IsInf(ll, 0) {
+		return lp, ll, false
+	}
+	return lp, ll, true
+}
+
+// lnPost returns lp + beta ll, treating beta = 0 exactly.
+func lnPost(beta, lp, ll float64) float64 {
+	if beta == 0 {
+		return lp
+	}
+	return lp + beta*ll
+}
+
+func (e *Ensemble) initialise() error {
+	d := e.dim
+	failed := 0
+	for r := range e.rungs {
+		g := &e.rungs[r]
+		for w := range e.nw {
+			rng := rand.New(streamPCG(e.cfg.Seed, streamInit, uint64(r), uint64(w)))
+			x := g.pos[w*d : w*d+d]
+			ok := false
+			for range maxInitTries {
+				e.t.Draw(rng, x)
+				lp, ll, fine := e.density(x)
+				if fine {
+					g.lp[w], g.ll[w] = lp, ll
+					g.lpost[w] = lnPost(e.betas[r], lp, ll)
+					ok = true
+					break
+				}
+			}
+			if !ok {
+				failed++
+			}
+		}
+	}
+	if failed > 0 {
+		return fmt.Errorf("sampler: initialisation: %d of %d walkers found no prior draw with finite log prior and log likelihood in %d tries each",
+			failed, e.nw*len(e.rungs), maxInitTries)
+	}
+	return nil
+}
+
+// Step advances every rung by one ensemble step (both halves) and, every
+// SwapEvery steps, proposes swaps between neighbouring rungs; during the
+// adaptation phase it then adapts the ladder. If Run has started a history,
+// the new state is recorded.
+func (e *Ensemble) Step() error {
+	for h := range 2 {
+		e.updateHalf(h)
+	}
+	e.steps++
+	if len(e.rungs) > 1 && e.steps%e.cfg.SwapEvery == 0 {
+		e.swap()
+		if e.steps <= e.cfg.AdaptSteps {
+			adaptLadder(e.betas, e.roundAcc, e.scratch, e.steps)
+			for r := range e.rungs {
+				g := &e.rungs[r]
+				for w := range e.nw {
+					g.lpost[w] = lnPost(e.betas[r], g.lp[w], g.ll[w])
+				}
+			}
+		}
+	}
+	if e.hist != nil {
+		e.hist.record(e)
+	}
+	return nil
+}
+
+// updateHalf updates walkers of half h in every rung against the other half.
+func (e *Ensemble) updateHalf(h int) {
+	hw := e.nw / 2
+	total := hw * len(e.rungs)
+	nb := min(e.workers, (total+e.minBatch-1)/e.minBatch)
+	e.half = h
+	if nb <= 1 || e.pool == nil {
+		e.updateRange(0, total)
+		return
+	}
+	size := (total + nb - 1) / nb
+	e.wg.Add(nb - 1)
+	for b := 1; b < nb; b++ {
+		lo := b * size
+		hi := min(lo+size, total)
+		e.pool.jobs <- job{e: e, lo: lo, hi: hi}
+	}
+	e.updateRange(0, min(size, total))
+	e.wg.Wait()
+}
+
+// updateRange updates flattened (rung, walker-of-half) indices [lo, hi).
+func (e *Ensemble) updateRange(lo, hi int) {
+	hw := e.nw / 2
+	d := e.dim
+	h := e.half
+	for j := lo; j < hi; j++ {
+		r := j / hw
+		w := h*hw + j%hw
+		g := &e.rungs[r]
+		o := (1 - h) * hw
+		others := g.pos[o*d : (o+hw)*d]
+		rng := g.rng[w]
+		m := e.moves[0].Move
+		if len(e.moves) > 1 {
+			u := rng.Float64()
+			for i, c := range e.cumW {
+				if u < c {
+					m = e.moves[i].Move
+					break
+				}
+			}
+		}
+		x := g.pos[w*d : w*d+d]
+		y := g.prop[w*d : w*d+d]
+		lnf := m.Propose(rng, x, others, hw, y)
+		lp, ll, ok := e.density(y)
+		if !ok {
+			continue
+		}
+		beta := e.betas[r]
+		post := lnPost(beta, lp, ll)
+		lnA := lnf + post - g.lpost[w]
+		if math.IsNaN(lnA) {
+			continue
+		}
+		if lnA >= 0 || math.Log(rng.Float64()) < lnA {
+			copy(x, y)
+			g.lp[w], g.ll[w], g.lpost[w] = lp, ll, post
+			g.acc[w]++
+		}
+	}
+}
+
+// swap proposes exchanges between walker i of rung k and walker i of rung
+// k+1 for every i, hottest pair first, with acceptance
+// min(1, exp((beta_k - beta_{k+1}) (lnL_{k+1} - lnL_k))).
+func (e *Ensemble) swap() {
+	d := e.dim
+	for k := len(e.rungs) - 2; k >= 0; k-- {
+		a, b := &e.rungs[k], &e.rungs[k+1]
+		db := e.betas[k] - e.betas[k+1]
+		n := 0
+		for w := range e.nw {
+			lnA := db * (b.ll[w] - a.ll[w])
+			if lnA >= 0 || math.Log(e.swapRng.Float64()) < lnA {
+				xa, xb := a.pos[w*d:w*d+d], b.pos[w*d:w*d+d]
+				for i := range d {
+					xa[i], xb[i] = xb[i], xa[i]
+				}
+				a.lp[w], b.lp[w] = b.lp[w], a.lp[w]
+				a.ll[w], b.ll[w] = b.ll[w], a.ll[w]
+				a.lpost[w] = lnPost(e.betas[k], a.lp[w], a.ll[w])
+				b.lpost[w] = lnPost(e.betas[k+1], b.lp[w], b.ll[w])
+				n++
+			}
+		}
+		e.swapAcc[k] += int64(n)
+		e.swapTry[k] += int64(e.nw)
+		e.roundAcc[k] = float64(n) / float64(e.nw)
+	}
+}
+
+// Steps returns the number of steps taken.
+func (e *Ensemble) Steps() int { return e.steps }
+
+// Rungs returns the number of rungs of the ladder.
+func (e *Ensemble) Rungs() int { return len(e.rungs) }
+
+// Walkers returns the number of walkers per rung.
+func (e *Ensemble) Walkers() int { return e.nw }
+
+// Dim returns the dimension of the target.
+func (e *Ensemble) Dim() int { return e.dim }
+
+// Beta returns the current inverse temperature of rung r (0 is the cold
+// rung, beta = 1).
+func (e *Ensemble) Beta(r int) float64 { return e.betas[r] }
+
+// Betas returns a copy of the current ladder, cold rung first.
+func (e *Ensemble) Betas() []float64 { return append([]float64(nil), e.betas...) }
+
+// LadderFrozenAt returns the step count after which the ladder no longer
+// changes: samples from steps > LadderFrozenAt() share one fixed ladder.
+// It is 0 when the ladder is not adapted.
+func (e *Ensemble) LadderFrozenAt() int { return e.frozenAt }
+
+// Positions returns the positions of rung r, walkers x dim row-major. The
+// slice is a read-only view valid until the next Step.
+func (e *Ensemble) Positions(r int) []float64 { return e.rungs[r].pos }
+
+// LnPrior returns ln prior of each walker of rung r (read-only view).
+func (e *Ensemble) LnPrior(r int) []float64 { return e.rungs[r].lp }
+
+// LnLike returns ln likelihood of each walker of rung r (read-only view).
+func (e *Ensemble) LnLike(r int) []float64 { return e.rungs[r].ll }
+
+// LnPost returns ln prior + beta ln likelihood of each walker of rung r
+// (read-only view).
+func (e *Ensemble) LnPost(r int) []float64 { return e.rungs[r].lpost }
+
+// AcceptanceFractions returns, per walker of rung r, the fraction of
+// proposals accepted so far (zeros before the first step).
+func (e *Ensemble) AcceptanceFractions(r int) []float64 {
+	g := &e.rungs[r]
+	f := make([]float64, e.nw)
+	if e.steps == 0 {
+		return f
+	}
+	for w, a := range g.acc {
+		f[w] = float64(a) / float64(e.steps)
+	}
+	return f
+}
+
+// SwapAcceptance returns, for each pair of neighbouring rungs (r, r+1), the
+// fraction of proposed swaps accepted so far.
+func (e *Ensemble) SwapAcceptance() []float64 {
+	f := make([]float64, len(e.swapAcc))
+	for k := range f {
+		if e.swapTry[k] > 0 {
+			f[k] = float64(e.swapAcc[k]) / float64(e.swapTry[k])
+		}
+	}
+	return f
+}
+
+// Close stops the worker goroutines. The Ensemble must not be stepped
+// afterwards. Unreferenced ensembles are cleaned up automatically, so
+// calling Close is optional.
+func (e *Ensemble) Close() {
+	if e.pool != nil {
+		e.pool.stop()
+		e.pool = nil
+	}
+}
+
+// A job is a contiguous batch of walker updates.
+type job struct {
+	e      *Ensemble
+	lo, hi int
+}
+
+// pool is a set of long-lived goroutines so that Step does not allocate.
+// The goroutines hold no reference to the Ensemble between jobs, so an
+// unreferenced Ensemble is collected and its cleanup stops them.
+type pool struct {
+	jobs chan job
+	once sync.Once
+}
+
+func (p *pool) stop() { p.once.Do(func() { close(p.jobs) }) }
+
+func (e *Ensemble) startPool() {
+	if e.workers <= 1 {
+		return
+	}
+	p := &pool{jobs: make(chan job, e.workers)}
+	for range e.workers - 1 {
+		go func(jobs <-chan job) {
+			for j := range jobs {
+				j.e.updateRange(j.lo, j.hi)
+				j.e.wg.Done()
+			}
+		}(p.jobs)
+	}
+	e.pool = p
+	runtime.AddCleanup(e, func(p *pool) { p.stop() }, p)
+}

@@ -1,0 +1,297 @@
+package sampler
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"math"
+	"time"
+)
+
+// History is the in-memory record Run keeps: the cold rung's positions and
+// every rung's ln likelihood after each recorded step. Recorded step s
+// (0-based) is ensemble step Start()+s+1.
+type History struct {
+	start   int
+	n       int
+	walkers int
+	dim     int
+	rungs   int
+	pos     []float64 // n x walkers x dim, cold rung
+	ll      []float64 // n x rungs x walkers
+}
+
+func newHistory(e *Ensemble) *History {
+	return &History{start: e.steps, walkers: e.nw, dim: e.dim, rungs: len(e.rungs)}
+}
+
+func (h *History) record(e *Ensemble) {
+	h.pos = append(h.pos, e.rungs[0].pos...)
+	for r := range e.rungs {
+		h.ll = append(h.ll, e.rungs[r].ll...)
+	}
+	h.n++
+}
+
+// Start returns the ensemble step count before the first recorded step.
+func (h *History) Start() int { return h.start }
+
+// Len returns the number of recorded steps.
+func (h *History) Len() int { return h.n }
+
+// Walkers returns the number of walkers per rung.
+func (h *History) Walkers() int { return h.walkers }
+
+// Dim returns the dimension.
+func (h *History) Dim() int { return h.dim }
+
+// Rungs returns the number of rungs.
+func (h *History) Rungs() int { return h.rungs }
+
+// Positions returns the cold rung's positions of recorded steps
+// [from, Len()), laid out x[((s-from)*walkers+w)*dim+k]; a read-only view.
+func (h *History) Positions(from int) []float64 {
+	from = min(max(from, 0), h.n)
+	return h.pos[from*h.walkers*h.dim:]
+}
+
+// Param returns parameter k of the cold rung for recorded steps
+// [from, Len()), laid out x[(s-from)*walkers+w] as the diagnostics expect.
+func (h *History) Param(k, from int) []float64 {
+	from = min(max(from, 0), h.n)
+	out := make([]float64, (h.n-from)*h.walkers)
+	for i := range out {
+		out[i] = h.pos[(from*h.walkers+i)*h.dim+k]
+	}
+	return out
+}
+
+// LnLike returns ln likelihood of rung r for recorded steps [from, Len()),
+// laid out x[(s-from)*walkers+w].
+func (h *History) LnLike(r, from int) []float64 {
+	from = min(max(from, 0), h.n)
+	out := make([]float64, 0, (h.n-from)*h.walkers)
+	for s := from; s < h.n; s++ {
+		o := (s*h.rungs + r) * h.walkers
+		out = append(out, h.ll[o:o+h.walkers]...)
+	}
+	return out
+}
+
+// Criteria are the convergence conditions of Run; a zero field is not
+// checked. All set conditions must hold at a check.
+type Criteria struct {
+	ESS         float64 // least effective sample size of every parameter after burn-in
+	TauMultiple float64 // least post-burn-in chain length in autocorrelation times
+	Rhat        float64 // largest split R-hat of every parameter
+}
+
+// RunOptions control Run. Step counts are ensemble step counts (as
+// Ensemble.Steps), so a resumed run keeps its schedule.
+type RunOptions struct {
+	MaxSteps   int      // stop here if not converged; must be > 0
+	MinSteps   int      // never stop as converged before this
+	Burn       int      // steps discarded; -1 chooses 5 tau after the ladder froze
+	Thin       int      // thinning for the products; 0 chooses max(1, floor(tau/2))
+	Until      Criteria // convergence conditions
+	CheckEvery int      // steps between convergence checks; 0 means 500
+	// OnStep, if not nil, is called after every step (to write chains); an
+	// error stops the run and is returned.
+	OnStep func(e *Ensemble) error
+	// OnCheck, if not nil, is called after every convergence check.
+	OnCheck func(Progress)
+}
+
+// Progress is what Run reports at every check.
+type Progress struct {
+	Steps     int           // ensemble steps so far
+	Rate      float64       // steps per second during this Run
+	MaxTau    float64       // largest autocorrelation time
+	MinESS    float64       // smallest ESS after burn-in
+	MaxRhat   float64       // largest split R-hat
+	Burn      int           // burn-in chosen at this check
+	Converged bool          // all criteria hold
+	ETA       time.Duration // estimated time to convergence; -1 if unknown
+}
+
+// Status says why Run returned.
+type Status int
+
+const (
+	// Converged: all criteria held at a check.
+	Converged Status = iota + 1
+	// MaxStepsReached: MaxSteps steps were taken without convergence.
+	MaxStepsReached
+	// Interrupted: the context was cancelled; the state after the last
+	// completed step can be checkpointed and resumed.
+	Interrupted
+)
+
+func (s Status) String() string {
+	switch s {
+	case Converged:
+		return "converged"
+	case MaxStepsReached:
+		return "maximum steps reached without convergence"
+	case Interrupted:
+		return "interrupted"
+	}
+	return fmt.Sprintf("Status(%d)", int(s))
+}
+
+// Result is the outcome of Run.
+type Result struct {
+	Status  Status
+	Steps   int    // ensemble steps at return
+	Burn    int    // ensemble steps discarded: samples are from steps > Burn
+	Thin    int    // chosen thinning
+	Report  Report // diagnostics of the cold rung after burn-in
+	History *History
+	// BurnIndex is the first History step after burn-in (History.Param(k,
+	// BurnIndex) etc. give the retained samples).
+	BurnIndex int
+	// LadderFrozenAt is Ensemble.LadderFrozenAt: every History step at or
+	// after index LadderFrozenAt-History.Start() used the final ladder Betas.
+	LadderFrozenAt int
+	Betas          []float64
+	SwapAcceptance []float64
+}
+
+// Run steps e until the criteria hold at a check, MaxSteps is reached or
+// ctx is cancelled, keeping the History (also saved by MarshalBinary, so a
+// restored ensemble resumes with the same decisions). On cancellation it
+// returns after the current step with Status Interrupted and an error
+// wrapping ctx.Err(); the Result is valid in every case.
+func Run(ctx context.Context, e *Ensemble, opt RunOptions) (Result, error) {
+	if opt.MaxSteps <= 0 {
+		return Result{}, fmt.Errorf("sampler: RunOptions.MaxSteps must be > 0, got %d", opt.MaxSteps)
+	}
+	if opt.Burn < -1 {
+		return Result{}, fmt.Errorf("sampler: RunOptions.Burn must be >= -1, got %d", opt.Burn)
+	}
+	if opt.Thin < 0 || opt.CheckEvery < 0 || opt.MinSteps < 0 {
+		return Result{}, errors.New("sampler: RunOptions.Thin, CheckEvery and MinSteps must be >= 0")
+	}
+	if opt.CheckEvery == 0 {
+		opt.CheckEvery = 500
+	}
+	if e.hist == nil {
+		e.hist = newHistory(e)
+	}
+	t0 := time.Now()
+	s0 := e.steps
+	var ev evaluation
+	evaluated := -1
+	status := MaxStepsReached
+	var runErr error
+	for e.steps < opt.MaxSteps {
+		if err := ctx.Err(); err != nil {
+			status, runErr = Interrupted, fmt.Errorf("sampler: run interrupted at step %d: %w", e.steps, err)
+			break
+		}
+		if err := e.Step(); err != nil {
+			return Result{}, err
+		}
+		if opt.OnStep != nil {
+			if err := opt.OnStep(e); err != nil {
+				return Result{}, fmt.Errorf("sampler: step %d: %w", e.steps, err)
+			}
+		}
+		if e.steps%opt.CheckEvery == 0 || e.steps == opt.MaxSteps {
+			ev = evaluate(e, opt)
+			evaluated = e.steps
+			if opt.OnCheck != nil {
+				opt.OnCheck(ev.progress(e, opt, t0, s0))
+			}
+			if ev.converged {
+				status = Converged
+				break
+			}
+		}
+	}
+	if evaluated != e.steps {
+		ev = evaluate(e, opt)
+	}
+	return Result{
+		Status: status, Steps: e.steps, Burn: ev.burn, Thin: ev.thin,
+		Report: ev.report, History: e.hist, BurnIndex: ev.burnIndex,
+		LadderFrozenAt: e.frozenAt, Betas: e.Betas(), SwapAcceptance: e.SwapAcceptance(),
+	}, runErr
+}
+
+type evaluation struct {
+	burn, burnIndex, thin int
+	report                Report
+	converged             bool
+	needSteps             float64 // post-burn steps the criteria need (estimate)
+}
+
+// evaluate applies the burn-in, thinning and convergence rules to the
+// history; it depends on nothing but the history and options.
+func evaluate(e *Ensemble, opt RunOptions) evaluation {
+	h := e.hist
+	ev := evaluation{thin: max(opt.Thin, 1), needSteps: math.NaN()}
+	first := max(e.frozenAt, h.start) // ensemble step after which samples are usable
+	u0 := first - h.start
+	burn := first
+	if opt.Burn >= 0 {
+		burn = max(opt.Burn, first)
+	} else if h.n-u0 >= 4 {
+		tau0 := 0.0
+		for k := range h.dim {
+			t, _ := AutocorrTime(h.Param(k, u0), h.n-u0, h.walkers)
+			if !math.IsNaN(t) {
+				tau0 = math.Max(tau0, t)
+			}
+		}
+		burn = first + int(math.Ceil(5*tau0))
+	}
+	ev.burn = burn
+	ev.burnIndex = min(burn-h.start, h.n)
+	n := h.n - ev.burnIndex
+	if n < 8 {
+		return ev
+	}
+	rep, err := Diagnose(h.Positions(ev.burnIndex), n, h.walkers, h.dim, e.AcceptanceFractions(0), nil)
+	if err != nil {
+		return ev
+	}
+	ev.report = rep
+	if opt.Thin == 0 && rep.MaxTau > 0 {
+		ev.thin = max(1, int(rep.MaxTau/2))
+	}
+	c := opt.Until
+	need := 0.0
+	ok := e.steps >= opt.MinSteps && (c.ESS > 0 || c.TauMultiple > 0 || c.Rhat > 0)
+	if c.ESS > 0 {
+		ok = ok && rep.MinESS >= c.ESS
+		need = math.Max(need, float64(n)*c.ESS/rep.MinESS)
+	}
+	if c.TauMultiple > 0 {
+		ok = ok && float64(n) >= c.TauMultiple*rep.MaxTau
+		need = math.Max(need, c.TauMultiple*rep.MaxTau)
+	}
+	if c.Rhat > 0 {
+		ok = ok && rep.MaxRhat <= c.Rhat
+	}
+	ev.converged = ok
+	ev.needSteps = need
+	return ev
+}
+
+func (ev evaluation) progress(e *Ensemble, opt RunOptions, t0 time.Time, s0 int) Progress {
+	p := Progress{
+		Steps: e.steps, MaxTau: ev.report.MaxTau, MinESS: ev.report.MinESS,
+		MaxRhat: ev.report.MaxRhat, Burn: ev.burn, Converged: ev.converged, ETA: -1,
+	}
+	if dt := time.Since(t0).Seconds(); dt > 0 {
+		p.Rate = float64(e.steps-s0) / dt
+	}
+	have := float64(e.steps - ev.burn)
+	if p.Rate > 0 && !math.IsNaN(ev.needSteps) && !math.IsInf(ev.needSteps, 0) {
+		rem := math.Max(ev.needSteps-have, 0)
+		rem = math.Min(rem, float64(opt.MaxSteps-e.steps))
+		p.ETA = time.Duration(rem / p.Rate * float64(time.Second))
+	}
+	return p
+}
