@@ -1,0 +1,229 @@
+package likelihood
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"sync"
+
+	"tautline/models"
+	"tautline/priors"
+)
+
+// fixer is implemented by point-mass priors; such parameters are held at
+// FixedValue and not sampled.
+type fixer interface{ FixedValue() float64 }
+
+// Posterior is a model's posterior given a free spectrum: the priors of its
+// free parameters times the free-spectrum likelihood. It has the method set
+// of the sampler's Target and is safe for concurrent use.
+//
+// A theta outside the model's domain (Spectrum.LnOmega returns an error, for
+// example outside a tabulated range) gets LogLike = -Inf: the sampler rejects
+// such proposals, so the model's domain acts as a zero of the prior. Keep
+// priors inside the domain so that Draw never lands outside it.
+type Posterior struct {
+	model  models.Model
+	params []models.Param // all, with the priors in use
+	pri    []priors.Prior
+	free   []int     // indices into params of sampled parameters
+	fixed  []float64 // full-length; fixed values, NaN for free ones
+	freqs  []float64
+	c      []float64 // per-bin log10 rho offset: 0.5 log10(H0^2/(8 pi^4 f^5 T))
+	fs     *FreeSpectrum
+	pool   sync.Pool
+}
+
+type scratch struct {
+	spec  models.Spectrum
+	theta []float64
+	lnO   []float64
+	rho   []float64
+}
+
+// NewPosterior builds the target for model m with pri[j] the prior of
+// m.Params()[j] (a nil pri, or a nil entry, selects the parameter's default
+// prior), data ds tabulated as fs, and Hubble constant h0 in s^-1.
+func NewPosterior(m models.Model, pri []priors.Prior, ds *Dataset, fs *FreeSpectrum, h0 float64) (*Posterior, error) {
+	if m == nil || ds == nil || fs == nil {
+		return nil, errors.New("likelihood: NewPosterior needs a model, a data set and its free spectrum")
+	}
+	if !(h0 > 0) || math.IsInf(h0, 0) {
+		return nil, fmt.Errorf("likelihood: H0: must be finite and > 0 (s^-1), got %g", h0)
+	}
+	if fs.NumBins() != len(ds.Freqs) {
+		return nil, fmt.Errorf("likelihood: free spectrum has %d bins but data set %q has %d", fs.NumBins(), ds.Name, len(ds.Freqs))
+	}
+	if !(ds.Span > 0) {
+		return nil, fmt.Errorf("likelihood: data set %q: span must be > 0, got %g", ds.Name, ds.Span)
+	}
+	ps := m.Params()
+	if pri != nil && len(pri) != len(ps) {
+		return nil, fmt.Errorf("likelihood: model %s has %d parameters but %d priors were given", m.Name(), len(ps), len(pri))
+	}
+	p := &Posterior{
+		model:  m,
+		params: make([]models.Param, len(ps)),
+		pri:    make([]priors.Prior, len(ps)),
+		fixed:  make([]float64, len(ps)),
+		freqs:  append([]float64(nil), ds.Freqs...),
+		c:      make([]float64, len(ds.Freqs)),
+		fs:     fs,
+	}
+	for j, par := range ps {
+		pr := par.Prior
+		if pri != nil && pri[j] != nil {
+			pr = pri[j]
+		}
+		if pr == nil {
+			return nil, fmt.Errorf("likelihood: model %s: parameter %s has no prior", m.Name(), par.Name)
+		}
+		par.Prior = pr
+		p.params[j] = par
+		p.pri[j] = pr
+		if fx, ok := pr.(fixer); ok {
+			p.fixed[j] = fx.FixedValue()
+		} else {
+			p.fixed[j] = math.NaN()
+			p.free = append(p.free, j)
+		}
+	}
+	for i, f := range ds.Freqs {
+		p.c[i] = 0.5 * math.Log10(h0*h0/(8*math.Pow(math.Pi, 4)*math.Pow(f, 5)*ds.Span))
+	}
+	first, err := p.newScratch()
+	if err != nil {
+		return nil, fmt.Errorf("likelihood: model %s: %w", m.Name(), err)
+	}
+	p.pool.New = func() any {
+		s, err := p.newScratch()
+		if err != nil {
+			return (*scratch)(nil)
+		}
+		return s
+	}
+	p.pool.Put(first)
+	return p, nil
+}
+
+func (p *Posterior) newScratch() (*scratch, error) {
+	spec, err := p.model.At(p.freqs)
+	if err != nil {
+		return nil, err
+	}
+	n := len(p.freqs)
+	s := &scratch{spec: spec, theta: make([]float64, len(p.params)), lnO: make([]float64, n), rho: make([]float64, n)}
+	copy(s.theta, p.fixed)
+	return s, nil
+}
+
+// Dim returns the number of sampled (non-fixed) parameters.
+func (p *Posterior) Dim() int { return len(p.free) }
+
+// Draw fills x with a draw from the priors of the free parameters.
+func (p *Posterior) Draw(r *rand.Rand, x []float64) {
+	for k, j := range p.free {
+		x[k] = p.pri[j].Rand(r)
+	}
+}
+
+// LogPrior returns the sum of the free parameters' log prior densities.
+func (p *Posterior) LogPrior(x []float64) float64 {
+	if len(x) != len(p.free) {
+		return math.Inf(-1)
+	}
+	s := 0.0
+	for k, j := range p.free {
+		s += p.pri[j].LogProb(x[k])
+	}
+	return s
+}
+
+// LogLike returns the free-spectrum log likelihood of the free parameters
+// x; -Inf outside the model's domain. It does not allocate in steady state.
+func (p *Posterior) LogLike(x []float64) float64 {
+	if len(x) != len(p.free) {
+		return math.Inf(-1)
+	}
+	s, _ := p.pool.Get().(*scratch)
+	if s == nil {
+		return math.Inf(-1)
+	}
+	defer p.pool.Put(s)
+	for k, j := range p.free {
+		s.theta[j] = x[k]
+	}
+	if err := s.spec.LnOmega(s.theta, s.lnO); err != nil {
+		return math.Inf(-1)
+	}
+	const half = 0.5 / math.Ln10
+	for i, lo := range s.lnO {
+		s.rho[i] = half*lo + p.c[i]
+	}
+	return p.fs.LogLike(s.rho)
+}
+
+// Log10Rho writes log10 rho_i(theta) (rho in s) at the data's bins into dst
+// for the free parameters x and returns it; it returns an error outside the
+// model's domain. It is meant for posterior-predictive products, not for
+// hot loops.
+func (p *Posterior) Log10Rho(x, dst []float64) ([]float64, error) {
+	if len(x) != len(p.free) {
+		return nil, fmt.Errorf("likelihood: %d free parameters, got %d values", len(p.free), len(x))
+	}
+	s, err := p.newScratch()
+	if err != nil {
+		return nil, err
+	}
+	for k, j := range p.free {
+		s.theta[j] = x[k]
+	}
+	if err := s.spec.LnOmega(s.theta, s.lnO); err != nil {
+		return nil, err
+	}
+	if len(dst) < len(s.lnO) {
+		dst = make([]float64, len(s.lnO))
+	}
+	dst = dst[:len(s.lnO)]
+	for i, lo := range s.lnO {
+		dst[i] = 0.5*lo/math.Ln10 + p.c[i]
+	}
+	return dst, nil
+}
+
+// FreeNames returns the names of the sampled parameters, in x order.
+func (p *Posterior) FreeNames() []string {
+	out := make([]string, len(p.free))
+	for k, j := range p.free {
+		out[k] = p.params[j].Name
+	}
+	return out
+}
+
+// FreeParams returns the sampled parameters, in x order, with the priors in
+// use.
+func (p *Posterior) FreeParams() []models.Param {
+	out := make([]models.Param, len(p.free))
+	for k, j := range p.free {
+		out[k] = p.params[j]
+	}
+	return out
+}
+
+// Params returns all model parameters with the priors in use.
+func (p *Posterior) Params() []models.Param { return append([]models.Param(nil), p.params...) }
+
+// Full fills theta (one entry per model parameter) from the sampled x,
+// inserting the fixed values.
+func (p *Posterior) Full(x []float64, theta []float64) {
+	copy(theta, p.fixed)
+	for k, j := range p.free {
+		if k < len(x) && j < len(theta) {
+			theta[j] = x[k]
+		}
+	}
+}
+
+// FreeSpectrum returns the likelihood tables in use.
+func (p *Posterior) FreeSpectrum() *FreeSpectrum { return p.fs }
