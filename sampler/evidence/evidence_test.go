@@ -1,0 +1,167 @@
+package evidence
+
+import (
+	"math"
+	"testing"
+)
+
+// TestGaussianBox checks all three estimators against the closed-form
+// evidence of a Gaussian likelihood in a uniform box (product of normal CDF
+// differences; see gaussBox), on a (k/K)^5 ladder of 21 rungs with 2000
+// steps x 32 walkers per rung.
+func TestGaussianBox(t *testing.T) {
+	tests := []struct {
+		name string
+		d    int
+		half float64
+		phi  float64
+	}{
+		{"2-D box 10, independent", 2, 10, 0},
+		{"2-D box 10, AR(1) 0.5", 2, 10, 0.5},
+		{"6-D box 5, independent", 6, 5, 0},
+		{"6-D box 5, AR(1) 0.5", 6, 5, 0.5},
+	}
+	for i, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			g := newGaussBox(tc.d, tc.half)
+			truth := g.lnZ()
+			res, err := Integrate(g.draw(uint64(100+i), powerLadder(20, 5), 2000, 32, tc.phi), Options{})
+			if err != nil {
+				t.Fatal(err)
+			}
+			for _, w := range res.Warnings {
+				t.Log(w)
+			}
+			for _, e := range []struct {
+				name string
+				est  Estimate
+			}{{"TI", res.TI}, {"TIHigher", res.TIHigher}, {"SS", res.SS}} {
+				t.Logf("%-8s lnZ %.4f truth %.4f err %+.4f | mc %.4f disc %.4f total %.4f",
+					e.name, e.est.LnZ, truth, e.est.LnZ-truth, e.est.MCErr, e.est.DiscErr, e.est.Total)
+				// Reference: closed-form evidence. Three reported total errors
+				// cover the truth unless the error budget is wrong.
+				if d := math.Abs(e.est.LnZ - truth); d > 3*e.est.Total {
+					t.Errorf("%s: |lnZ - truth| = %.4f exceeds 3 x total error %.4f", e.name, d, e.est.Total)
+				}
+				// The brief's usefulness bar: 64000 samples per rung should pin
+				// ln Z to better than 0.1.
+				if e.est.Total >= 0.1 {
+					t.Errorf("%s: total error %.4f, want < 0.1", e.name, e.est.Total)
+				}
+			}
+			if res.Disagree {
+				t.Errorf("TI and SS flagged as disagreeing at %.2f sigma on exact samples", res.DisagreeSigma)
+			}
+		})
+	}
+}
+
+// TestCoarseLadder checks that with a deliberately coarse 5-rung ladder the
+// true error (closed-form reference as above) lies within the reported total.
+func TestCoarseLadder(t *testing.T) {
+	tests := []struct {
+		name string
+		d    int
+		half float64
+		p    float64
+	}{
+		{"2-D box 10, (k/4)^5", 2, 10, 5},
+		{"2-D box 10, (k/4)^3", 2, 10, 3},
+		{"6-D box 5, (k/4)^5", 6, 5, 5},
+		{"6-D box 5, (k/4)^4", 6, 5, 4},
+	}
+	for i, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			g := newGaussBox(tc.d, tc.half)
+			truth := g.lnZ()
+			res, err := Integrate(g.draw(uint64(200+i), powerLadder(4, tc.p), 2000, 32, 0), Options{})
+			if err != nil {
+				t.Fatal(err)
+			}
+			for _, w := range res.Warnings {
+				t.Log(w)
+			}
+			for _, e := range []struct {
+				name string
+				est  Estimate
+			}{{"TI", res.TI}, {"TIHigher", res.TIHigher}, {"SS", res.SS}} {
+				t.Logf("%-8s lnZ %.4f truth %.4f err %+.4f | mc %.4f disc %.4f total %.4f",
+					e.name, e.est.LnZ, truth, e.est.LnZ-truth, e.est.MCErr, e.est.DiscErr, e.est.Total)
+				// Reference: closed-form evidence. Where the discretisation error
+				// dominates, the truth must lie within one reported total: that
+				// budget is an error bound, not a standard deviation.
+				limit := e.est.Total
+				if e.est.DiscErr < 5*e.est.MCErr {
+					// Monte-Carlo dominated (stepping-stone has no quadrature
+					// error): three standard errors, as in TestGaussianBox.
+					limit = 3 * e.est.Total
+				} else if e.name == "SS" {
+					t.Errorf("SS: bias %.4f dominates its Monte-Carlo error %.4f", e.est.DiscErr, e.est.MCErr)
+				}
+				if d := math.Abs(e.est.LnZ - truth); d > limit {
+					t.Errorf("%s: |lnZ - truth| = %.4f exceeds %.4f", e.name, d, limit)
+				}
+			}
+			// The coarse ladder must really be coarse for this test to mean
+			// anything: the trapezoid's true error dwarfs its Monte-Carlo error.
+			if d := math.Abs(res.TI.LnZ - truth); d < 10*res.TI.MCErr {
+				t.Errorf("ladder not coarse: trapezoid error %.4f, MC error %.4f", d, res.TI.MCErr)
+			}
+		})
+	}
+}
+
+// TestAutocorrelatedErrors checks that the reported Monte-Carlo errors
+// account for autocorrelation along steps: over 50 independent repeats of a
+// strongly autocorrelated run (AR(1) copula, phi = 0.8), the spread of each
+// estimate matches the root-mean-square reported Monte-Carlo error within a
+// factor 1.5, while the error computed as if samples were independent,
+// sqrt(sum_k w_k^2 Var_k / N_k), is too small by more than that factor.
+func TestAutocorrelatedErrors(t *testing.T) {
+	const (
+		repeats = 50
+		steps   = 1000
+		walkers = 8
+		phi     = 0.8
+	)
+	g := newGaussBox(2, 10)
+	betas := powerLadder(16, 5)
+	w := make([]float64, len(betas))
+	trapezoidWeights(betas, w)
+	var sum, sum2, rep [3]float64
+	var naive float64
+	for i := 0; i < repeats; i++ {
+		res, err := Integrate(g.draw(uint64(300+i), betas, steps, walkers, phi), Options{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		for j, e := range []Estimate{res.TI, res.TIHigher, res.SS} {
+			sum[j] += e.LnZ
+			sum2[j] += e.LnZ * e.LnZ
+			rep[j] += e.MCErr * e.MCErr
+		}
+		var nv float64
+		for k, c := range res.Curve {
+			nv += w[k] * w[k] * c.Var / (steps * walkers)
+		}
+		naive += nv
+	}
+	naive = math.Sqrt(naive / repeats)
+	for j, name := range []string{"TI", "TIHigher", "SS"} {
+		m := sum[j] / repeats
+		spread := math.Sqrt((sum2[j] - repeats*m*m) / (repeats - 1))
+		rms := math.Sqrt(rep[j] / repeats)
+		t.Logf("%-8s spread %.5f reported %.5f ratio %.3f", name, spread, rms, rms/spread)
+		// The sample sd of 50 repeats is uncertain by about 1/sqrt(2*49) =
+		// 10 %, so a factor 1.5 is a 4-sigma band around an honest error.
+		if r := rms / spread; r < 1/1.5 || r > 1.5 {
+			t.Errorf("%s: reported MC error %.5f vs spread over repeats %.5f (ratio %.3f)", name, rms, spread, r)
+		}
+		if j == 0 {
+			t.Logf("naive independent-sample error %.5f (spread/naive %.2f)", naive, spread/naive)
+			if naive*1.5 > spread {
+				t.Errorf("naive error %.5f not clearly too small vs spread %.5f: the chains are not autocorrelated enough to test anything", naive, spread)
+			}
+		}
+	}
+}
