@@ -39,6 +39,10 @@ type Estimate struct {
 	MCErr   float64 `json:"mcErr"`   // Monte-Carlo standard error
 	DiscErr float64 `json:"discErr"` // discretisation error (bias for stepping-stone)
 	Total   float64 `json:"total"`   // MCErr + DiscErr
+	// DiscNoise is the Monte-Carlo standard error of DiscErr itself: a
+	// discretisation error not well above it is mostly sampling noise, which
+	// more steps, not more rungs, will reduce.
+	DiscNoise float64 `json:"discNoise"`
 }
 
 // A CurvePoint is one rung of the ln L-versus-beta curve.
@@ -130,7 +134,10 @@ const (
 	estTI = iota
 	estTIHigher
 	estSS
-	estDiff // TIHigher - SS
+	estDiff       // TIHigher - SS
+	estTrapVsCorr // T - C
+	estTrapVsSub  // T - T'
+	estCorrVsSub  // C - C'
 	numEst
 )
 
@@ -157,6 +164,19 @@ func Integrate(rungs []Rung, opt Options) (Result, error) {
 	u := make([]float64, n)
 	trapezoidWeights(betas, w)
 	correctionWeights(betas, u)
+	// Weights of the every-other-rung sub-ladder, zero on dropped rungs.
+	sub := subLadder(n)
+	ws2, us2 := make([]float64, len(sub)), make([]float64, len(sub))
+	sb := make([]float64, len(sub))
+	for i, k := range sub {
+		sb[i] = betas[k]
+	}
+	trapezoidWeights(sb, ws2)
+	correctionWeights(sb, us2)
+	wh, uh := make([]float64, n), make([]float64, n)
+	for i, k := range sub {
+		wh[k], uh[k] = ws2[i], us2[i]
+	}
 
 	maxSteps := 0
 	for _, r := range rungs {
@@ -203,6 +223,9 @@ func Integrate(rungs []Rung, opt Options) (Result, error) {
 		} else {
 			coef[estDiff] = [3]float64{w[k], u[k], 0}
 		}
+		coef[estTrapVsCorr] = [3]float64{0, -u[k], 0}
+		coef[estTrapVsSub] = [3]float64{w[k] - wh[k], 0, 0}
+		coef[estCorrVsSub] = [3]float64{w[k] - wh[k], u[k] - uh[k], 0}
 		for e := range coef {
 			g := ws.combine(r.Steps, coef[e])
 			if opt.Synchronous {
@@ -245,16 +268,19 @@ func Integrate(rungs []Rung, opt Options) (Result, error) {
 	}
 	t := dot(w, E)
 	c := t + dot(u, V)
-	th, ch := subLadder(betas, E, V)
-	res.TI = newEstimate(t, mcVar[estTI], math.Max(math.Abs(t-c), math.Abs(t-th)/3))
-	discHigher := math.Abs(c-ch) / 3
+	th := dot(wh, E)
+	ch := th + dot(uh, V)
+	res.TI = newEstimate(t, mcVar[estTI], math.Abs(t-c), mcVar[estTrapVsCorr])
+	if d := math.Abs(t-th) / 3; d > res.TI.DiscErr {
+		res.TI = newEstimate(t, mcVar[estTI], d, mcVar[estTrapVsSub]/9)
+	}
+	res.TIHigher = newEstimate(c, mcVar[estTIHigher], math.Abs(c-ch)/3, mcVar[estCorrVsSub]/9)
 	if n < 3 {
 		// No sub-ladder exists: fall back on the trapezoid's error estimate.
-		discHigher = math.Abs(t - c)
+		res.TIHigher = newEstimate(c, mcVar[estTIHigher], math.Abs(t-c), mcVar[estTrapVsCorr])
 		res.Warnings = append(res.Warnings, "evidence: a 2-rung ladder has no sub-ladder; discretisation errors rest on the rule difference alone")
 	}
-	res.TIHigher = newEstimate(c, mcVar[estTIHigher], discHigher)
-	res.SS = newEstimate(ssLnZ, mcVar[estSS], ssVar)
+	res.SS = newEstimate(ssLnZ, mcVar[estSS], ssVar, 0)
 
 	diff := res.TIHigher.LnZ - res.SS.LnZ
 	res.DisagreeErr = math.Sqrt(mcVar[estDiff] + res.TIHigher.DiscErr*res.TIHigher.DiscErr + res.SS.DiscErr*res.SS.DiscErr)
@@ -271,27 +297,17 @@ func Integrate(rungs []Rung, opt Options) (Result, error) {
 // ratio may rest on before a warning (common practice: about a hundred).
 const minWeightESS = 100
 
-func newEstimate(lnZ, mcVar, disc float64) Estimate {
+func newEstimate(lnZ, mcVar, disc, discVar float64) Estimate {
 	mc := math.Sqrt(mcVar)
-	return Estimate{LnZ: lnZ, MCErr: mc, DiscErr: disc, Total: mc + disc}
+	return Estimate{LnZ: lnZ, MCErr: mc, DiscErr: disc, Total: mc + disc, DiscNoise: math.Sqrt(discVar)}
 }
 
-// subLadder returns the trapezoid and the corrected trapezoid on the
-// sub-ladder of every other rung (both ends always kept).
-func subLadder(betas, E, V []float64) (t, c float64) {
-	n := len(betas)
-	prev := 0
-	for k := 2; ; k += 2 {
-		if k > n-1 {
-			k = n - 1
-		}
-		h := betas[k] - betas[prev]
-		t += h * (E[prev] + E[k]) / 2
-		c -= h * h * (V[k] - V[prev]) / 12
-		prev = k
-		if k == n-1 {
-			break
-		}
+// subLadder returns the rung indices of the every-other-rung sub-ladder:
+// 0, 2, 4, ..., always ending with the last rung.
+func subLadder(n int) []int {
+	idx := make([]int, 0, n/2+2)
+	for k := 0; k < n-1; k += 2 {
+		idx = append(idx, k)
 	}
-	return t, t + c
+	return append(idx, n-1)
 }

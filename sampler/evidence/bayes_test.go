@@ -1,0 +1,53 @@
+package evidence
+
+import (
+	"math"
+	"testing"
+)
+
+// TestKassRaftery checks the categories against Kass & Raftery (1995),
+// Journal of the American Statistical Association 90, 773, Section 3.2
+// (from memory): 2 ln B in [0, 2) "not worth more than a bare mention",
+// [2, 6) positive, [6, 10) strong, >= 10 very strong; halved for ln B, and
+// mirrored for negative ln B.
+func TestKassRaftery(t *testing.T) {
+	tests := []struct {
+		lnB  float64
+		want string
+	}{
+		{0, "inconclusive: hardly worth mentioning either way"},
+		{0.999, "inconclusive: hardly worth mentioning either way"},
+		{-0.999, "inconclusive: hardly worth mentioning either way"},
+		{1, "positive support for the first model"},
+		{2.9, "positive support for the first model"},
+		{-1, "positive support for the second model"},
+		{3, "strong support for the first model"},
+		{-4.99, "strong support for the second model"},
+		{5, "very strong support for the first model"},
+		{-5, "very strong support for the second model"},
+		{1e6, "very strong support for the first model"},
+		{math.Inf(-1), "very strong support for the second model"},
+		{math.NaN(), "undefined (ln B is NaN)"},
+	}
+	for _, tc := range tests {
+		if got := KassRaftery(tc.lnB); got != tc.want {
+			t.Errorf("KassRaftery(%g) = %q, want %q", tc.lnB, got, tc.want)
+		}
+	}
+}
+
+// TestBayesFactor checks ln B = ln Z_a - ln Z_b and that the errors of
+// independent runs add in quadrature (a 3-4-5 triangle, exact in floating
+// point).
+func TestBayesFactor(t *testing.T) {
+	a := Estimate{LnZ: -10.5, MCErr: 1, DiscErr: 2, Total: 3}
+	b := Estimate{LnZ: -12.25, MCErr: 4, DiscErr: 0, Total: 4}
+	lnB, err := BayesFactor(a, b)
+	if lnB != 1.75 || err != 5 {
+		t.Errorf("BayesFactor = %g +- %g, want 1.75 +- 5", lnB, err)
+	}
+	lnB, err = BayesFactor(b, a)
+	if lnB != -1.75 || err != 5 {
+		t.Errorf("BayesFactor reversed = %g +- %g, want -1.75 +- 5", lnB, err)
+	}
+}
