@@ -96,12 +96,12 @@ func LoadFS(fsys fs.FS, name string) (*Dataset, error) {
 
 // parser holds the state of one Load.
 type parser struct {
-	name  string // description file as shown in messages
-	n     int    // number of bins
-	lo    float64
-	hi    float64
-	prLn  int // line of the prior range
-	bins  []binAcc
+	name string // description file as shown in messages
+	n    int    // number of bins
+	lo   float64
+	hi   float64
+	prLn int // line of the prior range
+	bins []binAcc
 }
 
 // binAcc accumulates one bin's rows.
