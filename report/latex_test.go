@@ -1,0 +1,135 @@
+package report
+
+import (
+	"math"
+	"strings"
+	"testing"
+)
+
+func TestFormatAsym(t *testing.T) {
+	// Expected strings worked by hand from the rule in FormatAsym's doc:
+	// the smaller error to sig significant figures, the rest to its
+	// decimal place (common practice in journal tables).
+	cases := []struct {
+		v, plus, minus float64
+		sig            int
+		want           string
+	}{
+		{-7.5234, 0.3123, 0.4511, 2, `-7.52^{+0.31}_{-0.45}`},
+		{1.0, 0.05, 0.05, 2, `1.000 \pm 0.050`},
+		{3.14159, 0.0996, 0.2, 2, `3.14^{+0.10}_{-0.20}`}, // rounding carries a digit
+		{1234.4, 56, 120, 2, `1234^{+56}_{-120}`},
+		{1234.4, 560, 1200, 2, `1230^{+560}_{-1200}`},
+		{1.234e-9, 0.05e-9, 0.04e-9, 2, `(1.234^{+0.050}_{-0.040}) \times 10^{-9}`},
+		{2.5e5, 1e4, 2e4, 2, `(2.50^{+0.10}_{-0.20}) \times 10^{5}`},
+		{0, 0.3, 0.4, 2, `0.00^{+0.30}_{-0.40}`},
+		{2.345, 0.123, 0.5, 1, `2.3^{+0.1}_{-0.5}`},
+		{-0.001, 0.5, 0.5, 2, `0.00 \pm 0.50`}, // no "-0.00"
+		{3.14159, 0, 0, 2, `3.14`},
+		{3.14159, math.NaN(), 0.1, 2, `3.14`},
+		{math.NaN(), 0.1, 0.1, 2, `\text{n/a}`},
+		{-7.5234, 0.3123, 0.4511, 0, `-7.52^{+0.31}_{-0.45}`}, // sig < 1 means 2
+	}
+	for _, c := range cases {
+		if got := FormatAsym(c.v, c.plus, c.minus, c.sig); got != c.want {
+			t.Errorf("FormatAsym(%g, %g, %g, %d) = %q, want %q", c.v, c.plus, c.minus, c.sig, got, c.want)
+		}
+	}
+}
+
+func TestFormatLimitInterval(t *testing.T) {
+	lim := []struct {
+		v, scale float64
+		upper    bool
+		want     string
+	}{
+		// Worked by hand: decimal place of the scale's first significant
+		// figure (2 significant figures of the value when scale is 0),
+		// integer digits kept.
+		{3.9199, 0, true, `< 3.9`},
+		{-7.048, 0, true, `< -7.0`},
+		{0.3684, 0, false, `> 0.37`},
+		{123.4, 0, true, `< 123`},
+		{-10.234, 0.8, true, `< -10.2`},
+		{-10.234, 0.05, true, `< -10.23`},
+		{123.4, 50, true, `< 123`},
+		{2.5e-5, 0, true, `< 2.5\times 10^{-5}`},
+		{2.54e-5, 1e-7, true, `< 2.54\times 10^{-5}`},
+		{math.Inf(1), 0, true, `< \infty`},
+	}
+	for _, c := range lim {
+		if got := FormatLimit(c.v, c.scale, c.upper, 2); got != c.want {
+			t.Errorf("FormatLimit(%g, %g, %v) = %q, want %q", c.v, c.scale, c.upper, got, c.want)
+		}
+	}
+	ivs := []struct {
+		iv   Interval
+		want string
+	}{
+		{Interval{-8.123, -6.987}, `[-8.1, -7.0]`},
+		{Interval{0.0123, 0.0456}, `[0.012, 0.046]`},
+		{Interval{1.1e-9, 3.4e-9}, `[1.1, 3.4] \times 10^{-9}`},
+	}
+	for _, c := range ivs {
+		if got := FormatInterval(c.iv, 2); got != c.want {
+			t.Errorf("FormatInterval(%v) = %q, want %q", c.iv, got, c.want)
+		}
+	}
+}
+
+func TestSummaryTable(t *testing.T) {
+	ss := []Summary{
+		{Name: "log10_A", Label: `\log_{10} A`, Median: -14.62, ET68: Interval{-14.81, -14.50},
+			ET95: Interval{-15.02, -14.37}, Rails: EdgeNone, Limit: math.NaN(), LimitMass: 0.95},
+		{Name: "log10_Gmu", Label: `\log_{10} G\mu`, Rails: EdgeLower, Std: 0.8, Limit: -10.234, LimitMass: 0.95},
+		{Name: "f_bend", Unit: "Hz", Rails: EdgeBoth, LimitMass: 0.95},
+	}
+	tab := SummaryTable(ss, 2)
+	for _, want := range []string{
+		`$\log_{10} A$ & $-14.62^{+0.12}_{-0.19}$ & $[-15.02, -14.37]$ \\`,
+		`$\log_{10} G\mu$ & --- & $< -10.2$ (95\,\%) \\`,
+		`f\_bend [Hz] & --- & unconstrained \\`,
+		`\begin{tabular}{lcc}`, `\end{tabular}`,
+	} {
+		if !strings.Contains(tab, want) {
+			t.Errorf("summary table lacks %q:\n%s", want, tab)
+		}
+	}
+}
+
+func TestComparisonTable(t *testing.T) {
+	rows := []Evidence{
+		{Model: "smbhb", LnZTI: -10, LnZTIErr: 0.1, LnZSS: -10.05, LnZSSErr: 0.05},
+		{Model: "strings", LnZTI: -7, LnZTIErr: 0.2, LnZSS: -7.1, LnZSSErr: 0.12},
+		{Model: "sum", LnZTI: -14, LnZTIErr: 0.3, LnZSS: math.NaN(), LnZSSErr: math.NaN()},
+	}
+	tab, err := ComparisonTable(rows, "smbhb", 2)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// ln B = -7.1 + 10.05 = 2.95, error hypot(0.12, 0.05) = 0.13: "positive"
+	// on the Kass & Raftery (1995) scale (2 ln B = 5.9 in 2-6). The third
+	// row has no SS estimate, so TI is used: -14 + 10 = -4 ± 0.32, strong
+	// (2 ln B = 8 in 6-10) for the reference.
+	for _, want := range []string{
+		`smbhb & $-10.00 \pm 0.10$ & $-10.050 \pm 0.050$ & reference & --- \\`,
+		`strings & $-7.00 \pm 0.20$ & $-7.10 \pm 0.12$ & $2.95 \pm 0.13$ & positive for strings \\`,
+		`sum & $-14.00 \pm 0.30$ & --- & $-4.00 \pm 0.32$ & strong for smbhb \\`,
+	} {
+		if !strings.Contains(tab, want) {
+			t.Errorf("comparison table lacks %q:\n%s", want, tab)
+		}
+	}
+	if _, err := ComparisonTable(rows, "none", 2); err == nil {
+		t.Error("missing reference did not fail")
+	}
+	// Kass & Raftery (1995) bands, in ln B = (2 ln B)/2.
+	for _, c := range []struct {
+		lnB  float64
+		want string
+	}{{0.5, "inconclusive"}, {-2, "positive"}, {4, "strong"}, {6, "very strong"}} {
+		if got := Interpret(c.lnB); got != c.want {
+			t.Errorf("Interpret(%g) = %q, want %q", c.lnB, got, c.want)
+		}
+	}
+}

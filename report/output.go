@@ -1,0 +1,275 @@
+package report
+
+import (
+	"bytes"
+	"encoding/csv"
+	"encoding/json"
+	"fmt"
+	"math"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+)
+
+// Metadata identifies the run a product comes from; it is copied into every
+// JSON file.
+type Metadata struct {
+	Run     string            `json:"run"`
+	Model   string            `json:"model"`
+	Dataset string            `json:"dataset"`
+	Version string            `json:"tautline_version"`
+	Extra   map[string]string `json:"extra,omitempty"`
+}
+
+// num is a float64 that encodes NaN and ±Inf as JSON null.
+type num float64
+
+func (v num) MarshalJSON() ([]byte, error) {
+	f := float64(v)
+	if math.IsNaN(f) || math.IsInf(f, 0) {
+		return []byte("null"), nil
+	}
+	return strconv.AppendFloat(nil, f, 'g', -1, 64), nil
+}
+
+func nums(x []float64) []num {
+	out := make([]num, len(x))
+	for i, v := range x {
+		out[i] = num(v)
+	}
+	return out
+}
+
+// ffmt formats a value for CSV; NaN and ±Inf are written as "nan", "inf",
+// "-inf".
+func ffmt(v float64) string {
+	switch {
+	case math.IsNaN(v):
+		return "nan"
+	case math.IsInf(v, 1):
+		return "inf"
+	case math.IsInf(v, -1):
+		return "-inf"
+	}
+	return strconv.FormatFloat(v, 'g', -1, 64)
+}
+
+// writeFileAtomic writes data to path through a temporary file in the same
+// directory and a rename, so that readers never see a partial file.
+func writeFileAtomic(path string, data []byte) error {
+	dir, base := filepath.Split(path)
+	if dir == "" {
+		dir = "."
+	}
+	f, err := os.CreateTemp(dir, "."+base+".tmp*")
+	if err != nil {
+		return fmt.Errorf("report: %w", err)
+	}
+	tmp := f.Name()
+	_, werr := f.Write(data)
+	serr := f.Sync()
+	cerr := f.Close()
+	for _, e := range []error{werr, serr, cerr} {
+		if e != nil {
+			os.Remove(tmp)
+			return fmt.Errorf("report: writing %s: %w", path, e)
+		}
+	}
+	if err := os.Rename(tmp, path); err != nil {
+		os.Remove(tmp)
+		return fmt.Errorf("report: %w", err)
+	}
+	return nil
+}
+
+func writeJSON(path string, v any) error {
+	b, err := json.MarshalIndent(v, "", "  ")
+	if err != nil {
+		return fmt.Errorf("report: encoding %s: %w", path, err)
+	}
+	return writeFileAtomic(path, append(b, '\n'))
+}
+
+func writeCSV(path string, header []string, rows [][]string) error {
+	var buf bytes.Buffer
+	w := csv.NewWriter(&buf)
+	w.Write(header)
+	w.WriteAll(rows)
+	if err := w.Error(); err != nil {
+		return fmt.Errorf("report: encoding %s: %w", path, err)
+	}
+	return writeFileAtomic(path, buf.Bytes())
+}
+
+// FileStem turns a parameter name into a file-name-safe stem: characters
+// other than letters, digits, '-', '_' and '.' become '_'.
+func FileStem(name string) string {
+	s := strings.Map(func(r rune) rune {
+		switch {
+		case r >= 'a' && r <= 'z', r >= 'A' && r <= 'Z', r >= '0' && r <= '9', r == '-', r == '_', r == '.':
+			return r
+		}
+		return '_'
+	}, name)
+	if s == "" || s == "." || s == ".." {
+		s = "_"
+	}
+	return s
+}
+
+type intervalJSON struct {
+	Lo num `json:"lo"`
+	Hi num `json:"hi"`
+}
+
+func ivj(iv Interval) intervalJSON { return intervalJSON{num(iv.Lo), num(iv.Hi)} }
+
+type summaryJSON struct {
+	Name      string       `json:"name"`
+	Label     string       `json:"label,omitempty"`
+	Unit      string       `json:"unit,omitempty"`
+	N         int          `json:"n"`
+	Median    num          `json:"median"`
+	Mean      num          `json:"mean"`
+	Std       num          `json:"std"`
+	Mode      num          `json:"mode"`
+	ET68      intervalJSON `json:"equal_tailed_68"`
+	ET95      intervalJSON `json:"equal_tailed_95"`
+	HDI68     intervalJSON `json:"hdi_68"`
+	HDI95     intervalJSON `json:"hdi_95"`
+	EdgeRatio [2]num       `json:"edge_density_ratio"`
+	Rails     string       `json:"rails"`
+	Limit     num          `json:"limit"`
+	LimitKind string       `json:"limit_kind"`
+	LimitMass num          `json:"limit_mass"`
+}
+
+// LimitKind returns "upper", "lower" or "" for the one-sided limit of s.
+func (s Summary) LimitKind() string {
+	switch s.Rails {
+	case EdgeLower:
+		return "upper"
+	case EdgeUpper:
+		return "lower"
+	}
+	return ""
+}
+
+// WriteSummaries writes summary.csv and summary.json into dir.
+func WriteSummaries(dir string, meta Metadata, ss []Summary) error {
+	header := []string{"name", "n", "median", "mean", "std", "mode",
+		"et68_lo", "et68_hi", "et95_lo", "et95_hi", "hdi68_lo", "hdi68_hi", "hdi95_lo", "hdi95_hi",
+		"edge_ratio_lo", "edge_ratio_hi", "rails", "limit_kind", "limit", "limit_mass"}
+	rows := make([][]string, len(ss))
+	js := make([]summaryJSON, len(ss))
+	for i, s := range ss {
+		rows[i] = []string{s.Name, strconv.Itoa(s.N), ffmt(s.Median), ffmt(s.Mean), ffmt(s.Std), ffmt(s.Mode),
+			ffmt(s.ET68.Lo), ffmt(s.ET68.Hi), ffmt(s.ET95.Lo), ffmt(s.ET95.Hi),
+			ffmt(s.HDI68.Lo), ffmt(s.HDI68.Hi), ffmt(s.HDI95.Lo), ffmt(s.HDI95.Hi),
+			ffmt(s.EdgeRatio[0]), ffmt(s.EdgeRatio[1]), s.Rails.String(), s.LimitKind(), ffmt(s.Limit), ffmt(s.LimitMass)}
+		js[i] = summaryJSON{Name: s.Name, Label: s.Label, Unit: s.Unit, N: s.N, Median: num(s.Median), Mean: num(s.Mean),
+			Std: num(s.Std), Mode: num(s.Mode), ET68: ivj(s.ET68), ET95: ivj(s.ET95), HDI68: ivj(s.HDI68), HDI95: ivj(s.HDI95),
+			EdgeRatio: [2]num{num(s.EdgeRatio[0]), num(s.EdgeRatio[1])}, Rails: s.Rails.String(),
+			Limit: num(s.Limit), LimitKind: s.LimitKind(), LimitMass: num(s.LimitMass)}
+	}
+	if err := writeCSV(filepath.Join(dir, "summary.csv"), header, rows); err != nil {
+		return err
+	}
+	return writeJSON(filepath.Join(dir, "summary.json"), struct {
+		Meta       Metadata      `json:"metadata"`
+		Parameters []summaryJSON `json:"parameters"`
+	}{meta, js})
+}
+
+// WriteMarginal1D writes marginal1d_<name>.csv (columns x, density) and
+// marginal1d_<name>.json (grid, histogram, bandwidth) into dir.
+func WriteMarginal1D(dir string, meta Metadata, name string, d Density1D) error {
+	stem := "marginal1d_" + FileStem(name)
+	rows := make([][]string, len(d.X))
+	for i := range d.X {
+		rows[i] = []string{ffmt(d.X[i]), ffmt(d.P[i])}
+	}
+	if err := writeCSV(filepath.Join(dir, stem+".csv"), []string{"x", "density"}, rows); err != nil {
+		return err
+	}
+	return writeJSON(filepath.Join(dir, stem+".json"), struct {
+		Meta      Metadata `json:"metadata"`
+		Name      string   `json:"name"`
+		X         []num    `json:"x"`
+		Density   []num    `json:"density"`
+		Bandwidth num      `json:"bandwidth"`
+		Rule      string   `json:"bandwidth_rule"`
+		Reflect   [2]bool  `json:"reflected_at_bounds"`
+		Edges     []num    `json:"histogram_edges"`
+		Hist      []num    `json:"histogram_density"`
+		N         int      `json:"n"`
+		Dropped   int      `json:"dropped"`
+	}{meta, name, nums(d.X), nums(d.P), num(d.Bandwidth), d.Rule, d.Reflect, nums(d.Edges), nums(d.Hist), d.N, d.Dropped})
+}
+
+// WriteMarginal2D writes marginal2d_<x>__<y>.csv (long format: x, y,
+// density) and marginal2d_<x>__<y>.json (grid, density rows, credible
+// masses and their density levels) into dir.
+func WriteMarginal2D(dir string, meta Metadata, nameX, nameY string, d Density2D, masses, levels []float64) error {
+	if len(masses) != len(levels) {
+		return fmt.Errorf("report: %d credible masses but %d levels", len(masses), len(levels))
+	}
+	stem := "marginal2d_" + FileStem(nameX) + "__" + FileStem(nameY)
+	nx := len(d.X)
+	rows := make([][]string, 0, len(d.P))
+	grid := make([][]num, len(d.Y))
+	for r, y := range d.Y {
+		grid[r] = nums(d.P[r*nx : (r+1)*nx])
+		for c, x := range d.X {
+			rows = append(rows, []string{ffmt(x), ffmt(y), ffmt(d.P[r*nx+c])})
+		}
+	}
+	if err := writeCSV(filepath.Join(dir, stem+".csv"), []string{"x", "y", "density"}, rows); err != nil {
+		return err
+	}
+	return writeJSON(filepath.Join(dir, stem+".json"), struct {
+		Meta    Metadata   `json:"metadata"`
+		NameX   string     `json:"x_name"`
+		NameY   string     `json:"y_name"`
+		GX      []num      `json:"x"`
+		GY      []num      `json:"y"`
+		Density [][]num    `json:"density_rows"`
+		H       [3]num     `json:"kernel_covariance_xx_xy_yy"`
+		Rule    string     `json:"bandwidth_rule"`
+		Reflect [2][2]bool `json:"reflected_at_bounds"`
+		Masses  []num      `json:"credible_masses"`
+		Levels  []num      `json:"density_levels"`
+		N       int        `json:"n"`
+	}{Meta: meta, NameX: nameX, NameY: nameY, GX: nums(d.X), GY: nums(d.Y), Density: grid,
+		H: [3]num{num(d.H[0]), num(d.H[1]), num(d.H[2])}, Rule: d.Rule, Reflect: d.Reflect,
+		Masses: nums(masses), Levels: nums(levels), N: d.N})
+}
+
+// WriteExclusion writes exclusion_<y>_vs_<x>.csv and .json into dir.
+func WriteExclusion(dir string, meta Metadata, nameX, nameY string, mass float64, pts []ExclusionPoint) error {
+	stem := "exclusion_" + FileStem(nameY) + "_vs_" + FileStem(nameX)
+	rows := make([][]string, len(pts))
+	type ptJSON struct {
+		X     num `json:"x"`
+		Lo    num `json:"slice_lo"`
+		Hi    num `json:"slice_hi"`
+		N     int `json:"n"`
+		Limit num `json:"limit"`
+	}
+	js := make([]ptJSON, len(pts))
+	for i, p := range pts {
+		rows[i] = []string{ffmt(p.X), ffmt(p.Lo), ffmt(p.Hi), strconv.Itoa(p.N), ffmt(p.Limit)}
+		js[i] = ptJSON{num(p.X), num(p.Lo), num(p.Hi), p.N, num(p.Limit)}
+	}
+	if err := writeCSV(filepath.Join(dir, stem+".csv"), []string{"x", "slice_lo", "slice_hi", "n", "limit"}, rows); err != nil {
+		return err
+	}
+	return writeJSON(filepath.Join(dir, stem+".json"), struct {
+		Meta   Metadata `json:"metadata"`
+		NameX  string   `json:"x_name"`
+		NameY  string   `json:"y_name"`
+		Mass   num      `json:"limit_mass"`
+		Points []ptJSON `json:"slices"`
+	}{meta, nameX, nameY, num(mass), js})
+}

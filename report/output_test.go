@@ -1,0 +1,126 @@
+package report
+
+import (
+	"encoding/csv"
+	"encoding/json"
+	"math"
+	"math/rand/v2"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+func TestPosteriorWrite(t *testing.T) {
+	src := rand.New(rand.NewPCG(31, 32))
+	const n = 5000
+	a, b := correlated(src, n, 1, 0.5, 0.6, true)
+	c := make([]float64, n)
+	for i := range c {
+		c[i] = 3 + src.NormFloat64()
+	}
+	inf := math.Inf(1)
+	ps := []Param{
+		{Name: "log10_Gmu", Label: `\log_{10} G\mu`, Bounds: [2]float64{0, 5}, Samples: a},
+		{Name: "beta", Bounds: [2]float64{-inf, inf}, Samples: b},
+		{Name: "odd name/x", Unit: "Hz", Bounds: [2]float64{-inf, inf}, Samples: c},
+	}
+	var calls, last int
+	post, err := Analyze(ps, Options{Two: Options2D{GridPoints: 32}}, func(done, total int) {
+		calls++
+		if done != calls || total != 6 {
+			t.Errorf("progress(%d, %d) at call %d, want (%d, 6)", done, total, calls, calls)
+		}
+		last = done
+	})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if last != 6 || len(post.Pairs) != 3 || post.Pair(2, 0) == nil {
+		t.Fatalf("progress reached %d, %d pairs", last, len(post.Pairs))
+	}
+	dir := t.TempDir()
+	meta := Metadata{Run: "sim-1", Model: "strings", Dataset: "simulated", Version: "test"}
+	if err := post.Write(dir, meta, nil); err != nil {
+		t.Fatal(err)
+	}
+	// The first parameter rails at 0: its JSON limit is a number and the
+	// second one's (no rail) is null, as NaN cannot be encoded in JSON.
+	var sj struct {
+		Meta       Metadata         `json:"metadata"`
+		Parameters []map[string]any `json:"parameters"`
+	}
+	readJSON(t, filepath.Join(dir, "summary.json"), &sj)
+	if sj.Meta.Run != meta.Run || sj.Meta.Version != meta.Version || sj.Meta.Dataset != meta.Dataset {
+		t.Errorf("metadata %+v, want %+v", sj.Meta, meta)
+	}
+	if len(sj.Parameters) != 3 || sj.Parameters[0]["limit_kind"] != "upper" || sj.Parameters[1]["limit"] != nil {
+		t.Errorf("summary.json parameters: %v", sj.Parameters)
+	}
+	var mj struct {
+		Levels []float64   `json:"density_levels"`
+		X      []float64   `json:"x"`
+		Rows   [][]float64 `json:"density_rows"`
+	}
+	readJSON(t, filepath.Join(dir, "marginal2d_log10_Gmu__odd_name_x.json"), &mj)
+	if len(mj.Levels) != 2 || !(mj.Levels[0] > mj.Levels[1]) || len(mj.X) != 32 || len(mj.Rows) != 32 {
+		t.Errorf("2-D JSON: %d levels %v, %d x, %d rows", len(mj.Levels), mj.Levels, len(mj.X), len(mj.Rows))
+	}
+	f, err := os.Open(filepath.Join(dir, "marginal1d_beta.csv"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	recs, err := csv.NewReader(f).ReadAll()
+	if err != nil || len(recs) != 257 || strings.Join(recs[0], ",") != "x,density" {
+		t.Errorf("marginal1d_beta.csv: %d records, err %v", len(recs), err)
+	}
+	ents, _ := os.ReadDir(dir)
+	for _, e := range ents {
+		if strings.Contains(e.Name(), ".tmp") {
+			t.Errorf("temporary file %s left behind", e.Name())
+		}
+	}
+	if len(ents) != 2+2*3+2*3 {
+		t.Errorf("%d files written, want 14", len(ents))
+	}
+	pts, err := ExclusionCurve(b, a, LinearEdges(-1.5, 1.5, 6), 0.95, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := WriteExclusion(dir, meta, "beta", "log10_Gmu", 0.95, pts); err != nil {
+		t.Fatal(err)
+	}
+	if err := WriteSummaries(filepath.Join(dir, "missing", "deeper"), meta, nil); err == nil {
+		t.Error("writing into a missing directory did not fail")
+	}
+}
+
+func readJSON(t *testing.T, path string, v any) {
+	t.Helper()
+	b, err := os.ReadFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := json.Unmarshal(b, v); err != nil {
+		t.Fatalf("%s: %v", path, err)
+	}
+}
+
+func TestAnalyzeErrors(t *testing.T) {
+	inf := [2]float64{math.Inf(-1), math.Inf(1)}
+	for _, c := range []struct {
+		name string
+		ps   []Param
+		o    Options
+	}{
+		{"no parameters", nil, Options{}},
+		{"length mismatch", []Param{{Name: "a", Bounds: inf, Samples: []float64{1, 2, 3}}, {Name: "b", Bounds: inf, Samples: []float64{1}}}, Options{}},
+		{"unnamed", []Param{{Bounds: inf, Samples: []float64{1, 2, 3}}}, Options{}},
+		{"bad mass", []Param{{Name: "a", Bounds: inf, Samples: []float64{1, 2, 3}}}, Options{Masses: []float64{1.5}}},
+	} {
+		if _, err := Analyze(c.ps, c.o, nil); err == nil {
+			t.Errorf("%s: no error", c.name)
+		}
+	}
+}
