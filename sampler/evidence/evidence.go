@@ -201,6 +201,9 @@ func Integrate(rungs []Rung, opt Options) (Result, error) {
 			delta = betas[k+1] - r.Beta
 		}
 		st := ws.fill(r, delta)
+		if !finite(st.mean) || !finite(st.variance) || !finite(st.lnRatio) {
+			return Result{}, fmt.Errorf("evidence: rung %d (beta %g): ln L values too large to average (mean %g, variance %g)", k, r.Beta, st.mean, st.variance)
+		}
 		E[k], V[k] = st.mean, st.variance
 		sv := varOfMean(ws.y[:r.Steps], opt.BatchFactor)
 		res.Curve[k] = CurvePoint{
@@ -282,6 +285,11 @@ func Integrate(rungs []Rung, opt Options) (Result, error) {
 	}
 	res.SS = newEstimate(ssLnZ, mcVar[estSS], ssVar, 0)
 
+	for _, e := range []Estimate{res.TI, res.TIHigher, res.SS} {
+		if !finite(e.LnZ) || !finite(e.Total) || !finite(e.DiscNoise) {
+			return Result{}, fmt.Errorf("evidence: ln Z or its error overflowed (%g +- %g); are the ln L values sane?", e.LnZ, e.Total)
+		}
+	}
 	diff := res.TIHigher.LnZ - res.SS.LnZ
 	res.DisagreeErr = math.Sqrt(mcVar[estDiff] + res.TIHigher.DiscErr*res.TIHigher.DiscErr + res.SS.DiscErr*res.SS.DiscErr)
 	if res.DisagreeErr > 0 {
@@ -311,3 +319,5 @@ func subLadder(n int) []int {
 	}
 	return append(idx, n-1)
 }
+
+func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }

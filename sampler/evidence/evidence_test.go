@@ -165,3 +165,61 @@ func TestAutocorrelatedErrors(t *testing.T) {
 		}
 	}
 }
+
+// TestSynchronous checks the cross-rung error option: with rungs drawn from
+// common random numbers (strong positive correlation between rungs, as swaps
+// can cause), the independent-rung error is too small while the synchronous
+// one matches the spread of ln Z over 40 repeats within a factor 1.5; with
+// independent rungs both agree with the spread.
+func TestSynchronous(t *testing.T) {
+	const repeats = 40
+	g := newGaussBox(2, 10)
+	betas := powerLadder(12, 5)
+	for _, tc := range []struct {
+		name        string
+		common      bool
+		indepHonest bool // the independent-rung error is expected to be honest
+	}{
+		{"independent rungs", false, true},
+		{"common random numbers", true, false},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			var sum, sum2, indep, sync float64
+			for i := 0; i < repeats; i++ {
+				var rungs []Rung
+				if tc.common {
+					rungs = g.drawCommon(uint64(500+i), betas, 400, 8, 0.5)
+				} else {
+					rungs = g.draw(uint64(500+i), betas, 400, 8, 0.5)
+				}
+				a, err := Integrate(rungs, Options{})
+				if err != nil {
+					t.Fatal(err)
+				}
+				b, err := Integrate(rungs, Options{Synchronous: true})
+				if err != nil {
+					t.Fatal(err)
+				}
+				if a.TIHigher.LnZ != b.TIHigher.LnZ {
+					t.Fatalf("Synchronous changed ln Z: %g vs %g", a.TIHigher.LnZ, b.TIHigher.LnZ)
+				}
+				sum += a.TIHigher.LnZ
+				sum2 += a.TIHigher.LnZ * a.TIHigher.LnZ
+				indep += a.TIHigher.MCErr * a.TIHigher.MCErr
+				sync += b.TIHigher.MCErr * b.TIHigher.MCErr
+			}
+			m := sum / repeats
+			spread := math.Sqrt((sum2 - repeats*m*m) / (repeats - 1))
+			ri := math.Sqrt(indep/repeats) / spread
+			rs := math.Sqrt(sync/repeats) / spread
+			t.Logf("spread %.5f: independent-rung error ratio %.3f, synchronous ratio %.3f", spread, ri, rs)
+			// 40 repeats pin the spread to about 11 %: 1.5 is a 3.5-sigma band.
+			if rs < 1/1.5 || rs > 1.5 {
+				t.Errorf("synchronous error / spread = %.3f, want within a factor 1.5 of 1", rs)
+			}
+			if honest := ri > 1/1.5 && ri < 1.5; honest != tc.indepHonest {
+				t.Errorf("independent-rung error / spread = %.3f; honest = %v, want %v", ri, honest, tc.indepHonest)
+			}
+		})
+	}
+}

@@ -108,3 +108,15 @@ func (g gaussBox) draw(seed uint64, betas []float64, steps, walkers int, phi flo
 	}
 	return rungs
 }
+
+// drawCommon samples every rung from the same random stream (common random
+// numbers), so that rung k and rung k+1 see strongly correlated draws, as
+// parallel-tempering swaps correlate neighbouring rungs.
+func (g gaussBox) drawCommon(seed uint64, betas []float64, steps, walkers int, phi float64) []Rung {
+	rungs := make([]Rung, len(betas))
+	for k, b := range betas {
+		r := rand.New(rand.NewPCG(seed, 0))
+		rungs[k] = g.rung(r, b, steps, walkers, phi)
+	}
+	return rungs
+}

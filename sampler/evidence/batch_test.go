@@ -1,0 +1,87 @@
+package evidence
+
+import (
+	"math"
+	"math/rand/v2"
+	"testing"
+
+	"gonum.org/v1/gonum/stat"
+)
+
+// ar1 returns a stationary AR(1) series x_t = phi x_{t-1} + e_t with unit
+// marginal variance (innovation variance 1 - phi^2).
+func ar1(r *rand.Rand, n int, phi float64) []float64 {
+	x := make([]float64, n)
+	x[0] = r.NormFloat64()
+	c := math.Sqrt(1 - phi*phi)
+	for i := 1; i < n; i++ {
+		x[i] = phi*x[i-1] + c*r.NormFloat64()
+	}
+	return x
+}
+
+// TestAutocorrTimeAR1 checks Sokal's windowed estimate against the AR(1)
+// closed form tau = (1 + phi)/(1 - phi) (PHYSICS.md section 6; Sokal 1997).
+func TestAutocorrTimeAR1(t *testing.T) {
+	const n = 200000
+	for i, phi := range []float64{0, 0.5, 0.9, -0.3} {
+		x := ar1(rand.New(rand.NewPCG(7, uint64(i))), n, phi)
+		want := (1 + phi) / (1 - phi)
+		got, ok := autocorrTime(x)
+		// The estimator's relative sd is about sqrt(2(2M+1)/n) with window
+		// M ~ 5 tau: 4.4 % for tau = 19 at n = 2e5; 15 % is over 3 sd.
+		if !ok || math.Abs(got-want) > 0.15*want {
+			t.Errorf("phi %g: tau = %.3f (window closed %v), want %.3f", phi, got, ok, want)
+		}
+	}
+	if tau, _ := autocorrTime(make([]float64, 50)); tau != 1 {
+		t.Errorf("constant series: tau = %g, want 1", tau)
+	}
+}
+
+// TestOBM checks overlapping batch means against the exact variance of the
+// mean of a stationary AR(1) series,
+//
+//	Var(xbar) = (1/n) [1 + 2 sum_{t=1}^{n-1} (1 - t/n) phi^t],
+//
+// and, for batch length 1, against gonum's sample variance divided by n.
+func TestOBM(t *testing.T) {
+	const n = 100000
+	for i, phi := range []float64{0, 0.5, 0.9} {
+		x := ar1(rand.New(rand.NewPCG(8, uint64(i))), n, phi)
+		var s float64
+		p := 1.0
+		for k := 1; k < n; k++ {
+			p *= phi
+			s += (1 - float64(k)/n) * p
+		}
+		want := (1 + 2*s) / n
+		got := varOfMean(x, 10)
+		// OBM's relative sd is sqrt(4b/(3n)) (Meketon & Schmeiser 1984,
+		// from memory): 5 % at b = 190; its bias with b = 10 tau is about
+		// -5 %. 20 % covers both.
+		if math.Abs(got.varMean-want) > 0.2*want {
+			t.Errorf("phi %g: OBM var %.4g (batch %d, tau %.3g), want %.4g", phi, got.varMean, got.batch, got.tau, want)
+		}
+		if got.short {
+			t.Errorf("phi %g: flagged short at n = %d", phi, n)
+		}
+	}
+	x := ar1(rand.New(rand.NewPCG(9, 0)), 1000, 0)
+	want := stat.Variance(x, nil) / float64(len(x))
+	if got := obmVarOfMean(x, 1); math.Abs(got-want) > 1e-12*want {
+		t.Errorf("b = 1: %g, want sample variance / n = %g", got, want)
+	}
+	// Too short for ten batches of ten autocorrelation times: flagged.
+	if got := varOfMean(ar1(rand.New(rand.NewPCG(9, 1)), 200, 0.95), 10); !got.short {
+		t.Errorf("200 steps with tau ~ 39 not flagged short (batch %d, tau %.3g)", got.batch, got.tau)
+	}
+}
+
+func BenchmarkVarOfMean(b *testing.B) {
+	x := ar1(rand.New(rand.NewPCG(1, 1)), 2000, 0.9)
+	b.ReportAllocs()
+	for b.Loop() {
+		varOfMean(x, 10)
+	}
+}
