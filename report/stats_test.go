@@ -16,7 +16,7 @@ type dist interface {
 	CDF(x float64) float64
 }
 
-func draw(d dist, n int) []float64 {
+func drawN(d dist, n int) []float64 {
 	x := make([]float64, n)
 	for i := range x {
 		x[i] = d.Rand()
@@ -46,7 +46,7 @@ func TestQuantilesAgainstDistuv(t *testing.T) {
 		{"beta(2,5)", distuv.Beta{Alpha: 2, Beta: 5, Src: src}},
 	}
 	for _, c := range cases {
-		s := sortedFinite(draw(c.d, n))
+		s := sortedFinite(drawN(c.d, n))
 		for _, p := range []float64{0.025, 0.16, 0.5, 0.84, 0.975} {
 			got, want := Quantile(s, p), c.d.Quantile(p)
 			// 4 standard errors: a false alarm rate of 6e-5 per check.
@@ -122,7 +122,7 @@ func TestHDISkewed(t *testing.T) {
 			if r := c.d.Prob(want.Lo) / c.d.Prob(want.Hi); math.Abs(r-1) > 1e-6 {
 				t.Fatalf("%s: reference HDI not solved: density ratio %g", c.name, r)
 			}
-			got, err := HDI(sortedFinite(draw(c.d, n)), mass)
+			got, err := HDI(sortedFinite(drawN(c.d, n)), mass)
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -193,7 +193,7 @@ func TestRails(t *testing.T) {
 		{"open support", distuv.Normal{Mu: 0, Sigma: 1, Src: src}, [2]float64{math.Inf(-1), math.Inf(1)}, EdgeNone},
 	}
 	for _, c := range cases {
-		m, err := Marginalize(c.name, draw(c.d, 20000), c.bounds, Options1D{})
+		m, err := Marginalize(c.name, drawN(c.d, 20000), c.bounds, Options1D{})
 		if err != nil {
 			t.Fatal(err)
 		}

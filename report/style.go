@@ -1,0 +1,319 @@
+package report
+
+import (
+	"bytes"
+	"fmt"
+	"image/color"
+	"io"
+	"os"
+	"path/filepath"
+	"strings"
+	"unicode/utf8"
+
+	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/font"
+	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/vg"
+	"gonum.org/v1/plot/vg/draw"
+	"gonum.org/v1/plot/vg/vgimg"
+	"gonum.org/v1/plot/vg/vgpdf"
+	"gonum.org/v1/plot/vg/vgsvg"
+)
+
+// Figure sizes: one journal column and a full page width.
+const (
+	ColumnWidth = 3.4 * vg.Inch
+	PageWidth   = 7 * vg.Inch
+)
+
+// FigureOptions controls how figures are written.
+type FigureOptions struct {
+	// Formats lists the file formats, among "png", "svg" and "pdf"
+	// (default png and svg).
+	Formats []string
+	// DPI is the resolution of PNG files (default 300).
+	DPI int
+}
+
+func (o FigureOptions) withDefaults() (FigureOptions, error) {
+	if len(o.Formats) == 0 {
+		o.Formats = []string{"png", "svg"}
+	}
+	for _, f := range o.Formats {
+		switch f {
+		case "png", "svg", "pdf":
+		default:
+			return o, fmt.Errorf("report: figure format %q: want png, svg or pdf", f)
+		}
+	}
+	if o.DPI <= 0 {
+		o.DPI = 300
+	}
+	return o, nil
+}
+
+// series is one entry of the figure palette: colours chosen to differ in
+// lightness as well as hue (so they stay apart in greyscale print), each
+// with its own dash pattern.
+type series struct {
+	line, fillDark, fillLight color.NRGBA
+	dash                      []vg.Length
+}
+
+// palette returns the k-th series style; the palette repeats after four.
+func palette(k int) series {
+	ss := [...]series{
+		// deep slate blue, greyscale lightness about 20 %
+		{color.NRGBA{0x1f, 0x2f, 0x4d, 0xff}, color.NRGBA{0x4a, 0x5f, 0x85, 0xc8}, color.NRGBA{0xa9, 0xb6, 0xcf, 0xb4}, nil},
+		// brick red, about 45 %
+		{color.NRGBA{0xa2, 0x3b, 0x1e, 0xff}, color.NRGBA{0xc8, 0x6a, 0x4a, 0xb4}, color.NRGBA{0xee, 0xc0, 0xad, 0x96}, []vg.Length{vg.Points(4), vg.Points(2)}},
+		// olive green, about 60 %
+		{color.NRGBA{0x6b, 0x8e, 0x23, 0xff}, color.NRGBA{0x9c, 0xb8, 0x5a, 0xb4}, color.NRGBA{0xd6, 0xe4, 0xb0, 0x96}, []vg.Length{vg.Points(1), vg.Points(1.5)}},
+		// ochre, about 75 %
+		{color.NRGBA{0xc9, 0x9a, 0x2e, 0xff}, color.NRGBA{0xdd, 0xbd, 0x6c, 0xb4}, color.NRGBA{0xf3, 0xe3, 0xb8, 0x96}, []vg.Length{vg.Points(5), vg.Points(1.5), vg.Points(1), vg.Points(1.5)}},
+	}
+	return ss[k%len(ss)]
+}
+
+// Read-only colours shared by the figures.
+var (
+	inkColour   = color.NRGBA{0x22, 0x22, 0x22, 0xff}
+	gridColour  = color.NRGBA{0xd8, 0xd8, 0xd8, 0xff}
+	truthColour = color.NRGBA{0x00, 0x00, 0x00, 0xff}
+)
+
+// Font sizes legible when the figure is printed at its nominal width.
+const (
+	labelSize = 8.5
+	tickSize  = 7
+)
+
+// newPlot returns a plot in tautline's style: sans-serif type, thin axes,
+// short inward-looking ticks on a light dotted grid, no title.
+func newPlot() *plot.Plot {
+	p := plot.New()
+	sans := font.Font{Typeface: "Liberation", Variant: "Sans"}
+	for _, ax := range []*plot.Axis{&p.X, &p.Y} {
+		ax.Label.TextStyle.Font = font.From(sans, labelSize)
+		ax.Label.TextStyle.Color = inkColour
+		ax.Tick.Label.Font = font.From(sans, tickSize)
+		ax.Tick.Label.Color = inkColour
+		ax.LineStyle.Width = vg.Points(0.6)
+		ax.LineStyle.Color = inkColour
+		ax.Tick.LineStyle.Width = vg.Points(0.5)
+		ax.Tick.LineStyle.Color = inkColour
+		ax.Tick.Length = vg.Points(2.5)
+		ax.Padding = vg.Points(1)
+	}
+	p.X.Label.Padding = vg.Points(2)
+	p.Y.Label.Padding = vg.Points(2)
+	p.Legend.TextStyle.Font = font.From(sans, tickSize)
+	p.Legend.TextStyle.Color = inkColour
+	return p
+}
+
+// addGrid puts a light dotted grid behind later plotters.
+func addGrid(p *plot.Plot) {
+	g := plotter.NewGrid()
+	for _, ls := range []*draw.LineStyle{&g.Vertical, &g.Horizontal} {
+		ls.Color = gridColour
+		ls.Width = vg.Points(0.4)
+		ls.Dashes = []vg.Length{vg.Points(0.8), vg.Points(1.6)}
+	}
+	p.Add(g)
+}
+
+// blankTicks keeps another ticker's marks but drops their labels, for inner
+// panels of a grid of plots.
+type blankTicks struct{ plot.Ticker }
+
+func (b blankTicks) Ticks(min, max float64) []plot.Tick {
+	t := b.Ticker.Ticks(min, max)
+	for i := range t {
+		t[i].Label = ""
+	}
+	return t
+}
+
+// AxisLabel turns a LaTeX label and a unit into text for a figure axis,
+// e.g. `\log_{10} \rho` and "s" into "log₁₀ ρ [s]" (see PlainLabel).
+func AxisLabel(label, unit string) string {
+	s := PlainLabel(label)
+	if unit != "" {
+		s += " [" + unit + "]"
+	}
+	return s
+}
+
+// PlainLabel renders a LaTeX math label as plain Unicode text for figures:
+// Greek letters and common symbols become their characters, sub- and
+// superscripts of digits and signs become Unicode sub- and superscripts
+// (others are written after "_" or "^"), font macros and braces vanish.
+// Unknown macros lose their backslash. It never fails.
+func PlainLabel(s string) string {
+	s = strings.ReplaceAll(s, "$", "")
+	var b strings.Builder
+	for i := 0; i < len(s); {
+		c := s[i]
+		switch c {
+		case '\\':
+			j := i + 1
+			for j < len(s) && (s[j] >= 'a' && s[j] <= 'z' || s[j] >= 'A' && s[j] <= 'Z') {
+				j++
+			}
+			if j == i+1 && j < len(s) { // \, \; \! \{ ...
+				switch s[j] {
+				case ',', ';', ':', ' ':
+					b.WriteByte(' ')
+				case '{', '}', '_', '%', '&', '#':
+					b.WriteByte(s[j])
+				}
+				i = j + 1
+				continue
+			}
+			name := s[i+1 : j]
+			if r, ok := texSymbols[name]; ok {
+				b.WriteString(r)
+			} else if !texDropped[name] {
+				b.WriteString(name)
+			}
+			i = j
+		case '_', '^':
+			arg, n := scriptArg(s[i+1:])
+			b.WriteString(script(PlainLabel(arg), c == '^'))
+			i += 1 + n
+		case '{', '}':
+			i++
+		default:
+			_, n := utf8.DecodeRuneInString(s[i:])
+			b.WriteString(s[i : i+n])
+			i += n
+		}
+	}
+	return strings.Join(strings.Fields(b.String()), " ")
+}
+
+// scriptArg returns the argument of a sub- or superscript and the bytes it
+// takes: a braced group, a macro, or one character.
+func scriptArg(s string) (string, int) {
+	if s == "" {
+		return "", 0
+	}
+	if s[0] == '{' {
+		depth := 0
+		for i := 0; i < len(s); i++ {
+			switch s[i] {
+			case '{':
+				depth++
+			case '}':
+				depth--
+				if depth == 0 {
+					return s[1:i], i + 1
+				}
+			}
+		}
+		return s[1:], len(s)
+	}
+	if s[0] == '\\' {
+		j := 1
+		for j < len(s) && (s[j] >= 'a' && s[j] <= 'z' || s[j] >= 'A' && s[j] <= 'Z') {
+			j++
+		}
+		return s[:j], j
+	}
+	_, n := utf8.DecodeRuneInString(s)
+	return s[:n], n
+}
+
+const (
+	supChars = "⁰¹²³⁴⁵⁶⁷⁸⁹⁺⁻⁼⁽⁾"
+	subChars = "₀₁₂₃₄₅₆₇₈₉₊₋₌₍₎"
+	scriptOf = "0123456789+-=()"
+)
+
+// script writes t as Unicode super- or subscripts when every character has
+// one ("/" becomes a fraction slash in superscripts), else as ^t or _t.
+func script(t string, sup bool) string {
+	set := []rune(subChars)
+	if sup {
+		set = []rune(supChars)
+	}
+	var b strings.Builder
+	for _, r := range t {
+		if k := strings.IndexRune(scriptOf, r); k >= 0 {
+			b.WriteRune(set[k])
+			continue
+		}
+		if sup && r == '/' {
+			b.WriteRune('⁄')
+			continue
+		}
+		if sup {
+			return "^" + t
+		}
+		return "_" + t
+	}
+	return b.String()
+}
+
+// Read-only tables for PlainLabel.
+var (
+	texSymbols = map[string]string{
+		"alpha": "α", "beta": "β", "gamma": "γ", "delta": "δ", "epsilon": "ε", "varepsilon": "ε",
+		"zeta": "ζ", "eta": "η", "theta": "θ", "kappa": "κ", "lambda": "λ", "mu": "μ", "nu": "ν",
+		"xi": "ξ", "pi": "π", "rho": "ρ", "sigma": "σ", "tau": "τ", "phi": "φ", "varphi": "φ",
+		"chi": "χ", "psi": "ψ", "omega": "ω", "Gamma": "Γ", "Delta": "Δ", "Theta": "Θ",
+		"Lambda": "Λ", "Xi": "Ξ", "Pi": "Π", "Sigma": "Σ", "Phi": "Φ", "Psi": "Ψ", "Omega": "Ω",
+		"log": "log", "ln": "ln", "exp": "exp", "times": "×", "cdot": "·", "pm": "±",
+		"infty": "∞", "le": "≤", "leq": "≤", "ge": "≥", "geq": "≥", "sim": "~", "propto": "∝",
+		"odot": "☉", "quad": " ", "qquad": " ",
+	}
+	texDropped = map[string]bool{"rm": true, "mathrm": true, "mathit": true, "mathcal": true,
+		"mathbf": true, "text": true, "textrm": true, "it": true, "bf": true, "left": true, "right": true}
+)
+
+// saveFigures draws a figure of size w × h into every requested format,
+// naming the files stem + "." + format, each written atomically.
+func saveFigures(stem string, w, h vg.Length, o FigureOptions, drawFig func(dc draw.Canvas)) ([]string, error) {
+	o, err := o.withDefaults()
+	if err != nil {
+		return nil, err
+	}
+	if dir := filepath.Dir(stem); dir != "" {
+		if err := os.MkdirAll(dir, 0o755); err != nil {
+			return nil, fmt.Errorf("report: %w", err)
+		}
+	}
+	var files []string
+	for _, f := range o.Formats {
+		var c interface {
+			vg.CanvasSizer
+			io.WriterTo
+		}
+		switch f {
+		case "png":
+			ic := vgimg.NewWith(vgimg.UseWH(w, h), vgimg.UseDPI(o.DPI), vgimg.UseBackgroundColor(color.White))
+			c = vgimg.PngCanvas{Canvas: ic}
+		case "svg":
+			c = vgsvg.New(w, h)
+		case "pdf":
+			c = vgpdf.New(w, h)
+		}
+		dc := draw.New(c)
+		if f != "png" {
+			dc.SetColor(color.White)
+			dc.Fill(dc.Rectangle.Path())
+		}
+		drawFig(dc)
+		var buf bytes.Buffer
+		if _, err := c.WriteTo(&buf); err != nil {
+			return files, fmt.Errorf("report: encoding %s.%s: %w", stem, f, err)
+		}
+		path := stem + "." + f
+		if err := writeFileAtomic(path, buf.Bytes()); err != nil {
+			return files, err
+		}
+		files = append(files, path)
+	}
+	return files, nil
+}
