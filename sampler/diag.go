@@ -1,12 +1,12 @@
 package sampler
 
 import (
+	"cmp"
 	"encoding/json"
 	"errors"
 	"fmt"
 	"math"
 	"slices"
-	"sort"
 
 	"gonum.org/v1/gonum/dsp/fourier"
 	"gonum.org/v1/gonum/stat/distuv"
@@ -172,21 +172,25 @@ func splitChains(x []float64, steps, walkers int) (out []float64, n, m int) {
 // (Vehtari et al. 2021, eq. 14).
 func rankNormalize(v []float64) []float64 {
 	S := len(v)
-	idx := make([]int, S)
-	for i := range idx {
-		idx[i] = i
+	type vi struct {
+		v float64
+		i int
 	}
-	sort.Slice(idx, func(a, b int) bool { return v[idx[a]] < v[idx[b]] })
+	idx := make([]vi, S)
+	for i, x := range v {
+		idx[i] = vi{x, i}
+	}
+	slices.SortFunc(idx, func(a, b vi) int { return cmp.Compare(a.v, b.v) })
 	z := make([]float64, S)
 	for i := 0; i < S; {
 		j := i
-		for j+1 < S && v[idx[j+1]] == v[idx[i]] {
+		for j+1 < S && idx[j+1].v == idx[i].v {
 			j++
 		}
 		r := float64(i+j)/2 + 1
 		q := distuv.UnitNormal.Quantile((r - 0.375) / (float64(S) + 0.25))
 		for k := i; k <= j; k++ {
-			z[idx[k]] = q
+			z[idx[k].i] = q
 		}
 		i = j + 1
 	}

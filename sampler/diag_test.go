@@ -1,0 +1,175 @@
+package sampler
+
+import (
+	"encoding/json"
+	"errors"
+	"math"
+	"math/rand/v2"
+	"strings"
+	"testing"
+)
+
+// ar1 returns walkers independent AR(1) series x_t = phi x_{t-1} + e_t,
+// e_t ~ N(0, 1), started from the stationary N(0, 1/(1-phi^2)), in the
+// diagnostic layout x[s*walkers+w].
+func ar1(phi float64, steps, walkers int, seed uint64) []float64 {
+	r := rand.New(rand.NewPCG(seed, 1))
+	x := make([]float64, steps*walkers)
+	sd := 1 / math.Sqrt(1-phi*phi)
+	for w := range walkers {
+		v := sd * r.NormFloat64()
+		for s := range steps {
+			v = phi*v + r.NormFloat64()
+			x[s*walkers+w] = v
+		}
+	}
+	return x
+}
+
+func TestAutocorrTimeAR1(t *testing.T) {
+	tests := []struct {
+		phi            float64
+		steps, walkers int
+	}{
+		// Lengths give a relative standard error of the windowed estimate,
+		// sqrt(2(2M+1)/N) with M = 5 tau (Sokal 1997, eq. 3.19), of 2-3.3 %,
+		// so the 10 % tolerance is at least 3 standard errors.
+		{0.5, 5000, 32},
+		{0.9, 20000, 32},
+		{0.99, 150000, 24},
+	}
+	for _, tc := range tests {
+		x := ar1(tc.phi, tc.steps, tc.walkers, uint64(1000*tc.phi))
+		// AR(1) closed form: rho(k) = phi^k, tau = (1+phi)/(1-phi).
+		want := (1 + tc.phi) / (1 - tc.phi)
+		got, err := AutocorrTime(x, tc.steps, tc.walkers)
+		t.Logf("phi = %v: tau = %.4g, closed form %.4g", tc.phi, got, want)
+		if err != nil {
+			t.Errorf("phi = %v: %v", tc.phi, err)
+		}
+		if math.Abs(got-want) > 0.1*want {
+			t.Errorf("phi = %v: tau = %.4g, want %.4g ± 10%%", tc.phi, got, want)
+		}
+		// ESS is N/tau by definition; it must agree to the same 10 %. It and
+		// the bulk ESS are skipped for the longest series to keep the suite
+		// fast (the rank normalisation sorts all 3.6 million draws).
+		wantESS := float64(tc.steps*tc.walkers) / want
+		if tc.phi > 0.9 {
+			continue
+		}
+		if ess, _ := ESS(x, tc.steps, tc.walkers); math.Abs(ess-wantESS) > 0.1*wantESS {
+			t.Errorf("phi = %v: ESS = %.4g, want %.4g ± 10%%", tc.phi, ess, wantESS)
+		}
+		// Bulk ESS (Vehtari et al. 2021) estimates the same N/tau; 15 %
+		// allows for its Geyer truncation, noisier than Sokal's window.
+		if ess := BulkESS(x, tc.steps, tc.walkers); math.Abs(ess-wantESS) > 0.15*wantESS {
+			t.Errorf("phi = %v: bulk ESS = %.4g, want %.4g ± 15%%", tc.phi, ess, wantESS)
+		}
+	}
+}
+
+func TestAutocorrTimeErrors(t *testing.T) {
+	// A chain of 200 steps of an AR(1) with tau = 199 is far shorter than
+	// 50 tau: the estimate must come with ErrShortChain.
+	x := ar1(0.99, 200, 4, 1)
+	if _, err := AutocorrTime(x, 200, 4); !errors.Is(err, ErrShortChain) {
+		t.Errorf("short chain: error %v, want ErrShortChain", err)
+	}
+	if _, err := AutocorrTime(make([]float64, 40), 10, 4); err == nil || !strings.Contains(err.Error(), "constant") {
+		t.Errorf("constant chain: error %v", err)
+	}
+	if _, err := AutocorrTime(make([]float64, 39), 10, 4); err == nil || !strings.Contains(err.Error(), "39 values") {
+		t.Errorf("bad layout: error %v", err)
+	}
+}
+
+func TestSplitRhat(t *testing.T) {
+	const steps, walkers = 2000, 16
+	r := rand.New(rand.NewPCG(5, 6))
+	iid := make([]float64, steps*walkers)
+	modes := make([]float64, steps*walkers)
+	scale := make([]float64, steps*walkers)
+	for s := range steps {
+		for w := range walkers {
+			z := r.NormFloat64()
+			iid[s*walkers+w] = z
+			// Half the walkers in a mode at -3, half at +3, never mixing.
+			modes[s*walkers+w] = z + 6*float64(w%2) - 3
+			// Same location, scales 1 and 3: only the folded (tail) R-hat
+			// sees this (Vehtari et al. 2021, section 4.2).
+			scale[s*walkers+w] = z * (1 + 2*float64(w%2))
+		}
+	}
+	tests := []struct {
+		name    string
+		x       []float64
+		lo, hi  float64
+		comment string
+	}{
+		// Vehtari et al. (2021) recommend R-hat < 1.01 for converged chains;
+		// iid draws sit well inside.
+		{"iid normal", iid, 0.99, 1.01, "converged chains"},
+		{"separate modes", modes, 1.1, math.Inf(1), "chains in modes that never mixed"},
+		{"unequal scales", scale, 1.1, math.Inf(1), "chains with different spreads"},
+	}
+	for _, tc := range tests {
+		if got := SplitRhat(tc.x, steps, walkers); !(got >= tc.lo && got <= tc.hi) {
+			t.Errorf("%s (%s): R-hat = %.4g, want in [%v, %v]", tc.name, tc.comment, got, tc.lo, tc.hi)
+		}
+	}
+	// Independent draws: bulk and tail ESS near the number of draws; 15 %
+	// as in TestAutocorrTimeAR1.
+	n := float64(steps * walkers)
+	for name, f := range map[string]func([]float64, int, int) float64{"bulk": BulkESS, "tail": TailESS} {
+		if ess := f(iid, steps, walkers); math.Abs(ess-n) > 0.15*n {
+			t.Errorf("%s ESS of iid draws = %.4g, want %.4g ± 15%%", name, ess, n)
+		}
+	}
+	if !math.IsNaN(SplitRhat(iid[:3*walkers], 3, walkers)) {
+		t.Error("R-hat of 3 steps should be NaN")
+	}
+}
+
+func TestStuckWalkers(t *testing.T) {
+	acc := []float64{0.3, 0.31, 0.29, 0.02, 0.33, 0.28, 0.3, 0.0}
+	got := StuckWalkers(acc, 1000)
+	if len(got) != 2 || got[0] != 3 || got[1] != 7 {
+		t.Errorf("StuckWalkers = %v, want [3 7]", got)
+	}
+	// After 10 steps an acceptance of 0.1 against 0.3 is not significant.
+	if got := StuckWalkers([]float64{0.3, 0.3, 0.1, 0.3}, 10); len(got) != 0 {
+		t.Errorf("StuckWalkers after 10 steps = %v, want none", got)
+	}
+}
+
+func TestDiagnoseJSON(t *testing.T) {
+	const steps, walkers, dim = 400, 8, 2
+	a := ar1(0.5, steps, walkers, 3)
+	b := ar1(0.9, steps, walkers, 4)
+	pos := make([]float64, steps*walkers*dim)
+	for i := range a {
+		pos[i*dim], pos[i*dim+1] = a[i], b[i]
+	}
+	rep, err := Diagnose(pos, steps, walkers, dim, []float64{0.3, 0.3, 0.3, 0.3, 0.3, 0.3, 0.3, 0}, []string{"a", "b"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(rep.Params) != 2 || rep.Params[1].Name != "b" || rep.MaxTau != rep.Params[1].Tau {
+		t.Errorf("report %+v: want two parameters, the second with the larger tau", rep)
+	}
+	if len(rep.StuckWalkers) != 1 || rep.StuckWalkers[0] != 7 {
+		t.Errorf("stuck walkers %v, want [7]", rep.StuckWalkers)
+	}
+	rep.Params[0].Rhat = math.NaN()
+	rep.MaxRhat = math.Inf(1)
+	out, err := json.Marshal(rep)
+	if err != nil {
+		t.Fatalf("json: %v", err)
+	}
+	if !strings.Contains(string(out), `"rhat":null`) || !strings.Contains(string(out), `"max_rhat":null`) {
+		t.Errorf("non-finite values not written as null: %s", out)
+	}
+	if _, err := Diagnose(pos[:10], steps, walkers, dim, nil, nil); err == nil {
+		t.Error("Diagnose accepted a short chain")
+	}
+}
