@@ -107,19 +107,23 @@ type seriesVar struct {
 // 10 to 30 batches).
 const minBatches = 10
 
-// varOfMean estimates the variance of the mean of g with overlapping batch
-// means of length ceil(factor * tau).
-func varOfMean(g []float64, factor float64) seriesVar {
-	n := len(g)
-	tau, ok := autocorrTime(g)
-	b := int(math.Ceil(factor * tau))
-	if b < 1 {
-		b = 1
-	}
-	short := !ok
+// batchLen returns the batch length ceil(factor * tau) for a series of n
+// steps, capped so that at least minBatches batches fit, and whether the
+// cap (or an unclosed autocorrelation window) made it shorter than asked.
+func batchLen(tau float64, windowOK bool, n int, factor float64) (b int, short bool) {
+	b = max(int(math.Ceil(factor*tau)), 1)
+	short = !windowOK
 	if limit := n / minBatches; b > limit {
 		b = max(limit, 1)
 		short = true
 	}
+	return b, short
+}
+
+// varOfMean estimates the variance of the mean of g with overlapping batch
+// means of length ceil(factor * tau), tau being g's own autocorrelation time.
+func varOfMean(g []float64, factor float64) seriesVar {
+	tau, ok := autocorrTime(g)
+	b, short := batchLen(tau, ok, len(g), factor)
 	return seriesVar{varMean: obmVarOfMean(g, b), tau: tau, batch: b, short: short}
 }

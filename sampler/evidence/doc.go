@@ -37,9 +37,10 @@
 // delta method in log space). Averaging over walkers first keeps the
 // correlation between walkers of one ensemble. The variance of the mean of
 // each series is estimated by overlapping batch means (Meketon & Schmeiser
-// 1984; Flegal & Jones 2010) with batch length Options.BatchFactor times the
-// integrated autocorrelation time of that series, measured with Sokal's
-// automatic window (c = 5). Rung contributions are added in quadrature,
+// 1984; Flegal & Jones 2010) with batch length Options.BatchFactor (10)
+// times the integrated autocorrelation time of the rung, the largest of its
+// three base series' times measured with Sokal's automatic window (c = 5),
+// and at most a tenth of the steps (a warning says when that cap binds). Rung contributions are added in quadrature,
 // which assumes independent rungs. Parallel-tempering swaps correlate
 // neighbouring rungs; when the rungs were recorded step by step together
 // (Options.Synchronous), the per-rung series are summed step by step before

@@ -195,6 +195,7 @@ func Integrate(rungs []Rung, opt Options) (Result, error) {
 	V := make([]float64, n)
 	var mcVar [numEst]float64
 	var ssLnZ, ssVar float64
+	syncBatch := 1
 	for k, r := range rungs {
 		delta := 0.0
 		if k+1 < n {
@@ -205,15 +206,25 @@ func Integrate(rungs []Rung, opt Options) (Result, error) {
 			return Result{}, fmt.Errorf("evidence: rung %d (beta %g): ln L values too large to average (mean %g, variance %g)", k, r.Beta, st.mean, st.variance)
 		}
 		E[k], V[k] = st.mean, st.variance
-		sv := varOfMean(ws.y[:r.Steps], opt.BatchFactor)
-		res.Curve[k] = CurvePoint{
-			Beta: r.Beta, Mean: st.mean, MeanErr: math.Sqrt(sv.varMean), Var: st.variance,
-			Tau: sv.tau, ESS: float64(r.Steps) / sv.tau,
+		// One batch length per rung, from the slowest of its three influence
+		// series: every estimator's series is a combination of them.
+		tauY, okY := autocorrTime(ws.y[:r.Steps])
+		tauQ, okQ := autocorrTime(ws.q[:r.Steps])
+		tau, ok := math.Max(tauY, tauQ), okY && okQ
+		if k+1 < n {
+			tauE, okE := autocorrTime(ws.e[:r.Steps])
+			tau, ok = math.Max(tau, tauE), ok && okE
 		}
-		if sv.short {
+		b, short := batchLen(tau, ok, r.Steps, opt.BatchFactor)
+		syncBatch = max(syncBatch, b)
+		res.Curve[k] = CurvePoint{
+			Beta: r.Beta, Mean: st.mean, MeanErr: math.Sqrt(obmVarOfMean(ws.y[:r.Steps], b)), Var: st.variance,
+			Tau: tauY, ESS: float64(r.Steps) / tauY,
+		}
+		if short {
 			res.Warnings = append(res.Warnings, fmt.Sprintf(
 				"evidence: rung %d (beta %g): %d steps hold fewer than %d batches of %g autocorrelation times (tau = %.3g); its errors are underestimated",
-				k, r.Beta, r.Steps, minBatches, opt.BatchFactor, sv.tau))
+				k, r.Beta, r.Steps, minBatches, opt.BatchFactor, tau))
 		}
 		coef := [numEst][3]float64{
 			estTI:       {w[k], 0, 0},
@@ -239,7 +250,7 @@ func Integrate(rungs []Rung, opt Options) (Result, error) {
 			if opt.Synchronous && e != estSS {
 				continue
 			}
-			v := varOfMean(g, opt.BatchFactor).varMean
+			v := obmVarOfMean(g, b)
 			if e == estSS && k+1 < n {
 				ssVar += v / 2
 				res.Intervals[k].SteppingSE = math.Sqrt(v)
@@ -260,7 +271,10 @@ func Integrate(rungs []Rung, opt Options) (Result, error) {
 	}
 	if opt.Synchronous {
 		for e := range sync {
-			mcVar[e] = varOfMean(sync[e][:rungs[0].Steps], opt.BatchFactor).varMean
+			g := sync[e][:rungs[0].Steps]
+			// Batches long enough for the summed series and for every rung.
+			b := max(varOfMean(g, opt.BatchFactor).batch, min(syncBatch, len(g)/minBatches))
+			mcVar[e] = obmVarOfMean(g, b)
 		}
 	}
 

@@ -29,7 +29,7 @@ func TestTrapezoidWeights(t *testing.T) {
 
 // TestCorrectedTrapezoidCubic checks that the derivative-corrected trapezoid
 // (Friel, Hurn & Wyse 2014) is exact for a cubic E(beta) with V = E', as the
-// Euler-Maclaurin formula promises (the first neglected term involves E'''' = 0).
+// Euler-Maclaurin formula promises (the first neglected term involves E”” = 0).
 func TestCorrectedTrapezoidCubic(t *testing.T) {
 	// E(b) = 2 - 3b + 5b^2 - 7b^3; integral over [0, 1] = 2 - 3/2 + 5/3 - 7/4.
 	want := 2 - 1.5 + 5.0/3 - 1.75
