@@ -1,0 +1,150 @@
+package chains
+
+import (
+	"bytes"
+	"crypto/sha256"
+	"encoding/hex"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"time"
+)
+
+// MetaSchema is the version of the metadata layout written by WriteMeta.
+const MetaSchema = 1
+
+// Meta describes one run: what produced it, from what, and what it wrote.
+// It is stored as JSON with the field names given in the tags.
+type Meta struct {
+	// Schema is the metadata layout version (MetaSchema when written).
+	Schema int `json:"schema"`
+	// Version is the tautline version that made the run.
+	Version string `json:"tautline_version"`
+	// CommandLine is the program's argument list, os.Args.
+	CommandLine []string `json:"command_line"`
+	// Config is the fully resolved run configuration, as the command
+	// represents it (any value encoding/json accepts); read back as
+	// generic JSON (map[string]any and so on).
+	Config any `json:"config"`
+	// Seed is the run's random seed.
+	Seed uint64 `json:"seed"`
+	// Data identifies the data set fitted.
+	Data DataSet `json:"data"`
+	// Model names the model and its parameters.
+	Model ModelInfo `json:"model"`
+	// Start and End bound the run in wall-clock time.
+	Start time.Time `json:"start"`
+	End   time.Time `json:"end"`
+	// Timings lists the wall-clock duration of each phase, in order.
+	Timings []Timing `json:"timings"`
+	// Diagnostics holds the sampler's convergence report (any value
+	// encoding/json accepts).
+	Diagnostics any `json:"diagnostics"`
+	// Outputs lists the files the run wrote.
+	Outputs []Output `json:"outputs"`
+}
+
+// DataSet identifies a data file.
+type DataSet struct {
+	Name   string `json:"name"`
+	Path   string `json:"path"`
+	SHA256 string `json:"sha256"` // hex digest of the file's bytes
+}
+
+// ModelInfo names a model and lists its parameters in chain-column order.
+type ModelInfo struct {
+	Name   string      `json:"name"`
+	Params []ParamInfo `json:"params"`
+}
+
+// ParamInfo describes one parameter as run: its prior in the syntax of
+// priors.Parse, and whether it was held fixed (no chain column).
+type ParamInfo struct {
+	Name  string `json:"name"`
+	Label string `json:"label,omitempty"`
+	Unit  string `json:"unit,omitempty"`
+	Prior string `json:"prior"`
+	Fixed bool   `json:"fixed,omitempty"`
+}
+
+// Timing is the duration of one named phase of a run.
+type Timing struct {
+	Phase   string  `json:"phase"`
+	Seconds float64 `json:"seconds"`
+}
+
+// Output is one file a run wrote, with a one-line description.
+type Output struct {
+	File        string `json:"file"`
+	Description string `json:"description"`
+}
+
+// WriteMeta writes m to path as indented JSON, atomically, with Schema set
+// to MetaSchema.
+func WriteMeta(path string, m *Meta) error {
+	c := *m
+	c.Schema = MetaSchema
+	b, err := json.MarshalIndent(&c, "", "  ")
+	if err != nil {
+		return fmt.Errorf("chains: %s: encoding metadata: %w", path, err)
+	}
+	b = append(b, '\n')
+	return WriteFileAtomic(path, func(w io.Writer) error {
+		_, err := w.Write(b)
+		return err
+	})
+}
+
+// ReadMeta reads a metadata file written by WriteMeta. It rejects files
+// without a schema number and files from a newer schema than this package
+// knows.
+func ReadMeta(path string) (*Meta, error) {
+	b, err := os.ReadFile(path)
+	if err != nil {
+		return nil, fmt.Errorf("chains: %w", err)
+	}
+	var m Meta
+	dec := json.NewDecoder(bytes.NewReader(b))
+	if err := dec.Decode(&m); err != nil {
+		var (
+			se *json.SyntaxError
+			te *json.UnmarshalTypeError
+			at int64 = -1
+		)
+		switch {
+		case errors.As(err, &se):
+			at = se.Offset
+		case errors.As(err, &te):
+			at = te.Offset
+		}
+		if at >= 0 && at <= int64(len(b)) {
+			line := 1 + bytes.Count(b[:at], []byte("\n"))
+			return nil, fmt.Errorf("chains: %s:%d: %w", path, line, err)
+		}
+		return nil, fmt.Errorf("chains: %s: %w", path, err)
+	}
+	switch {
+	case m.Schema == 0:
+		return nil, fmt.Errorf("chains: %s: no \"schema\" field; not a run metadata file", path)
+	case m.Schema > MetaSchema:
+		return nil, fmt.Errorf("chains: %s: schema %d is newer than this program's %d", path, m.Schema, MetaSchema)
+	}
+	return &m, nil
+}
+
+// FileSHA256 returns the hex SHA-256 digest of the file at path, for
+// DataSet.SHA256.
+func FileSHA256(path string) (string, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return "", fmt.Errorf("chains: %w", err)
+	}
+	defer f.Close()
+	h := sha256.New()
+	if _, err := io.Copy(h, f); err != nil {
+		return "", fmt.Errorf("chains: %s: %w", path, err)
+	}
+	return hex.EncodeToString(h.Sum(nil)), nil
+}

@@ -1,0 +1,112 @@
+package chains
+
+import (
+	"encoding/binary"
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"strings"
+
+	"codeberg.org/sbinet/npyio"
+	"codeberg.org/sbinet/npyio/npy"
+	"gonum.org/v1/gonum/mat"
+)
+
+// WriteNPY writes the rows x cols matrix held row-major in data to path as
+// a NumPy .npy file (dtype "<f8", C order), atomically. rows and cols must
+// be positive.
+func WriteNPY(path string, rows, cols int, data []float64) error {
+	if rows <= 0 || cols <= 0 {
+		return fmt.Errorf("chains: %s: matrix must be at least 1x1, got %dx%d", path, rows, cols)
+	}
+	if rows > len(data)/cols || rows*cols != len(data) {
+		return fmt.Errorf("chains: %s: %dx%d matrix needs %d values, got %d", path, rows, cols, rows*cols, len(data))
+	}
+	m := mat.NewDense(rows, cols, data)
+	return WriteFileAtomic(path, func(w io.Writer) error { return npyio.Write(w, m) })
+}
+
+// ReadNPY reads a two-dimensional float64 .npy file (either byte order,
+// either memory order) and returns it row-major. A one-dimensional array of
+// length n is returned as an n x 1 matrix.
+func ReadNPY(path string) (rows, cols int, data []float64, err error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return 0, 0, nil, fmt.Errorf("chains: %w", err)
+	}
+	defer f.Close()
+	rows, cols, data, err = readNPY(f)
+	if err != nil {
+		return 0, 0, nil, fmt.Errorf("chains: %s: %w", path, err)
+	}
+	return rows, cols, data, nil
+}
+
+func readNPY(f *os.File) (rows, cols int, data []float64, err error) {
+	// The decoder panics on some malformed headers; report those as errors.
+	defer func() {
+		if r := recover(); r != nil {
+			rows, cols, data, err = 0, 0, nil, fmt.Errorf("malformed .npy file (%v)", r)
+		}
+	}()
+	st, err := f.Stat()
+	if err != nil {
+		return 0, 0, nil, err
+	}
+	// Check the header length against the file before the decoder
+	// allocates a buffer of that size.
+	var pre [12]byte
+	if _, err := io.ReadFull(f, pre[:]); err != nil || string(pre[:6]) != "\x93NUMPY" {
+		return 0, 0, nil, errors.New("not a .npy file (no \"\\x93NUMPY\" magic)")
+	}
+	hend := 10 + int64(binary.LittleEndian.Uint16(pre[8:]))
+	if pre[6] >= 2 {
+		hend = 12 + int64(binary.LittleEndian.Uint32(pre[8:]))
+	}
+	if hend > st.Size() {
+		return 0, 0, nil, fmt.Errorf("header length %d runs past the end of the file (%d bytes)", hend, st.Size())
+	}
+	if _, err := f.Seek(0, io.SeekStart); err != nil {
+		return 0, 0, nil, err
+	}
+	r, err := npy.NewReader(f)
+	if err != nil {
+		return 0, 0, nil, fmt.Errorf("not a .npy file: %w", err)
+	}
+	h := r.Header.Descr
+	if dt := strings.Trim(h.Type, `'"`); dt != "<f8" && dt != ">f8" {
+		return 0, 0, nil, fmt.Errorf("dtype %s, want float64 ('<f8')", h.Type)
+	}
+	switch len(h.Shape) {
+	case 1:
+		rows, cols = h.Shape[0], 1
+	case 2:
+		rows, cols = h.Shape[0], h.Shape[1]
+	default:
+		return 0, 0, nil, fmt.Errorf("shape %v, want a matrix", h.Shape)
+	}
+	if rows <= 0 || cols <= 0 {
+		return 0, 0, nil, fmt.Errorf("shape %v: empty matrix", h.Shape)
+	}
+	// Check the size against the file before allocating for it.
+	if int64(rows) > st.Size()/8/int64(cols) {
+		return 0, 0, nil, fmt.Errorf("shape %v needs %d bytes of data; file has %d in all", h.Shape, 8*int64(rows)*int64(cols), st.Size())
+	}
+	if err := r.Read(&data); err != nil && !errors.Is(err, io.EOF) {
+		return 0, 0, nil, err
+	}
+	if len(data) != rows*cols {
+		return 0, 0, nil, fmt.Errorf("shape %v, but %d values", h.Shape, len(data))
+	}
+	if h.Fortran && cols > 1 && rows > 1 {
+		t := make([]float64, len(data))
+		for j := range cols {
+			for i := range rows {
+				t[i*cols+j] = data[j*rows+i]
+			}
+		}
+		data = t
+	}
+	return rows, cols, data, nil
+}
