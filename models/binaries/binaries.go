@@ -40,7 +40,8 @@ type Options struct {
 	// FixGamma fixes gamma to 13/3: the parameter stays in the list, with
 	// default prior fixed(13/3).
 	FixGamma bool
-	// H0 is the Hubble constant in s^-1; zero means 67.4 km/s/Mpc.
+	// H0 is the Hubble constant in s^-1 (see gw.H0SI); zero means
+	// DefaultH0 km/s/Mpc.
 	H0 float64
 	// Turnover adds the low-frequency bend, with two more parameters,
 	// "log10_fbend" and "kappa".
@@ -72,8 +73,10 @@ func New(o Options) (*PowerLaw, error) {
 	if o.FitTurnover && !o.Turnover {
 		return nil, errors.New("binaries: FitTurnover set without Turnover")
 	}
-	if !(h0 > 0) || math.IsInf(h0, 0) {
-		return nil, fmt.Errorf("binaries: H0 must be a positive number of s^-1, got %g", o.H0)
+	if !(h0 > 1e-19 && h0 < 1e-16) {
+		// 1e-19 to 1e-16 s^-1 is 3 to 3000 km/s/Mpc: anything else is a unit
+		// mistake, most likely km/s/Mpc passed unconverted.
+		return nil, fmt.Errorf("binaries: H0 = %g s^-1 is outside 1e-19..1e-16 s^-1; give it in s^-1 (gw.H0SI converts from km/s/Mpc)", o.H0)
 	}
 	gammaPrior := priors.Prior(priors.Uniform{Min: 0, Max: 7})
 	if o.FixGamma {

@@ -154,6 +154,7 @@ func TestErrors(t *testing.T) {
 		want string
 	}{
 		{Options{H0: -1}, "H0"},
+		{Options{H0: 67.4}, "gw.H0SI"},
 		{Options{Turnover: true}, "FBend"},
 		{Options{FitTurnover: true}, "without Turnover"},
 		{Options{Turnover: true, FBend: 1e-8, Kappa: math.NaN()}, "Kappa"},
