@@ -223,3 +223,47 @@ func TestSynchronous(t *testing.T) {
 		})
 	}
 }
+
+// TestDisagree checks the TI/SS consistency flag: shifting the beta = 1
+// rung's ln L by c moves TI by c h_{K-1}/2 (its trapezoid weight) but leaves
+// stepping-stone, which never uses the top rung, unchanged, so a corrupted
+// top rung must be flagged while the clean run is not. The shift also kinks
+// the curve, raising TIHigher's sub-ladder discretisation error by about
+// c |h_{K-1} - h'|/6 (h' the sub-ladder's last gap), which caps the
+// attainable significance near 3.6 sigma for this ladder however large c
+// is; the threshold is therefore lowered to 2 here.
+func TestDisagree(t *testing.T) {
+	const c = 3
+	opt := Options{DisagreeAt: 2}
+	g := newGaussBox(2, 10)
+	betas := powerLadder(20, 5)
+	clean := g.draw(600, betas, 1000, 16, 0)
+	res, err := Integrate(clean, opt)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if res.Disagree {
+		t.Errorf("clean run flagged at %.2f sigma", res.DisagreeSigma)
+	}
+	top := &clean[len(clean)-1]
+	for i := range top.LnL {
+		top.LnL[i] += c
+	}
+	bad, err := Integrate(clean, opt)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// Exact shift of the trapezoid: c h/2 (the correction term depends on
+	// variances only, which the shift leaves alone); rounding only.
+	h := betas[len(betas)-1] - betas[len(betas)-2]
+	if d := bad.TIHigher.LnZ - res.TIHigher.LnZ; math.Abs(d-c*h/2) > 1e-9 {
+		t.Errorf("TI moved by %g, want c h/2 = %g", d, c*h/2)
+	}
+	if d := bad.SS.LnZ - res.SS.LnZ; d != 0 {
+		t.Errorf("SS moved by %g, want 0", d)
+	}
+	t.Logf("clean %.2f sigma, corrupted %.2f sigma (error of the difference %.4f)", res.DisagreeSigma, bad.DisagreeSigma, bad.DisagreeErr)
+	if !bad.Disagree {
+		t.Errorf("corrupted top rung not flagged: %.2f sigma", bad.DisagreeSigma)
+	}
+}
