@@ -336,8 +336,18 @@ func TestNPYRoundTrip(t *testing.T) {
 	if err := WriteNPY(p, 2, 3, data[:5]); err == nil {
 		t.Error("short data accepted")
 	}
-	if err := WriteNPY(p, 0, 3, nil); err == nil {
-		t.Error("empty matrix accepted")
+	for _, dims := range [][2]int{{0, 3}, {4, 0}} {
+		q := filepath.Join(filepath.Dir(p), "empty.npy")
+		if err := WriteNPY(q, dims[0], dims[1], nil); err != nil {
+			t.Fatal(err)
+		}
+		r, c, d, err := ReadNPY(q)
+		if err != nil || r != dims[0] || c != dims[1] || len(d) != 0 {
+			t.Errorf("empty %v: read %dx%d %v, %v", dims, r, c, d, err)
+		}
+	}
+	if err := WriteNPY(p, -1, 3, nil); err == nil {
+		t.Error("negative size accepted")
 	}
 
 	// The file follows the .npy format specification (NumPy enhancement

@@ -36,8 +36,9 @@
 // # Matrices (NumPy .npy)
 //
 // WriteNPY writes a row-major float64 matrix in the NumPy .npy format
-// (format version 2.0, dtype "<f8", C order), read in Python with
-// numpy.load("file.npy").
+// (dtype "<f8", C order; format version 2.0, or 1.0 for an empty matrix),
+// read in Python with numpy.load("file.npy"). A chain exported this way
+// keeps the CSV column order.
 //
 // # Metadata (JSON)
 //

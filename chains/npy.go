@@ -14,17 +14,42 @@ import (
 )
 
 // WriteNPY writes the rows x cols matrix held row-major in data to path as
-// a NumPy .npy file (dtype "<f8", C order), atomically. rows and cols must
-// be positive.
+// a NumPy .npy file (dtype "<f8", C order), atomically. An empty matrix
+// (rows or cols zero) keeps its shape, so that numpy.load returns an array
+// of shape (rows, cols).
 func WriteNPY(path string, rows, cols int, data []float64) error {
-	if rows <= 0 || cols <= 0 {
-		return fmt.Errorf("chains: %s: matrix must be at least 1x1, got %dx%d", path, rows, cols)
+	if rows < 0 || cols < 0 {
+		return fmt.Errorf("chains: %s: negative matrix size %dx%d", path, rows, cols)
 	}
-	if rows > len(data)/cols || rows*cols != len(data) {
+	if cols > 0 && rows > len(data)/cols || rows*cols != len(data) {
 		return fmt.Errorf("chains: %s: %dx%d matrix needs %d values, got %d", path, rows, cols, rows*cols, len(data))
+	}
+	if rows == 0 || cols == 0 {
+		// gonum's mat.Dense cannot be empty, so npyio cannot write this
+		// shape; the header alone is the whole file.
+		return WriteFileAtomic(path, func(w io.Writer) error {
+			_, err := w.Write(emptyNPY(rows, cols))
+			return err
+		})
 	}
 	m := mat.NewDense(rows, cols, data)
 	return WriteFileAtomic(path, func(w io.Writer) error { return npyio.Write(w, m) })
+}
+
+// emptyNPY returns a version-1.0 .npy file holding no data and the shape
+// (rows, cols), laid out as the format specification (NumPy enhancement
+// proposal 1) requires: magic, version, header length, a dict literal padded
+// with spaces and ended by a newline so that the data would start on a
+// 16-byte boundary.
+func emptyNPY(rows, cols int) []byte {
+	hdr := fmt.Sprintf("{'descr': '<f8', 'fortran_order': False, 'shape': (%d, %d), }", rows, cols)
+	for (10+len(hdr)+1)%16 != 0 {
+		hdr += " "
+	}
+	hdr += "\n"
+	b := []byte("\x93NUMPY\x01\x00")
+	b = binary.LittleEndian.AppendUint16(b, uint16(len(hdr)))
+	return append(b, hdr...)
 }
 
 // ReadNPY reads a two-dimensional float64 .npy file (either byte order,
@@ -86,8 +111,11 @@ func readNPY(f *os.File) (rows, cols int, data []float64, err error) {
 	default:
 		return 0, 0, nil, fmt.Errorf("shape %v, want a matrix", h.Shape)
 	}
-	if rows <= 0 || cols <= 0 {
-		return 0, 0, nil, fmt.Errorf("shape %v: empty matrix", h.Shape)
+	if rows < 0 || cols < 0 {
+		return 0, 0, nil, fmt.Errorf("shape %v: negative size", h.Shape)
+	}
+	if rows == 0 || cols == 0 {
+		return rows, cols, []float64{}, nil
 	}
 	// Check the size against the file before allocating for it.
 	if int64(rows) > st.Size()/8/int64(cols) {
