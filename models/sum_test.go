@@ -119,3 +119,26 @@ func TestSumErrors(t *testing.T) {
 		t.Errorf("single part: %v, %v", m, err)
 	}
 }
+
+func BenchmarkSumLnOmega30(b *testing.B) {
+	f := make([]float64, 30)
+	for i := range f {
+		f[i] = float64(i+1) / (15 * 365.25 * 86400)
+	}
+	m, err := Sum("", toy{"a_"}, toy{"b_"})
+	if err != nil {
+		b.Fatal(err)
+	}
+	s, err := m.At(f)
+	if err != nil {
+		b.Fatal(err)
+	}
+	out := make([]float64, len(f))
+	theta := []float64{-20, 0.6, -25, -1.2}
+	b.ReportAllocs()
+	for b.Loop() {
+		if err := s.LnOmega(theta, out); err != nil {
+			b.Fatal(err)
+		}
+	}
+}

@@ -293,3 +293,19 @@ func FuzzParse(f *testing.F) {
 		}
 	})
 }
+
+// BenchmarkLogProb measures the per-call cost of each density, which the
+// posterior pays once per sampled parameter per step.
+func BenchmarkLogProb(b *testing.B) {
+	for _, p := range []Prior{Uniform{-18, -11}, LogUniform{1e-3, 1}, Normal{0, 1},
+		TruncNormal{0, 1, -1, 2}, Fixed{13.0 / 3}} {
+		b.Run(strings.SplitN(p.String(), "(", 2)[0], func(b *testing.B) {
+			b.ReportAllocs()
+			var s float64
+			for b.Loop() {
+				s += p.LogProb(0.5)
+			}
+			_ = s
+		})
+	}
+}
