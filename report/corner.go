@@ -36,7 +36,7 @@ func newGridWindow(d *Density2D, xr, yr [2]float64) gridWindow {
 	return w
 }
 
-func (g gridWindow) Dims() (c, r int)    { return g.c1 - g.c0 + 1, g.r1 - g.r0 + 1 }
+func (g gridWindow) Dims() (c, r int)   { return g.c1 - g.c0 + 1, g.r1 - g.r0 + 1 }
 func (g gridWindow) Z(c, r int) float64 { return g.d.P[(r+g.r0)*len(g.d.X)+c+g.c0] }
 func (g gridWindow) X(c int) float64    { return g.d.X[c+g.c0] }
 func (g gridWindow) Y(r int) float64    { return g.d.Y[r+g.r0] }

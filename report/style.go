@@ -5,8 +5,11 @@ import (
 	"fmt"
 	"image/color"
 	"io"
+	"math"
 	"os"
 	"path/filepath"
+	"slices"
+	"strconv"
 	"strings"
 	"unicode/utf8"
 
@@ -225,28 +228,35 @@ func scriptArg(s string) (string, int) {
 	return s[:n], n
 }
 
+// The sub- and superscript characters the figure font (Liberation Sans)
+// has glyphs for.
 const (
-	supChars = "⁰¹²³⁴⁵⁶⁷⁸⁹⁺⁻⁼⁽⁾"
-	subChars = "₀₁₂₃₄₅₆₇₈₉₊₋₌₍₎"
-	scriptOf = "0123456789+-=()"
+	supChars = "¹²³⁴⁵⁶⁷⁸"
+	supOf    = "12345678"
+	subChars = "₀₁₂₃₄₅₆₇₈₉"
+	subOf    = "0123456789"
 )
 
 // script writes t as Unicode super- or subscripts when every character has
-// one ("/" becomes a fraction slash in superscripts), else as ^t or _t.
+// one in the figure font ("/" becomes a fraction slash in superscripts),
+// else as ^t or _t (parenthesised when longer than one character).
 func script(t string, sup bool) string {
-	set := []rune(subChars)
+	set, of := []rune(subChars), subOf
 	if sup {
-		set = []rune(supChars)
+		set, of = []rune(supChars), supOf
 	}
 	var b strings.Builder
 	for _, r := range t {
-		if k := strings.IndexRune(scriptOf, r); k >= 0 {
+		if k := strings.IndexRune(of, r); k >= 0 {
 			b.WriteRune(set[k])
 			continue
 		}
 		if sup && r == '/' {
 			b.WriteRune('⁄')
 			continue
+		}
+		if utf8.RuneCountInString(t) > 1 {
+			t = "(" + t + ")"
 		}
 		if sup {
 			return "^" + t
@@ -265,8 +275,8 @@ var (
 		"chi": "χ", "psi": "ψ", "omega": "ω", "Gamma": "Γ", "Delta": "Δ", "Theta": "Θ",
 		"Lambda": "Λ", "Xi": "Ξ", "Pi": "Π", "Sigma": "Σ", "Phi": "Φ", "Psi": "Ψ", "Omega": "Ω",
 		"log": "log", "ln": "ln", "exp": "exp", "times": "×", "cdot": "·", "pm": "±",
-		"infty": "∞", "le": "≤", "leq": "≤", "ge": "≥", "geq": "≥", "sim": "~", "propto": "∝",
-		"odot": "☉", "quad": " ", "qquad": " ",
+		"infty": "∞", "le": "≤", "leq": "≤", "ge": "≥", "geq": "≥", "sim": "~", "propto": "~",
+		"odot": "sun", "quad": " ", "qquad": " ",
 	}
 	texDropped = map[string]bool{"rm": true, "mathrm": true, "mathit": true, "mathcal": true,
 		"mathbf": true, "text": true, "textrm": true, "it": true, "bf": true, "left": true, "right": true}
@@ -316,4 +326,69 @@ func saveFigures(stem string, w, h vg.Length, o FigureOptions, drawFig func(dc d
 		files = append(files, path)
 	}
 	return files, nil
+}
+
+// plainTicks relabels another ticker's major ticks in the shortest form
+// that keeps six significant figures (so 2500 reads "2500", not "2500.00").
+type plainTicks struct{ plot.Ticker }
+
+func (p plainTicks) Ticks(min, max float64) []plot.Tick {
+	t := p.Ticker.Ticks(min, max)
+	for i := range t {
+		if t[i].Label != "" {
+			t[i].Label = minusSign(strconv.FormatFloat(t[i].Value, 'g', 6, 64))
+		}
+	}
+	return t
+}
+
+// logTicks marks a logarithmic axis with labelled ticks at 1 (and, over
+// shorter ranges, 2, 3 or 5) times powers of ten, written "3e-9" (the
+// figure font has no superscript minus), and unlabelled ticks at the other
+// integer mantissas.
+type logTicks struct{}
+
+func (logTicks) Ticks(min, max float64) []plot.Tick {
+	if !(min > 0) || !(max > min) {
+		return nil
+	}
+	dec := math.Log10(max / min)
+	sets := [][]int{{1}, {1, 3}, {1, 2, 5}, {1, 2, 3, 4, 5, 6, 7, 8, 9}}
+	start := 0
+	switch {
+	case dec < 1:
+		start = 2
+	case dec < 3:
+		start = 1
+	}
+	var ticks []plot.Tick
+	for _, set := range sets[start:] {
+		ticks = ticks[:0]
+		labelled := 0
+		for e := int(math.Floor(math.Log10(min))); e <= int(math.Ceil(math.Log10(max))); e++ {
+			for m := 1; m <= 9; m++ {
+				v := float64(m) * math.Pow(10, float64(e))
+				if v < min*(1-1e-9) || v > max*(1+1e-9) {
+					continue
+				}
+				t := plot.Tick{Value: v}
+				if slices.Contains(set, m) {
+					t.Label = powerLabel(m, e)
+					labelled++
+				}
+				ticks = append(ticks, t)
+			}
+		}
+		if labelled >= 2 {
+			break
+		}
+	}
+	return ticks
+}
+
+func powerLabel(m, e int) string {
+	if e >= 0 && e < 4 {
+		return strconv.Itoa(m * int(math.Pow10(e)))
+	}
+	return strconv.Itoa(m) + "e" + strconv.Itoa(e)
 }

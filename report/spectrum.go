@@ -1,0 +1,176 @@
+package report
+
+import (
+	"fmt"
+	"math"
+	"slices"
+
+	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/vg"
+	"gonum.org/v1/plot/vg/draw"
+)
+
+// A ModelBand is a model's posterior-predictive spectrum: Curves[d][k] is
+// log10 rho (s) at Freq[k] (Hz) for posterior draw d.
+type ModelBand struct {
+	Name   string
+	Freq   []float64
+	Curves [][]float64
+}
+
+// SpectrumData is the input of SpectrumFigure.
+type SpectrumData struct {
+	// Freq holds the data's frequency bins (Hz, increasing, > 0) and
+	// BinSamples[k] posterior samples of log10 rho (s) in bin k.
+	Freq       []float64
+	BinSamples [][]float64
+	// BinBounds is the prior support of every bin's log10 rho; ±Inf for
+	// open ends.
+	BinBounds [2]float64
+	// Models lists the posterior-predictive bands to draw over the data.
+	Models []ModelBand
+}
+
+// bandQuantiles returns, for every frequency, the 2.5, 16, 50, 84 and
+// 97.5 % quantiles of the curves.
+func bandQuantiles(m ModelBand) ([5][]float64, error) {
+	var q [5][]float64
+	nf := len(m.Freq)
+	for i := range q {
+		q[i] = make([]float64, nf)
+	}
+	col := make([]float64, 0, len(m.Curves))
+	for k := range nf {
+		col = col[:0]
+		for d, c := range m.Curves {
+			if len(c) != nf {
+				return q, fmt.Errorf("report: spectrum: model %q: curve %d has %d values for %d frequencies", m.Name, d, len(c), nf)
+			}
+			if finite(c[k]) {
+				col = append(col, c[k])
+			}
+		}
+		slices.Sort(col)
+		for i, p := range []float64{0.025, 0.16, 0.5, 0.84, 0.975} {
+			q[i][k] = Quantile(col, p)
+		}
+	}
+	return q, nil
+}
+
+// band returns the polygon between two curves.
+func band(f, lo, hi []float64) plotter.XYs {
+	xy := make(plotter.XYs, 0, 2*len(f))
+	for k := range f {
+		if finite(lo[k]) {
+			xy = append(xy, plotter.XY{X: f[k], Y: lo[k]})
+		}
+	}
+	for k := len(f) - 1; k >= 0; k-- {
+		if finite(hi[k]) {
+			xy = append(xy, plotter.XY{X: f[k], Y: hi[k]})
+		}
+	}
+	return xy
+}
+
+// SpectrumFigure draws the free-spectrum posterior of every frequency bin
+// as a violin (its smoothed density mirrored about the bin frequency, in
+// log frequency) and, over it, each model's 68 % and 95 % posterior-
+// predictive bands and median line. It writes stem.png and stem.svg (and
+// stem.pdf when asked), one column wide.
+func SpectrumFigure(stem string, sd SpectrumData, o FigureOptions) ([]string, error) {
+	nb := len(sd.Freq)
+	if nb == 0 || len(sd.BinSamples) != nb {
+		return nil, fmt.Errorf("report: spectrum: %d frequencies but %d bins of samples", nb, len(sd.BinSamples))
+	}
+	for k, f := range sd.Freq {
+		if !(f > 0) || (k > 0 && !(f > sd.Freq[k-1])) {
+			return nil, fmt.Errorf("report: spectrum: frequency[%d] = %g: must be > 0 and increasing", k, f)
+		}
+	}
+	p := newPlot()
+	addGrid(p)
+	p.X.Scale = plot.LogScale{}
+	p.X.Tick.Marker = logTicks{}
+	p.X.Label.Text = "Frequency [Hz]"
+	p.Y.Label.Text = AxisLabel(`\log_{10} \rho`, "s")
+	// Violin half-width: 40 % of the smallest bin spacing in log f.
+	hw := 0.2
+	for k := 1; k < nb; k++ {
+		hw = math.Min(hw, 0.4*math.Log10(sd.Freq[k]/sd.Freq[k-1]))
+	}
+	ink := palette(0)
+	for k, s := range sd.BinSamples {
+		d, err := KDE1D(s, sd.BinBounds, Options1D{GridPoints: 96})
+		if err != nil {
+			return nil, fmt.Errorf("report: spectrum: bin %d: %w", k, err)
+		}
+		_, pk := d.Peak()
+		lf := math.Log10(sd.Freq[k])
+		xy := make(plotter.XYs, 0, 2*len(d.X))
+		for i, y := range d.X {
+			if d.P[i] >= 5e-3*pk {
+				xy = append(xy, plotter.XY{X: math.Pow(10, lf+hw*d.P[i]/pk), Y: y})
+			}
+		}
+		for i := len(d.X) - 1; i >= 0; i-- {
+			if d.P[i] >= 5e-3*pk {
+				xy = append(xy, plotter.XY{X: math.Pow(10, lf-hw*d.P[i]/pk), Y: d.X[i]})
+			}
+		}
+		pg, err := plotter.NewPolygon(xy)
+		if err != nil {
+			return nil, fmt.Errorf("report: spectrum: bin %d: %w", k, err)
+		}
+		pg.Color = gridColour
+		pg.LineStyle = draw.LineStyle{Color: ink.line, Width: vg.Points(0.4)}
+		p.Add(pg)
+	}
+	// Bands first, then every median line above all of them.
+	var lines []plot.Plotter
+	for i, m := range sd.Models {
+		if len(m.Curves) == 0 || len(m.Freq) == 0 {
+			return nil, fmt.Errorf("report: spectrum: model %q has no curves", m.Name)
+		}
+		q, err := bandQuantiles(m)
+		if err != nil {
+			return nil, err
+		}
+		s := palette(i + 1)
+		for j, pair := range [][2]int{{0, 4}, {1, 3}} {
+			pg, err := plotter.NewPolygon(band(m.Freq, q[pair[0]], q[pair[1]]))
+			if err != nil {
+				return nil, fmt.Errorf("report: spectrum: model %q: %w", m.Name, err)
+			}
+			pg.LineStyle.Width = 0
+			pg.Color = s.fillLight
+			if j == 1 {
+				pg.Color = s.fillDark
+			}
+			p.Add(pg)
+		}
+		med := make(plotter.XYs, 0, len(m.Freq))
+		for k, f := range m.Freq {
+			if finite(q[2][k]) {
+				med = append(med, plotter.XY{X: f, Y: q[2][k]})
+			}
+		}
+		ln, err := plotter.NewLine(med)
+		if err != nil {
+			return nil, fmt.Errorf("report: spectrum: model %q: %w", m.Name, err)
+		}
+		ln.LineStyle = draw.LineStyle{Color: s.line, Width: vg.Points(1.1), Dashes: s.dash}
+		lines = append(lines, ln)
+		p.Legend.Add(m.Name, ln)
+	}
+	p.Add(lines...)
+	// Spectra fall with frequency, leaving the lower left empty.
+	p.Legend.Top = false
+	p.Legend.Left = true
+	p.Legend.XOffs = vg.Points(4)
+	p.Legend.YOffs = vg.Points(4)
+	p.Legend.ThumbnailWidth = vg.Points(16)
+	return saveFigures(stem, ColumnWidth, 2.6*vg.Inch, o, func(dc draw.Canvas) { p.Draw(dc) })
+}
