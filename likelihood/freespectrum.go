@@ -186,7 +186,7 @@ func (f *FreeSpectrum) lnp(row []float64, x float64) float64 {
 	switch {
 	case x <= f.lo:
 		return row[0]
-	case x >= f.hi || x != x:
+	case x > f.hi || x != x:
 		d := x - f.hi
 		if !(d <= maxAbove) { // also NaN
 			d = maxAbove

@@ -1,0 +1,365 @@
+package likelihood
+
+import (
+	"math"
+	"math/rand/v2"
+	"testing"
+
+	"gonum.org/v1/gonum/integrate"
+	"gonum.org/v1/gonum/stat/distuv"
+)
+
+// normalSamples draws n values of N(mu, sd) restricted to [lo, hi] by
+// rejection, from a fixed PCG stream.
+func normalSamples(n int, mu, sd, lo, hi float64, seed uint64) []float64 {
+	r := rand.New(rand.NewPCG(seed, 1))
+	s := make([]float64, 0, n)
+	for len(s) < n {
+		x := mu + sd*r.NormFloat64()
+		if x >= lo && x <= hi {
+			s = append(s, x)
+		}
+	}
+	return s
+}
+
+func oneBin(b Bin, lo, hi float64) *Dataset {
+	return &Dataset{Name: "t", Span: 1e8, Freqs: []float64{1e-8}, PriorMin: lo, PriorMax: hi, Bins: []Bin{b}}
+}
+
+// bruteKDE is the reflected kernel density estimate summed directly over
+// every sample and both mirror images (the definition, e.g. Silverman 1986
+// section 2.10 on the reflection method; from memory).
+func bruteKDE(x float64, s []float64, h, lo, hi float64) float64 {
+	sum := 0.0
+	for _, c := range s {
+		for _, m := range [3]float64{c, 2*lo - c, 2*hi - c} {
+			u := (x - m) / h
+			sum += math.Exp(-0.5*u*u) / math.Sqrt(2*math.Pi)
+		}
+	}
+	return sum / (float64(len(s)) * h)
+}
+
+func TestKDEAgainstBruteForce(t *testing.T) {
+	const lo, hi = -9.0, -5.0
+	for _, tc := range []struct {
+		name   string
+		n      int
+		mu, sd float64
+		size   int
+		method string
+		every  int // compare at every k-th node to bound the brute-force cost
+	}{
+		// Piled against the lower edge: reflection carries much mass.
+		{"exact-lower-edge", 500, -8.8, 0.3, 2048, "kde-exact", 1},
+		{"exact-upper-edge", 300, -5.2, 0.2, 1024, "kde-exact", 1},
+		// Enough samples that the exact sum exceeds its budget.
+		{"binned", 100000, -8, 1, 512, "kde-binned", 8},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			s := normalSamples(tc.n, tc.mu, tc.sd, lo, hi, 3)
+			f, err := NewFreeSpectrum(oneBin(Bin{Kind: Samples, Samples: s}, lo, hi), Options{TableSize: tc.size})
+			if err != nil {
+				t.Fatal(err)
+			}
+			if m := f.Methods()[0]; m != tc.method {
+				t.Fatalf("method %s, want %s", m, tc.method)
+			}
+			h := f.Bandwidths()[0]
+			step := (hi - lo) / float64(tc.size-1)
+			peak := 0.0
+			var worst float64
+			node := func(k int) float64 {
+				if k == tc.size-1 {
+					return hi // avoid rounding a hair above the range
+				}
+				return lo + float64(k)*step
+			}
+			for k := 0; k < tc.size; k += tc.every {
+				x := node(k)
+				want := bruteKDE(x, s, h, lo, hi)
+				got := math.Exp(f.LnDensity(0, x))
+				peak = math.Max(peak, want)
+				worst = math.Max(worst, math.Abs(got-want))
+			}
+			// Exact sum: kernels cut at 10 h drop < 2e-22 of the peak per
+			// sample, so only rounding remains (1e-12 relative to the peak).
+			tol := 1e-12 * peak
+			if tc.method == "kde-binned" {
+				// Linear binning replaces each kernel by its linear
+				// interpolant between nodes: error <= step^2/8 max|K_h''|
+				// = step^2 phi(0) / (8 h^3) per image, three images.
+				tol = 3 * step * step * 0.3989422804014327 / (8 * h * h * h)
+			}
+			if worst > tol {
+				t.Errorf("max |table - brute force| = %.3g, tolerance %.3g (peak %.3g, h %.4g)", worst, tol, peak, h)
+			}
+			// Reflection makes the estimate integrate to 1 on [lo, hi]
+			// (gonum's trapezoid rule; its error is step^2/12 int|p''|,
+			// below 1e-4 for these h).
+			xs := make([]float64, tc.size)
+			ps := make([]float64, tc.size)
+			for k := range xs {
+				xs[k] = node(k)
+				ps[k] = math.Exp(f.LnDensity(0, xs[k]))
+			}
+			if m := integrate.Trapezoidal(xs, ps); math.Abs(m-1) > 1e-4 {
+				t.Errorf("mass over the prior range = %.8f, want 1", m)
+			}
+		})
+	}
+}
+
+func TestBandwidthRules(t *testing.T) {
+	// A peaked set with outliers: 90 points evenly in [-7.05, -6.95], five at
+	// -8 and five at -6. Its sd exceeds IQR/1.34, so Silverman's rule uses
+	// the IQR branch.
+	var s []float64
+	for k := range 90 {
+		s = append(s, -7.05+0.1*float64(k)/89)
+	}
+	for range 5 {
+		s = append(s, -8, -6)
+	}
+	n := float64(len(s))
+	mean := 0.0
+	for _, x := range s {
+		mean += x / n
+	}
+	ss := 0.0
+	for _, x := range s {
+		ss += (x - mean) * (x - mean)
+	}
+	sd := math.Sqrt(ss / (n - 1))
+	// The central 90 points hold the quartiles: 25 % of 100 points is the
+	// 20th-21st point of the block, 75 % the 70th-71st, so the IQR is
+	// 50 block spacings to within one spacing (quantile conventions differ).
+	iqr := 50 * 0.1 / 89
+	for _, tc := range []struct {
+		rule string
+		want float64
+		tol  float64
+		src  string
+	}{
+		{Scott, math.Pow(4/(3*n), 0.2) * sd, 1e-12, "Scott 1992 normal-reference rule (from memory)"},
+		{Silverman, 0.9 * (iqr / 1.34) * math.Pow(n, -0.2), 0.9 * (0.1 / 89 / 1.34) * math.Pow(n, -0.2), "Silverman 1986 eq. 3.31 (from memory); tolerance one block spacing in the IQR"},
+	} {
+		f, err := NewFreeSpectrum(oneBin(Bin{Kind: Samples, Samples: s}, -9, -5), Options{Bandwidth: tc.rule})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if f.BandwidthRule() != tc.rule {
+			t.Errorf("rule recorded %q, want %q", f.BandwidthRule(), tc.rule)
+		}
+		if h := f.Bandwidths()[0]; math.Abs(h-tc.want) > tc.tol {
+			t.Errorf("%s: h = %.6g, want %.6g (%s)", tc.rule, h, tc.want, tc.src)
+		}
+	}
+}
+
+func TestGridInterpolation(t *testing.T) {
+	// Grid of the N(-7, 0.4) density at 0.1-dex spacing over the prior.
+	const lo, hi, mu, sd, dx = -9.0, -5.0, -7.0, 0.4, 0.1
+	var g, d []float64
+	for k := 0; k <= 40; k++ {
+		x := lo + dx*float64(k)
+		g = append(g, x)
+		d = append(d, 3.7*math.Exp(-0.5*(x-mu)*(x-mu)/(sd*sd))) // unnormalised on purpose
+	}
+	f, err := NewFreeSpectrum(oneBin(Bin{Kind: Grid, Grid: g, Density: d}, lo, hi), Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	nd := distuv.Normal{Mu: mu, Sigma: sd}
+	lnZ := math.Log(nd.CDF(hi) - nd.CDF(lo))
+	// ln p is quadratic, so linear interpolation of it errs by at most
+	// dx^2/8 |(ln p)''| = dx^2/(8 sd^2); renormalising shifts by no more.
+	tol := 2 * dx * dx / (8 * sd * sd)
+	for x := lo; x <= hi; x += 0.0137 {
+		want := nd.LogProb(x) - lnZ
+		if got := f.LnDensity(0, x); math.Abs(got-want) > tol {
+			t.Errorf("ln p(%.4f) = %.6f, want %.6f (distuv.Normal truncated)", x, got, want)
+		}
+	}
+
+	// Zero densities are floored relative to the peak and stay finite; a
+	// grid narrower than the prior extends at constant density.
+	z := Bin{Kind: Grid, Grid: []float64{-8, -7, -6}, Density: []float64{0, 1, 0}}
+	f, err = NewFreeSpectrum(oneBin(z, lo, hi), Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	floor := f.LnDensity(0, lo)
+	for _, x := range []float64{-8.5, -5.5, hi} {
+		if got := f.LnDensity(0, x); math.Abs(got-floor) > 1e-12 {
+			t.Errorf("ln p(%g) = %g, want the floor %g as at lo", x, got, floor)
+		}
+	}
+	// Between the floor at -8 and the peak at -7 ln p rises linearly by
+	// -ln DensityFloor; the table resolves it to slope * spacing.
+	slack := -math.Log(DensityFloor) * (hi - lo) / (DefaultTableSize - 1)
+	for _, tc := range []struct{ x, frac float64 }{{-7, 1}, {-7.5, 0.5}, {-6.25, 0.25}} {
+		want := floor - tc.frac*math.Log(DensityFloor)
+		if got := f.LnDensity(0, tc.x); math.Abs(got-want) > slack {
+			t.Errorf("ln p(%g) = %g, want %g within %g", tc.x, got, want, slack)
+		}
+	}
+	// Zero densities must not reach the table as -Inf.
+	if math.IsInf(floor, 0) || math.IsNaN(floor) {
+		t.Errorf("floor %g not finite", floor)
+	}
+}
+
+func TestGaussianBins(t *testing.T) {
+	const lo, hi = -9.0, -5.0
+	const size = 2048
+	step := (hi - lo) / (size - 1)
+	for _, b := range []Bin{
+		{Kind: Gaussian, Mean: -7, SD: 0.3},
+		{Kind: Gaussian, Mean: -8.9, SD: 0.5}, // heavily truncated at lo
+	} {
+		f, err := NewFreeSpectrum(oneBin(b, lo, hi), Options{TableSize: size})
+		if err != nil {
+			t.Fatal(err)
+		}
+		nd := distuv.Normal{Mu: b.Mean, Sigma: b.SD}
+		lnZ := math.Log(nd.CDF(hi) - nd.CDF(lo))
+		for k := 0; k < size; k += 7 {
+			x := lo + float64(k)*step
+			// At nodes the table is the exact value: rounding only.
+			if got, want := f.LnDensity(0, x), nd.LogProb(x)-lnZ; math.Abs(got-want) > 1e-9 {
+				t.Errorf("N(%g,%g): ln p(%g) = %.12g, want %.12g", b.Mean, b.SD, x, got, want)
+			}
+			// Midway between nodes linear interpolation of a quadratic errs
+			// by step^2/(8 sd^2).
+			xm := x + step/2
+			if got, want := f.LnDensity(0, xm), nd.LogProb(xm)-lnZ; xm < hi && math.Abs(got-want) > step*step/(8*b.SD*b.SD)*1.0001 {
+				t.Errorf("N(%g,%g): ln p(%g) = %.12g, want %.12g", b.Mean, b.SD, xm, got, want)
+			}
+		}
+	}
+}
+
+func TestOutOfRange(t *testing.T) {
+	const lo, hi = -9.0, -5.0
+	ds := &Dataset{Name: "t", Span: 1e8, Freqs: []float64{1e-8, 2e-8}, PriorMin: lo, PriorMax: hi,
+		Bins: []Bin{{Kind: Gaussian, Mean: -7, SD: 0.5}, {Kind: Gaussian, Mean: -6, SD: 1}}}
+	for _, pen := range []float64{0, 50} {
+		f, err := NewFreeSpectrum(ds, Options{Penalty: pen})
+		if err != nil {
+			t.Fatal(err)
+		}
+		P := pen
+		if P == 0 {
+			P = DefaultPenalty
+		}
+		atLo, atHi := f.LnDensity(0, lo), f.LnDensity(0, hi)
+		for _, tc := range []struct {
+			x, want float64
+			why     string
+		}{
+			{lo - 1e-9, atLo, "just below: clamp to the noise floor"},
+			{lo - 30, atLo, "far below: clamp"},
+			{math.Inf(-1), atLo, "-Inf: clamp"},
+			{hi + 0.5, atHi - P*1.5, "half a dex above: Penalty*(1+0.5)"},
+			{hi + 2, atHi - P*3, "two dex above"},
+			{math.Inf(1), atHi - P*(1+1e6), "+Inf: capped distance"},
+			{math.NaN(), atHi - P*(1+1e6), "NaN: treated as the largest distance"},
+		} {
+			if got := f.LnDensity(0, tc.x); got != tc.want {
+				t.Errorf("penalty %g: ln p(%g) = %g, want %g (%s)", P, tc.x, got, tc.want, tc.why)
+			}
+		}
+		// LogLike is the sum over bins and never NaN or -Inf.
+		for _, x := range [][]float64{{-7, -6}, {-20, 3}, {math.NaN(), math.Inf(1)}} {
+			got := f.LogLike(x)
+			want := f.LnDensity(0, x[0]) + f.LnDensity(1, x[1])
+			if got != want || math.IsNaN(got) || math.IsInf(got, 0) {
+				t.Errorf("LogLike(%v) = %g, want finite %g", x, got, want)
+			}
+		}
+		if f.LogLike([]float64{-7}) != math.Inf(-1) {
+			t.Error("LogLike with the wrong length should be -Inf")
+		}
+	}
+}
+
+func TestNewFreeSpectrumOptions(t *testing.T) {
+	ds := oneBin(Bin{Kind: Gaussian, Mean: -7, SD: 0.5}, -9, -5)
+	for _, tc := range []struct {
+		opt  Options
+		want string
+	}{
+		{Options{Bandwidth: "wide"}, `likelihood: bandwidth rule "wide": must be "scott" or "silverman"`},
+		{Options{TableSize: 3}, `likelihood: table size: must be in [16, 4194304], got 3`},
+		{Options{Penalty: -1}, `likelihood: penalty: must be finite and > 0, got -1`},
+	} {
+		if _, err := NewFreeSpectrum(ds, tc.opt); err == nil || err.Error() != tc.want {
+			t.Errorf("%+v: error %v, want %s", tc.opt, err, tc.want)
+		}
+	}
+	bad := oneBin(Bin{Kind: Samples, Samples: []float64{-7, -6}}, -9, -5)
+	if _, err := NewFreeSpectrum(bad, Options{}); err == nil {
+		t.Error("accepted a bin with 2 samples")
+	}
+}
+
+// thirtyBins is a 30-bin data set with ten bins of each representation.
+func thirtyBins() *Dataset {
+	const lo, hi = -10.0, -4.0
+	ds := &Dataset{Name: "b", Span: 5e8, PriorMin: lo, PriorMax: hi}
+	for i := range 30 {
+		ds.Freqs = append(ds.Freqs, float64(i+1)/ds.Span)
+		mu := -6 - 0.1*float64(i)
+		var b Bin
+		switch i % 3 {
+		case 0:
+			b = Bin{Kind: Samples, Samples: normalSamples(1000, mu, 0.3, lo, hi, uint64(i))}
+		case 1:
+			b = Bin{Kind: Grid}
+			for x := lo; x <= hi; x += 0.05 {
+				b.Grid = append(b.Grid, x)
+				b.Density = append(b.Density, math.Exp(-0.5*(x-mu)*(x-mu)/0.09))
+			}
+		case 2:
+			b = Bin{Kind: Gaussian, Mean: mu, SD: 0.3}
+		}
+		ds.Bins = append(ds.Bins, b)
+	}
+	return ds
+}
+
+func TestLogLikeAllocs(t *testing.T) {
+	f, err := NewFreeSpectrum(thirtyBins(), Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	x := make([]float64, 30)
+	for i := range x {
+		x[i] = -6.5
+	}
+	if a := testing.AllocsPerRun(100, func() { f.LogLike(x) }); a != 0 {
+		t.Errorf("LogLike allocates %g times per call, want 0", a)
+	}
+}
+
+func BenchmarkLogLike30Bins(b *testing.B) {
+	f, err := NewFreeSpectrum(thirtyBins(), Options{})
+	if err != nil {
+		b.Fatal(err)
+	}
+	x := make([]float64, 30)
+	r := rand.New(rand.NewPCG(1, 2))
+	for i := range x {
+		x[i] = -9 + 4*r.Float64()
+	}
+	b.ReportAllocs()
+	s := 0.0
+	for b.Loop() {
+		s += f.LogLike(x)
+	}
+	if math.IsNaN(s) {
+		b.Fatal("NaN")
+	}
+}
