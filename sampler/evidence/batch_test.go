@@ -78,10 +78,37 @@ func TestOBM(t *testing.T) {
 	}
 }
 
+func BenchmarkACF(b *testing.B) {
+	x := ar1(rand.New(rand.NewPCG(1, 1)), 2000, 0.9)
+	a := newACF(len(x))
+	b.ReportAllocs()
+	for b.Loop() {
+		a.tau(x)
+	}
+}
+
 func BenchmarkVarOfMean(b *testing.B) {
 	x := ar1(rand.New(rand.NewPCG(1, 1)), 2000, 0.9)
 	b.ReportAllocs()
 	for b.Loop() {
 		varOfMean(x, 10)
+	}
+}
+
+// TestACFMatchesDirect checks the FFT autocorrelation time against the
+// lag-by-lag sum (an independent implementation of the same estimator).
+func TestACFMatchesDirect(t *testing.T) {
+	a := newACF(3000)
+	for i, tc := range []struct {
+		n   int
+		phi float64
+	}{{3000, 0.9}, {2999, 0.5}, {100, 0}, {40, 0.99}, {1, 0}} {
+		x := ar1(rand.New(rand.NewPCG(10, uint64(i))), tc.n, tc.phi)
+		want, wok := autocorrTime(x)
+		got, gok := a.tau(x)
+		// Both sum the same products; FFT rounding is ~1e-15 of c0 per lag.
+		if gok != wok || math.Abs(got-want) > 1e-9*want {
+			t.Errorf("n %d phi %g: FFT tau %.12g (%v), direct %.12g (%v)", tc.n, tc.phi, got, gok, want, wok)
+		}
 	}
 }

@@ -208,11 +208,11 @@ func Integrate(rungs []Rung, opt Options) (Result, error) {
 		E[k], V[k] = st.mean, st.variance
 		// One batch length per rung, from the slowest of its three influence
 		// series: every estimator's series is a combination of them.
-		tauY, okY := autocorrTime(ws.y[:r.Steps])
-		tauQ, okQ := autocorrTime(ws.q[:r.Steps])
+		tauY, okY := ws.acf.tau(ws.y[:r.Steps])
+		tauQ, okQ := ws.acf.tau(ws.q[:r.Steps])
 		tau, ok := math.Max(tauY, tauQ), okY && okQ
 		if k+1 < n {
-			tauE, okE := autocorrTime(ws.e[:r.Steps])
+			tauE, okE := ws.acf.tau(ws.e[:r.Steps])
 			tau, ok = math.Max(tau, tauE), ok && okE
 		}
 		b, short := batchLen(tau, ok, r.Steps, opt.BatchFactor)
@@ -273,7 +273,9 @@ func Integrate(rungs []Rung, opt Options) (Result, error) {
 		for e := range sync {
 			g := sync[e][:rungs[0].Steps]
 			// Batches long enough for the summed series and for every rung.
-			b := max(varOfMean(g, opt.BatchFactor).batch, min(syncBatch, len(g)/minBatches))
+			tau, ok := ws.acf.tau(g)
+			b, _ := batchLen(tau, ok, len(g), opt.BatchFactor)
+			b = max(b, min(syncBatch, len(g)/minBatches))
 			mcVar[e] = obmVarOfMean(g, b)
 		}
 	}

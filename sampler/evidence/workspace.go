@@ -5,15 +5,19 @@ import "math"
 // A workspace holds the per-step influence series of one rung, reused from
 // rung to rung so that the per-rung pass allocates nothing.
 type workspace struct {
-	y []float64 // walker mean of ln L
-	q []float64 // walker mean of (ln L - E)^2
-	e []float64 // walker mean of exp(h (ln L - max)) / r - 1
-	g []float64 // a linear combination of the three
+	y   []float64 // walker mean of ln L
+	q   []float64 // walker mean of (ln L - E)^2
+	e   []float64 // walker mean of exp(h (ln L - max)) / r - 1
+	g   []float64 // a linear combination of the three
+	acf *acf
 }
 
 func newWorkspace(steps int) *workspace {
 	buf := make([]float64, 4*steps)
-	return &workspace{y: buf[:steps], q: buf[steps : 2*steps], e: buf[2*steps : 3*steps], g: buf[3*steps:]}
+	return &workspace{
+		y: buf[:steps], q: buf[steps : 2*steps], e: buf[2*steps : 3*steps], g: buf[3*steps:],
+		acf: newACF(steps),
+	}
 }
 
 // rungStats are the sample summaries of one rung.
