@@ -1,0 +1,531 @@
+package main
+
+import (
+	"context"
+	"encoding/json"
+	"errors"
+	"flag"
+	"fmt"
+	"os"
+	"path/filepath"
+	"slices"
+	"strconv"
+	"strings"
+	"time"
+
+	"github.com/sirupsen/logrus"
+
+	"tautline/chains"
+	"tautline/sampler"
+	"tautline/sampler/evidence"
+)
+
+const compareHelp = `
+Computes the evidence ln Z of each model on one data set by thermodynamic
+integration over a ladder of power posteriors (parallel tempering; each rung
+samples prior x likelihood^beta), cross-checks it with the stepping-stone
+estimator on the same samples, and reports ln B of every model against
+--reference with its error and its reading on the Kass & Raftery (1995)
+scale. Every ln Z carries a Monte-Carlo error (batch means along the chain)
+and a discretisation error (the ladder against its every-other-rung
+sub-ladder); the table shows both and their sum.
+
+With no options it compares smbhb, strings and strings+smbhb on the embedded
+simulated string demo. Results go to --out: compare.json, compare.csv and,
+per model, models/NAME/ (evidence.json, lnl_beta.csv: the ln L-versus-beta
+curve, posterior.npy). --evidence-error keeps running until the total error of each
+ln Z is below the target or --max-steps / --max-rungs are reached.
+
+For batch systems, --tasks N --task I runs only the I-th of N slices of the
+(model, rung block) grid into --out/parts/; 'tautline merge' combines the
+parts of all tasks into exactly the result one process gives. Rung blocks
+(--rung-blocks) are independent ensembles: no swaps cross a block boundary, in
+a single process as in split runs.`
+
+// compareOpts are compare's options that are not configuration keys.
+type compareOpts struct {
+	models     string
+	reference  string
+	rungs      int
+	exponent   float64
+	blocks     int
+	target     float64
+	maxSteps   int
+	maxRungs   int
+	task       int
+	tasks      int
+	swapEvery  int
+	cmdline    string
+	evidenceOK bool
+}
+
+func runCompare(ctx context.Context, e *env, args []string) error {
+	var co compareOpts
+	extra := func(fs *flag.FlagSet) {
+		fs.StringVar(&co.models, "models", "smbhb,strings,strings+smbhb", "comma-separated models to compare")
+		fs.StringVar(&co.reference, "reference", "smbhb", "model that ln B is computed against")
+		fs.IntVar(&co.rungs, "rungs", 16, "rungs of the temperature ladder, beta_k = (k/(K-1))^exponent from 0 to 1")
+		fs.Float64Var(&co.exponent, "ladder-exponent", 5, "exponent of the power-law ladder (dense near beta = 0)")
+		fs.IntVar(&co.blocks, "rung-blocks", 1, "split the ladder into this many independent blocks (no swaps across blocks) so that tasks can run them apart")
+		fs.Float64Var(&co.target, "evidence-error", 0, "keep running until the total error of every ln Z is below this (0: one pass)")
+		fs.IntVar(&co.maxSteps, "max-steps", 40000, "cap on steps per rung with --evidence-error")
+		fs.IntVar(&co.maxRungs, "max-rungs", 48, "cap on rungs with --evidence-error")
+		fs.IntVar(&co.task, "task", -1, "run only slice TASK (0-based) of --tasks; -1 runs everything; the environment variable SLURM_ARRAY_TASK_ID is used when set and --task is not")
+		fs.IntVar(&co.tasks, "tasks", 1, "number of slices the work is split into")
+		fs.IntVar(&co.swapEvery, "swap-every", 1, "steps between swap rounds of neighbouring rungs")
+	}
+	cfg, rf, fs, err := resolveConfig(e, "compare", "[options]", compareHelp, args, extra)
+	if err != nil {
+		return err
+	}
+	explicit := map[string]bool{}
+	fs.Visit(func(f *flag.Flag) { explicit[f.Name] = true })
+	if !explicit["data"] && (rf.configPath == "" || cfg.Data == defaultData(cfg.Model.Name)) {
+		cfg.Data = "demo:strings"
+	}
+	if !explicit["steps"] && rf.configPath == "" {
+		cfg.Sampler.Steps = 3000
+	}
+	if co.task < 0 && !explicit["task"] {
+		if s := os.Getenv("SLURM_ARRAY_TASK_ID"); s != "" {
+			if co.task, err = strconv.Atoi(s); err != nil {
+				return fmt.Errorf("%w: SLURM_ARRAY_TASK_ID=%q is not an integer", errUsage, s)
+			}
+		}
+	}
+	if cfg.Output.Dir == "" {
+		cfg.Output.Dir = filepath.Join("runs", "compare")
+	}
+	if rf.printConfig {
+		fmt.Fprint(e.stdout, marshalConfig(cfg))
+		return nil
+	}
+	lg, err := newLogger(e.stderr, rf.logLevel, rf.logFormat)
+	if err != nil {
+		return err
+	}
+	co.cmdline = strings.Join(append([]string{"tautline", "compare"}, args...), " ")
+	return compare(ctx, e, lg, cfg, co)
+}
+
+// compareUnit is one independent piece of a comparison: one model on one
+// block of the ladder.
+type compareUnit struct {
+	Model string    `json:"model"`
+	Index int       `json:"model_index"`
+	Block int       `json:"block"`
+	Betas []float64 `json:"betas"`
+}
+
+func (u compareUnit) dir(out string) string {
+	return filepath.Join(out, "parts", fmt.Sprintf("%s.block%d", strings.ReplaceAll(u.Model, "+", "-"), u.Block))
+}
+
+// plan lists the units of a comparison in a fixed order.
+func plan(models []string, co compareOpts) ([]compareUnit, error) {
+	ladder, err := sampler.PowerLadder(co.rungs, co.exponent)
+	if err != nil {
+		return nil, fmt.Errorf("%w: --rungs/--ladder-exponent: %v", errUsage, err)
+	}
+	if co.blocks < 1 || co.blocks > co.rungs {
+		return nil, fmt.Errorf("%w: --rung-blocks must be between 1 and --rungs (%d), got %d", errUsage, co.rungs, co.blocks)
+	}
+	var units []compareUnit
+	for i, m := range models {
+		for b := range co.blocks {
+			lo, hi := b*co.rungs/co.blocks, (b+1)*co.rungs/co.blocks
+			units = append(units, compareUnit{Model: m, Index: i, Block: b, Betas: slices.Clone(ladder[lo:hi])})
+		}
+	}
+	return units, nil
+}
+
+func compare(ctx context.Context, e *env, lg *logrus.Logger, cfg Config, co compareOpts) error {
+	started := time.Now()
+	models := splitList(co.models)
+	if len(models) == 0 {
+		return fmt.Errorf("%w: --models is empty", errUsage)
+	}
+	if co.tasks < 1 || co.task >= co.tasks {
+		return fmt.Errorf("%w: want 0 <= --task < --tasks, got --task %d --tasks %d", errUsage, co.task, co.tasks)
+	}
+	if co.target > 0 && co.blocks > 1 {
+		return fmt.Errorf("%w: --evidence-error needs the whole ladder in one block (--rung-blocks 1)", errUsage)
+	}
+	if !slices.Contains(models, co.reference) {
+		return fmt.Errorf("%w: --reference %q is not among --models %s", errUsage, co.reference, co.models)
+	}
+	units, err := plan(models, co)
+	if err != nil {
+		return err
+	}
+	if err := os.MkdirAll(cfg.Output.Dir, 0o755); err != nil {
+		return fmt.Errorf("output folder: %w", err)
+	}
+	for i, u := range units {
+		if co.task >= 0 && i%co.tasks != co.task {
+			continue
+		}
+		if err := runUnit(ctx, e, lg, cfg, co, u); err != nil {
+			return fmt.Errorf("model %s, rung block %d: %w", u.Model, u.Block, err)
+		}
+	}
+	if co.task >= 0 {
+		fmt.Fprintf(e.stdout, "task %d of %d done: parts in %s; combine all tasks with: tautline merge --out DIR %s ...\n",
+			co.task, co.tasks, filepath.Join(cfg.Output.Dir, "parts"), cfg.Output.Dir)
+		return nil
+	}
+	res, err := finalize(cfg.Output.Dir, []string{cfg.Output.Dir})
+	if err != nil {
+		return err
+	}
+	lg.WithField("seconds", fmt.Sprintf("%.1f", time.Since(started).Seconds())).Info("compare done")
+	printCompare(e, res, cfg.Output.Dir)
+	return nil
+}
+
+func splitList(s string) []string {
+	var out []string
+	for _, p := range strings.Split(s, ",") {
+		if p = strings.TrimSpace(p); p != "" {
+			out = append(out, p)
+		}
+	}
+	return out
+}
+
+// unitSeed derives a unit's seed from the run seed, so that units are
+// independent and a unit's result does not depend on which task ran it.
+func unitSeed(seed uint64, model, block int) uint64 {
+	x := seed ^ (uint64(model+1) * 0x9e3779b97f4a7c15) ^ (uint64(block+1) * 0xbf58476d1ce4e5b9)
+	x ^= x >> 31
+	x *= 0x94d049bb133111eb
+	return x ^ (x >> 29)
+}
+
+// partMeta is the self-description of one unit's result.
+type partMeta struct {
+	Schema      int              `json:"schema"`
+	Version     string           `json:"tautline_version"`
+	Unit        compareUnit      `json:"unit"`
+	Reference   string           `json:"reference"`
+	Models      []string         `json:"models"`
+	Fingerprint string           `json:"fingerprint"`
+	Config      Config           `json:"config"`
+	DataName    string           `json:"data_name"`
+	DataSHA256  string           `json:"data_sha256"`
+	Params      []string         `json:"params"`
+	Steps       int              `json:"steps"`
+	Walkers     int              `json:"walkers"`
+	BurnIndex   int              `json:"burn_index"`
+	Recorded    int              `json:"recorded_steps"`
+	Swap        []float64        `json:"swap_acceptance"`
+	Diagnostics *sampler.Report  `json:"cold_rung_diagnostics,omitempty"`
+	Passes      []map[string]any `json:"passes,omitempty"`
+}
+
+// runUnit samples one unit and writes its part folder: part.json,
+// lnl.npy (rows: rung-major recorded steps, columns: walkers) and, for the
+// block holding beta = 1, posterior.npy.
+func runUnit(ctx context.Context, e *env, lg *logrus.Logger, cfg Config, co compareOpts, u compareUnit) error {
+	mc := cfg
+	mc.Model.Name = u.Model
+	mc.Model.Priors = map[string]string{}
+	pb0, err := buildModel(mc, lg.Infof)
+	if err != nil {
+		return err
+	}
+	for k, v := range cfg.Model.Priors { // a prior applies to every model that has the parameter
+		for _, p := range pb0.Params() {
+			if p.Name == k {
+				mc.Model.Priors[k] = v
+			}
+		}
+	}
+	pb, err := buildProblem(mc, lg.Infof)
+	if err != nil {
+		return err
+	}
+	fp := fingerprint(mc, pb.data.SHA256)
+	betas := u.Betas
+	steps := cfg.Sampler.Steps
+	var passes []map[string]any
+	for pass := 0; ; pass++ {
+		ens, err := sampler.New(pb.post, sampler.Config{
+			Walkers: cfg.Sampler.Walkers, Seed: unitSeed(cfg.Sampler.Seed, u.Index, u.Block), Betas: betas,
+			SwapEvery: co.swapEvery, Workers: cfg.Sampler.Workers, Fingerprint: fp,
+		})
+		if err != nil {
+			return err
+		}
+		prog := newProgress(e, lg, steps)
+		res, err := sampler.Run(ctx, ens, sampler.RunOptions{
+			MaxSteps: steps, Burn: cfg.Sampler.Burn, Thin: cfg.Sampler.Thin, CheckEvery: max(100, steps/10),
+			OnStep: func(en *sampler.Ensemble) error { prog.update(en.Steps(), u.Model, 0); return nil },
+		})
+		prog.finish()
+		ens.Close()
+		if err != nil {
+			return err
+		}
+		rungs := unitRungs(res, betas)
+		ev, evErr := integrateRungs(rungs)
+		if co.target > 0 && evErr == nil {
+			adv := evidence.Advise(ev, co.target)
+			passes = append(passes, map[string]any{"pass": pass, "steps": steps, "rungs": len(betas), "total_error": ev.TIHigher.Total, "advice": adv.Reason})
+			lg.WithFields(logrus.Fields{"model": u.Model, "pass": pass, "steps": steps, "rungs": len(betas), "error": fmt.Sprintf("%.3f", ev.TIHigher.Total)}).Info("evidence accuracy")
+			if !adv.Done {
+				grown := false
+				if adv.StepsFactor > 1 && steps < co.maxSteps {
+					steps = min(co.maxSteps, int(float64(steps)*adv.StepsFactor+0.5))
+					grown = true
+				}
+				if len(adv.Insert) > 0 && len(betas) < co.maxRungs {
+					betas = mergeLadder(betas, adv.Insert, co.maxRungs)
+					grown = true
+				}
+				if grown {
+					continue
+				}
+				passes[len(passes)-1]["stopped"] = "cap reached (--max-steps / --max-rungs) before the target"
+			}
+		}
+		return writePart(u, co, mc, pb, fp, betas, steps, res, passes, cfg)
+	}
+}
+
+// mergeLadder adds the betas in extra to the decreasing ladder, keeping it
+// decreasing and at most max long.
+func mergeLadder(betas, extra []float64, maxN int) []float64 {
+	out := slices.Clone(betas)
+	for _, b := range extra {
+		if len(out) >= maxN {
+			break
+		}
+		if !slices.Contains(out, b) && b > 0 && b < 1 {
+			out = append(out, b)
+		}
+	}
+	slices.Sort(out)
+	slices.Reverse(out)
+	return out
+}
+
+// unitRungs turns a run's history into evidence rungs, sorted by
+// increasing beta.
+func unitRungs(res sampler.Result, betas []float64) []evidence.Rung {
+	h := res.History
+	from := res.BurnIndex
+	var rungs []evidence.Rung
+	for r := len(betas) - 1; r >= 0; r-- {
+		ll := h.LnLike(r, from)
+		rungs = append(rungs, evidence.Rung{Beta: betas[r], LnL: ll, Steps: len(ll) / h.Walkers(), Walkers: h.Walkers()})
+	}
+	return rungs
+}
+
+func integrateRungs(rungs []evidence.Rung) (evidence.Result, error) {
+	return evidence.Integrate(rungs, evidence.Options{Synchronous: true})
+}
+
+func writePart(u compareUnit, co compareOpts, mc Config, pb *problem, fp string, betas []float64, steps int,
+	res sampler.Result, passes []map[string]any, cfg Config) error {
+	dir := u.dir(cfg.Output.Dir)
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return err
+	}
+	h := res.History
+	rec := h.Len() - res.BurnIndex
+	var lnl []float64
+	for r := range betas {
+		lnl = append(lnl, h.LnLike(r, res.BurnIndex)...)
+	}
+	if err := chains.WriteNPY(filepath.Join(dir, "lnl.npy"), len(betas)*rec, h.Walkers(), lnl); err != nil {
+		return err
+	}
+	u.Betas = betas
+	pm := partMeta{
+		Schema: 1, Version: version, Unit: u, Reference: co.reference, Models: splitList(co.models), Fingerprint: fp,
+		Config: mc, DataName: pb.data.Name, DataSHA256: pb.data.SHA256, Params: pb.post.FreeNames(),
+		Steps: steps, Walkers: h.Walkers(), BurnIndex: res.BurnIndex, Recorded: rec, Swap: res.SwapAcceptance,
+		Passes: passes,
+	}
+	if betas[0] == 1 {
+		dim := len(pm.Params)
+		post, n := posteriorSamples(res, dim)
+		if err := chains.WriteNPY(filepath.Join(dir, "posterior.npy"), n, dim, post); err != nil {
+			return err
+		}
+		rep := res.Report
+		pm.Diagnostics = &rep
+	}
+	return writeJSON(filepath.Join(dir, "part.json"), pm)
+}
+
+// compareRow is one model's line of the comparison table.
+type compareRow struct {
+	Model    string            `json:"model"`
+	Params   []string          `json:"params"`
+	TI       evidence.Estimate `json:"ln_z_ti"`
+	TITrap   evidence.Estimate `json:"ln_z_ti_trapezoid"`
+	SS       evidence.Estimate `json:"ln_z_ss"`
+	Disagree bool              `json:"estimators_disagree"`
+	LnB      float64           `json:"ln_b"`
+	LnBErr   float64           `json:"ln_b_error"`
+	Reading  string            `json:"kass_raftery"`
+	Rungs    int               `json:"rungs"`
+	Steps    int               `json:"steps_per_rung"`
+	Walkers  int               `json:"walkers"`
+	Warnings []string          `json:"warnings,omitempty"`
+}
+
+// compareResult is compare.json.
+type compareResult struct {
+	Schema     int          `json:"schema"`
+	Version    string       `json:"tautline_version"`
+	Data       string       `json:"data"`
+	DataSHA256 string       `json:"data_sha256"`
+	Reference  string       `json:"reference"`
+	Seed       uint64       `json:"seed"`
+	Rows       []compareRow `json:"models"`
+}
+
+// finalize reads every part under the given run folders, checks that they
+// belong to one comparison, integrates each model's ladder and writes the
+// results into out. It is what a single process and `merge` both run, so
+// their outputs are identical.
+func finalize(out string, dirs []string) (*compareResult, error) {
+	parts := map[string]partMeta{}
+	var keys []string
+	for _, d := range dirs {
+		matches, err := filepath.Glob(filepath.Join(d, "parts", "*", "part.json"))
+		if err != nil {
+			return nil, err
+		}
+		for _, m := range matches {
+			raw, err := os.ReadFile(m)
+			if err != nil {
+				return nil, err
+			}
+			var pm partMeta
+			if err := json.Unmarshal(raw, &pm); err != nil {
+				return nil, fmt.Errorf("%s: %w", m, err)
+			}
+			k := fmt.Sprintf("%04d.%04d", pm.Unit.Index, pm.Unit.Block)
+			if _, dup := parts[k]; dup {
+				continue // the same unit from two folders (e.g. a merged output folder listed again)
+			}
+			parts[k] = pm
+			keys = append(keys, k)
+			if err := copyPart(filepath.Dir(m), pm.Unit.dir(out)); err != nil {
+				return nil, err
+			}
+		}
+	}
+	if len(parts) == 0 {
+		return nil, fmt.Errorf("no parts found under %s (expected DIR/parts/*/part.json)", strings.Join(dirs, ", "))
+	}
+	slices.Sort(keys)
+	first := parts[keys[0]]
+	blocks := first.Config.Sampler // for the seed
+	res := &compareResult{Schema: 1, Version: version, Data: first.DataName, DataSHA256: first.DataSHA256, Reference: first.Reference, Seed: blocks.Seed}
+	byModel := map[string][]partMeta{}
+	for _, k := range keys {
+		pm := parts[k]
+		if pm.DataSHA256 != first.DataSHA256 || pm.Reference != first.Reference || !slices.Equal(pm.Models, first.Models) || pm.Config.Sampler.Seed != first.Config.Sampler.Seed {
+			return nil, fmt.Errorf("part %s (model %s, block %d) belongs to another comparison (data, models, reference or seed differ)", k, pm.Unit.Model, pm.Unit.Block)
+		}
+		byModel[pm.Unit.Model] = append(byModel[pm.Unit.Model], pm)
+	}
+	var missing []string
+	for _, m := range first.Models {
+		if len(byModel[m]) == 0 {
+			missing = append(missing, m)
+		}
+	}
+	if len(missing) > 0 {
+		return nil, fmt.Errorf("no parts for model(s) %s: run every task before merging", strings.Join(missing, ", "))
+	}
+	var refRow *compareRow
+	for _, m := range first.Models {
+		row, err := finalizeModel(out, m, byModel[m])
+		if err != nil {
+			return nil, fmt.Errorf("model %s: %w", m, err)
+		}
+		res.Rows = append(res.Rows, row)
+	}
+	for i := range res.Rows {
+		if res.Rows[i].Model == first.Reference {
+			refRow = &res.Rows[i]
+		}
+	}
+	for i := range res.Rows {
+		r := &res.Rows[i]
+		if r.Model == refRow.Model {
+			r.LnB, r.LnBErr, r.Reading = 0, 0, "reference"
+			continue
+		}
+		r.LnB, r.LnBErr = evidence.BayesFactor(r.TI, refRow.TI)
+		r.Reading = evidence.KassRaftery(r.LnB)
+	}
+	if err := writeJSON(filepath.Join(out, "compare.json"), res); err != nil {
+		return nil, err
+	}
+	if err := writeCompareCSV(filepath.Join(out, "compare.csv"), res); err != nil {
+		return nil, err
+	}
+	return res, nil
+}
+
+// finalizeModel integrates one model's ladder from its parts (blocks).
+func finalizeModel(out, model string, parts []partMeta) (compareRow, error) {
+	var rungs []evidence.Rung
+	want := parts[0].Config.Sampler // blocks must share the sampler setup
+	for _, pm := range parts {
+		if pm.Walkers != parts[0].Walkers || pm.Recorded != parts[0].Recorded || pm.Config.Sampler.Seed != want.Seed {
+			return compareRow{}, errors.New("its rung blocks were run with different walkers or steps")
+		}
+		_, walkers, data, err := chains.ReadNPY(filepath.Join(pm.Unit.dir(out), "lnl.npy"))
+		if err != nil {
+			return compareRow{}, err
+		}
+		per := pm.Recorded * walkers
+		for r, b := range pm.Unit.Betas {
+			rungs = append(rungs, evidence.Rung{Beta: b, LnL: data[r*per : (r+1)*per], Steps: pm.Recorded, Walkers: walkers})
+		}
+	}
+	slices.SortFunc(rungs, func(a, b evidence.Rung) int {
+		switch {
+		case a.Beta < b.Beta:
+			return -1
+		case a.Beta > b.Beta:
+			return 1
+		}
+		return 0
+	})
+	ev, err := integrateRungs(rungs)
+	if err != nil {
+		return compareRow{}, err
+	}
+	dir := filepath.Join(out, "models", strings.ReplaceAll(model, "+", "-"))
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return compareRow{}, err
+	}
+	if err := writeJSON(filepath.Join(dir, "evidence.json"), ev); err != nil {
+		return compareRow{}, err
+	}
+	if err := writeCurveCSV(filepath.Join(dir, "lnl_beta.csv"), ev); err != nil {
+		return compareRow{}, err
+	}
+	for _, pm := range parts {
+		if pm.Unit.Betas[0] == 1 {
+			if err := copyFile(filepath.Join(pm.Unit.dir(out), "posterior.npy"), filepath.Join(dir, "posterior.npy")); err != nil {
+				return compareRow{}, err
+			}
+		}
+	}
+	return compareRow{
+		Model: model, Params: parts[0].Params, TI: ev.TIHigher, TITrap: ev.TI, SS: ev.SS, Disagree: ev.Disagree,
+		Rungs: len(rungs), Steps: parts[0].Steps, Walkers: parts[0].Walkers, Warnings: ev.Warnings,
+	}, nil
+}

@@ -1,0 +1,208 @@
+package main
+
+import (
+	"bytes"
+	"errors"
+	"fmt"
+	"os"
+	"reflect"
+	"sort"
+	"strings"
+
+	"gopkg.in/yaml.v3"
+)
+
+// Config is a run's full configuration. Every key has a default (see
+// defaultConfig), may be set in a YAML file given with --config, and may be
+// overridden by a flag of the same meaning. The resolved configuration is
+// printed by --print-config and stored in every run's metadata.
+type Config struct {
+	// Data is the free-spectrum data set: a path to its YAML description, or
+	// "demo:smbhb" / "demo:strings" for an embedded simulated demo.
+	Data       string           `yaml:"data"`
+	Model      ModelConfig      `yaml:"model"`
+	Likelihood LikelihoodConfig `yaml:"likelihood"`
+	Cosmology  CosmologyConfig  `yaml:"cosmology"`
+	Sampler    SamplerConfig    `yaml:"sampler"`
+	Output     OutputConfig     `yaml:"output"`
+}
+
+// ModelConfig chooses the model and its priors.
+type ModelConfig struct {
+	// Name is smbhb, strings, or strings+smbhb.
+	Name string `yaml:"name"`
+	// Priors maps a parameter name to a prior, e.g. "uniform(-18, -11)";
+	// parameters not listed keep the model's default prior.
+	Priors map[string]string `yaml:"priors"`
+	// FixGamma fixes the SMBHB spectral index to 13/3.
+	FixGamma bool `yaml:"fix_gamma"`
+	// Strings holds the string-network settings.
+	Strings StringsConfig `yaml:"strings"`
+}
+
+// StringsConfig holds the fixed settings of the string-network model.
+type StringsConfig struct {
+	// Q is the emission spectral index: 4/3 cusps, 5/3 kinks, 2 kink-kink.
+	Q float64 `yaml:"q"`
+	// Gamma is the total loop GW power in units of G mu^2.
+	Gamma float64 `yaml:"gamma_loop"`
+	// F is the fraction of loop-production energy in large loops.
+	F float64 `yaml:"f_large"`
+	// CEff is "vos" or "step".
+	CEff string `yaml:"loop_production"`
+	// Kappa sets the loop density's dependence P^(-kappa).
+	Kappa float64 `yaml:"kappa"`
+	// Modes is the number of harmonics summed; 0 adds the N -> infinity tail.
+	Modes int `yaml:"modes"`
+	// DOF is "standard-model" or "constant".
+	DOF string `yaml:"dof"`
+	// Direct evaluates the spectrum by quadrature instead of the table.
+	Direct bool `yaml:"direct"`
+}
+
+// LikelihoodConfig sets how per-bin densities are built.
+type LikelihoodConfig struct {
+	// Bandwidth is the KDE bandwidth rule for sample bins: scott or silverman.
+	Bandwidth string `yaml:"bandwidth"`
+}
+
+// CosmologyConfig holds the background parameters.
+type CosmologyConfig struct {
+	// H0 is the Hubble constant in km/s/Mpc.
+	H0 float64 `yaml:"h0"`
+	// OmegaM is the matter density today.
+	OmegaM float64 `yaml:"omega_m"`
+}
+
+// SamplerConfig sets the ensemble sampler.
+type SamplerConfig struct {
+	Walkers int    `yaml:"walkers"`
+	Steps   int    `yaml:"steps"`
+	Burn    int    `yaml:"burn"`
+	Thin    int    `yaml:"thin"`
+	Seed    uint64 `yaml:"seed"`
+	Workers int    `yaml:"workers"`
+	// Until holds stopping criteria such as "ess=5000,rhat=1.01"; when set,
+	// Steps is the cap.
+	Until string `yaml:"until"`
+	// Moves is "stretch", "de", or a weighted mix like "stretch:0.8,de:0.2".
+	Moves string `yaml:"moves"`
+	// CheckpointEvery is the number of steps between checkpoints.
+	CheckpointEvery int `yaml:"checkpoint_every"`
+}
+
+// OutputConfig says where results go.
+type OutputConfig struct {
+	// Dir is the run folder.
+	Dir string `yaml:"dir"`
+	// FlushEvery is the number of steps between chain flushes to disk.
+	FlushEvery int `yaml:"flush_every"`
+}
+
+func defaultConfig() Config {
+	return Config{
+		Data: "",
+		Model: ModelConfig{
+			Name: "smbhb",
+			Strings: StringsConfig{
+				Q: 4.0 / 3, Gamma: 50, F: 0.1, CEff: "vos", Kappa: 1, Modes: 100000, DOF: "standard-model",
+			},
+		},
+		Likelihood: LikelihoodConfig{Bandwidth: "scott"},
+		Cosmology:  CosmologyConfig{H0: 67.4, OmegaM: 0.315},
+		Sampler: SamplerConfig{
+			Walkers: 32, Steps: 4000, Burn: -1, Thin: 0, Seed: 1, Workers: 0,
+			Moves: "stretch", CheckpointEvery: 500,
+		},
+		Output: OutputConfig{Dir: "", FlushEvery: 100},
+	}
+}
+
+// loadConfig reads a YAML configuration file over the defaults in cfg.
+// Unknown keys are refused with their line number.
+func loadConfig(path string, cfg *Config) error {
+	raw, err := os.ReadFile(path)
+	if err != nil {
+		return fmt.Errorf("reading the configuration: %w", err)
+	}
+	return decodeConfig(path, raw, cfg)
+}
+
+func decodeConfig(name string, raw []byte, cfg *Config) error {
+	var root yaml.Node
+	if err := yaml.Unmarshal(raw, &root); err != nil {
+		return fmt.Errorf("%s: %s", name, strings.TrimPrefix(err.Error(), "yaml: "))
+	}
+	if len(root.Content) == 0 {
+		return nil // an empty file keeps every default
+	}
+	if err := checkKeys(name, root.Content[0], reflect.TypeOf(*cfg), ""); err != nil {
+		return err
+	}
+	dec := yaml.NewDecoder(bytes.NewReader(raw))
+	dec.KnownFields(true)
+	if err := dec.Decode(cfg); err != nil {
+		var te *yaml.TypeError
+		if errors.As(err, &te) && len(te.Errors) > 0 {
+			return fmt.Errorf("%s: %s", name, strings.TrimPrefix(te.Errors[0], "yaml: "))
+		}
+		return fmt.Errorf("%s: %s", name, strings.TrimPrefix(err.Error(), "yaml: "))
+	}
+	return nil
+}
+
+// checkKeys walks a YAML mapping against the yaml tags of struct type t and
+// reports the first key that t does not know, with its line and the keys
+// that would be accepted there.
+func checkKeys(file string, n *yaml.Node, t reflect.Type, path string) error {
+	if t.Kind() != reflect.Struct {
+		return nil
+	}
+	if n.Kind != yaml.MappingNode {
+		if n.Kind == yaml.ScalarNode && n.Tag == "!!null" {
+			return nil
+		}
+		where := path
+		if where == "" {
+			where = "the top level"
+		}
+		return fmt.Errorf("%s: line %d: %s: want a mapping of keys", file, n.Line, where)
+	}
+	fields := map[string]reflect.Type{}
+	var names []string
+	for i := 0; i < t.NumField(); i++ {
+		tag := strings.Split(t.Field(i).Tag.Get("yaml"), ",")[0]
+		if tag == "" || tag == "-" {
+			continue
+		}
+		fields[tag] = t.Field(i).Type
+		names = append(names, tag)
+	}
+	sort.Strings(names)
+	for i := 0; i+1 < len(n.Content); i += 2 {
+		k, v := n.Content[i], n.Content[i+1]
+		ft, ok := fields[k.Value]
+		key := k.Value
+		if path != "" {
+			key = path + "." + k.Value
+		}
+		if !ok {
+			return fmt.Errorf("%s: line %d: unknown key %q; known keys here: %s", file, k.Line, key, strings.Join(names, ", "))
+		}
+		if err := checkKeys(file, v, ft, key); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// marshalConfig renders cfg as YAML for --print-config and the metadata.
+func marshalConfig(cfg Config) string {
+	var b bytes.Buffer
+	enc := yaml.NewEncoder(&b)
+	enc.SetIndent(2)
+	if err := enc.Encode(cfg); err != nil {
+		return fmt.Sprintf("# cannot render configuration: %v\n", err)
+	}
+	return b.String()
+}

@@ -1,0 +1,128 @@
+package main
+
+import (
+	"bytes"
+	"context"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+// runCLI runs the command line in-process and returns its exit status,
+// stdout and stderr.
+func runCLI(t *testing.T, args ...string) (int, string, string) {
+	t.Helper()
+	var out, errb bytes.Buffer
+	code := run(context.Background(), &env{stdout: &out, stderr: &errb}, args)
+	return code, out.String(), errb.String()
+}
+
+func TestHelpVersionAndExitCodes(t *testing.T) {
+	cases := []struct {
+		args []string
+		code int
+		want string // substring of stdout+stderr
+	}{
+		{[]string{"--help"}, 0, "Commands:"},
+		{[]string{"--version"}, 0, "tautline " + version},
+		{[]string{}, 2, "Usage:"},
+		{[]string{"frobnicate"}, 2, `unknown command "frobnicate"`},
+		{[]string{"fit", "--help"}, 0, "--walkers int"},
+		{[]string{"fit", "--no-such-flag"}, 2, "flag provided but not defined"},
+		{[]string{"inspect", "--help"}, 0, "--json"},
+		{[]string{"simulate", "--help"}, 0, "--pulsars int"},
+		{[]string{"spectrum", "--help"}, 0, "--span-yr float"},
+		{[]string{"convert", "--help"}, 0, "--gmu"},
+		{[]string{"inspect"}, 2, "want exactly one data set"},
+		{[]string{"fit", "--until", "ess=lots"}, 2, "ess must be a positive number"},
+		{[]string{"fit", "--prior", "log10_A"}, 2, "want NAME=SPEC"},
+	}
+	for _, c := range cases {
+		code, out, errs := runCLI(t, c.args...)
+		if code != c.code || !strings.Contains(out+errs, c.want) {
+			t.Errorf("tautline %s: exit %d, want %d; output does not contain %q:\n%s%s",
+				strings.Join(c.args, " "), code, c.code, c.want, out, errs)
+		}
+	}
+}
+
+// TestHelpShowsDefaultsAndUnits checks that every option of fit is
+// documented with its default where it has one.
+func TestHelpShowsDefaults(t *testing.T) {
+	_, out, _ := runCLI(t, "fit", "--help")
+	for _, want := range []string{"(default 32)", "(default 4000)", "(default smbhb)", "km/s/Mpc", "(default 1)"} {
+		if !strings.Contains(out, want) {
+			t.Errorf("fit --help lacks %q", want)
+		}
+	}
+}
+
+// TestConfigErrors checks the exact message each malformed configuration
+// file in testdata/config produces, and that the exit status is non-zero.
+func TestConfigErrors(t *testing.T) {
+	dir := filepath.Join("..", "..", "testdata", "config")
+	cases := []struct {
+		file string
+		code int
+		want string
+	}{
+		{"bad-unknown-top.yaml", 1, `bad-unknown-top.yaml: line 2: unknown key "samplr"; known keys here: cosmology, data, likelihood, model, output, sampler`},
+		{"bad-unknown-nested.yaml", 1, `bad-unknown-nested.yaml: line 5: unknown key "sampler.stepz"; known keys here: burn, checkpoint_every, moves, seed, steps, thin, until, walkers, workers`},
+		{"bad-type.yaml", 1, "bad-type.yaml: line 2: cannot unmarshal !!str `many` into int"},
+		{"bad-syntax.yaml", 1, "bad-syntax.yaml: line 2: did not find expected key"},
+		{"bad-not-mapping.yaml", 1, "bad-not-mapping.yaml: line 1: sampler: want a mapping of keys"},
+		{"bad-prior.yaml", 1, `model.priors.log10_A: priors: "unifrom(-18, -11)": unknown shape "unifrom"`},
+		{"bad-prior-param.yaml", 2, `model.priors: "log10_Gmu" is not a parameter of model smbhb; its parameters are log10_A, gamma`},
+		{"bad-model.yaml", 2, `model "axions": unknown; want one of smbhb, strings, strings+smbhb`},
+	}
+	for _, c := range cases {
+		path := filepath.Join(dir, c.file)
+		code, out, errs := runCLI(t, "fit", "--config", path, "--out", t.TempDir())
+		if code != c.code || !strings.Contains(errs, c.want) {
+			t.Errorf("%s: exit %d (want %d), stderr:\n%s\nwant it to contain:\n%s\n(stdout %q)", c.file, code, c.code, errs, c.want, out)
+		}
+	}
+}
+
+func TestPrintConfig(t *testing.T) {
+	path := filepath.Join("..", "..", "testdata", "config", "good.yaml")
+	code, out, errs := runCLI(t, "fit", "--config", path, "--walkers", "24", "--prior", "gamma=fixed(13/3)", "--print-config")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	for _, want := range []string{"walkers: 24", "seed: 7", "bandwidth: silverman", "log10_A: uniform(-18, -12)", "gamma: fixed(13/3)", "q: 1.3333333333333333", "h0: 67.4"} {
+		if !strings.Contains(out, want) {
+			t.Errorf("--print-config lacks %q:\n%s", want, out)
+		}
+	}
+}
+
+// TestFitDeterministic runs the same short fit twice with different worker
+// counts: the chain files must be byte-identical.
+func TestFitDeterministic(t *testing.T) {
+	var chains [2][]byte
+	for i, workers := range []string{"1", "2"} {
+		dir := t.TempDir()
+		code, _, errs := runCLI(t, "fit", "--steps", "300", "--walkers", "16", "--seed", "11", "--workers", workers, "--out", dir, "--log-level", "warn")
+		if code != 0 {
+			t.Fatalf("fit exit %d: %s", code, errs)
+		}
+		b, err := os.ReadFile(filepath.Join(dir, "chain.csv"))
+		if err != nil {
+			t.Fatal(err)
+		}
+		chains[i] = b
+		for _, f := range []string{"meta.json", "posterior.npy", "summary.json", "checkpoint.bin"} {
+			if _, err := os.Stat(filepath.Join(dir, f)); err != nil {
+				t.Errorf("missing output %s", f)
+			}
+		}
+	}
+	if !bytes.Equal(chains[0], chains[1]) {
+		t.Fatal("chains differ between --workers 1 and 2")
+	}
+	if n := bytes.Count(chains[0], []byte("\n")); n != 1+300*16 {
+		t.Errorf("chain.csv has %d lines, want header + 300 x 16", n)
+	}
+}

@@ -1,0 +1,184 @@
+package main
+
+import (
+	"flag"
+	"fmt"
+	"strconv"
+	"strings"
+
+	"tautline/sampler"
+)
+
+// runFlags are the options shared by the commands that sample (fit,
+// compare): one flag for every configuration key, plus the file and
+// logging options.
+type runFlags struct {
+	configPath  string
+	printConfig bool
+	priors      multiFlag
+	logLevel    string
+	logFormat   string
+}
+
+// bindConfig registers a flag for every key of cfg, writing into cfg.
+func bindConfig(fs *flag.FlagSet, cfg *Config) {
+	fs.StringVar(&cfg.Data, "data", cfg.Data, "free-spectrum data set: path to its YAML description, or demo:smbhb / demo:strings (embedded, simulated); empty picks the demo that suits --model")
+	bindModel(fs, cfg)
+	fs.StringVar(&cfg.Likelihood.Bandwidth, "bandwidth", cfg.Likelihood.Bandwidth, "KDE bandwidth rule for bins given as samples: scott or silverman")
+	bindSampler(fs, cfg)
+}
+
+// bindModel registers the flags that choose and configure the model and
+// the background cosmology.
+func bindModel(fs *flag.FlagSet, cfg *Config) {
+	fs.StringVar(&cfg.Model.Name, "model", cfg.Model.Name, "model: smbhb, strings, or strings+smbhb")
+	fs.BoolVar(&cfg.Model.FixGamma, "fix-gamma", cfg.Model.FixGamma, "fix the SMBHB spectral index gamma to 13/3 (circular GW-driven binaries)")
+	fs.Float64Var(&cfg.Model.Strings.Q, "q", cfg.Model.Strings.Q, "string-loop emission spectral index: 4/3 cusps, 5/3 kinks, 2 kink-kink collisions (dimensionless)")
+	fs.Float64Var(&cfg.Model.Strings.Gamma, "gamma-loop", cfg.Model.Strings.Gamma, "total GW power of a loop in units of G mu^2")
+	fs.Float64Var(&cfg.Model.Strings.F, "f-large", cfg.Model.Strings.F, "fraction of loop-production energy going into large loops")
+	fs.StringVar(&cfg.Model.Strings.CEff, "loop-production", cfg.Model.Strings.CEff, "loop-production efficiency C_eff: vos (velocity-dependent one-scale equations) or step (5.4 before matter-radiation equality, 0.39 after)")
+	fs.Float64Var(&cfg.Model.Strings.Kappa, "kappa", cfg.Model.Strings.Kappa, "loop density scales as P^(-kappa) with the reconnection probability P")
+	fs.IntVar(&cfg.Model.Strings.Modes, "modes", cfg.Model.Strings.Modes, "number of loop harmonics summed; 0 adds the N -> infinity tail")
+	fs.StringVar(&cfg.Model.Strings.DOF, "dof", cfg.Model.Strings.DOF, "relativistic degrees of freedom: standard-model or constant")
+	fs.BoolVar(&cfg.Model.Strings.Direct, "direct", cfg.Model.Strings.Direct, "evaluate the string spectrum by direct quadrature instead of the certified table (slow; for checks)")
+	fs.Float64Var(&cfg.Cosmology.H0, "h0", cfg.Cosmology.H0, "Hubble constant in km/s/Mpc")
+	fs.Float64Var(&cfg.Cosmology.OmegaM, "omega-m", cfg.Cosmology.OmegaM, "matter density parameter today")
+}
+
+// bindSampler registers the sampler and output flags.
+func bindSampler(fs *flag.FlagSet, cfg *Config) {
+	fs.IntVar(&cfg.Sampler.Walkers, "walkers", cfg.Sampler.Walkers, "number of ensemble walkers (at least 2 x the number of sampled parameters, even)")
+	fs.IntVar(&cfg.Sampler.Steps, "steps", cfg.Sampler.Steps, "number of ensemble steps; with --until, the cap on steps")
+	fs.IntVar(&cfg.Sampler.Burn, "burn", cfg.Sampler.Burn, "steps discarded as burn-in in the summary; -1 chooses 5 autocorrelation times")
+	fs.IntVar(&cfg.Sampler.Thin, "thin", cfg.Sampler.Thin, "keep every n-th step in the posterior samples; 0 chooses from the autocorrelation time")
+	fs.Uint64Var(&cfg.Sampler.Seed, "seed", cfg.Sampler.Seed, "random seed; the same seed gives byte-identical chains")
+	fs.IntVar(&cfg.Sampler.Workers, "workers", cfg.Sampler.Workers, "goroutines evaluating walkers; 0 uses every CPU (results do not depend on it)")
+	fs.StringVar(&cfg.Sampler.Until, "until", cfg.Sampler.Until, "stop when all criteria hold, e.g. ess=5000,tau=50,rhat=1.01 (effective sample size, chain length in autocorrelation times, split R-hat); --steps is then the cap")
+	fs.StringVar(&cfg.Sampler.Moves, "moves", cfg.Sampler.Moves, "ensemble moves: stretch, de (differential evolution), or a weighted mix such as stretch:0.8,de:0.2")
+	fs.IntVar(&cfg.Sampler.CheckpointEvery, "checkpoint-every", cfg.Sampler.CheckpointEvery, "steps between checkpoints (0 disables them)")
+	fs.StringVar(&cfg.Output.Dir, "out", cfg.Output.Dir, "output folder for chains and metadata; empty means runs/fit-MODEL")
+	fs.IntVar(&cfg.Output.FlushEvery, "flush-every", cfg.Output.FlushEvery, "steps between chain flushes to disk (a crash loses at most this many)")
+}
+
+// bindCommon registers the options that are not configuration keys.
+func bindCommon(fs *flag.FlagSet, rf *runFlags) {
+	fs.StringVar(&rf.configPath, "config", "", "YAML configuration file; flags override its keys")
+	fs.BoolVar(&rf.printConfig, "print-config", false, "print the resolved configuration as YAML and exit")
+	fs.Var(&rf.priors, "prior", "prior of one parameter, NAME=SPEC, e.g. log10_A='uniform(-18,-11)'; repeatable; shapes: uniform(lo,hi), log-uniform(lo,hi), normal(mu,sd), truncnormal(mu,sd,lo,hi), fixed(v)")
+	fs.StringVar(&rf.logLevel, "log-level", "info", "log level: debug, info, warn or error")
+	fs.StringVar(&rf.logFormat, "log-format", "text", "log format: text or json")
+}
+
+// resolveConfig parses args twice: first to find --config (and to serve
+// --help with the built-in defaults), then over the file's values so that
+// flags override the file.
+func resolveConfig(e *env, name, synopsis, description string, args []string, extra func(*flag.FlagSet)) (Config, *runFlags, *flag.FlagSet, error) {
+	def := defaultConfig()
+	var rf runFlags
+	fs := newFlagSet(e, name, synopsis, description)
+	bindConfig(fs, &def)
+	bindCommon(fs, &rf)
+	if extra != nil {
+		extra(fs)
+	}
+	if err := parseFlags(fs, args); err != nil {
+		return Config{}, nil, nil, err
+	}
+	cfg := defaultConfig()
+	if rf.configPath != "" {
+		if err := loadConfig(rf.configPath, &cfg); err != nil {
+			return Config{}, nil, nil, err
+		}
+	}
+	var rf2 runFlags
+	fs2 := flag.NewFlagSet(name, flag.ContinueOnError)
+	fs2.SetOutput(e.stderr)
+	bindConfig(fs2, &cfg)
+	bindCommon(fs2, &rf2)
+	if extra != nil {
+		extra(fs2)
+	}
+	if err := parseFlags(fs2, args); err != nil {
+		return Config{}, nil, nil, err
+	}
+	for _, p := range rf2.priors {
+		k, v, ok := strings.Cut(p, "=")
+		if !ok || strings.TrimSpace(k) == "" {
+			return Config{}, nil, nil, fmt.Errorf("%w: --prior %q: want NAME=SPEC, e.g. log10_A=uniform(-18,-11)", errUsage, p)
+		}
+		if cfg.Model.Priors == nil {
+			cfg.Model.Priors = map[string]string{}
+		}
+		cfg.Model.Priors[strings.TrimSpace(k)] = strings.TrimSpace(v)
+	}
+	if cfg.Data == "" {
+		cfg.Data = defaultData(cfg.Model.Name)
+	}
+	return cfg, &rf2, fs2, nil
+}
+
+// untilCriteria is the parsed form of --until.
+type untilCriteria struct {
+	ESS, TauMultiple, Rhat float64
+}
+
+func parseUntil(s string) (untilCriteria, error) {
+	var u untilCriteria
+	if strings.TrimSpace(s) == "" {
+		return u, nil
+	}
+	for _, part := range strings.Split(s, ",") {
+		k, v, ok := strings.Cut(strings.TrimSpace(part), "=")
+		if !ok {
+			return u, fmt.Errorf("%w: --until %q: %q is not KEY=VALUE (keys: ess, tau, rhat)", errUsage, s, part)
+		}
+		x, err := strconv.ParseFloat(strings.TrimSpace(v), 64)
+		if err != nil || x <= 0 {
+			return u, fmt.Errorf("%w: --until %q: %s must be a positive number, got %q", errUsage, s, k, v)
+		}
+		switch strings.TrimSpace(k) {
+		case "ess":
+			u.ESS = x
+		case "tau":
+			u.TauMultiple = x
+		case "rhat":
+			if x <= 1 {
+				return u, fmt.Errorf("%w: --until %q: rhat must be above 1, got %g", errUsage, s, x)
+			}
+			u.Rhat = x
+		default:
+			return u, fmt.Errorf("%w: --until %q: unknown criterion %q (keys: ess, tau, rhat)", errUsage, s, k)
+		}
+	}
+	return u, nil
+}
+
+// parseMoves reads --moves: "stretch", "de", or "stretch:0.8,de:0.2".
+func parseMoves(s string, dim int) ([]sampler.WeightedMove, error) {
+	if strings.TrimSpace(s) == "" || strings.TrimSpace(s) == "stretch" {
+		return nil, nil
+	}
+	var out []sampler.WeightedMove
+	for _, part := range strings.Split(s, ",") {
+		name, ws, hasW := strings.Cut(strings.TrimSpace(part), ":")
+		w := 1.0
+		if hasW {
+			x, err := strconv.ParseFloat(ws, 64)
+			if err != nil || !(x > 0) {
+				return nil, fmt.Errorf("%w: --moves %q: weight of %s must be a positive number, got %q", errUsage, s, name, ws)
+			}
+			w = x
+		}
+		var m sampler.Move
+		switch name {
+		case "stretch":
+			m = sampler.StretchMove{A: 2}
+		case "de":
+			m = sampler.DefaultDEMove(dim)
+		default:
+			return nil, fmt.Errorf("%w: --moves %q: unknown move %q; want stretch or de", errUsage, s, name)
+		}
+		out = append(out, sampler.WeightedMove{Move: m, Weight: w})
+	}
+	return out, nil
+}
