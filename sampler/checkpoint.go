@@ -80,16 +80,18 @@ func (r *dec) u64() uint64 {
 }
 func (r *dec) int() int     { return int(int64(r.u64())) }
 func (r *dec) f64() float64 { return math.Float64frombits(r.u64()) }
-func (r *dec) length(max int) int {
+// length reads a count of items of unit bytes each, which must fit in the
+// bytes that follow it.
+func (r *dec) length(unit int) int {
 	n := r.int()
-	if r.err == nil && (n < 0 || n > max) {
+	if r.err == nil && (n < 0 || n > len(r.b)/unit) {
 		r.err = fmt.Errorf("%w: length %d out of range", ErrCheckpointFormat, n)
 		return 0
 	}
 	return n
 }
 func (r *dec) bytes() []byte {
-	n := r.length(len(r.b))
+	n := r.length(1)
 	if r.err != nil {
 		return nil
 	}
@@ -99,7 +101,7 @@ func (r *dec) bytes() []byte {
 }
 func (r *dec) str() string { return string(r.bytes()) }
 func (r *dec) floatsInto(dst []float64, what string) {
-	n := r.length(len(r.b) / 8)
+	n := r.length(8)
 	if r.err == nil && n != len(dst) {
 		r.err = fmt.Errorf("%w: %s has %d values, want %d", ErrCheckpointConfig, what, n, len(dst))
 	}
@@ -108,7 +110,7 @@ func (r *dec) floatsInto(dst []float64, what string) {
 	}
 }
 func (r *dec) floats() []float64 {
-	n := r.length(len(r.b) / 8)
+	n := r.length(8)
 	v := make([]float64, n)
 	for i := range v {
 		v[i] = r.f64()
@@ -116,7 +118,7 @@ func (r *dec) floats() []float64 {
 	return v
 }
 func (r *dec) intsInto(dst []int64, what string) {
-	n := r.length(len(r.b) / 8)
+	n := r.length(8)
 	if r.err == nil && n != len(dst) {
 		r.err = fmt.Errorf("%w: %s has %d values, want %d", ErrCheckpointConfig, what, n, len(dst))
 	}

@@ -1,0 +1,223 @@
+package sampler
+
+import (
+	"context"
+	"crypto/sha256"
+	"encoding/binary"
+	"encoding/json"
+	"errors"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+func checkpointSetup(t *testing.T) (Target, Config) {
+	g := newGaussTarget(t, []float64{0, 1}, [][]float64{{1, 0.6}, {0.6, 1}})
+	ladder, err := PowerLadder(4, 5)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return g, Config{
+		Walkers: 8, Seed: 77, Betas: ladder, AdaptLadder: true, AdaptSteps: 20,
+		Moves:       []WeightedMove{{StretchMove{A: 2}, 2}, {DefaultDEMove(2), 1}},
+		Fingerprint: "data+model+settings hash",
+	}
+}
+
+func sameResult(t *testing.T, a, b Result) {
+	t.Helper()
+	ja, _ := json.Marshal(a.Report)
+	jb, _ := json.Marshal(b.Report)
+	if a.Status != b.Status || a.Steps != b.Steps || a.Burn != b.Burn || a.Thin != b.Thin || string(ja) != string(jb) {
+		t.Errorf("results differ:\n%v %d %d %d %s\n%v %d %d %d %s", a.Status, a.Steps, a.Burn, a.Thin, ja, b.Status, b.Steps, b.Burn, b.Thin, jb)
+	}
+	ha, hb := a.History, b.History
+	if ha.Start() != hb.Start() || ha.Len() != hb.Len() {
+		t.Fatalf("history start/len %d/%d vs %d/%d", ha.Start(), ha.Len(), hb.Start(), hb.Len())
+	}
+	for r := range ha.Rungs() {
+		x, y := ha.LnLike(r, 0), hb.LnLike(r, 0)
+		for i := range x {
+			if math.Float64bits(x[i]) != math.Float64bits(y[i]) {
+				t.Fatalf("history ln L rung %d [%d]: %v vs %v", r, i, x[i], y[i])
+			}
+		}
+	}
+	x, y := ha.Positions(0), hb.Positions(0)
+	for i := range x {
+		if math.Float64bits(x[i]) != math.Float64bits(y[i]) {
+			t.Fatalf("history positions[%d]: %v vs %v", i, x[i], y[i])
+		}
+	}
+}
+
+// TestResumeBitIdentical runs N steps straight through, and k steps,
+// checkpoint, restore (with another worker count), N-k steps; every float
+// of the state and of Run's history and decisions must agree bit for bit.
+func TestResumeBitIdentical(t *testing.T) {
+	tg, cfg := checkpointSetup(t)
+	const n, k = 120, 47
+	opt := RunOptions{MaxSteps: n, Burn: -1, CheckEvery: 10, Until: Criteria{ESS: 1e9}}
+	straight, err := New(tg, cfg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	want, err := Run(context.Background(), straight, opt)
+	if err != nil {
+		t.Fatal(err)
+	}
+
+	first, err := New(tg, cfg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	part := opt
+	part.MaxSteps = k
+	if _, err := Run(context.Background(), first, part); err != nil {
+		t.Fatal(err)
+	}
+	data, err := first.MarshalBinary()
+	if err != nil {
+		t.Fatal(err)
+	}
+	rcfg := cfg
+	rcfg.Workers, rcfg.MinBatch = 2, 1
+	resumed, err := Restore(tg, rcfg, data)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer resumed.Close()
+	got, err := Run(context.Background(), resumed, opt)
+	if err != nil {
+		t.Fatal(err)
+	}
+	sameState(t, straight, resumed)
+	sameResult(t, want, got)
+	if got.LadderFrozenAt != 20 || got.Burn < 20 {
+		t.Errorf("LadderFrozenAt = %d, Burn = %d; want 20 and >= 20", got.LadderFrozenAt, got.Burn)
+	}
+}
+
+func TestCorruptCheckpoint(t *testing.T) {
+	tg, cfg := checkpointSetup(t)
+	e := runSteps(t, tg, cfg, 5)
+	data, err := e.MarshalBinary()
+	if err != nil {
+		t.Fatal(err)
+	}
+	flip := func(i int) []byte {
+		d := append([]byte(nil), data...)
+		d[i] ^= 0x10
+		return d
+	}
+	other := func(f func(*Config)) Config {
+		c := cfg
+		f(&c)
+		return c
+	}
+	tests := []struct {
+		name string
+		data []byte
+		cfg  Config
+		want error
+		text string
+	}{
+		{"truncated in body", data[:len(data)-100], cfg, ErrCheckpointTruncated, "have"},
+		{"truncated in header", data[:7], cfg, ErrCheckpointTruncated, "7 bytes"},
+		{"bit flip in positions", flip(len(data) / 2), cfg, ErrCheckpointCorrupt, "checksum mismatch"},
+		{"bit flip in checksum", flip(len(data) - 1), cfg, ErrCheckpointCorrupt, "checksum mismatch"},
+		{"bad magic", flip(0), cfg, ErrCheckpointFormat, "bad magic"},
+		{"trailing bytes", append(append([]byte(nil), data...), 0), cfg, ErrCheckpointFormat, "after the declared end"},
+		{"other fingerprint", data, other(func(c *Config) { c.Fingerprint = "another run" }), ErrCheckpointFingerprint, `"another run"`},
+		{"other seed", data, other(func(c *Config) { c.Seed++ }), ErrCheckpointConfig, "Seed: checkpoint has 77, configuration has 78"},
+		{"other walkers", data, other(func(c *Config) { c.Walkers = 10 }), ErrCheckpointConfig, "Walkers"},
+		{"other moves", data, other(func(c *Config) { c.Moves = nil }), ErrCheckpointConfig, "Moves"},
+		{"other ladder", data, other(func(c *Config) { c.Betas = []float64{1, 0.5, 0.1, 0} }), ErrCheckpointConfig, "Betas"},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			_, err := Restore(tg, tc.cfg, tc.data)
+			if !errors.Is(err, tc.want) || !strings.Contains(err.Error(), tc.text) {
+				t.Errorf("Restore: error %v, want %v containing %q", err, tc.want, tc.text)
+			}
+		})
+	}
+	if _, err := Restore(tg, cfg, data); err != nil {
+		t.Errorf("intact checkpoint refused: %v", err)
+	}
+}
+
+// FuzzRestore feeds arbitrary bytes to the checkpoint parser, which must
+// refuse or accept them without panicking. The seed corpus in
+// testdata/fuzz/FuzzRestore holds a valid checkpoint and damaged copies.
+func FuzzRestore(f *testing.F) {
+	tg := funcTarget{dim: 1, draw: boxDraw(0, 1), prior: boxPrior(0, 1), like: func(x []float64) float64 { return -x[0] * x[0] }}
+	cfg := Config{Walkers: 4, Seed: 1, Betas: []float64{1, 0.5}, Workers: 1, Fingerprint: "fuzz"}
+	f.Fuzz(func(t *testing.T, data []byte) {
+		try := func(d []byte) {
+			e, err := Restore(tg, cfg, d)
+			if err != nil {
+				return
+			}
+			if err := e.Step(); err != nil {
+				t.Fatal(err)
+			}
+		}
+		try(data)
+		// Reseal the bytes with a correct length and checksum so that the
+		// fuzzer also reaches the body decoder.
+		if len(data) >= ckHeader {
+			d := append([]byte(nil), data...)
+			binary.LittleEndian.PutUint64(d[12:20], uint64(len(d)+ckSum))
+			sum := sha256.Sum256(d)
+			try(append(d, sum[:]...))
+		}
+	})
+}
+
+// TestWriteFuzzCorpus regenerates the FuzzRestore seed corpus when
+// TAUTLINE_WRITE_CORPUS is set; otherwise it checks the corpus exists.
+func TestWriteFuzzCorpus(t *testing.T) {
+	dir := filepath.Join("testdata", "fuzz", "FuzzRestore")
+	if os.Getenv("TAUTLINE_WRITE_CORPUS") == "" {
+		if ents, err := os.ReadDir(dir); err != nil || len(ents) == 0 {
+			t.Errorf("seed corpus %s missing: %v", dir, err)
+		}
+		return
+	}
+	tg := funcTarget{dim: 1, draw: boxDraw(0, 1), prior: boxPrior(0, 1), like: func(x []float64) float64 { return -x[0] * x[0] }}
+	cfg := Config{Walkers: 4, Seed: 1, Betas: []float64{1, 0.5}, Workers: 1, Fingerprint: "fuzz"}
+	e := runSteps(t, tg, cfg, 3)
+	if _, err := Run(context.Background(), e, RunOptions{MaxSteps: 6, CheckEvery: 3}); err != nil {
+		t.Fatal(err)
+	}
+	data, err := e.MarshalBinary()
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		t.Fatal(err)
+	}
+	flipped := append([]byte(nil), data...)
+	flipped[len(flipped)/2] ^= 1
+	for name, d := range map[string][]byte{"valid": data, "valid-body": data[:len(data)-ckSum], "truncated": data[:len(data)/2], "flipped": flipped, "empty": nil} {
+		body := "go test fuzz v1\n[]byte(" + quoteBytes(d) + ")\n"
+		if err := os.WriteFile(filepath.Join(dir, name), []byte(body), 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+}
+
+func quoteBytes(b []byte) string {
+	var s strings.Builder
+	s.WriteByte('"')
+	for _, c := range b {
+		s.WriteString(`\x`)
+		s.WriteByte("0123456789abcdef"[c>>4])
+		s.WriteByte("0123456789abcdef"[c&15])
+	}
+	s.WriteByte('"')
+	return s.String()
+}

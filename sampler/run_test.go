@@ -1,0 +1,104 @@
+package sampler
+
+import (
+	"context"
+	"errors"
+	"math"
+	"strings"
+	"testing"
+
+	"gonum.org/v1/gonum/stat/distuv"
+)
+
+func TestRunConverges(t *testing.T) {
+	g := newGaussTarget(t, []float64{2, -1}, [][]float64{{1, 0.8}, {0.8, 1}})
+	e, err := New(g, Config{Walkers: 16, Seed: 12})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var checks []Progress
+	onStep := 0
+	until := Criteria{ESS: 1000, TauMultiple: 50, Rhat: 1.01}
+	res, err := Run(context.Background(), e, RunOptions{
+		MaxSteps: 50000, Burn: -1, CheckEvery: 1000, Until: until,
+		OnStep:  func(*Ensemble) error { onStep++; return nil },
+		OnCheck: func(p Progress) { checks = append(checks, p) },
+	})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if res.Status != Converged {
+		t.Fatalf("status %v after %d steps, report %+v", res.Status, res.Steps, res.Report)
+	}
+	if onStep != res.Steps || len(checks) != res.Steps/1000 || !checks[len(checks)-1].Converged {
+		t.Errorf("OnStep called %d times, OnCheck %d times for %d steps", onStep, len(checks), res.Steps)
+	}
+	rep := res.Report
+	t.Logf("converged after %d steps: burn %d, thin %d, tau %.3g, ESS %.4g, R-hat %.4f", res.Steps, res.Burn, res.Thin, rep.MaxTau, rep.MinESS, rep.MaxRhat)
+	if rep.MinESS < until.ESS || rep.MaxRhat > until.Rhat || float64(res.Steps-res.Burn) < until.TauMultiple*rep.MaxTau {
+		t.Errorf("converged but criteria fail: %+v", rep)
+	}
+	// Burn-in of 5 tau (of the whole chain at the last check) and
+	// thinning floor(tau/2), as documented.
+	if res.Burn < int(4*rep.MaxTau) || res.Thin != max(1, int(rep.MaxTau/2)) {
+		t.Errorf("burn %d thin %d for tau %.3g", res.Burn, res.Thin, rep.MaxTau)
+	}
+	// The retained history samples the target: x0 ~ N(2, 1) (KS against
+	// gonum distuv.Normal, thinned by tau).
+	x := thin(res.History.Param(0, res.BurnIndex), 16, int(math.Ceil(rep.MaxTau)))
+	if D, p := ksPValue(x, distuv.Normal{Mu: 2, Sigma: 1}.CDF); p < ksAlpha {
+		t.Errorf("retained x0: KS D = %.4g with %d draws, p = %.2g", D, len(x), p)
+	}
+	if n := res.History.Len() - res.BurnIndex; len(res.History.LnLike(0, res.BurnIndex)) != n*16 {
+		t.Errorf("LnLike history has %d values, want %d", len(res.History.LnLike(0, res.BurnIndex)), n*16)
+	}
+	if checks[0].ETA < 0 && !checks[0].Converged {
+		t.Logf("first check had no ETA: %+v", checks[0])
+	}
+}
+
+func TestRunStops(t *testing.T) {
+	g := newGaussTarget(t, []float64{0, 0}, [][]float64{{1, 0}, {0, 1}})
+	newE := func() *Ensemble {
+		e, err := New(g, Config{Walkers: 8, Seed: 1})
+		if err != nil {
+			t.Fatal(err)
+		}
+		return e
+	}
+	t.Run("max steps", func(t *testing.T) {
+		res, err := Run(context.Background(), newE(), RunOptions{MaxSteps: 300, Burn: 50, Until: Criteria{ESS: 1e9}})
+		if err != nil || res.Status != MaxStepsReached || res.Steps != 300 || res.Burn != 50 {
+			t.Errorf("status %v, steps %d, burn %d, err %v", res.Status, res.Steps, res.Burn, err)
+		}
+		if !strings.Contains(res.Status.String(), "without convergence") {
+			t.Errorf("status text %q", res.Status)
+		}
+	})
+	t.Run("cancel", func(t *testing.T) {
+		ctx, cancel := context.WithCancel(context.Background())
+		defer cancel()
+		e := newE()
+		res, err := Run(ctx, e, RunOptions{MaxSteps: 1000, OnStep: func(e *Ensemble) error {
+			if e.Steps() == 30 {
+				cancel()
+			}
+			return nil
+		}})
+		if !errors.Is(err, context.Canceled) || res.Status != Interrupted || res.Steps != 30 || e.Steps() != 30 {
+			t.Errorf("status %v, steps %d, err %v; want Interrupted after step 30", res.Status, res.Steps, err)
+		}
+	})
+	t.Run("OnStep error", func(t *testing.T) {
+		boom := errors.New("disk full")
+		_, err := Run(context.Background(), newE(), RunOptions{MaxSteps: 10, OnStep: func(*Ensemble) error { return boom }})
+		if !errors.Is(err, boom) || !strings.Contains(err.Error(), "step 1") {
+			t.Errorf("error %v", err)
+		}
+	})
+	t.Run("bad options", func(t *testing.T) {
+		if _, err := Run(context.Background(), newE(), RunOptions{}); err == nil || !strings.Contains(err.Error(), "MaxSteps") {
+			t.Errorf("error %v", err)
+		}
+	})
+}
