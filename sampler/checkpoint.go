@@ -80,6 +80,7 @@ func (r *dec) u64() uint64 {
 }
 func (r *dec) int() int     { return int(int64(r.u64())) }
 func (r *dec) f64() float64 { return math.Float64frombits(r.u64()) }
+
 // length reads a count of items of unit bytes each, which must fit in the
 // bytes that follow it.
 func (r *dec) length(unit int) int {
