@@ -74,12 +74,12 @@ func Planck18() Params {
 	return Params{H0: 67.4, OmegaM: 0.315, TCMB: 2.7255, Neff: 3.046, DOF: DOFStandardModel}
 }
 
-// Grid settings. The background covers 1e-20 < a <= 1, that is temperatures
-// up to about 1e7 GeV; g*(T) is tabulated between 1e-6 and 1e6 GeV and is
+// Grid settings. The background covers e^-60 < a <= 1, that is temperatures
+// up to about 1e13 GeV; g*(T) is tabulated between 1e-6 and 1e6 GeV and is
 // constant outside (all Standard Model species are relativistic above, none
 // but photons and neutrinos below).
 const (
-	lnAMin    = -46.0
+	lnAMin    = -60.0
 	lnAStep   = 0.005
 	lnTGMin   = -6 * math.Ln10 // ln(T/GeV) lower end of the g* table
 	lnTGMax   = 6 * math.Ln10
@@ -254,7 +254,7 @@ func (b *Background) tabulateExpansion() error {
 		invH[i] = math.Exp(-b.lnH[i])
 	}
 	// t(a_min) = 1/(2H): deep in radiation domination with constant g*
-	// (all species relativistic at T ~ 1e7 GeV).
+	// (all species relativistic at T ~ 1e13 GeV).
 	t := 0.5 * invH[0]
 	b.lnT[0] = math.Log(t)
 	// Cumulative integral of dt/dx = 1/H: Simpson's rule on each pair of
