@@ -191,7 +191,12 @@ func KDE1D(x []float64, bounds [2]float64, o Options1D) (Density1D, error) {
 	if len(in) < 2 {
 		return Density1D{}, fmt.Errorf("%w: %d of %d samples usable", errNoSamples, len(in), len(x))
 	}
-	s := sortedFinite(in)
+	return kdeSorted(sortedFinite(in), dropped, bounds, o), nil
+}
+
+// kdeSorted is KDE1D for at least two sorted samples inside the bounds,
+// with options already defaulted.
+func kdeSorted(s []float64, dropped int, bounds [2]float64, o Options1D) Density1D {
 	h, rule := silverman(s)
 	h *= o.BandwidthFactor
 	a, z, refl := gridRange(s[0], s[len(s)-1], bounds, 4*h)
@@ -266,7 +271,7 @@ func KDE1D(x []float64, bounds [2]float64, o Options1D) (Density1D, error) {
 		hist[i] /= float64(len(s)) * bw
 	}
 	return Density1D{X: xs, P: p, Bandwidth: h, Rule: rule, Reflect: refl,
-		Edges: edges, Hist: hist, N: len(s), Dropped: dropped}, nil
+		Edges: edges, Hist: hist, N: len(s), Dropped: dropped}
 }
 
 // normalise scales p so that its trapezoid integral with step dx is 1.

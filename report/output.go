@@ -273,3 +273,57 @@ func WriteExclusion(dir string, meta Metadata, nameX, nameY string, mass float64
 		Points []ptJSON `json:"slices"`
 	}{meta, nameX, nameY, num(mass), js})
 }
+
+// WriteSummaryTable writes the LaTeX table of SummaryTable to
+// dir/summary.tex.
+func WriteSummaryTable(dir string, ss []Summary, sig int) error {
+	return writeFileAtomic(filepath.Join(dir, "summary.tex"), []byte(SummaryTable(ss, sig)))
+}
+
+// WriteComparison writes the model comparison against the model named
+// reference as comparison.csv, comparison.json and comparison.tex into dir.
+func WriteComparison(dir string, meta Metadata, rows []Evidence, reference string, sig int) error {
+	tex, err := ComparisonTable(rows, reference, sig)
+	if err != nil {
+		return err
+	}
+	var ref Evidence
+	for _, r := range rows {
+		if r.Model == reference {
+			ref = r
+		}
+	}
+	type rowJSON struct {
+		Model    string `json:"model"`
+		LnZTI    num    `json:"ln_z_ti"`
+		LnZTIErr num    `json:"ln_z_ti_err"`
+		LnZSS    num    `json:"ln_z_ss"`
+		LnZSSErr num    `json:"ln_z_ss_err"`
+		LnB      num    `json:"ln_b"`
+		LnBErr   num    `json:"ln_b_err"`
+		Verdict  string `json:"evidence"`
+	}
+	js := make([]rowJSON, len(rows))
+	recs := make([][]string, len(rows))
+	for i, r := range rows {
+		b, e := BayesFactor(r, ref)
+		v := Interpret(b)
+		if r.Model == reference {
+			b, e, v = 0, 0, "reference"
+		}
+		js[i] = rowJSON{r.Model, num(r.LnZTI), num(r.LnZTIErr), num(r.LnZSS), num(r.LnZSSErr), num(b), num(e), v}
+		recs[i] = []string{r.Model, ffmt(r.LnZTI), ffmt(r.LnZTIErr), ffmt(r.LnZSS), ffmt(r.LnZSSErr), ffmt(b), ffmt(e), v}
+	}
+	if err := writeCSV(filepath.Join(dir, "comparison.csv"),
+		[]string{"model", "ln_z_ti", "ln_z_ti_err", "ln_z_ss", "ln_z_ss_err", "ln_b", "ln_b_err", "evidence"}, recs); err != nil {
+		return err
+	}
+	if err := writeJSON(filepath.Join(dir, "comparison.json"), struct {
+		Meta      Metadata  `json:"metadata"`
+		Reference string    `json:"reference"`
+		Models    []rowJSON `json:"models"`
+	}{meta, reference, js}); err != nil {
+		return err
+	}
+	return writeFileAtomic(filepath.Join(dir, "comparison.tex"), []byte(tex))
+}

@@ -91,6 +91,24 @@ func TestPosteriorWrite(t *testing.T) {
 	if err := WriteExclusion(dir, meta, "beta", "log10_Gmu", 0.95, pts); err != nil {
 		t.Fatal(err)
 	}
+	if err := WriteSummaryTable(dir, post.Summaries(), 2); err != nil {
+		t.Fatal(err)
+	}
+	rows := []Evidence{
+		{Model: "a", LnZTI: -3, LnZTIErr: 0.1, LnZSS: math.NaN(), LnZSSErr: math.NaN()},
+		{Model: "b", LnZTI: -1, LnZTIErr: 0.1, LnZSS: math.NaN(), LnZSSErr: math.NaN()},
+	}
+	if err := WriteComparison(dir, meta, rows, "a", 2); err != nil {
+		t.Fatal(err)
+	}
+	var cj struct {
+		Models []map[string]any `json:"models"`
+	}
+	readJSON(t, filepath.Join(dir, "comparison.json"), &cj)
+	// ln B = -1 - (-3) = 2 from TI alone (no SS): positive (Kass & Raftery 1995).
+	if len(cj.Models) != 2 || cj.Models[1]["ln_b"] != 2.0 || cj.Models[1]["evidence"] != "positive" || cj.Models[0]["ln_z_ss"] != nil {
+		t.Errorf("comparison.json models: %v", cj.Models)
+	}
 	if err := WriteSummaries(filepath.Join(dir, "missing", "deeper"), meta, nil); err == nil {
 		t.Error("writing into a missing directory did not fail")
 	}

@@ -1,6 +1,7 @@
 package report
 
 import (
+	"fmt"
 	"math"
 )
 
@@ -66,12 +67,15 @@ type Marginal1D struct {
 // tables (the intervals are still reported).
 func Marginalize(name string, x []float64, bounds [2]float64, o Options1D) (Marginal1D, error) {
 	o = o.withDefaults()
-	d, err := KDE1D(x, bounds, o)
-	if err != nil {
-		return Marginal1D{}, err
+	if bounds[0] > bounds[1] {
+		return Marginal1D{}, fmt.Errorf("report: prior bounds [%g, %g] are reversed", bounds[0], bounds[1])
 	}
-	in, _ := inBounds(x, bounds)
+	in, dropped := inBounds(x, bounds)
+	if len(in) < 2 {
+		return Marginal1D{}, fmt.Errorf("%w: %d of %d samples usable", errNoSamples, len(in), len(x))
+	}
 	s := sortedFinite(in)
+	d := kdeSorted(s, dropped, bounds, o)
 	sm := Summary{Name: name, N: len(s), Median: Quantile(s, 0.5), LimitMass: o.LimitMass, Limit: math.NaN()}
 	sm.Mean, sm.Std = meanStd(s)
 	var pk float64

@@ -111,10 +111,12 @@ func runCompare(ctx context.Context, e *env, args []string) error {
 // compareUnit is one independent piece of a comparison: one model on one
 // block of the ladder.
 type compareUnit struct {
-	Model string    `json:"model"`
-	Index int       `json:"model_index"`
-	Block int       `json:"block"`
-	Betas []float64 `json:"betas"`
+	Model string `json:"model"`
+	Index int    `json:"model_index"`
+	Block int    `json:"block"`
+	// Blocks is the number of rung blocks each model's ladder is split into.
+	Blocks int       `json:"blocks"`
+	Betas  []float64 `json:"betas"`
 }
 
 func (u compareUnit) dir(out string) string {
@@ -134,7 +136,7 @@ func plan(models []string, co compareOpts) ([]compareUnit, error) {
 	for i, m := range models {
 		for b := range co.blocks {
 			lo, hi := b*co.rungs/co.blocks, (b+1)*co.rungs/co.blocks
-			units = append(units, compareUnit{Model: m, Index: i, Block: b, Betas: slices.Clone(ladder[lo:hi])})
+			units = append(units, compareUnit{Model: m, Index: i, Block: b, Blocks: co.blocks, Betas: slices.Clone(ladder[lo:hi])})
 		}
 	}
 	return units, nil
@@ -427,24 +429,30 @@ func finalize(out string, dirs []string) (*compareResult, error) {
 	}
 	slices.Sort(keys)
 	first := parts[keys[0]]
-	blocks := first.Config.Sampler // for the seed
-	res := &compareResult{Schema: 1, Version: version, Data: first.DataName, DataSHA256: first.DataSHA256, Reference: first.Reference, Seed: blocks.Seed}
+	res := &compareResult{Schema: 1, Version: version, Data: first.DataName, DataSHA256: first.DataSHA256, Reference: first.Reference, Seed: first.Config.Sampler.Seed}
 	byModel := map[string][]partMeta{}
 	for _, k := range keys {
 		pm := parts[k]
-		if pm.DataSHA256 != first.DataSHA256 || pm.Reference != first.Reference || !slices.Equal(pm.Models, first.Models) || pm.Config.Sampler.Seed != first.Config.Sampler.Seed {
+		if pm.DataSHA256 != first.DataSHA256 || pm.Reference != first.Reference || !slices.Equal(pm.Models, first.Models) ||
+			pm.Config.Sampler.Seed != first.Config.Sampler.Seed || pm.Unit.Blocks != first.Unit.Blocks {
 			return nil, fmt.Errorf("part %s (model %s, block %d) belongs to another comparison (data, models, reference or seed differ)", k, pm.Unit.Model, pm.Unit.Block)
 		}
 		byModel[pm.Unit.Model] = append(byModel[pm.Unit.Model], pm)
 	}
 	var missing []string
 	for _, m := range first.Models {
-		if len(byModel[m]) == 0 {
-			missing = append(missing, m)
+		have := map[int]bool{}
+		for _, pm := range byModel[m] {
+			have[pm.Unit.Block] = true
+		}
+		for b := range first.Unit.Blocks {
+			if !have[b] {
+				missing = append(missing, fmt.Sprintf("%s block %d", m, b))
+			}
 		}
 	}
 	if len(missing) > 0 {
-		return nil, fmt.Errorf("no parts for model(s) %s: run every task before merging", strings.Join(missing, ", "))
+		return nil, fmt.Errorf("no parts for %s (of %d rung block(s) per model): run every task before merging", strings.Join(missing, ", "), first.Unit.Blocks)
 	}
 	var refRow *compareRow
 	for _, m := range first.Models {

@@ -76,7 +76,11 @@ func Run(lnOmega []float64, arr Array, h0 float64, seed uint64, grid GridOptions
 	if err := check(lnOmega, arr, h0, &grid); err != nil {
 		return nil, err
 	}
-	r := rand.New(rand.NewPCG(seed, 0x7a75746c696e65)) // second word: fixed stream tag
+	// Two streams from the seed: one for the statistics, one for posterior
+	// samples, so that a data set's statistics do not depend on whether
+	// samples are drawn.
+	r := rand.New(rand.NewPCG(seed, 0x7a75746c696e65))
+	rs := rand.New(rand.NewPCG(seed, 0x73616d706c6573))
 	sn2 := arr.NoiseVariance()
 	ds := &likelihood.Dataset{
 		Name: fmt.Sprintf("simulated-%d", seed),
@@ -98,7 +102,7 @@ func Run(lnOmega []float64, arr Array, h0 float64, seed uint64, grid GridOptions
 		if grid.Samples > 0 {
 			ps := make([]float64, grid.Samples)
 			for k := range ps {
-				ps[k] = r.Float64()
+				ps[k] = rs.Float64()
 			}
 			s := b.Quantiles(grid.Min, grid.Max, ps, nil)
 			b = likelihood.Bin{Kind: likelihood.Samples, Samples: s}
