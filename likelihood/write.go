@@ -96,6 +96,9 @@ func writeAtomic(path string, data []byte) error {
 	}
 	tmp := f.Name()
 	_, err = f.Write(data)
+	if err == nil {
+		err = f.Chmod(0o644)
+	}
 	if cerr := f.Close(); err == nil {
 		err = cerr
 	}
