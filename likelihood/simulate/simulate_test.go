@@ -148,7 +148,7 @@ func TestCoverage(t *testing.T) {
 	// sqrt(1/P)/(2 ln 10) = 0.049 dex; the mean over n intervals should be
 	// within 5 sd/sqrt(n) of zero (the median of ln Q/v is not exactly the
 	// truth, but off by 1/(3P) in ln v ~ 0.004 dex, below this).
-	if tol := 5 * 0.049 / math.Sqrt(float64(total)) + 0.004; math.Abs(bias/float64(total)) > tol {
+	if tol := 5*0.049/math.Sqrt(float64(total)) + 0.004; math.Abs(bias/float64(total)) > tol {
 		t.Errorf("mean median - truth = %.4f dex, want |.| < %.4f", bias/float64(total), tol)
 	}
 }
