@@ -57,8 +57,8 @@ func (d *Density2D) At(x, y float64) float64 {
 	v := (y - d.Y[0]) / (d.Y[1] - d.Y[0])
 	i, j := min(int(u), nx-2), min(int(v), ny-2)
 	wu, wv := u-float64(i), v-float64(j)
-	p := func(c, r int) float64 { return d.P[r*nx+c] }
-	return (1-wu)*(1-wv)*p(i, j) + wu*(1-wv)*p(i+1, j) + (1-wu)*wv*p(i, j+1) + wu*wv*p(i+1, j+1)
+	k := j*nx + i
+	return (1-wu)*(1-wv)*d.P[k] + wu*(1-wv)*d.P[k+1] + (1-wu)*wv*d.P[k+nx] + wu*wv*d.P[k+nx+1]
 }
 
 // cellWeights returns the trapezoid quadrature weight of every node.
@@ -225,23 +225,24 @@ func KDE2D(x, y []float64, bx, by [2]float64, o Options2D) (Density2D, error) {
 		idx  int
 		flip bool
 	}
-	images := func(k, pad int, refl [2]bool) []image {
-		im := []image{{k + pad, false}}
+	images := func(k, pad int, refl [2]bool) ([3]image, int) {
+		im, n := [3]image{{k + pad, false}}, 1
 		if refl[0] && k <= pad {
-			im = append(im, image{-k + pad, true})
+			im[n], n = image{-k + pad, true}, n+1
 		}
 		if refl[1] && g-1-k <= pad {
-			im = append(im, image{2*(g-1) - k + pad, true})
+			im[n], n = image{2*(g-1) - k + pad, true}, n+1
 		}
-		return im
+		return im, n
 	}
 	p := make([]float64, g*g)
 	for r := range g {
-		iy := images(r, py, ry)
+		iy, ny := images(r, py, ry)
 		for cc := range g {
 			var s float64
-			for _, a := range images(cc, px, rx) {
-				for _, b := range iy {
+			ix, nx := images(cc, px, rx)
+			for _, a := range ix[:nx] {
+				for _, b := range iy[:ny] {
 					if a.flip != b.flip {
 						s += gq[b.idx*wp+a.idx]
 					} else {
