@@ -278,6 +278,7 @@ func Restore(t Target, cfg Config, data []byte) (*Ensemble, error) {
 	if r.err != nil {
 		return nil, r.err
 	}
+	e.calibrate()
 	e.startPool()
 	return e, nil
 }

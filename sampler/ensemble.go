@@ -7,6 +7,7 @@ import (
 	"math/rand/v2"
 	"runtime"
 	"sync"
+	"time"
 )
 
 // Config sets up an Ensemble. The zero value of every field except Walkers
@@ -35,18 +36,20 @@ type Config struct {
 	// runtime.GOMAXPROCS(0). Results do not depend on it.
 	Workers int
 	// MinBatch is the least number of walker updates handed to one
-	// goroutine; 0 means DefaultMinBatch. Results do not depend on it.
+	// goroutine; 0 chooses it from the measured cost of a density
+	// evaluation so that a batch holds about BatchWork of work. Results do
+	// not depend on it.
 	MinBatch int
 	// Fingerprint identifies the data, model and settings of the run. It is
 	// stored in checkpoints and Restore refuses a checkpoint with another.
 	Fingerprint string
 }
 
-// DefaultMinBatch is the default least number of walker updates per
-// goroutine. It was chosen with BenchmarkHalfStep: for a density costing
-// about 0.3 µs, splitting fewer updates than this across goroutines costs
-// more in hand-off than it saves.
-const DefaultMinBatch = 16
+// BatchWork is the density-evaluation time a batch of walker updates
+// should hold before it is worth handing to another goroutine: waking a
+// parked goroutine costs of order a microsecond, so batches of 20 µs keep
+// the hand-off below 10 % (BenchmarkHalfStep).
+const BatchWork = 20 * time.Microsecond
 
 // maxInitTries caps the prior draws per walker when looking for a starting
 // point of finite density.
@@ -128,6 +131,7 @@ func New(t Target, cfg Config) (*Ensemble, error) {
 	if err := e.initialise(); err != nil {
 		return nil, err
 	}
+	e.calibrate()
 	e.startPool()
 	return e, nil
 }
@@ -215,9 +219,6 @@ func build(t Target, cfg Config) (*Ensemble, error) {
 		return nil, fmt.Errorf("sampler: MinBatch must be >= 0, got %d", cfg.MinBatch)
 	}
 	minBatch := cfg.MinBatch
-	if minBatch == 0 {
-		minBatch = DefaultMinBatch
-	}
 	nr := len(betas)
 	e := &Ensemble{
 		t: t, cfg: cfg, dim: d, nw: cfg.Walkers,
@@ -304,6 +305,24 @@ func (e *Ensemble) initialise() error {
 			failed, e.nw*len(e.rungs), maxInitTries)
 	}
 	return nil
+}
+
+// calibrate chooses the batch size from the time of one density
+// evaluation at each cold-rung walker, unless Config.MinBatch fixes it.
+// Batching never changes results, only speed.
+func (e *Ensemble) calibrate() {
+	if e.cfg.MinBatch > 0 || e.workers <= 1 {
+		e.minBatch = max(e.cfg.MinBatch, 1)
+		return
+	}
+	d := e.dim
+	g := &e.rungs[0]
+	t0 := time.Now()
+	for w := range e.nw {
+		e.density(g.pos[w*d : w*d+d])
+	}
+	per := time.Since(t0) / time.Duration(e.nw)
+	e.minBatch = max(1, int(BatchWork/max(per, time.Nanosecond)))
 }
 
 // Step advances every rung by one ensemble step (both halves) and, every

@@ -1,0 +1,107 @@
+package sampler
+
+import (
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"testing"
+)
+
+// noopTarget has a constant density: Step's own cost per walker.
+type noopTarget struct{ d int }
+
+func (n noopTarget) Dim() int { return n.d }
+func (n noopTarget) Draw(r *rand.Rand, x []float64) {
+	for i := range x {
+		x[i] = r.Float64()
+	}
+}
+func (noopTarget) LogPrior([]float64) float64 { return 0 }
+func (noopTarget) LogLike([]float64) float64  { return 0 }
+
+// BenchmarkStepNoop measures the sampler's overhead per walker-step with a
+// density that costs nothing; allocs/op must be 0.
+func BenchmarkStepNoop(b *testing.B) {
+	for _, workers := range []int{1, 2} {
+		b.Run(fmt.Sprintf("workers=%d", workers), func(b *testing.B) {
+			const walkers = 64
+			e, err := New(noopTarget{3}, Config{Walkers: walkers, Seed: 1, Workers: workers})
+			if err != nil {
+				b.Fatal(err)
+			}
+			defer e.Close()
+			b.ReportAllocs()
+			for b.Loop() {
+				e.Step()
+			}
+			b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N*walkers), "ns/walker-step")
+		})
+	}
+}
+
+// slowGauss is a 3-D standard normal whose LogLike repeats its work to
+// cost about 0.3 µs, a typical cheap model density.
+type slowGauss struct{ reps int }
+
+func (s slowGauss) Dim() int { return 3 }
+func (s slowGauss) Draw(r *rand.Rand, x []float64) {
+	for i := range x {
+		x[i] = r.NormFloat64()
+	}
+}
+func (slowGauss) LogPrior([]float64) float64 { return 0 }
+func (s slowGauss) LogLike(x []float64) float64 {
+	q := 0.0
+	for k := range s.reps {
+		for i, v := range x {
+			q += math.Exp(-float64(k+i)*1e-9) * v * v
+		}
+	}
+	return -0.5 * q / float64(s.reps)
+}
+
+// BenchmarkDensity reports the cost of one slowGauss evaluation.
+func BenchmarkDensity(b *testing.B) {
+	x := []float64{0.1, 0.2, 0.3}
+	s := slowGauss{reps: 8}
+	v := 0.0
+	for b.Loop() {
+		v += s.LogLike(x)
+	}
+	_ = v
+}
+
+// BenchmarkHalfStep compares serial and parallel updates for a ~0.3 µs
+// density, over ensemble sizes, rungs and batch sizes; compare
+// workers=1 with workers=2 at equal walkers and rungs.
+func BenchmarkHalfStep(b *testing.B) {
+	tg := slowGauss{reps: 8}
+	for _, rungs := range []int{1, 8} {
+		for _, walkers := range []int{16, 32, 128} {
+			for _, mb := range []int{0, 1} {
+				for _, workers := range []int{1, 2} {
+					if workers == 1 && mb != 0 {
+						continue
+					}
+					name := fmt.Sprintf("rungs=%d/walkers=%d/minbatch=%d/workers=%d", rungs, walkers, mb, workers)
+					b.Run(name, func(b *testing.B) {
+						betas := []float64{1}
+						if rungs > 1 {
+							betas, _ = GeometricLadder(rungs, 0.01)
+						}
+						e, err := New(tg, Config{Walkers: walkers, Seed: 1, Workers: workers, MinBatch: mb, Betas: betas})
+						if err != nil {
+							b.Fatal(err)
+						}
+						defer e.Close()
+						b.ReportAllocs()
+						for b.Loop() {
+							e.Step()
+						}
+						b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N*walkers*rungs), "ns/walker-step")
+					})
+				}
+			}
+		}
+	}
+}
