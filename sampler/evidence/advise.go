@@ -38,10 +38,9 @@ const maxInsertFactor = 2
 // more steps (Monte-Carlo error) or more rungs (discretisation error), and
 // where, are needed.
 //
-// The discretisation error is shared among intervals in proportion to the
-// size of each interval's derivative correction |h^2 (V_hi - V_lo) / 12|,
-// the leading-order local error of the trapezoid, so it points at the part
-// of the ladder where E_beta[ln L] bends most. Intervals are halved, largest
+// The discretisation error is taken interval by interval from
+// Interval.DiscShare, which points at the part of the ladder where
+// E_beta[ln L] bends most. Intervals are halved, largest
 // share first (at the geometric mean of their ends, which suits ladders dense
 // near beta = 0; the arithmetic mean for the interval starting at 0), each
 // halving assumed to quarter that interval's share, until the
@@ -62,17 +61,8 @@ func Advise(r Result, target float64) Advice {
 	}
 
 	segs := make([]segment, len(r.Intervals))
-	var sum float64
 	for k, iv := range r.Intervals {
-		segs[k] = segment{lo: iv.Lo, hi: iv.Hi, d: math.Abs(iv.Correction)}
-		sum += segs[k].d
-	}
-	for k := range segs {
-		if sum > 0 {
-			segs[k].d *= est.DiscErr / sum
-		} else {
-			segs[k].d = est.DiscErr / float64(len(segs))
-		}
+		segs[k] = segment{lo: iv.Lo, hi: iv.Hi, d: iv.DiscShare}
 	}
 	adv := Advice{StepsFactor: 1}
 	byShare := append([]segment(nil), segs...)

@@ -71,12 +71,12 @@ func TestAdviseLoop(t *testing.T) {
 
 // TestAdviseCases checks the bookkeeping of Advise on hand-made results.
 func TestAdviseCases(t *testing.T) {
-	ivs := []Interval{
-		{Lo: 0, Hi: 0.01, Correction: 0.001},
-		{Lo: 0.01, Hi: 0.1, Correction: -0.3}, // the bend: largest share
-		{Lo: 0.1, Hi: 1, Correction: 0.1},
-	}
 	mk := func(mc, disc float64) Result {
+		ivs := []Interval{
+			{Lo: 0, Hi: 0.01, DiscShare: disc * 0.01},
+			{Lo: 0.01, Hi: 0.1, DiscShare: disc * 0.75}, // the bend: largest share
+			{Lo: 0.1, Hi: 1, DiscShare: disc * 0.24},
+		}
 		return Result{TIHigher: Estimate{MCErr: mc, DiscErr: disc, Total: mc + disc}, Intervals: ivs}
 	}
 	t.Run("done", func(t *testing.T) {

@@ -63,6 +63,9 @@ type Interval struct {
 	Correction float64 `json:"correction"` // -h^2 (V_hi - V_lo) / 12
 	Stepping   float64 `json:"stepping"`   // ln E_lo[exp(h ln L)]
 	SteppingSE float64 `json:"steppingSE"` // its Monte-Carlo standard error
+	// DiscShare is this interval's part of TIHigher.DiscErr (the shares add
+	// up to it); see discShares.
+	DiscShare float64 `json:"discShare"`
 }
 
 // A Result is the outcome of Integrate.
@@ -300,6 +303,7 @@ func Integrate(rungs []Rung, opt Options) (Result, error) {
 		res.Warnings = append(res.Warnings, "evidence: a 2-rung ladder has no sub-ladder; discretisation errors rest on the rule difference alone")
 	}
 	res.SS = newEstimate(ssLnZ, mcVar[estSS], ssVar, 0)
+	discShares(res.Intervals, sub, betas, E, V, res.TIHigher.DiscErr)
 
 	for _, e := range []Estimate{res.TI, res.TIHigher, res.SS} {
 		if !finite(e.LnZ) || !finite(e.Total) || !finite(e.DiscNoise) {
@@ -337,3 +341,47 @@ func subLadder(n int) []int {
 }
 
 func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
+
+// discShares splits disc, the corrected trapezoid's discretisation error,
+// among the ladder intervals. Each sub-ladder interval [beta_i, beta_j]
+// contributes |C_ij - sum of the fine C over it|, the local part of
+// C' - C; that part is divided among its fine intervals in proportion to
+// the size of their derivative corrections (equally if all are zero), and
+// all parts are scaled to add up to disc. This tells where refining the
+// ladder pays.
+func discShares(ivs []Interval, sub []int, betas, E, V []float64, disc float64) {
+	var total float64
+	for i := 0; i+1 < len(sub); i++ {
+		lo, hi := sub[i], sub[i+1]
+		h := betas[hi] - betas[lo]
+		coarse := h*(E[lo]+E[hi])/2 - h*h*(V[hi]-V[lo])/12
+		var fine, corr float64
+		for k := lo; k < hi; k++ {
+			fine += ivs[k].Trapezoid + ivs[k].Correction
+			corr += math.Abs(ivs[k].Correction)
+		}
+		part := math.Abs(coarse - fine)
+		for k := lo; k < hi; k++ {
+			if corr > 0 {
+				ivs[k].DiscShare = part * math.Abs(ivs[k].Correction) / corr
+			} else {
+				ivs[k].DiscShare = part / float64(hi-lo)
+			}
+		}
+		total += part
+	}
+	if total == 0 {
+		// No sub-ladder difference (two rungs): share by corrections.
+		for k := range ivs {
+			ivs[k].DiscShare = math.Abs(ivs[k].Correction)
+			total += ivs[k].DiscShare
+		}
+	}
+	for k := range ivs {
+		if total > 0 {
+			ivs[k].DiscShare *= disc / total
+		} else {
+			ivs[k].DiscShare = disc / float64(len(ivs))
+		}
+	}
+}

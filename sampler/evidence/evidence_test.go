@@ -52,6 +52,7 @@ func TestGaussianBox(t *testing.T) {
 			if res.Disagree {
 				t.Errorf("TI and SS flagged as disagreeing at %.2f sigma on exact samples", res.DisagreeSigma)
 			}
+			checkShares(t, res)
 		})
 	}
 }
@@ -102,6 +103,7 @@ func TestCoarseLadder(t *testing.T) {
 					t.Errorf("%s: |lnZ - truth| = %.4f exceeds %.4f", e.name, d, limit)
 				}
 			}
+			checkShares(t, res)
 			// The coarse ladder must really be coarse for this test to mean
 			// anything: the trapezoid's true error dwarfs its Monte-Carlo error.
 			if d := math.Abs(res.TI.LnZ - truth); d < 10*res.TI.MCErr {
@@ -265,5 +267,21 @@ func TestDisagree(t *testing.T) {
 	t.Logf("clean %.2f sigma, corrupted %.2f sigma (error of the difference %.4f)", res.DisagreeSigma, bad.DisagreeSigma, bad.DisagreeErr)
 	if !bad.Disagree {
 		t.Errorf("corrupted top rung not flagged: %.2f sigma", bad.DisagreeSigma)
+	}
+}
+
+// checkShares checks that the per-interval discretisation shares add up to
+// TIHigher's discretisation error (their definition; rounding only).
+func checkShares(t *testing.T, res Result) {
+	t.Helper()
+	var sum float64
+	for _, iv := range res.Intervals {
+		if iv.DiscShare < 0 {
+			t.Errorf("negative share %+v", iv)
+		}
+		sum += iv.DiscShare
+	}
+	if d := res.TIHigher.DiscErr; math.Abs(sum-d) > 1e-12*(d+1e-300) {
+		t.Errorf("discretisation shares add to %g, want TIHigher.DiscErr %g", sum, d)
 	}
 }
