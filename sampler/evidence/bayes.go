@@ -14,6 +14,19 @@ func BayesFactor(a, b Estimate) (lnB, err float64) {
 	return a.LnZ - b.LnZ, math.Hypot(a.Total, b.Total)
 }
 
+// BayesFactorEstimate returns ln B = ln Z_a - ln Z_b with the error budget
+// split as for an evidence, so both parts and their sum can be reported:
+// the Monte-Carlo errors and the discretisation errors of the two
+// independent runs each add in quadrature, and Total is their sum (which is
+// at least the err of BayesFactor).
+func BayesFactorEstimate(a, b Estimate) Estimate {
+	mc, disc := math.Hypot(a.MCErr, b.MCErr), math.Hypot(a.DiscErr, b.DiscErr)
+	return Estimate{
+		LnZ: a.LnZ - b.LnZ, MCErr: mc, DiscErr: disc, Total: mc + disc,
+		DiscNoise: math.Hypot(a.DiscNoise, b.DiscNoise),
+	}
+}
+
 // KassRaftery describes the strength of evidence a log Bayes factor ln B
 // (first model over second) carries, on the scale of Kass & Raftery (1995),
 // whose thresholds 2, 6 and 10 on 2 ln B become 1, 3 and 5 on ln B. The

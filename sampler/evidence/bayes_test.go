@@ -51,3 +51,18 @@ func TestBayesFactor(t *testing.T) {
 		t.Errorf("BayesFactor reversed = %g +- %g, want -1.75 +- 5", lnB, err)
 	}
 }
+
+// TestBayesFactorEstimate checks the split budget: 3-4-5 and 5-12-13
+// triangles, exact in floating point.
+func TestBayesFactorEstimate(t *testing.T) {
+	a := Estimate{LnZ: -1, MCErr: 3, DiscErr: 5, Total: 8, DiscNoise: 0.6}
+	b := Estimate{LnZ: -4, MCErr: 4, DiscErr: 12, Total: 16, DiscNoise: 0.8}
+	got := BayesFactorEstimate(a, b)
+	want := Estimate{LnZ: 3, MCErr: 5, DiscErr: 13, Total: 18, DiscNoise: 1}
+	if got != want {
+		t.Errorf("BayesFactorEstimate = %+v, want %+v", got, want)
+	}
+	if _, err := BayesFactor(a, b); got.Total < err {
+		t.Errorf("split total %g below quadrature total %g", got.Total, err)
+	}
+}
