@@ -1,0 +1,69 @@
+package main
+
+import (
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+// FuzzDecodeConfig feeds arbitrary bytes to the configuration reader: it
+// must return a configuration or an error naming the file, never panic.
+func FuzzDecodeConfig(f *testing.F) {
+	files, _ := filepath.Glob(filepath.Join("..", "..", "testdata", "config", "*.yaml"))
+	for _, p := range files {
+		if b, err := os.ReadFile(p); err == nil {
+			f.Add(b)
+		}
+	}
+	f.Add([]byte("sampler: {walkers: [1, 2]}\n"))
+	f.Add([]byte("model:\n  priors:\n    x: 3\n"))
+	f.Fuzz(func(t *testing.T, raw []byte) {
+		cfg := defaultConfig()
+		if err := decodeConfig("fuzz.yaml", raw, &cfg); err != nil && !strings.HasPrefix(err.Error(), "fuzz.yaml") {
+			t.Errorf("error does not name the file: %v", err)
+		}
+	})
+}
+
+// TestParseUntil covers the --until syntax.
+func TestParseUntil(t *testing.T) {
+	cases := []struct {
+		in   string
+		want untilCriteria
+		err  string
+	}{
+		{"", untilCriteria{}, ""},
+		{"ess=5000", untilCriteria{ESS: 5000}, ""},
+		{"ess=5000, tau=50 ,rhat=1.01", untilCriteria{ESS: 5000, TauMultiple: 50, Rhat: 1.01}, ""},
+		{"rhat=0.9", untilCriteria{}, "rhat must be above 1"},
+		{"ess", untilCriteria{}, "is not KEY=VALUE"},
+		{"steps=10", untilCriteria{}, `unknown criterion "steps"`},
+		{"ess=-3", untilCriteria{}, "must be a positive number"},
+	}
+	for _, c := range cases {
+		got, err := parseUntil(c.in)
+		if c.err != "" {
+			if err == nil || !strings.Contains(err.Error(), c.err) {
+				t.Errorf("parseUntil(%q) error %v, want %q", c.in, err, c.err)
+			}
+			continue
+		}
+		if err != nil || got != c.want {
+			t.Errorf("parseUntil(%q) = %+v, %v; want %+v", c.in, got, err, c.want)
+		}
+	}
+}
+
+func TestParseMoves(t *testing.T) {
+	for _, c := range []struct {
+		in   string
+		n    int
+		fail bool
+	}{{"stretch", 0, false}, {"de", 1, false}, {"stretch:0.8,de:0.2", 2, false}, {"walk", 0, true}, {"de:-1", 0, true}} {
+		m, err := parseMoves(c.in, 3)
+		if (err != nil) != c.fail || len(m) != c.n {
+			t.Errorf("parseMoves(%q) = %d moves, %v", c.in, len(m), err)
+		}
+	}
+}
