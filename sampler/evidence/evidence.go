@@ -101,7 +101,11 @@ func validate(rungs []Rung, opt Options) error {
 		return fmt.Errorf("%w, got %d", errFewRungs, len(rungs))
 	}
 	if rungs[0].Beta != 0 || rungs[len(rungs)-1].Beta != 1 {
-		return fmt.Errorf("%w, got %g and %g", errEnds, rungs[0].Beta, rungs[len(rungs)-1].Beta)
+		hint := ""
+		if rungs[0].Beta == 1 {
+			hint = " (a cold-first ladder must be reversed)"
+		}
+		return fmt.Errorf("%w, got %g and %g%s", errEnds, rungs[0].Beta, rungs[len(rungs)-1].Beta, hint)
 	}
 	for k, r := range rungs {
 		if math.IsNaN(r.Beta) || r.Beta < 0 || r.Beta > 1 {

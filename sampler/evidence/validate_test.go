@@ -27,6 +27,7 @@ func TestValidate(t *testing.T) {
 		{"ok", mod(func(r []Rung) []Rung { return r }), Options{}, ""},
 		{"one rung", []Rung{okRung(0)}, Options{}, "at least 2 rungs, got 1"},
 		{"no zero", mod(func(r []Rung) []Rung { r[0].Beta = 0.1; return r }), Options{}, "start at beta = 0"},
+		{"cold first", []Rung{okRung(1), okRung(0.5), okRung(0)}, Options{}, "got 1 and 0 (a cold-first ladder must be reversed)"},
 		{"no one", mod(func(r []Rung) []Rung { r[2].Beta = 0.9; return r }), Options{}, "end at beta = 1"},
 		{"unsorted", mod(func(r []Rung) []Rung { r[1], r[2] = r[2], r[1]; r[2].Beta = 1; r[1].Beta = 1; return r }), Options{}, "rung 2: betas must increase strictly"},
 		{"nan beta", mod(func(r []Rung) []Rung { r[1].Beta = math.NaN(); return r }), Options{}, "rung 1: beta must be in [0, 1]"},
