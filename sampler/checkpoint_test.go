@@ -100,6 +100,47 @@ func TestResumeBitIdentical(t *testing.T) {
 	}
 }
 
+// TestResumeAtCheck checkpoints inside OnStep at the step where the run
+// converges, before that step's check; the resumed run must stop there too.
+func TestResumeAtCheck(t *testing.T) {
+	tg, cfg := checkpointSetup(t)
+	opt := RunOptions{MaxSteps: 5000, Burn: -1, CheckEvery: 50, Until: Criteria{TauMultiple: 5}}
+	straight, err := New(tg, cfg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	want, err := Run(context.Background(), straight, opt)
+	if err != nil || want.Status != Converged {
+		t.Fatalf("straight run: %v, %v", want.Status, err)
+	}
+	var data []byte
+	snap := opt
+	snap.OnStep = func(e *Ensemble) error {
+		if e.Steps() == want.Steps {
+			data, err = e.MarshalBinary()
+			return err
+		}
+		return nil
+	}
+	snap.MaxSteps = want.Steps
+	first, err := New(tg, cfg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := Run(context.Background(), first, snap); err != nil {
+		t.Fatal(err)
+	}
+	resumed, err := Restore(tg, cfg, data)
+	if err != nil {
+		t.Fatal(err)
+	}
+	got, err := Run(context.Background(), resumed, opt)
+	if err != nil {
+		t.Fatal(err)
+	}
+	sameResult(t, want, got)
+}
+
 func TestCorruptCheckpoint(t *testing.T) {
 	tg, cfg := checkpointSetup(t)
 	e := runSteps(t, tg, cfg, 5)

@@ -182,9 +182,23 @@ func Run(ctx context.Context, e *Ensemble, opt RunOptions) (Result, error) {
 	s0 := e.steps
 	var ev evaluation
 	evaluated := -1
+	check := func() bool {
+		ev = evaluate(e, opt)
+		evaluated = e.steps
+		if opt.OnCheck != nil {
+			opt.OnCheck(ev.progress(e, opt, t0, s0))
+		}
+		return ev.converged
+	}
 	status := MaxStepsReached
 	var runErr error
-	for e.steps < opt.MaxSteps {
+	// A checkpoint written by OnStep at a check step precedes that step's
+	// check: repeat it so that a resumed run decides as the original did
+	// (evaluate depends only on the history, so repeating it is harmless).
+	if e.hist.n > 0 && e.steps%opt.CheckEvery == 0 && check() {
+		status = Converged
+	}
+	for status != Converged && e.steps < opt.MaxSteps {
 		if err := ctx.Err(); err != nil {
 			status, runErr = Interrupted, fmt.Errorf("sampler: run interrupted at step %d: %w", e.steps, err)
 			break
@@ -197,16 +211,8 @@ func Run(ctx context.Context, e *Ensemble, opt RunOptions) (Result, error) {
 				return Result{}, fmt.Errorf("sampler: step %d: %w", e.steps, err)
 			}
 		}
-		if e.steps%opt.CheckEvery == 0 || e.steps == opt.MaxSteps {
-			ev = evaluate(e, opt)
-			evaluated = e.steps
-			if opt.OnCheck != nil {
-				opt.OnCheck(ev.progress(e, opt, t0, s0))
-			}
-			if ev.converged {
-				status = Converged
-				break
-			}
+		if (e.steps%opt.CheckEvery == 0 || e.steps == opt.MaxSteps) && check() {
+			status = Converged
 		}
 	}
 	if evaluated != e.steps {
