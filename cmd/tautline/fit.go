@@ -68,11 +68,18 @@ func fingerprint(cfg Config, dataSHA string) string {
 	return hex.EncodeToString(h[:])
 }
 
+// untilDefaultCap is the step cap of an --until run that names no --steps.
+const untilDefaultCap = 100000
+
 func fit(ctx context.Context, e *env, lg *logrus.Logger, cfg Config, resume bool) error {
 	started := time.Now()
 	until, err := parseUntil(cfg.Sampler.Until)
 	if err != nil {
 		return err
+	}
+	if cfg.Sampler.Until != "" && cfg.Sampler.Steps == defaultConfig().Sampler.Steps {
+		cfg.Sampler.Steps = untilDefaultCap
+		lg.Infof("--until without --steps: capping the run at %d steps", untilDefaultCap)
 	}
 	if cfg.Sampler.Steps <= 0 {
 		return fmt.Errorf("%w: --steps must be > 0, got %d", errUsage, cfg.Sampler.Steps)
