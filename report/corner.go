@@ -200,7 +200,7 @@ func diagonalPlot(m *Marginal1D, xr [2]float64, truth float64) (*plot.Plot, erro
 	if m.Summary.Rails == EdgeNone {
 		p.Add(vline{at: m.Summary.Median, style: draw.LineStyle{Color: s.line, Width: vg.Points(0.6), Dashes: []vg.Length{vg.Points(3), vg.Points(1.5)}}})
 	}
-	if finite(truth) {
+	if inRange(truth, xr) {
 		p.Add(vline{at: truth, style: truthStyle()})
 	}
 	_, pk := d.Peak()
@@ -241,13 +241,13 @@ func pairPlot(q *Pair, xr, yr [2]float64, tx, ty float64) *plot.Plot {
 		ct.LineStyles = styles
 		p.Add(ct)
 	}
-	if finite(tx) {
+	if inRange(tx, xr) {
 		p.Add(vline{at: tx, style: truthStyle()})
 	}
-	if finite(ty) {
+	if inRange(ty, yr) {
 		p.Add(vline{at: ty, horiz: true, style: truthStyle()})
 	}
-	if finite(tx) && finite(ty) {
+	if inRange(tx, xr) && inRange(ty, yr) {
 		sc, err := plotter.NewScatter(plotter.XYs{{X: tx, Y: ty}})
 		if err == nil {
 			sc.GlyphStyle = draw.GlyphStyle{Color: truthColour, Radius: vg.Points(1.8), Shape: draw.BoxGlyph{}}
@@ -258,6 +258,10 @@ func pairPlot(q *Pair, xr, yr [2]float64, tx, ty float64) *plot.Plot {
 	p.Y.Min, p.Y.Max = yr[0], yr[1]
 	return p
 }
+
+// inRange reports whether v lies inside the axis range r; marks outside it
+// would be drawn beyond the panel.
+func inRange(v float64, r [2]float64) bool { return v >= r[0] && v <= r[1] }
 
 func minMaxGrid(g gridWindow) (lo, hi float64) {
 	lo, hi = math.Inf(1), math.Inf(-1)

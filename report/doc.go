@@ -33,6 +33,22 @@
 //     probability; the threshold is interpolated between the two cells that
 //     straddle it (the highest-posterior-density region of Box & Tiao 1973).
 //
-// Outputs are written atomically (temporary file, then rename) so that a
-// failed report leaves no half-written file.
+//   - A one-sided limit replaces the two-sided intervals when the posterior
+//     rails against a prior edge: the reflected density at the edge is at
+//     least Options1D.RailFraction (0.5) of its peak.
+//
+//   - Exclusion curves as conditional quantiles of one parameter within
+//     slices of another, from the joint samples, withheld where a slice has
+//     fewer samples than MinSlice.
+//
+//   - Bayes factors read on the scale of Kass & Raftery (1995).
+//
+// Typical use: Analyze the samples, then Posterior.Write (CSV and JSON),
+// WriteSummaryTable and WriteComparison (LaTeX), and the figures
+// CornerFigure, SpectrumFigure, LnLBetaFigure, TraceFigure and
+// ExclusionFigure (PNG, SVG, optionally PDF). Every file is written
+// atomically (temporary file, then rename) so that a failed report leaves
+// no half-written file. Figures are sized for a journal column (3.4 in) or
+// page (7 in) with 7-8.5 pt sans-serif type; series differ in lightness and
+// dash as well as hue so that they survive greyscale printing.
 package report

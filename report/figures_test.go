@@ -103,6 +103,10 @@ func checkSVG(t *testing.T, path string, w, h vg.Length) {
 
 func TestFigures(t *testing.T) {
 	dir := t.TempDir()
+	// Set REPORT_FIGURE_DIR to keep the figures for inspection by eye.
+	if d := os.Getenv("REPORT_FIGURE_DIR"); d != "" {
+		dir = d
+	}
 	src := rand.New(rand.NewPCG(41, 42))
 	o := FigureOptions{DPI: testDPI}
 
@@ -168,6 +172,26 @@ func TestFigures(t *testing.T) {
 		checkPNG(t, files[0], ColumnWidth, 2.4*vg.Inch)
 		checkSVG(t, files[1], ColumnWidth, 2.4*vg.Inch)
 	}
+
+	// Exclusion: a rising limit with one empty slice, two curves.
+	var ex []NamedExclusion
+	for m := range 2 {
+		var pts []ExclusionPoint
+		for k := range 8 {
+			lim := -10 + 0.4*float64(k) - 0.5*float64(m)
+			if k == 5 {
+				lim = math.NaN()
+			}
+			pts = append(pts, ExclusionPoint{X: float64(k) - 3.5, Lo: float64(k) - 4, Hi: float64(k) - 3, N: 500, Limit: lim})
+		}
+		ex = append(ex, NamedExclusion{Name: "model " + strconv.Itoa(m), Points: pts})
+	}
+	files, err = ExclusionFigure(filepath.Join(dir, "exclusion"), AxisLabel(`\log_{10} \alpha`, ""), AxisLabel(`\log_{10} G\mu`, ""), ex, -6, o)
+	if err != nil {
+		t.Fatal(err)
+	}
+	checkPNG(t, files[0], ColumnWidth, 2.4*vg.Inch)
+	checkSVG(t, files[1], ColumnWidth, 2.4*vg.Inch)
 
 	// Traces: two parameters, eight walkers.
 	var tr []Trace

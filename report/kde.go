@@ -140,7 +140,8 @@ func silverman(s []float64) (float64, string) {
 		a = iqr
 	}
 	h := 0.9 * a * math.Pow(float64(len(s)), -0.2)
-	if h > 0 {
+	// A spread at rounding level means the samples are all equal.
+	if scale := math.Max(math.Abs(s[0]), math.Abs(s[len(s)-1])); h > 1e-12*scale && h > 0 {
 		return h, RuleSilverman
 	}
 	return 1e-3 * math.Max(math.Abs(s[0]), 1), RuleFallback

@@ -159,9 +159,9 @@ func KDE2D(x, y []float64, bx, by [2]float64, o Options2D) (Density2D, error) {
 	}
 	cxy /= float64(n - 1)
 	rule := RuleScott2D
-	if !(sx > 0) || !(sy > 0) {
-		rule = RuleFallback
-		sx, sy, cxy = spreadFallback(sx, mx), spreadFallback(sy, my), 0
+	if flat(sx, mx) || flat(sy, my) {
+		rule, cxy = RuleFallback, 0
+		sx, sy = spreadFallback(sx, mx), spreadFallback(sy, my)
 	}
 	// Keep the kernel non-degenerate for (nearly) collinear samples.
 	rho := math.Max(-0.98, math.Min(0.98, cxy/(sx*sy)))
@@ -267,8 +267,13 @@ func KDE2D(x, y []float64, bx, by [2]float64, o Options2D) (Density2D, error) {
 	return d, nil
 }
 
+// flat reports a spread s at rounding level of the mean m: equal samples.
+func flat(s, m float64) bool { return !(s > 0) || !(s > 1e-12*math.Abs(m)) }
+
+// spreadFallback keeps a real spread and replaces a flat one by a small
+// scale, so that a fixed parameter still gets a (narrow) density.
 func spreadFallback(s, m float64) float64 {
-	if s > 0 {
+	if !flat(s, m) {
 		return s
 	}
 	return 1e-3 * math.Max(math.Abs(m), 1)
