@@ -1,0 +1,280 @@
+package strings
+
+import (
+	"errors"
+	"math"
+	"math/rand/v2"
+	"os"
+	"path/filepath"
+	"slices"
+	"testing"
+
+	"tautline/models"
+)
+
+func defaultTable(t testing.TB) *Table {
+	t.Helper()
+	tab, err := LoadTable(DefaultSettings(), t.TempDir(), BuildOptions{Workers: 2})
+	if err != nil {
+		t.Fatal(err)
+	}
+	return tab
+}
+
+// TestEmbeddedTableCurrent checks that the compiled-in table was built for
+// the current default settings (and code version). If this fails, run
+// go run ./models/strings/internal/gentable -o models/strings/defaulttable.bin
+func TestEmbeddedTableCurrent(t *testing.T) {
+	if _, err := decodeTable("embedded table", embeddedTable, DefaultSettings()); err != nil {
+		t.Fatalf("embedded table does not match DefaultSettings(): %v", err)
+	}
+	tab := defaultTable(t)
+	c := tab.Certificate()
+	if c.Points < 2000 || !(c.MaxErr <= certMaxErr) || c.BandLo != certBandLo || c.BandHi != certBandHi {
+		t.Errorf("embedded certificate %v does not meet the 0.01 requirement", c)
+	}
+	t.Logf("embedded table: %v", c)
+}
+
+// TestTableAgainstDirect is the fast path's acceptance test: at 200 fresh
+// random points inside the default prior box (Gmu 1e-14..1e-6, alpha
+// 1e-5..1, P 1e-3..1) and random frequencies in 1e-10..1e-6 Hz, the table's
+// ln Omega agrees with the direct path within 0.01 (the brief's
+// requirement); we also require the 99th percentile below 0.002.
+func TestTableAgainstDirect(t *testing.T) {
+	tab := defaultTable(t)
+	d, err := NewDirect(DefaultSettings())
+	if err != nil {
+		t.Fatal(err)
+	}
+	rng := rand.New(rand.NewPCG(20261201, 2))
+	var errs []float64
+	f := make([]float64, 4)
+	out := make([]float64, len(f))
+	n := 200
+	if testing.Short() {
+		n = 40
+	}
+	for range n {
+		lg := -14 + 8*rng.Float64()
+		la := -5 + 5*rng.Float64()
+		lp := -3 * rng.Float64()
+		for j := range f {
+			f[j] = 1e-10 * math.Pow(1e4, rng.Float64())
+		}
+		slices.Sort(f)
+		if err := d.Omega(f, math.Pow(10, lg), math.Pow(10, la), math.Pow(10, lp), out); err != nil {
+			t.Fatal(err)
+		}
+		for j := range f {
+			v, err := tab.LnOmega(lg, la, lp, f[j])
+			if err != nil {
+				t.Fatal(err)
+			}
+			e := math.Abs(v - math.Log(out[j]))
+			errs = append(errs, e)
+			if e > certMaxErr {
+				t.Errorf("log10 Gmu=%.3f log10 alpha=%.3f log10 P=%.3f f=%.3g: table %.5f, direct %.5f", lg, la, lp, f[j], v, math.Log(out[j]))
+			}
+		}
+	}
+	slices.Sort(errs)
+	p99 := errs[int(0.99*float64(len(errs)))]
+	t.Logf("table vs direct over %d comparisons: max %.3g, p99 %.3g", len(errs), errs[len(errs)-1], p99)
+	if p99 > 0.002 {
+		t.Errorf("p99 error %.3g > 0.002", p99)
+	}
+}
+
+// TestModelSpectrum checks the Model's fast Spectrum against Table.LnOmega
+// (the same interpolation computed in another order) and its domain errors.
+func TestModelSpectrum(t *testing.T) {
+	m := NewModel(defaultTable(t))
+	if m.Name() != "strings" {
+		t.Errorf("Name = %q", m.Name())
+	}
+	want := []string{"log10_Gmu", "log10_alpha", "log10_P"}
+	bounds := [][2]float64{{-14, -6}, {-5, 0}, {-3, 0}}
+	for i, p := range m.Params() {
+		lo, hi := p.Prior.Bounds()
+		if p.Name != want[i] || p.Label == "" || lo != bounds[i][0] || hi != bounds[i][1] {
+			t.Errorf("param %d = %+v, want %s on [%g, %g]", i, p, want[i], bounds[i][0], bounds[i][1])
+		}
+	}
+	f := []float64{2e-9, 5e-9, 1e-8, 3e-8, 1e-7}
+	sp, err := m.At(f)
+	if err != nil {
+		t.Fatal(err)
+	}
+	out := make([]float64, len(f))
+	theta := []float64{-10.3, -1.7, -0.4}
+	if err := sp.LnOmega(theta, out); err != nil {
+		t.Fatal(err)
+	}
+	for j := range f {
+		v, _ := m.table.LnOmega(theta[0], theta[1], theta[2], f[j])
+		// Same cubic weights, different summation order: rounding only.
+		if math.Abs(out[j]-v) > 1e-10 {
+			t.Errorf("f=%g: Spectrum %.12f, Table.LnOmega %.12f", f[j], out[j], v)
+		}
+	}
+	for _, bad := range [][]float64{{-14.1, -1, 0}, {-10, 0.1, 0}, {-10, -1, 0.1}, {math.NaN(), -1, 0}} {
+		if err := sp.LnOmega(bad, out); err != ErrOutsideTable {
+			t.Errorf("LnOmega(%v) = %v, want ErrOutsideTable", bad, err)
+		}
+	}
+	if _, err := m.At([]float64{1e-12}); !errors.Is(err, ErrOutsideTable) {
+		t.Errorf("At(1e-12 Hz) error = %v, want ErrOutsideTable", err)
+	}
+	var _ models.Model = m
+}
+
+// TestDirectModel: the direct model agrees with the table model within the
+// certified error.
+func TestDirectModel(t *testing.T) {
+	dm, err := NewDirectModel(DefaultSettings())
+	if err != nil {
+		t.Fatal(err)
+	}
+	tm := NewModel(defaultTable(t))
+	f := []float64{3e-9, 3e-8}
+	a, _ := dm.At(f)
+	b, _ := tm.At(f)
+	x, y := make([]float64, 2), make([]float64, 2)
+	theta := []float64{-9.2, -2.3, -1.1}
+	if err := a.LnOmega(theta, x); err != nil {
+		t.Fatal(err)
+	}
+	if err := b.LnOmega(theta, y); err != nil {
+		t.Fatal(err)
+	}
+	for i := range f {
+		if math.Abs(x[i]-y[i]) > certMaxErr {
+			t.Errorf("f=%g: direct %.5f, table %.5f", f[i], x[i], y[i])
+		}
+	}
+	if err := a.LnOmega([]float64{-1, -1, 0}, x); err != ErrOutsidePhysical {
+		t.Errorf("direct LnOmega at Gmu = 0.1: %v, want ErrOutsidePhysical", err)
+	}
+}
+
+// TestTableFileRoundTrip writes, reads and rejects tampered or mismatched
+// files; LoadTable rebuilds nothing when a valid cache file exists.
+func TestTableFileRoundTrip(t *testing.T) {
+	tab := defaultTable(t)
+	dir := t.TempDir()
+	path := filepath.Join(dir, "x.tbl")
+	if err := tab.WriteFile(path); err != nil {
+		t.Fatal(err)
+	}
+	back, err := ReadTable(path, DefaultSettings())
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !slices.Equal(back.data, tab.data) || back.Certificate() != tab.Certificate() {
+		t.Error("round trip changed the table")
+	}
+	other := DefaultSettings()
+	other.Kappa = 0.6
+	if _, err := ReadTable(path, other); err == nil {
+		t.Error("ReadTable accepted a table built for other settings")
+	}
+	b, _ := os.ReadFile(path)
+	b[len(b)/2] ^= 1
+	if _, err := decodeTable("tampered", b, DefaultSettings()); err == nil {
+		t.Error("decodeTable accepted a corrupted file")
+	}
+	// A valid cache file is used as is (the embedded table is skipped).
+	cp, err := CachePath(DefaultSettings(), dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := tab.WriteFile(cp); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := LoadTable(DefaultSettings(), dir, BuildOptions{NoEmbedded: true}); err != nil {
+		t.Fatal(err)
+	}
+}
+
+func TestStepRejected(t *testing.T) {
+	s := DefaultSettings()
+	s.CEff = CEffStep
+	if _, err := LoadTable(s, t.TempDir(), BuildOptions{}); err == nil {
+		t.Error("LoadTable accepted the step C_eff")
+	}
+}
+
+func TestSettingsHash(t *testing.T) {
+	a := DefaultSettings()
+	b := DefaultSettings()
+	b.Cosmology.DOF = "" // normalised to the default
+	if a.Hash() != b.Hash() {
+		t.Error("empty DOF hashes differently from standard-model")
+	}
+	for _, mod := range []func(*Settings){
+		func(s *Settings) { s.Q = QKinks },
+		func(s *Settings) { s.Modes = 0 },
+		func(s *Settings) { s.Cosmology.H0 = 70 },
+		func(s *Settings) { s.Kappa = 0.6 },
+	} {
+		c := DefaultSettings()
+		mod(&c)
+		if c.Hash() == a.Hash() {
+			t.Errorf("settings %v hash equal to default", c)
+		}
+	}
+}
+
+// FuzzDecodeTable: the table parser never panics and rejects anything that
+// is not a valid table for the default settings.
+func FuzzDecodeTable(f *testing.F) {
+	f.Add([]byte{})
+	f.Add([]byte("TLSTRT01"))
+	f.Add(embeddedTable[:200])
+	f.Fuzz(func(t *testing.T, b []byte) {
+		tab, err := decodeTable("fuzz", b, DefaultSettings())
+		if err == nil && len(tab.data) != tab.nG*tab.nA*tab.nF {
+			t.Fatal("accepted table with wrong size")
+		}
+	})
+}
+
+func BenchmarkTableLnOmega30(b *testing.B) {
+	m := NewModel(defaultTable(b))
+	f := make([]float64, 30)
+	for i := range f {
+		f[i] = float64(i+1) / (15 * 365.25 * 86400)
+	}
+	sp, err := m.At(f)
+	if err != nil {
+		b.Fatal(err)
+	}
+	out := make([]float64, len(f))
+	theta := []float64{-10.3, -1.7, -0.4}
+	b.ReportAllocs()
+	for i := 0; b.Loop(); i++ {
+		theta[0] = -13 + float64(i%60)*0.1
+		if err := sp.LnOmega(theta, out); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
+
+func BenchmarkLoadEmbedded(b *testing.B) {
+	for b.Loop() {
+		if _, err := decodeTable("embedded", embeddedTable, DefaultSettings()); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
+
+// BenchmarkTableBuild builds and certifies the default table on 2 workers
+// (about 45 s on a loaded 2-core machine); run with -benchtime=1x.
+func BenchmarkTableBuild(b *testing.B) {
+	for b.Loop() {
+		if _, err := BuildTable(DefaultSettings(), BuildOptions{Workers: 2, Seed: 1}); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
