@@ -73,7 +73,7 @@ type FreeSpectrum struct {
 // K the standard normal density, which has unit mass on [lo, hi] for
 // samples inside it. The bandwidth is raised to the table spacing if the
 // rule gives less. The sum is exact (kernels cut at 10 h, a relative
-// contribution below 2e-22) unless it would cost more than 2e7 kernel
+// contribution below 2e-22) unless it would cost more than 4e6 kernel
 // evaluations per bin with the kernel spanning at least 10 table spacings;
 // then the samples are linearly binned onto the table first (Wand & Jones
 // 1995, appendix D), with relative error of order (spacing/h)^2/12, below
@@ -241,7 +241,7 @@ func bandwidth(s []float64, rule string) float64 {
 
 const (
 	kernelCut   = 10.0 // kernels are cut at this many bandwidths
-	exactBudget = 2e7  // kernel evaluations per bin allowed for the exact sum
+	exactBudget = 4e6  // kernel evaluations per bin allowed for the exact sum
 	lnSqrt2Pi   = 0.91893853320467274178
 )
 

@@ -1,0 +1,5 @@
+//go:build !race
+
+package likelihood
+
+const raceEnabled = false
