@@ -12,7 +12,8 @@ type Advice struct {
 	// Done reports that the total error is already at most the target.
 	Done bool `json:"done"`
 	// StepsFactor is the factor by which the recorded steps per rung should
-	// grow (1 if the Monte-Carlo error already fits its share).
+	// grow (1 if the Monte-Carlo error already fits its share; at most a
+	// million).
 	StepsFactor float64 `json:"stepsFactor"`
 	// Insert lists new betas to add to the ladder, sorted increasing.
 	Insert []float64 `json:"insert,omitempty"`
@@ -76,8 +77,7 @@ func Advise(r Result, target float64) Advice {
 	if est.DiscErr < noiseSigmas*est.DiscNoise {
 		// The discretisation estimate is indistinguishable from sampling
 		// noise, so the whole total shrinks as 1/sqrt(steps).
-		f := est.Total / target
-		adv.StepsFactor = math.Ceil(10*f*f) / 10
+		adv.StepsFactor = stepsFactor(est.Total / target)
 		adv.Reason = fmt.Sprintf("Monte-Carlo noise dominates (MC error %.3g; discretisation estimate %.3g within %g sigma of its own noise %.3g): record %.3gx the steps per rung",
 			est.MCErr, est.DiscErr, float64(noiseSigmas), est.DiscNoise, adv.StepsFactor)
 		return adv
@@ -110,8 +110,7 @@ func Advise(r Result, target float64) Advice {
 	// If the insertion cap stopped short, the next call refines further;
 	// meanwhile give the Monte-Carlo error at least half the target.
 	if left := math.Max(target-disc, target/2); est.MCErr > left {
-		f := est.MCErr / left
-		adv.StepsFactor = math.Ceil(10*f*f) / 10
+		adv.StepsFactor = stepsFactor(est.MCErr / left)
 	}
 	switch {
 	case len(adv.Insert) > 0 && adv.StepsFactor > 1:
@@ -126,6 +125,19 @@ func Advise(r Result, target float64) Advice {
 		adv.Reason = fmt.Sprintf("Monte-Carlo error %.3g dominates: record %.3gx the steps per rung", est.MCErr, adv.StepsFactor)
 	}
 	return adv
+}
+
+// maxStepsFactor caps Advice.StepsFactor: a run that needs more than a
+// million times its steps needs rethinking, not more steps.
+const maxStepsFactor = 1e6
+
+// stepsFactor is f^2, the growth of the steps that shrinks a Monte-Carlo
+// error by f, rounded up to a tenth and capped at maxStepsFactor.
+func stepsFactor(f float64) float64 {
+	if !(f < 1e3) {
+		return maxStepsFactor
+	}
+	return math.Min(math.Ceil(10*f*f)/10, maxStepsFactor)
 }
 
 // noiseSigmas is how many of its own standard errors a discretisation
