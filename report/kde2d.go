@@ -41,6 +41,9 @@ type Density2D struct {
 	// lower (e = 0) or upper (e = 1) prior bound, where samples were
 	// reflected.
 	Reflect [2][2]bool
+	// Counts holds the samples' bilinear-binned weights on the same grid,
+	// normalised to sum 1 (see SampleLevels).
+	Counts []float64
 	// N is the number of sample pairs used; Dropped the number outside the
 	// bounds or not finite.
 	N, Dropped int
@@ -82,14 +85,39 @@ func (d *Density2D) cellWeights() []float64 {
 }
 
 // Levels returns, for each probability mass in masses, the density
-// threshold whose super-level set holds that mass: nodes are sorted by
-// density, their masses accumulated, and the threshold interpolated
-// linearly in accumulated mass between the two nodes that straddle it.
+// threshold whose super-level set holds that mass of the smoothed density:
+// nodes are sorted by density, their masses accumulated, and the threshold
+// interpolated linearly in accumulated mass between the two nodes that
+// straddle it. Smoothing widens the density by the kernel, so for a
+// Gaussian posterior the region of stated mass p holds 1-(1-p)^(1+n^(-1/3))
+// of the posterior itself: 0.5 % too much at p = 0.68 and n = 4e5, 1.6 % at
+// n = 1e4. SampleLevels avoids that bias.
 func (d *Density2D) Levels(masses []float64) ([]float64, error) {
+	return d.levels(masses, nil)
+}
+
+// SampleLevels is Levels with the mass of each node taken from the binned
+// samples (Counts) instead of the smoothed density: the regions keep the
+// smoothed density's shape but hold the stated fraction of the samples,
+// whatever the bandwidth.
+func (d *Density2D) SampleLevels(masses []float64) ([]float64, error) {
+	if len(d.Counts) != len(d.P) {
+		return nil, fmt.Errorf("report: density has no sample counts")
+	}
+	return d.levels(masses, d.Counts)
+}
+
+func (d *Density2D) levels(masses, mass []float64) ([]float64, error) {
 	if len(d.P) == 0 {
 		return nil, errNoSamples
 	}
-	w := d.cellWeights()
+	if mass == nil {
+		w := d.cellWeights()
+		for i := range w {
+			w[i] *= d.P[i]
+		}
+		mass = w
+	}
 	idx := make([]int, len(d.P))
 	for i := range idx {
 		idx[i] = i
@@ -106,7 +134,7 @@ func (d *Density2D) Levels(masses []float64) ([]float64, error) {
 	cum := make([]float64, len(idx))
 	var t float64
 	for k, i := range idx {
-		t += d.P[i] * w[i]
+		t += mass[i]
 		cum[k] = t
 	}
 	out := make([]float64, len(masses))
@@ -122,7 +150,10 @@ func (d *Density2D) Levels(masses []float64) ([]float64, error) {
 		case k >= len(cum):
 			out[m] = d.P[idx[len(idx)-1]]
 		default:
-			f := (target - cum[k-1]) / (cum[k] - cum[k-1])
+			f := 0.0
+			if cum[k] > cum[k-1] {
+				f = (target - cum[k-1]) / (cum[k] - cum[k-1])
+			}
 			out[m] = d.P[idx[k-1]] + f*(d.P[idx[k]]-d.P[idx[k-1]])
 		}
 	}
@@ -253,8 +284,11 @@ func KDE2D(x, y []float64, bx, by [2]float64, o Options2D) (Density2D, error) {
 			p[r*g+cc] = s
 		}
 	}
+	for i := range c {
+		c[i] /= float64(n)
+	}
 	d := Density2D{X: nodes(x0, x1, g), Y: nodes(y0, y1, g), P: p, H: H, Rule: rule,
-		Reflect: [2][2]bool{rx, ry}, N: n, Dropped: len(x) - n}
+		Reflect: [2][2]bool{rx, ry}, Counts: c, N: n, Dropped: len(x) - n}
 	var t float64
 	for i, w := range d.cellWeights() {
 		t += p[i] * w

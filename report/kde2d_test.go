@@ -25,21 +25,27 @@ func TestCredibleRegions2D(t *testing.T) {
 	src := rand.New(rand.NewPCG(11, 12))
 	inf := math.Inf(1)
 	cases := []struct {
-		name   string
-		fold   bool
-		bx     [2]float64
-		masses []float64
+		name    string
+		n       int
+		fold    bool
+		samples bool // SampleLevels instead of Levels
+		bx      [2]float64
+		masses  []float64
 	}{
-		{"open", false, [2]float64{-inf, inf}, []float64{0.68, 0.95}},
-		{"open, 2-D sigma levels", false, [2]float64{-inf, inf}, []float64{0.393, 0.865}},
-		{"folded at x=0 (reflection)", true, [2]float64{0, inf}, []float64{0.68, 0.95}},
-	}
-	for _, c := range cases {
-		// Scott's kernel inflates the covariance by 1 + n^(-1/3); at
-		// n = 4e5 that moves the mass inside a level set by at most
+		// Levels: Scott's kernel inflates the covariance by 1 + n^(-1/3);
+		// at n = 4e5 that moves the mass inside a level set by at most
 		// 0.5 % (mass 1-(1-p)^(1+eps) for a Gaussian), leaving room
 		// under the 1 % requirement for grid and Monte-Carlo error.
-		x, y := correlated(src, 400000, 1, 2, 0.8, c.fold)
+		{"open", 400000, false, false, [2]float64{-inf, inf}, []float64{0.68, 0.95}},
+		{"open, 2-D sigma levels", 400000, false, false, [2]float64{-inf, inf}, []float64{Mass1Sigma2D, Mass2Sigma2D}},
+		{"folded at x=0 (reflection)", 400000, true, false, [2]float64{0, inf}, []float64{0.68, 0.95}},
+		// SampleLevels has no smoothing bias; at n = 4e4 the binomial
+		// error of the enclosed fraction is 0.0023, so 1 % is 4 sigma.
+		{"open, sample mass", 40000, false, true, [2]float64{-inf, inf}, []float64{0.68, 0.95}},
+		{"folded, sample mass", 40000, true, true, [2]float64{0, inf}, []float64{0.68, 0.95}},
+	}
+	for _, c := range cases {
+		x, y := correlated(src, c.n, 1, 2, 0.8, c.fold)
 		d, err := KDE2D(x, y, c.bx, [2]float64{-inf, inf}, Options2D{})
 		if err != nil {
 			t.Fatal(err)
@@ -47,7 +53,11 @@ func TestCredibleRegions2D(t *testing.T) {
 		if c.fold && !d.Reflect[0][0] {
 			t.Fatalf("%s: lower x edge not reflected", c.name)
 		}
-		lv, err := d.Levels(c.masses)
+		levels := d.Levels
+		if c.samples {
+			levels = d.SampleLevels
+		}
+		lv, err := levels(c.masses)
 		if err != nil {
 			t.Fatal(err)
 		}

@@ -33,6 +33,10 @@ type Options struct {
 	// Masses are the credible masses of the 2-D contours (default 0.68,
 	// 0.95; use Mass1Sigma2D, Mass2Sigma2D for the 2-D sigma regions).
 	Masses []float64
+	// SmoothedMass selects Density2D.Levels (mass of the smoothed
+	// density) over the default Density2D.SampleLevels (mass of the
+	// samples, free of smoothing bias).
+	SmoothedMass bool
 }
 
 // A Pair is the 2-D marginal of parameters I < J (x = I, y = J) with its
@@ -126,7 +130,11 @@ func Analyze(ps []Param, o Options, progress func(done, total int)) (*Posterior,
 			if err != nil {
 				return nil, fmt.Errorf("report: parameters %q, %q: %w", ps[i].Name, ps[j].Name, err)
 			}
-			lv, err := d.Levels(masses)
+			levels := d.SampleLevels
+			if o.SmoothedMass {
+				levels = d.Levels
+			}
+			lv, err := levels(masses)
 			if err != nil {
 				return nil, err
 			}
