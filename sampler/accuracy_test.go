@@ -17,6 +17,7 @@ func TestGaussianMoments(t *testing.T) {
 		mu    []float64
 		cov   [][]float64
 		steps int
+		moves []WeightedMove
 	}{
 		{
 			name: "2-D correlated, rho = 0.9",
@@ -32,13 +33,27 @@ func TestGaussianMoments(t *testing.T) {
 			cov:   [][]float64{{1e-4, 0, 0}, {0, 1, 0}, {0, 0, 1e4}},
 			steps: 4000,
 		},
+		{
+			name:  "2-D correlated, differential evolution only",
+			mu:    []float64{1, -2},
+			cov:   [][]float64{{1, 0.9 * 1 * 3}, {0.9 * 1 * 3, 9}},
+			steps: 4000,
+			moves: []WeightedMove{{DefaultDEMove(2), 1}},
+		},
+		{
+			name:  "3-D unequal scales, stretch + differential evolution",
+			mu:    []float64{0.5, 0, -30},
+			cov:   [][]float64{{1e-4, 0, 0}, {0, 1, 0}, {0, 0, 1e4}},
+			steps: 4000,
+			moves: []WeightedMove{{StretchMove{A: 2}, 0.5}, {DefaultDEMove(3), 0.5}},
+		},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
 			g := newGaussTarget(t, tc.mu, tc.cov)
 			d := len(tc.mu)
 			const walkers = 32
-			pos, _ := collect(t, g, Config{Walkers: walkers, Seed: 7}, 0, 1000, tc.steps)
+			pos, _ := collect(t, g, Config{Walkers: walkers, Seed: 7, Moves: tc.moves}, 0, 1000, tc.steps)
 			tau := maxTau(t, pos, walkers, d)
 			n := float64(len(pos) / d)
 			neff := n / tau

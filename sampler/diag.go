@@ -246,14 +246,18 @@ func SplitRhat(x []float64, steps, walkers int) float64 {
 		return math.NaN()
 	}
 	c, n, m := splitChains(x, steps, walkers)
-	bulk := rhat(rankNormalize(c), n, m)
-	med := median(c)
+	z := rankNormalize(c)
+	return splitRhat(c, z, median(c), n, m)
+}
+
+// splitRhat combines the bulk R-hat of the rank-normalised split chains z
+// with the R-hat of the rank-normalised folded chains |c - med|.
+func splitRhat(c, z []float64, med float64, n, m int) float64 {
 	f := make([]float64, len(c))
 	for i, v := range c {
 		f[i] = math.Abs(v - med)
 	}
-	tail := rhat(rankNormalize(f), n, m)
-	return math.Max(bulk, tail)
+	return math.Max(rhat(z, n, m), rhat(rankNormalize(f), n, m))
 }
 
 func median(v []float64) float64 {
@@ -362,6 +366,11 @@ func TailESS(x []float64, steps, walkers int) float64 {
 	c, n, m := splitChains(x, steps, walkers)
 	s := slices.Clone(c)
 	slices.Sort(s)
+	return tailESS(c, s, n, m)
+}
+
+// tailESS is TailESS of split chains c with sorted copy s.
+func tailESS(c, s []float64, n, m int) float64 {
 	ind := make([]float64, len(c))
 	out := math.Inf(1)
 	for _, p := range []float64{0.05, 0.95} {
@@ -375,6 +384,19 @@ func TailESS(x []float64, steps, walkers int) float64 {
 		out = math.Min(out, multiESS(ind, n, m))
 	}
 	return out
+}
+
+// vehtari returns split R-hat, bulk ESS and tail ESS of one parameter,
+// sharing the split, sort and rank normalisation between them.
+func vehtari(x []float64, steps, walkers int) (rh, bulk, tail float64) {
+	if steps < 8 {
+		return SplitRhat(x, steps, walkers), math.NaN(), math.NaN()
+	}
+	c, n, m := splitChains(x, steps, walkers)
+	s := slices.Clone(c)
+	slices.Sort(s)
+	z := rankNormalize(c)
+	return splitRhat(c, z, quantile(s, 0.5), n, m), multiESS(z, n, m), tailESS(c, s, n, m)
 }
 
 // StuckWalkers returns the indices of walkers whose acceptance fraction,
@@ -439,13 +461,8 @@ func Diagnose(pos []float64, steps, walkers, dim int, acc []float64, names []str
 			x[i] = pos[i*dim+k]
 		}
 		tau, err := AutocorrTime(x, steps, walkers)
-		p := ParamReport{
-			Index: k, Tau: tau, TauReliable: err == nil,
-			ESS:     float64(steps*walkers) / tau,
-			BulkESS: BulkESS(x, steps, walkers),
-			TailESS: TailESS(x, steps, walkers),
-			Rhat:    SplitRhat(x, steps, walkers),
-		}
+		p := ParamReport{Index: k, Tau: tau, TauReliable: err == nil, ESS: float64(steps*walkers) / tau}
+		p.Rhat, p.BulkESS, p.TailESS = vehtari(x, steps, walkers)
 		if names != nil {
 			p.Name = names[k]
 		}

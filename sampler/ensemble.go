@@ -67,7 +67,6 @@ type rung struct {
 	pcg    []*rand.PCG
 	rng    []*rand.Rand
 	prop   []float64 // proposal scratch, walkers x dim
-	accept []bool    // per-walker outcome scratch for the current half
 }
 
 // An Ensemble is the state of an affine-invariant ensemble sampler
@@ -241,7 +240,6 @@ func build(t Target, cfg Config) (*Ensemble, error) {
 		g.ll = make([]float64, nw)
 		g.lpost = make([]float64, nw)
 		g.acc = make([]int64, nw)
-		g.accept = make([]bool, nw)
 		g.pcg = make([]*rand.PCG, nw)
 		g.rng = make([]*rand.Rand, nw)
 		for w := range nw {
@@ -509,8 +507,8 @@ func (e *Ensemble) SwapAcceptance() []float64 {
 	return f
 }
 
-// Close stops the worker goroutines. The Ensemble must not be stepped
-// afterwards. Unreferenced ensembles are cleaned up automatically, so
+// Close stops the worker goroutines; later Steps run on the calling
+// goroutine only. Unreferenced ensembles are cleaned up automatically, so
 // calling Close is optional.
 func (e *Ensemble) Close() {
 	if e.pool != nil {
