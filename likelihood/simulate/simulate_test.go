@@ -126,7 +126,7 @@ func TestCoverage(t *testing.T) {
 	}
 	in, total, bias := 0, 0, 0.0
 	for seed := range seeds {
-		ds, err := Run(lnO, arr, h0, uint64(seed), GridOptions{Min: -12, Max: -3, Points: 3000})
+		ds, err := Run(lnO, arr, h0, uint64(seed), GridOptions{Min: -12, Max: -3, Points: 1500})
 		if err != nil {
 			t.Fatal(err)
 		}
