@@ -217,6 +217,7 @@ type partMeta struct {
 	DataName    string           `json:"data_name"`
 	DataSHA256  string           `json:"data_sha256"`
 	Params      []string         `json:"params"`
+	Priors      []string         `json:"priors"` // of the free parameters, in the order of Params
 	Steps       int              `json:"steps"`
 	Walkers     int              `json:"walkers"`
 	BurnIndex   int              `json:"burn_index"`
@@ -348,7 +349,7 @@ func writePart(u compareUnit, co compareOpts, mc Config, pb *problem, fp string,
 	u.Betas = betas
 	pm := partMeta{
 		Schema: 1, Version: version, Unit: u, Reference: co.reference, Models: splitList(co.models), Fingerprint: fp,
-		Config: mc, DataName: pb.data.Name, DataSHA256: pb.data.SHA256, Params: pb.post.FreeNames(),
+		Config: mc, DataName: pb.data.Name, DataSHA256: pb.data.SHA256, Params: pb.post.FreeNames(), Priors: freePriors(pb),
 		Steps: steps, Walkers: h.Walkers(), BurnIndex: res.BurnIndex, Recorded: rec, Swap: res.SwapAcceptance,
 		Passes: passes,
 	}

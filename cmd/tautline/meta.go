@@ -62,3 +62,17 @@ func writeJSON(path string, v any) error {
 		return enc.Encode(v)
 	})
 }
+
+// freePriors returns the prior of every sampled parameter, in the order of
+// the posterior's free parameters, in the syntax priors.Parse reads.
+func freePriors(pb *problem) []string {
+	idx := map[string]int{}
+	for i, p := range pb.model.Params() {
+		idx[p.Name] = i
+	}
+	var out []string
+	for _, n := range pb.post.FreeNames() {
+		out = append(out, pb.priors[idx[n]].String())
+	}
+	return out
+}
