@@ -158,6 +158,18 @@ func TestBandwidthRules(t *testing.T) {
 	}
 }
 
+func TestBandwidthFloor(t *testing.T) {
+	// A spread far below the table spacing is raised to the spacing.
+	s := normalSamples(200, -7, 1e-5, -9, -5, 4)
+	f, err := NewFreeSpectrum(oneBin(Bin{Kind: Samples, Samples: s}, -9, -5), Options{TableSize: 257})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if h, want := f.Bandwidths()[0], 4.0/256; h != want {
+		t.Errorf("h = %g, want the spacing %g", h, want)
+	}
+}
+
 func TestGridInterpolation(t *testing.T) {
 	// Grid of the N(-7, 0.4) density at 0.1-dex spacing over the prior.
 	const lo, hi, mu, sd, dx = -9.0, -5.0, -7.0, 0.4, 0.1

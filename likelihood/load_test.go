@@ -254,3 +254,37 @@ func TestRepresentationString(t *testing.T) {
 		}
 	}
 }
+
+func TestValidate(t *testing.T) {
+	ok := func() *Dataset {
+		return &Dataset{Name: "v", Span: 1e8, Freqs: []float64{1e-8, 2e-8}, PriorMin: -9, PriorMax: -5,
+			Bins: []Bin{{Kind: Gaussian, Mean: -7, SD: 0.2}, {Kind: Grid, Grid: []float64{-9, -7, -5}, Density: []float64{0, 1, 0}}}}
+	}
+	for _, tc := range []struct {
+		name string
+		edit func(*Dataset)
+		want string
+	}{
+		{"valid", func(*Dataset) {}, ""},
+		{"span", func(d *Dataset) { d.Span = math.Inf(1) }, `likelihood: data set "v": span: must be a finite number of seconds > 0, got +Inf`},
+		{"prior", func(d *Dataset) { d.PriorMax = math.NaN() }, `likelihood: data set "v": prior range: need finite lo < hi, got [-9, NaN]`},
+		{"count", func(d *Dataset) { d.Bins = d.Bins[:1] }, `likelihood: data set "v": 1 bins for 2 frequencies`},
+		{"harmonic", func(d *Dataset) { d.Freqs[1] = 2.1e-8 }, `likelihood: data set "v": bin 2: frequency: 2.1e-08 Hz differs from 2/T = 2e-08 Hz by more than the relative tolerance 1e-06 (declare irregular frequencies if they are not harmonics of 1/T)`},
+		{"irregular", func(d *Dataset) { d.Freqs[1] = 2.1e-8; d.Irregular = true }, ""},
+		{"order", func(d *Dataset) { d.Freqs[1] = 1e-9; d.Irregular = true }, `likelihood: data set "v": bin 2: frequency: must exceed the previous bin's 1e-08 Hz (frequencies must be strictly increasing), got 1e-09`},
+		{"sd", func(d *Dataset) { d.Bins[0].SD = 0 }, `likelihood: data set "v": bin 1 (gaussian): sd: must be finite and > 0, got 0`},
+		{"mean", func(d *Dataset) { d.Bins[0].Mean = -4 }, `likelihood: data set "v": bin 1 (gaussian): mean: must be finite and inside the prior range [-9, -5], got -4`},
+		{"grid-order", func(d *Dataset) { d.Bins[1].Grid[1] = -9 }, `likelihood: data set "v": bin 2 (grid): grid point 1: grid must be strictly increasing, got -9 after -9`},
+		{"grid-neg", func(d *Dataset) { d.Bins[1].Density[2] = -1 }, `likelihood: data set "v": bin 2 (grid): density 2: must be >= 0, got -1`},
+		{"grid-mass", func(d *Dataset) { d.Bins[1].Density[1] = 0 }, `likelihood: data set "v": bin 2 (grid): density has no positive mass`},
+		{"samples", func(d *Dataset) { d.Bins[1] = Bin{Kind: Samples, Samples: make([]float64, 10)} }, `likelihood: data set "v": bin 2 (samples): 10 samples, need at least 50`},
+		{"kind", func(d *Dataset) { d.Bins[1].Kind = 9 }, `likelihood: data set "v": bin 2 (Representation(9)): unknown representation 9: no data`},
+	} {
+		d := ok()
+		tc.edit(d)
+		err := d.Validate()
+		if (tc.want == "" && err != nil) || (tc.want != "" && (err == nil || err.Error() != tc.want)) {
+			t.Errorf("%s: error\n got: %v\nwant: %s", tc.name, err, tc.want)
+		}
+	}
+}

@@ -127,6 +127,10 @@ func TestPosteriorLogLike(t *testing.T) {
 			t.Errorf("LogLike(%v) = %.9g, want %.9g (tol %.2g)", x, got, want, tol)
 		}
 	}
+	// A NaN from the model is scored as far above the data, finite.
+	if got := p.LogLike([]float64{math.NaN(), 3}); math.IsNaN(got) || math.IsInf(got, 0) {
+		t.Errorf("LogLike with NaN amplitude = %g, want finite", got)
+	}
 	// Outside the model's domain: -Inf (zero prior support).
 	if got := p.LogLike([]float64{-14, 8}); !math.IsInf(got, -1) {
 		t.Errorf("LogLike outside the domain = %g, want -Inf", got)
