@@ -171,7 +171,7 @@ func build(t Target, cfg Config) (*Ensemble, error) {
 		}
 		if v, ok := m.Move.(interface{ validate() error }); ok {
 			if err := v.validate(); err != nil {
-				return nil, fmt.Errorf("Moves[%d]: %w", i, err)
+				return nil, fmt.Errorf("sampler: Moves[%d]: %w", i, err)
 			}
 		}
 		if need := minOthers(m.Move); cfg.Walkers/2 < need {

@@ -24,7 +24,7 @@ func TestConfigErrors(t *testing.T) {
 		{"bad ladder start", Config{Walkers: 8, Betas: []float64{0.5, 0.1}}, "Betas[0] must be 1"},
 		{"ladder not decreasing", Config{Walkers: 8, Betas: []float64{1, 0.5, 0.6}}, "Betas[2] = 0.6 after Betas[1] = 0.5"},
 		{"negative beta", Config{Walkers: 8, Betas: []float64{1, -0.1}}, "Betas must decrease"},
-		{"bad stretch scale", Config{Walkers: 8, Moves: []WeightedMove{{StretchMove{A: 1}, 1}}}, "Moves[0]: sampler: stretch move scale A"},
+		{"bad stretch scale", Config{Walkers: 8, Moves: []WeightedMove{{StretchMove{A: 1}, 1}}}, "sampler: Moves[0]: stretch move scale A"},
 		{"bad weight", Config{Walkers: 8, Moves: []WeightedMove{{StretchMove{A: 2}, 0}}}, "Moves[0].Weight"},
 		{"nil move", Config{Walkers: 8, Moves: []WeightedMove{{nil, 1}}}, "Moves[0].Move is nil"},
 		{"empty moves", Config{Walkers: 8, Moves: []WeightedMove{}}, "Moves is empty"},
@@ -235,7 +235,16 @@ func TestTemperingBimodal(t *testing.T) {
 	if got := weight(pt); math.Abs(got-w2) > 0.05 {
 		t.Errorf("tempered weight of the x > 0 mode = %.3f, want %.1f ± 0.05 (swap acceptance %v)", got, w2, e.SwapAcceptance())
 	}
+	// R-hat (Vehtari et al. 2021) tells the two apart: near 1 when the
+	// walkers visit both modes, far above 1.1 when each stays in its own.
+	// 1.05: well mixed but only 6000 steps of a bimodal target.
+	if rh := SplitRhat(param(pt, walkers, 2, 0), 6000, walkers); rh > 1.05 {
+		t.Errorf("tempered R-hat of x0 = %.4g, want <= 1.05", rh)
+	}
 	single, _ := collect(t, tg, Config{Walkers: walkers, Seed: 21}, 0, 1000, 6000)
+	if rh := SplitRhat(param(single, walkers, 2, 0), 6000, walkers); rh < 1.1 {
+		t.Errorf("untempered R-hat of x0 = %.4g, want > 1.1 (walkers never change mode)", rh)
+	}
 	t.Logf("untempered weight %.4f", weight(single))
 	if got := weight(single); math.Abs(got-w2) <= 0.05 {
 		t.Errorf("untempered weight = %.3f is within 0.05 of %.1f: the demonstration of why tempering is needed no longer holds", got, w2)

@@ -57,7 +57,7 @@ func (m StretchMove) Propose(r *rand.Rand, x, others []float64, n int, y []float
 
 func (m StretchMove) validate() error {
 	if !(m.A > 1) || math.IsInf(m.A, 0) {
-		return fmt.Errorf("sampler: stretch move scale A must be finite and > 1, got %v", m.A)
+		return fmt.Errorf("stretch move scale A must be finite and > 1, got %v", m.A)
 	}
 	return nil
 }
@@ -114,11 +114,11 @@ func (m DEMove) Propose(r *rand.Rand, x, others []float64, n int, y []float64) f
 func (m DEMove) validate() error {
 	switch {
 	case !(m.Gamma > 0) || math.IsInf(m.Gamma, 0):
-		return fmt.Errorf("sampler: differential-evolution Gamma must be finite and > 0, got %v", m.Gamma)
+		return fmt.Errorf("differential-evolution Gamma must be finite and > 0, got %v", m.Gamma)
 	case !(m.JumpProb >= 0 && m.JumpProb <= 1):
-		return fmt.Errorf("sampler: differential-evolution JumpProb must be in [0, 1], got %v", m.JumpProb)
+		return fmt.Errorf("differential-evolution JumpProb must be in [0, 1], got %v", m.JumpProb)
 	case !(m.Noise >= 0) || math.IsInf(m.Noise, 0):
-		return fmt.Errorf("sampler: differential-evolution Noise must be finite and >= 0, got %v", m.Noise)
+		return fmt.Errorf("differential-evolution Noise must be finite and >= 0, got %v", m.Noise)
 	}
 	return nil
 }

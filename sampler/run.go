@@ -291,6 +291,7 @@ func evaluate(e *Ensemble, opt RunOptions) evaluation {
 		rep.MaxTau = nanMax(rep.MaxTau, p.Tau)
 		rep.MinESS = nanMin(rep.MinESS, p.ESS)
 	}
+	rep.StuckWalkers = StuckWalkers(e.AcceptanceFractions(0), e.steps)
 	ev.report = rep
 	if opt.Thin == 0 && rep.MaxTau > 0 {
 		ev.thin = max(1, int(rep.MaxTau/2))
@@ -310,7 +311,9 @@ func evaluate(e *Ensemble, opt RunOptions) evaluation {
 		ok = ok && rep.MaxRhat <= c.Rhat
 	}
 	ev.converged = ok
-	ev.needSteps = need
+	if c.ESS > 0 || c.TauMultiple > 0 {
+		ev.needSteps = need
+	}
 	return ev
 }
 
