@@ -59,14 +59,14 @@ const maxInitTries = 1000
 var errNoWalkers = errors.New("sampler: no walkers")
 
 type rung struct {
-	pos    []float64 // walkers x dim
-	lp     []float64 // ln prior
-	ll     []float64 // ln likelihood
-	lpost  []float64 // lp + beta ll
-	acc    []int64   // accepted proposals per walker
-	pcg    []*rand.PCG
-	rng    []*rand.Rand
-	prop   []float64 // proposal scratch, walkers x dim
+	pos   []float64 // walkers x dim
+	lp    []float64 // ln prior
+	ll    []float64 // ln likelihood
+	lpost []float64 // lp + beta ll
+	acc   []int64   // accepted proposals per walker
+	pcg   []*rand.PCG
+	rng   []*rand.Rand
+	prop  []float64 // proposal scratch, walkers x dim
 }
 
 // An Ensemble is the state of an affine-invariant ensemble sampler
