@@ -450,7 +450,7 @@ func (p *parser) table(file string, data []byte, kind Representation, header []s
 			case a.set && kind == Gaussian:
 				return errf(line, "bin %d: already given on line %d", b, a.line)
 			case a.set:
-				return errf(line, "bin %d: rows of a bin must be contiguous; bin %d already appeared on lines from %d", b, b, a.line)
+				return errf(line, "bin %d: rows of a bin must be contiguous, but this bin already had rows from line %d", b, a.line)
 			}
 			*a = binAcc{set: true, kind: kind, file: file, line: line}
 			order = append(order, b-1)

@@ -38,6 +38,7 @@ func TestLoadMalformed(t *testing.T) {
 		{"bad-too-many-bins", `likelihood: {d}/gaussian.csv: line 3: bin: 4 exceeds the 3 bins declared in {d}/dataset.yaml`},
 		{"bad-header", `likelihood: {d}/gaussian.csv: line 1: header must be "bin,mean,sd", got "bin,mu,sigma"`},
 		{"bad-prior-order", `likelihood: {d}/dataset.yaml: line 7: log10_rho_prior: lo must be below hi, got [-5, -9]`},
+		{"bad-split-bin", `likelihood: {d}/samples.csv: line 33: bin 1: rows of a bin must be contiguous, but this bin already had rows from line 2`},
 		{"bad-both-spans", `likelihood: {d}/dataset.yaml: line 5: span_years: give the span once, as span_seconds or span_years, not both`},
 	} {
 		t.Run(tc.dir, func(t *testing.T) {
