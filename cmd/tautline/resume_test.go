@@ -6,6 +6,7 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
+	"syscall"
 	"testing"
 	"time"
 )
@@ -122,4 +123,55 @@ func flipBit(b []byte, i int) []byte {
 	c := append([]byte(nil), b...)
 	c[i] ^= 0x10
 	return c
+}
+
+// TestInterruptWritesCheckpoint sends SIGTERM to a running fit: it must
+// exit with status 1 after writing a checkpoint, and --resume must finish
+// the run with the same chain as an uninterrupted one.
+func TestInterruptWritesCheckpoint(t *testing.T) {
+	if testing.Short() {
+		t.Skip("builds the binary and runs three fits")
+	}
+	bin := buildBinary(t)
+	args := func(dir string) []string {
+		return []string{"fit", "--steps", "1500", "--walkers", "16", "--seed", "9",
+			"--checkpoint-every", "1000", "--flush-every", "1", "--log-level", "warn", "--out", dir}
+	}
+	ref := t.TempDir()
+	if out, err := exec.Command(bin, args(ref)...).CombinedOutput(); err != nil {
+		t.Fatalf("uninterrupted run: %v\n%s", err, out)
+	}
+	dir := t.TempDir()
+	cmd := exec.Command(bin, args(dir)...)
+	var stderr bytes.Buffer
+	cmd.Stderr = &stderr
+	if err := cmd.Start(); err != nil {
+		t.Fatal(err)
+	}
+	chain := filepath.Join(dir, "chain.csv")
+	for deadline := time.Now().Add(60 * time.Second); ; time.Sleep(time.Millisecond) {
+		if fi, err := os.Stat(chain); err == nil && fi.Size() > 20000 {
+			break
+		}
+		if time.Now().After(deadline) {
+			_ = cmd.Process.Kill()
+			t.Fatal("the run wrote no chain within 60 s")
+		}
+	}
+	_ = cmd.Process.Signal(syscall.SIGTERM)
+	err := cmd.Wait()
+	if err == nil {
+		t.Skip("the run finished before the signal arrived")
+	}
+	if ee, ok := err.(*exec.ExitError); !ok || ee.ExitCode() != 1 || !bytes.Contains(stderr.Bytes(), []byte("--resume")) {
+		t.Fatalf("interrupted run: %v, stderr %s", err, stderr.String())
+	}
+	if out, err := exec.Command(bin, append(args(dir), "--resume")...).CombinedOutput(); err != nil {
+		t.Fatalf("resumed run: %v\n%s", err, out)
+	}
+	a, _ := os.ReadFile(filepath.Join(ref, "chain.csv"))
+	b, _ := os.ReadFile(chain)
+	if !bytes.Equal(a, b) {
+		t.Errorf("chain after SIGTERM and --resume differs from the uninterrupted one (%d vs %d bytes)", len(a), len(b))
+	}
 }
