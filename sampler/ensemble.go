@@ -70,9 +70,24 @@ type rung struct {
 }
 
 // An Ensemble is the state of an affine-invariant ensemble sampler
-// (Goodman & Weare 2010) with one ensemble per rung of a tempering ladder.
-// Use New, then call Step in a loop. An Ensemble is not safe for concurrent
-// use; Step itself parallelises the density evaluations.
+// (Goodman & Weare 2010) with one ensemble per rung of a parallel-tempering
+// ladder. Rung r samples the power posterior
+//
+//	ln p_r(x) = ln prior(x) + beta_r ln L(x),
+//
+// with beta = 0 handled exactly (the prior), and a point where either term
+// is not finite rejected at every beta. A Step updates the first half of
+// the walkers of every rung against the second half of the same rung, then
+// the second half against the first (Goodman & Weare 2010, section 5);
+// every SwapEvery steps it proposes exchanges between neighbouring rungs
+// (parallel tempering, Geyer 1991; see Vousden, Farr & Mandel 2016), whose
+// acceptance also drives the optional ladder adaptation.
+//
+// Every walker of every rung owns a PCG stream, and swaps another, all
+// derived from Config.Seed with SplitMix64, so a run is bit-identical for
+// any Workers or GOMAXPROCS. Use New (or Restore), then call Step in a
+// loop, or Run. An Ensemble is not safe for concurrent use; Step itself
+// parallelises the density evaluations.
 type Ensemble struct {
 	t        Target
 	cfg      Config
