@@ -278,3 +278,26 @@ func BenchmarkTableBuild(b *testing.B) {
 		}
 	}
 }
+
+// TestCertificationCatchesErrors: a table shifted by 0.02 in ln Omega (twice
+// the allowed error) must fail certification, and the intact one pass with
+// the same points.
+func TestCertificationCatchesErrors(t *testing.T) {
+	tab := defaultTable(t)
+	d, err := NewDirect(DefaultSettings())
+	if err != nil {
+		t.Fatal(err)
+	}
+	opt := BuildOptions{Workers: 2, CertPoints: 5, Seed: 7}
+	if _, err := tab.certify(d, opt); err != nil {
+		t.Fatalf("intact table failed: %v", err)
+	}
+	bad := *tab
+	bad.data = slices.Clone(tab.data)
+	for i := range bad.data {
+		bad.data[i] += 0.02
+	}
+	if _, err := bad.certify(d, opt); !errors.Is(err, ErrCertification) {
+		t.Errorf("shifted table: certify returned %v, want ErrCertification", err)
+	}
+}
