@@ -319,3 +319,26 @@ func TestLadderAdaptation(t *testing.T) {
 		}
 	}
 }
+
+// TestStepAllocs enforces the zero-allocation steady state of Step, serial
+// and with the work split across goroutines, with tempering and a move mix.
+func TestStepAllocs(t *testing.T) {
+	ladder, err := GeometricLadder(3, 0.1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, workers := range []int{1, 2} {
+		e, err := New(noopTarget{3}, Config{
+			Walkers: 16, Seed: 1, Workers: workers, MinBatch: 1, Betas: ladder,
+			Moves: []WeightedMove{{StretchMove{A: 2}, 1}, {DefaultDEMove(3), 1}},
+		})
+		if err != nil {
+			t.Fatal(err)
+		}
+		e.Step()
+		if n := testing.AllocsPerRun(100, func() { e.Step() }); n != 0 {
+			t.Errorf("workers = %d: %v allocations per Step, want 0", workers, n)
+		}
+		e.Close()
+	}
+}
