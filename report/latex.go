@@ -226,6 +226,30 @@ type Evidence struct {
 	// reference's (same chains); they are then not combined in quadrature
 	// but the larger is quoted.
 	Correlated bool
+	// LnBSet says that LnB and LnBErr hold the log Bayes factor against
+	// the reference and its error as the caller computed them (for example
+	// from a derivative-corrected TI estimate); tables then quote them
+	// instead of recomputing with BayesFactor, so that one run never shows
+	// two different ln B. Reading, when not empty, replaces the words of
+	// Interpret.
+	LnBSet      bool
+	LnB, LnBErr float64
+	Reading     string
+}
+
+// bayesAgainst returns the row's ln B against ref, its error and its
+// reading: the caller's values when LnBSet (and Reading) are set, else
+// BayesFactor and Interpret.
+func (e Evidence) bayesAgainst(ref Evidence) (lnB, err float64, words string) {
+	if e.LnBSet {
+		lnB, err = e.LnB, e.LnBErr
+	} else {
+		lnB, err = BayesFactor(e, ref)
+	}
+	if e.Reading != "" {
+		return lnB, err, e.Reading
+	}
+	return lnB, err, Interpret(lnB)
 }
 
 // bestLnZ returns the stepping-stone estimate when finite, else the
@@ -279,8 +303,9 @@ func modelCell(e Evidence) string {
 
 // ComparisonTable returns a LaTeX tabular with one row per model: ln Z from
 // TI and SS with errors, ln B against the model named reference and its
-// interpretation (Interpret, saying which model is favoured). sig is the
-// significant figures of errors (2 when sig < 1).
+// interpretation (Interpret, saying which model is favoured). A row with
+// LnBSet quotes its own LnB, LnBErr (and Reading); other rows get
+// BayesFactor. sig is the significant figures of errors (2 when sig < 1).
 func ComparisonTable(rows []Evidence, reference string, sig int) (string, error) {
 	ri := -1
 	for i, r := range rows {
@@ -302,13 +327,11 @@ func ComparisonTable(rows []Evidence, reference string, sig int) (string, error)
 	b.WriteString("\\begin{tabular}{lcccl}\n\\hline\n")
 	fmt.Fprintf(&b, "Model & $\\ln Z$ (TI) & $\\ln Z$ (SS) & $\\ln B$ vs %s & Evidence \\\\\n\\hline\n", modelCell(ref))
 	for i, r := range rows {
-		lnB, cell, words := 0.0, "reference", "---"
+		cell, words := "reference", "---"
 		if i != ri {
-			var e float64
-			lnB, e = BayesFactor(r, ref)
-			cell = pm(lnB, e)
-			words = Interpret(lnB)
-			if finite(lnB) && math.Abs(lnB) >= 1 {
+			lnB, e, w := r.bayesAgainst(ref)
+			cell, words = pm(lnB, e), w
+			if r.Reading == "" && finite(lnB) && math.Abs(lnB) >= 1 {
 				fav := r
 				if lnB < 0 {
 					fav = ref

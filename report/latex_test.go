@@ -2,6 +2,7 @@ package report
 
 import (
 	"math"
+	"path/filepath"
 	"strings"
 	"testing"
 )
@@ -131,5 +132,45 @@ func TestComparisonTable(t *testing.T) {
 		if got := Interpret(c.lnB); got != c.want {
 			t.Errorf("Interpret(%g) = %q, want %q", c.lnB, got, c.want)
 		}
+	}
+}
+
+// TestComparisonGivenLnB checks that a row's own ln B (LnBSet) is quoted
+// unchanged by the LaTeX table and by comparison.csv/json, rather than
+// recomputed from the stepping-stone evidences.
+func TestComparisonGivenLnB(t *testing.T) {
+	// TI difference -7.0 - (-10.0) = 3.0 with errors 0.2, 0.1 in quadrature
+	// (hypot = 0.2236) is what the caller passes; SS alone would give
+	// -7.1 + 10.05 = 2.95 ± 0.13.
+	rows := []Evidence{
+		{Model: "smbhb", LnZTI: -10, LnZTIErr: 0.1, LnZSS: -10.05, LnZSSErr: 0.05, LnBSet: true},
+		{Model: "strings", LnZTI: -7, LnZTIErr: 0.2, LnZSS: -7.1, LnZSSErr: 0.12,
+			LnBSet: true, LnB: 3, LnBErr: math.Hypot(0.2, 0.1)},
+		{Model: "sum", LnZTI: -9, LnZTIErr: 0.2, LnZSS: -9, LnZSSErr: 0.2,
+			LnBSet: true, LnB: 1, LnBErr: 0.3, Reading: "caller's words"},
+	}
+	tab, err := ComparisonTable(rows, "smbhb", 2)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, want := range []string{
+		`strings & $-7.00 \pm 0.20$ & $-7.10 \pm 0.12$ & $3.00 \pm 0.22$ & strong for strings \\`,
+		`sum & $-9.00 \pm 0.20$ & $-9.00 \pm 0.20$ & $1.00 \pm 0.30$ & caller's words \\`,
+	} {
+		if !strings.Contains(tab, want) {
+			t.Errorf("comparison table lacks %q:\n%s", want, tab)
+		}
+	}
+	dir := t.TempDir()
+	if err := WriteComparison(dir, Metadata{Run: "r"}, rows, "smbhb", 2); err != nil {
+		t.Fatal(err)
+	}
+	var cj struct {
+		Models []map[string]any `json:"models"`
+	}
+	readJSON(t, filepath.Join(dir, "comparison.json"), &cj)
+	if len(cj.Models) != 3 || cj.Models[1]["ln_b"] != 3.0 || cj.Models[1]["ln_b_err"] != math.Hypot(0.2, 0.1) ||
+		cj.Models[0]["ln_b"] != 0.0 || cj.Models[2]["evidence"] != "caller's words" {
+		t.Errorf("comparison.json models: %v", cj.Models)
 	}
 }

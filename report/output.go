@@ -281,7 +281,8 @@ func WriteSummaryTable(dir string, ss []Summary, sig int) error {
 }
 
 // WriteComparison writes the model comparison against the model named
-// reference as comparison.csv, comparison.json and comparison.tex into dir.
+// reference as comparison.csv, comparison.json and comparison.tex into dir,
+// all three quoting the same ln B (see ComparisonTable).
 func WriteComparison(dir string, meta Metadata, rows []Evidence, reference string, sig int) error {
 	tex, err := ComparisonTable(rows, reference, sig)
 	if err != nil {
@@ -306,8 +307,7 @@ func WriteComparison(dir string, meta Metadata, rows []Evidence, reference strin
 	js := make([]rowJSON, len(rows))
 	recs := make([][]string, len(rows))
 	for i, r := range rows {
-		b, e := BayesFactor(r, ref)
-		v := Interpret(b)
+		b, e, v := r.bayesAgainst(ref)
 		if r.Model == reference {
 			b, e, v = 0, 0, "reference"
 		}
