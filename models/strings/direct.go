@@ -25,7 +25,7 @@ const (
 	quadRel      = 1e-7 // relative tolerance of each Omega^(1) integral
 	quadMaxIvls  = 400  // adaptive subintervals per integral
 	panelWidth   = 6.0  // initial Gauss-Kronrod panels, in ln t
-	omega1Step   = 0.04 // ln f spacing of the Omega^(1) grid
+	omega1Step   = 0.04 // spacing of the Omega^(1) grid in y = ln(f - f_low)
 	exactModes   = 32   // modes summed term by term before Euler-Maclaurin
 	vosStep      = 0.01 // ln t step of the C_eff table
 	formationPad = 1e-9 // keeps t_i strictly inside the tables
@@ -86,7 +86,7 @@ func (n *network) cEff(lnti float64) float64 {
 // t_i <= t and t_i after network formation (the start of the background
 // table, T of order 1e13 GeV), Gamma_k = Gamma k^(-q)/zeta(q), and the loop
 // density scaled by P^(-kappa). The fundamental mode is integrated in ln t
-// with adaptive Gauss-Kronrod on a grid in ln f of spacing 0.04, and the
+// with adaptive Gauss-Kronrod on a grid of spacing 0.04 in ln(f - f_low), and the
 // harmonics use Omega^(k)(f) = (Gamma_k/Gamma_1) Omega^(1)(f/k): the first
 // 32 terms are summed directly (cubic interpolation on the grid), the rest
 // by the Euler-Maclaurin formula with the integral over k done by the
@@ -104,10 +104,10 @@ type Direct struct {
 	lnGG, gg, alpha, ln2f, lnPref float64
 	edges                         []float64
 
-	// Omega^(1) grid: value om1[j] at ln f = lnF0 + (j+j0) omega1Step.
-	lnF0 float64
-	j0   int
-	om1  []float64
+	// Omega^(1) grid: om1[j] at y = ln(f - fLow) = y0 + j step, that is
+	// at ln f = sNode[j]; cum is the running integral used by modeSum.
+	lnFLow, fLow, y0 float64
+	om1, sNode, cum  []float64
 }
 
 // NewDirect builds the background and the C_eff table for s (about half
@@ -265,44 +265,70 @@ func bisect(f func(float64) float64, lo, hi float64) float64 {
 	return 0.5 * (lo + hi)
 }
 
-// fillOmega1 tabulates Omega^(1) on the ln f grid covering the arguments
-// f/k needed by the mode sum for frequencies in [fmin, fmax].
+// edgeDepth is how close to the cutoff f_low = 2/(alpha t0) the Omega^(1)
+// grid starts, as a fraction of f_low: Omega^(1) rises linearly from zero
+// there, so the neglected sliver contributes below 1e-8 of any sum.
+const edgeDepth = 1e-4
+
+// fillOmega1 tabulates Omega^(1) on a grid uniform in y = ln(f - f_low)
+// covering the arguments f/k needed by the mode sum for frequencies in
+// [fmin, fmax]. The variable y resolves the steep rise of Omega^(1) just
+// above its cutoff (over about 0.05 in ln f, because H0 t0 = 0.95 makes the
+// lower time limit move fast) and is ln f far above it. It also stores the
+// running trapezoidal integral of W = e^(s (q-1)) Omega^(1) over s = ln f
+// for the Euler-Maclaurin tail.
 func (d *Direct) fillOmega1(fmin, fmax float64) {
-	// Omega^(1) vanishes below f_low = 2/(alpha t0): grid index 0.
-	d.lnF0 = math.Ln2 - math.Log(d.alpha) - d.n.lnTHi
-	lnNeed := math.Log(fmin)
+	d.lnFLow = math.Ln2 - math.Log(d.alpha) - d.n.lnTHi
+	fLow := math.Exp(d.lnFLow)
+	d.fLow = fLow
+	y0 := d.lnFLow + math.Log(edgeDepth)
 	if d.n.s.Modes > 0 {
-		lnNeed -= math.Log(float64(d.n.s.Modes))
+		if need := fmin / float64(d.n.s.Modes); need-fLow > edgeDepth*fLow {
+			y0 = math.Log(need-fLow) - 2*d.step
+		}
 	}
-	j0 := max(0, int(math.Floor((lnNeed-d.lnF0)/d.step))-2)
-	if d.n.s.Modes == 0 {
-		j0 = 0 // the infinite sum reaches down to the cutoff
+	y1 := math.Log(fmax-fLow) + 3*d.step
+	if !(fmax > fLow) || y1 < y0 {
+		y1 = y0 + 4*d.step
 	}
-	j1 := int(math.Ceil((math.Log(fmax)-d.lnF0)/d.step)) + 3
-	if j1 < j0 {
-		j1 = j0
-	}
-	d.j0 = j0
-	n := j1 - j0 + 1
+	d.y0 = y0
+	n := int(math.Ceil((y1-y0)/d.step)) + 1
 	if cap(d.om1) < n {
 		d.om1 = make([]float64, n)
+		d.sNode = make([]float64, n)
+		d.cum = make([]float64, n)
 	}
-	d.om1 = d.om1[:n]
+	d.om1, d.sNode, d.cum = d.om1[:n], d.sNode[:n], d.cum[:n]
+	q := d.n.s.Q
 	for j := range d.om1 {
-		if j+j0 == 0 {
-			d.om1[j] = 0
+		lnf := math.Log(fLow + math.Exp(y0+float64(j)*d.step))
+		d.sNode[j] = lnf
+		d.om1[j], _ = d.omega1At(lnf)
+		if j == 0 {
+			d.cum[0] = 0
 			continue
 		}
-		d.om1[j], _ = d.omega1At(d.lnF0 + float64(j+j0)*d.step)
+		wa := math.Exp(d.sNode[j-1]*(q-1)) * d.om1[j-1]
+		wb := math.Exp(lnf*(q-1)) * d.om1[j]
+		d.cum[j] = d.cum[j-1] + 0.5*(lnf-d.sNode[j-1])*(wa+wb)
 	}
 }
 
+// yIndex returns the fractional grid index of ln f = lnx (-Inf at and below
+// the cutoff) and d y / d ln f.
+func (d *Direct) yIndex(lnx float64) (s, dydlnx float64) {
+	x := math.Exp(lnx)
+	if !(x > d.fLow) {
+		return math.Inf(-1), 0
+	}
+	return (math.Log(x-d.fLow) - d.y0) / d.step, x / (x - d.fLow)
+}
+
 // om1Interp returns Omega^(1) and its derivative with respect to ln f at
-// ln f = lnx by 4-point Lagrange interpolation on the grid; zero below the
-// cutoff.
+// ln f = lnx by 4-point Lagrange interpolation in y; zero below the grid.
 func (d *Direct) om1Interp(lnx float64) (v, dv float64) {
-	s := (lnx-d.lnF0)/d.step - float64(d.j0)
-	if s+float64(d.j0) <= 0 {
+	s, jac := d.yIndex(lnx)
+	if s < -1 {
 		return 0, 0
 	}
 	i := int(math.Floor(s)) - 1
@@ -315,14 +341,17 @@ func (d *Direct) om1Interp(lnx float64) (v, dv float64) {
 		}
 	}
 	v = -p[0]*(u-1)*(u-2)*(u-3)/6 + p[1]*u*(u-2)*(u-3)/2 - p[2]*u*(u-1)*(u-3)/2 + p[3]*u*(u-1)*(u-2)/6
-	dv = (-p[0]*(3*u*u-12*u+11)/6 + p[1]*(3*u*u-10*u+6)/2 - p[2]*(3*u*u-8*u+3)/2 + p[3]*(3*u*u-6*u+2)/6) / d.step
+	dv = (-p[0]*(3*u*u-12*u+11)/6 + p[1]*(3*u*u-10*u+6)/2 - p[2]*(3*u*u-8*u+3)/2 + p[3]*(3*u*u-6*u+2)/6) / d.step * jac
 	return v, dv
 }
 
 // modeSum returns sum_k k^(-q) Omega^(1)(f/k) for k = 1..Modes (or to
 // infinity), using Euler-Maclaurin beyond exactModes:
 //
-//	sum_{k=K+1}^{N} g(k) = integral_K^N g dk + (g(N) - g(K))/2 + (g'(N) - g'(K))/12 + O(g''').
+//	sum_{k=K+1}^{N} g(k) = integral_K^N g dk + (g(N) - g(K))/2 + (g'(N) - g'(K))/12 + O(g'''),
+//
+// where integral_K^N g dk = f^(1-q) integral ds e^(s(q-1)) Omega^(1)(e^s)
+// over s = ln(f/k), done by the trapezoidal rule on the grid nodes.
 func (d *Direct) modeSum(f float64) float64 {
 	q := d.n.s.Q
 	lnf := math.Log(f)
@@ -350,8 +379,8 @@ func (d *Direct) modeSum(f float64) float64 {
 	lnK := math.Log(exactModes)
 	gK, gpK := gAt(lnK)
 	sum += -gK/2 - gpK/12
-	sHi := lnf - lnK // ln of the argument f/k at k = K
-	sLo := d.lnF0    // Omega^(1) vanishes below
+	sHi := lnf - lnK  // ln of the argument f/k at k = K
+	sLo := d.sNode[0] // Omega^(1) is negligible below the grid
 	if N > 0 {
 		lnN := math.Log(float64(N))
 		if lnf-lnN > sLo {
@@ -363,29 +392,22 @@ func (d *Direct) modeSum(f float64) float64 {
 	if sHi <= sLo {
 		return sum
 	}
-	// integral_K^N g(k) dk = integral ds f^(1-q) e^(s(q-1)) Omega^(1)(e^s)
-	// over s = ln(f/k) in [sLo, sHi], trapezoidal on the grid nodes.
-	w := func(s float64, om float64) float64 { return math.Exp((lnf-s)*(1-q)) * om }
-	a := (sLo-d.lnF0)/d.step - float64(d.j0)
-	b := (sHi-d.lnF0)/d.step - float64(d.j0)
-	ja := int(math.Floor(a)) + 1
-	jb := int(math.Ceil(b)) - 1
-	vLo, _ := d.om1Interp(sLo)
-	vHi, _ := d.om1Interp(sHi)
+	W := func(s float64) float64 { v, _ := d.om1Interp(s); return math.Exp(s*(q-1)) * v }
+	// Nodes strictly inside (sLo, sHi).
+	a, _ := d.yIndex(sLo)
+	b, _ := d.yIndex(sHi)
+	ja := max(int(math.Floor(a))+1, 0)
+	jb := min(int(math.Ceil(b))-1, len(d.om1)-1)
+	var integral float64
 	if ja > jb {
-		return sum + 0.5*(sHi-sLo)*(w(sLo, vLo)+w(sHi, vHi))
+		integral = 0.5 * (sHi - sLo) * (W(sLo) + W(sHi))
+	} else {
+		sa, sb := d.sNode[ja], d.sNode[jb]
+		wa := math.Exp(sa*(q-1)) * d.om1[ja]
+		wb := math.Exp(sb*(q-1)) * d.om1[jb]
+		integral = 0.5*(sa-sLo)*(W(sLo)+wa) + (d.cum[jb] - d.cum[ja]) + 0.5*(sHi-sb)*(wb+W(sHi))
 	}
-	sa := d.lnF0 + float64(ja+d.j0)*d.step
-	sb := d.lnF0 + float64(jb+d.j0)*d.step
-	wa := w(sa, d.om1[ja])
-	wb := w(sb, d.om1[jb])
-	integral := 0.5*(sa-sLo)*(w(sLo, vLo)+wa) + 0.5*(sHi-sb)*(wb+w(sHi, vHi))
-	inner := 0.5 * (wa + wb)
-	for j := ja + 1; j < jb; j++ {
-		inner += w(d.lnF0+float64(j+d.j0)*d.step, d.om1[j])
-	}
-	integral += inner * d.step
-	return sum + integral
+	return sum + math.Exp(lnf*(1-q))*integral
 }
 
 // lagrange4 interpolates tab (uniform nodes 0, 1, ...) at fractional index s

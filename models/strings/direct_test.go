@@ -177,6 +177,10 @@ func TestModeSumConvergence(t *testing.T) {
 	fine.step = d.step / 4
 	f := []float64{1e-10, 1e-9, 1e-8, 1e-7, 1e-6}
 	got, ref := make([]float64, len(f)), make([]float64, len(f))
+	var worstEM, worstGrid float64
+	defer func() {
+		t.Logf("worst relative error: Euler-Maclaurin vs brute force %.2g, grid 0.04 vs 0.01 %.2g", worstEM, worstGrid)
+	}()
 	for _, p := range [][2]float64{{1e-10, 0.1}, {1e-14, 1e-5}, {1e-6, 1e-5}, {1e-12, 1}} {
 		if err := d.Omega(f, p[0], p[1], 1, got); err != nil {
 			t.Fatal(err)
@@ -188,13 +192,13 @@ func TestModeSumConvergence(t *testing.T) {
 				v, _ := d.om1Interp(math.Log(fi / float64(k)))
 				brute += math.Pow(float64(k), -q) * v
 			}
-			// 3e-4: the trapezoidal rule on the 0.04 grid. Its error is
-			// h^2/12 of the tail (1e-5) except where Omega^(1) is dominated
-			// by today's largest loops: just above the cutoff 2/(alpha t0)
-			// it rises over about 0.05 in ln f (H0 t0 = 0.95 makes the
-			// lower limit t* move fast), which costs up to 1.3e-4 at
-			// Gmu = 1e-6, alpha = 1e-5.
-			if rel := math.Abs(got[i]/brute - 1); rel > 3e-4 {
+			// 5e-5: the trapezoidal rule on the 0.04 grid in y = ln(f - f_low)
+			// (error about h^2/12 of the tail, measured 2e-5 at worst, at
+			// Gmu = 1e-6, alpha = 1e-5 where Omega^(1) peaks just above its
+			// cutoff).
+			rel := math.Abs(got[i]/brute - 1)
+			worstEM = math.Max(worstEM, rel)
+			if rel > 5e-5 {
 				t.Errorf("Gmu=%g alpha=%g f=%g: Euler-Maclaurin %.8g, brute force %.8g (rel %.2g)", p[0], p[1], fi, got[i], brute, rel)
 			}
 		}
@@ -202,9 +206,11 @@ func TestModeSumConvergence(t *testing.T) {
 			t.Fatal(err)
 		}
 		for i := range f {
-			// 1e-3: the accuracy we claim for the direct path in the worst
-			// corner (the same cutoff feature; typical points agree to 1e-5).
-			if rel := math.Abs(got[i]/ref[i] - 1); rel > 1e-3 {
+			// 5e-5: the accuracy we claim for the direct path (measured 1.5e-5
+			// at worst; cubic interpolation error falls as h^4).
+			rel := math.Abs(got[i]/ref[i] - 1)
+			worstGrid = math.Max(worstGrid, rel)
+			if rel > 5e-5 {
 				t.Errorf("Gmu=%g alpha=%g f=%g: grid 0.04 gives %.8g, grid 0.01 %.8g (rel %.2g)", p[0], p[1], f[i], got[i], ref[i], rel)
 			}
 		}

@@ -35,7 +35,7 @@ const (
 
 // physicsVersion changes whenever the computation behind a table changes, so
 // that cached tables built by older code are not reused.
-const physicsVersion = 1
+const physicsVersion = 2
 
 // Settings fix everything about the loop network that is not sampled.
 type Settings struct {
