@@ -78,6 +78,57 @@ func (h *History) LnLike(r, from int) []float64 {
 	return out
 }
 
+// maxTau estimates the largest autocorrelation time over the parameters
+// for recorded steps [from, Len()), in steps; NaN if there are too few.
+// To keep checks cheap on long histories it first thins the chain to about
+// coarseSteps steps and refines the thinning to floor(tau/10) until the
+// thinning is at most a tenth of tau, where thinning changes the estimate
+// by less than 0.5 % (see evaluate). The result depends only on the history.
+func (h *History) maxTau(from int) float64 {
+	const coarseSteps = 4096
+	n := h.n - from
+	if n < 4 {
+		return math.NaN()
+	}
+	k := max(1, n/coarseSteps)
+	for range 8 {
+		tau := h.thinnedTau(from, k)
+		next := 1
+		if tau >= 20 {
+			next = int(tau / 10)
+		}
+		if next >= k || math.IsNaN(tau) {
+			return tau
+		}
+		k = next
+	}
+	return h.thinnedTau(from, k)
+}
+
+// thinnedTau is the largest autocorrelation time over the parameters of
+// the chain of recorded steps from, from+k, ..., in unthinned steps.
+func (h *History) thinnedTau(from, k int) float64 {
+	ns := (h.n - from + k - 1) / k
+	if ns < 4 {
+		return math.NaN()
+	}
+	x := make([]float64, ns*h.walkers)
+	tau := math.NaN()
+	for p := range h.dim {
+		for i := range ns {
+			s := from + i*k
+			for w := range h.walkers {
+				x[i*h.walkers+w] = h.pos[(s*h.walkers+w)*h.dim+p]
+			}
+		}
+		t, _ := AutocorrTime(x, ns, h.walkers)
+		if !math.IsNaN(t) && !(t*float64(k) <= tau) {
+			tau = t * float64(k)
+		}
+	}
+	return tau
+}
+
 // Criteria are the convergence conditions of Run; a zero field is not
 // checked. All set conditions must hold at a check.
 type Criteria struct {
@@ -146,8 +197,10 @@ type Result struct {
 	Burn   int // ensemble steps discarded: samples are from steps > Burn
 	Thin   int // chosen thinning
 	// Report holds the diagnostics of the cold rung after burn-in, from
-	// the chain thinned by floor(tau/10) (tau and ESS are in unthinned
-	// steps; Report.Steps counts the post-burn-in steps).
+	// the chain thinned by floor(tau/10) of the slowest parameter (tau and
+	// ESS are in unthinned steps; Report.Steps counts the post-burn-in
+	// steps). Parameters mixing more than ten times faster than the slowest
+	// get a conservative (too large) tau and too small an ESS.
 	Report  Report
 	History *History
 	// BurnIndex is the first History step after burn-in (History.Param(k,
@@ -242,16 +295,7 @@ func evaluate(e *Ensemble, opt RunOptions) evaluation {
 	ev := evaluation{thin: max(opt.Thin, 1), needSteps: math.NaN()}
 	first := max(e.frozenAt, h.start) // ensemble step after which samples are usable
 	u0 := min(first-h.start, h.n)
-	tau0 := math.NaN()
-	if h.n-u0 >= 4 {
-		tau0 = 0
-		for k := range h.dim {
-			t, _ := AutocorrTime(h.Param(k, u0), h.n-u0, h.walkers)
-			if !math.IsNaN(t) {
-				tau0 = math.Max(tau0, t)
-			}
-		}
-	}
+	tau0 := h.maxTau(u0)
 	burn := first
 	if opt.Burn >= 0 {
 		burn = max(opt.Burn, first)

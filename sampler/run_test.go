@@ -102,3 +102,27 @@ func TestRunStops(t *testing.T) {
 		}
 	})
 }
+
+// TestHistoryMaxTau checks the thinned autocorrelation time used by Run's
+// checks against the full-resolution estimate on the same AR(1) data.
+func TestHistoryMaxTau(t *testing.T) {
+	const steps, walkers = 40000, 8
+	for _, phi := range []float64{0.5, 0.99} {
+		a := ar1(phi, steps, walkers, 17)
+		// Parameter 1 mixes fast (tau = 1.22), so parameter 0 sets the
+		// maximum.
+		b := ar1(0.1, steps, walkers, 18)
+		h := &History{n: steps, walkers: walkers, dim: 2, rungs: 1, pos: make([]float64, steps*walkers*2)}
+		for i := range a {
+			h.pos[2*i], h.pos[2*i+1] = a[i], b[i]
+		}
+		full, _ := AutocorrTime(a, steps, walkers)
+		got := h.maxTau(0)
+		// Thinning by at most tau/10 changes the AR(1) value
+		// (1+phi^k)/(1-phi^k) k by under 0.5 % (closed form); 3 % allows for
+		// the estimators' different noise on the same data.
+		if math.Abs(got-full) > 0.03*full {
+			t.Errorf("phi = %v: thinned tau %.4g, full-resolution %.4g", phi, got, full)
+		}
+	}
+}
