@@ -176,12 +176,18 @@ func TestSplitMatchesOneProcess(t *testing.T) {
 	}
 	sameResults(t, at("single"), at("merged-own"))
 
-	// Task 1 again with another seed (its --out differs, so only its folder).
-	other := slices.Clone(splitOpts)
-	other[slices.Index(other, "--seed")+1] = "4"
-	args := append(append([]string{"compare"}, other...), "--task", "1", "--tasks", strconv.Itoa(splitTasks), "--out", at("other-seed"))
-	if code, out := tl(t, bin, args...); code != 0 {
-		t.Fatalf("task 1 with another seed: exit %d\n%s", code, out)
+	// Task 1 again with another seed, and with another ladder, each into a
+	// folder of its own.
+	for _, v := range []struct{ dir, flag, value string }{
+		{"other-seed", "--seed", "4"},
+		{"other-ladder", "--rungs", "15"},
+	} {
+		opts := slices.Clone(splitOpts)
+		opts[slices.Index(opts, v.flag)+1] = v.value
+		args := append(append([]string{"compare"}, opts...), "--task", "1", "--tasks", strconv.Itoa(splitTasks), "--out", at(v.dir))
+		if code, out := tl(t, bin, args...); code != 0 {
+			t.Fatalf("task 1 with %s %s: exit %d\n%s", v.flag, v.value, code, out)
+		}
 	}
 
 	refusals := []struct {
@@ -194,6 +200,7 @@ func TestSplitMatchesOneProcess(t *testing.T) {
 		{"task 1 from another seed", []string{own[0], at("other-seed"), own[2]}, "belongs to another comparison"},
 		{"another seed's task 1 listed first", []string{at("other-seed"), own[0], own[1], own[2]}, "belongs to another comparison"},
 		{"another seed's task 1 listed last", []string{own[0], own[1], own[2], at("other-seed")}, "belongs to another comparison"},
+		{"task 1 with another ladder", []string{own[0], at("other-ladder"), own[2]}, "belongs to another comparison"},
 	}
 	for i, c := range refusals {
 		t.Run(c.name, func(t *testing.T) {
