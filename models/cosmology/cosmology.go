@@ -163,7 +163,7 @@ func (b *Background) tabulateDOF() error {
 	b.lnTG = make([]float64, n)
 	b.gStar = make([]float64, n)
 	b.gStarS = make([]float64, n)
-	th := newThermo(thermoN)
+	th := newThermoTable(newThermo(thermoN))
 	for i := range n {
 		lt := lnTGMin + float64(i)*lnTGStep
 		b.lnTG[i] = lt
@@ -208,7 +208,22 @@ func (b *Background) solveLnTemp(x float64) float64 {
 	if b.p.DOF == DOFConstant {
 		return math.Log(b.p.TCMB*kelvinGeV) - x
 	}
-	// Below the table g*s = gs0; above, constant at its top value.
+	// Newton's method from the guess with today's g*s, which converges in
+	// a few steps because T g*s^(1/3) rises steeply with T; bisection on
+	// the bracket [target - ln(200)/3, target] as a fallback.
+	lt := target - math.Log(b.gs0)/3
+	for range 30 {
+		f := b.lnEntropyT(lt) - target
+		d := (b.lnEntropyT(lt+1e-6) - b.lnEntropyT(lt-1e-6)) / 2e-6
+		if !(d > 0) {
+			break
+		}
+		step := f / d
+		lt -= step
+		if math.Abs(step) < 1e-12 {
+			return lt
+		}
+	}
 	lo, hi := target-math.Log(200.0)/3, target
 	for range bisectMax {
 		mid := 0.5 * (lo + hi)

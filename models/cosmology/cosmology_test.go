@@ -194,6 +194,23 @@ func TestBadParams(t *testing.T) {
 	}
 }
 
+// TestThermoTable: the interpolated integrals match direct quadrature to
+// 1e-9 (cubic interpolation error about h^4/384 times the fourth derivative,
+// with h = 0.005 in ln x).
+func TestThermoTable(t *testing.T) {
+	th := newThermo(thermoN)
+	tab := newThermoTable(th)
+	for _, fermion := range []bool{false, true} {
+		for x := 1e-9; x < 44; x *= 1.37 {
+			r1, s1 := th.integrals(x, fermion)
+			r2, s2 := tab.integrals(x, fermion)
+			if math.Abs(r1-r2) > 1e-9 || math.Abs(s1-s2) > 1e-9 {
+				t.Errorf("fermion=%v x=%g: table (%.12g, %.12g), quadrature (%.12g, %.12g)", fermion, x, r2, s2, r1, s1)
+			}
+		}
+	}
+}
+
 func BenchmarkNew(b *testing.B) {
 	for b.Loop() {
 		if _, err := New(Planck18()); err != nil {

@@ -119,6 +119,49 @@ func (t thermo) integrals(x float64, fermion bool) (jrho, js float64) {
 	return 15 / math.Pow(math.Pi, 4) * sr, 45 / (4 * math.Pow(math.Pi, 4)) * ss
 }
 
+// thermoTable holds J_rho and J_s for bosons and fermions on a uniform grid
+// in ln x (step 0.005, x from e^-25 to 45), so that g*(T) costs four cubic
+// interpolations per species instead of four quadratures; the cubic
+// interpolation error is below 1e-9 (checked in tests). Below the grid the
+// massless values apply; above x = 45 the integrals vanish (< 1e-18).
+type thermoTable struct {
+	rho, s [2][]float64 // [boson, fermion]
+}
+
+const (
+	thermoLnX0   = -25.0
+	thermoLnXStp = 0.005
+	thermoXMax   = 45.0
+)
+
+func newThermoTable(th thermo) thermoTable {
+	n := int(math.Ceil((math.Log(thermoXMax)-thermoLnX0)/thermoLnXStp)) + 4
+	var t thermoTable
+	for k, fermion := range []bool{false, true} {
+		t.rho[k] = make([]float64, n)
+		t.s[k] = make([]float64, n)
+		for i := range n {
+			t.rho[k][i], t.s[k][i] = th.integrals(math.Exp(thermoLnX0+float64(i)*thermoLnXStp), fermion)
+		}
+	}
+	return t
+}
+
+func (t thermoTable) integrals(x float64, fermion bool) (jrho, js float64) {
+	if x > thermoXMax {
+		return 0, 0
+	}
+	k := 0
+	if fermion {
+		k = 1
+	}
+	if x <= 0 {
+		return t.rho[k][0], t.s[k][0]
+	}
+	u := (math.Log(x) - thermoLnX0) / thermoLnXStp
+	return lagrange4(t.rho[k], u), lagrange4(t.s[k], u)
+}
+
 // dofAt returns g*(T) and g*s(T) at temperature T (GeV) for the Standard
 // Model content with nEff effective neutrino species.
 //
@@ -128,7 +171,7 @@ func (t thermo) integrals(x float64, fermion bool) (jrho, js float64) {
 // nEff - 3 (non-instantaneous decoupling) is switched on in proportion to the
 // fraction of electron entropy already transferred, so that g* = 10.75 above
 // an MeV and g*0 = 2 + (7/4) nEff (4/11)^(4/3) today.
-func dofAt(th thermo, T, nEff float64) (gs, gss float64) {
+func dofAt(th thermoTable, T, nEff float64) (gs, gss float64) {
 	wq := qcdWeight(T)
 	for _, s := range smSpecies {
 		jr, js := th.integrals(s.mass/T, s.fermion)
