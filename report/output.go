@@ -67,10 +67,12 @@ func writeFileAtomic(path string, data []byte) error {
 		return fmt.Errorf("report: %w", err)
 	}
 	tmp := f.Name()
+	// CreateTemp makes the file private (0600); products are for sharing.
+	merr := f.Chmod(0o644)
 	_, werr := f.Write(data)
 	serr := f.Sync()
 	cerr := f.Close()
-	for _, e := range []error{werr, serr, cerr} {
+	for _, e := range []error{merr, werr, serr, cerr} {
 		if e != nil {
 			os.Remove(tmp)
 			return fmt.Errorf("report: writing %s: %w", path, e)
