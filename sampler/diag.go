@@ -448,6 +448,12 @@ type Report struct {
 // acc, the per-walker acceptance fractions, may be nil; names, if not nil,
 // label the parameters.
 func Diagnose(pos []float64, steps, walkers, dim int, acc []float64, names []string) (Report, error) {
+	return diagnose(pos, steps, walkers, dim, acc, names, true)
+}
+
+// diagnose is Diagnose; without tails it leaves BulkESS and TailESS NaN,
+// which saves most of the work.
+func diagnose(pos []float64, steps, walkers, dim int, acc []float64, names []string, tails bool) (Report, error) {
 	if dim < 1 || steps < 1 || walkers < 1 || len(pos) != steps*walkers*dim {
 		return Report{}, fmt.Errorf("sampler: Diagnose: have %d values, want steps x walkers x dim = %d x %d x %d", len(pos), steps, walkers, dim)
 	}
@@ -462,7 +468,11 @@ func Diagnose(pos []float64, steps, walkers, dim int, acc []float64, names []str
 		}
 		tau, err := AutocorrTime(x, steps, walkers)
 		p := ParamReport{Index: k, Tau: tau, TauReliable: err == nil, ESS: float64(steps*walkers) / tau}
-		p.Rhat, p.BulkESS, p.TailESS = vehtari(x, steps, walkers)
+		if tails {
+			p.Rhat, p.BulkESS, p.TailESS = vehtari(x, steps, walkers)
+		} else {
+			p.Rhat, p.BulkESS, p.TailESS = SplitRhat(x, steps, walkers), math.NaN(), math.NaN()
+		}
 		if names != nil {
 			p.Name = names[k]
 		}

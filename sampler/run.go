@@ -140,12 +140,17 @@ type Criteria struct {
 // RunOptions control Run. Step counts are ensemble step counts (as
 // Ensemble.Steps), so a resumed run keeps its schedule.
 type RunOptions struct {
-	MaxSteps   int      // stop here if not converged; must be > 0
-	MinSteps   int      // never stop as converged before this
-	Burn       int      // steps discarded; -1 chooses 5 tau after the ladder froze
-	Thin       int      // thinning for the products; 0 chooses max(1, floor(tau/2))
-	Until      Criteria // convergence conditions
-	CheckEvery int      // steps between convergence checks; 0 means 500
+	MaxSteps int      // stop here if not converged; must be > 0
+	MinSteps int      // never stop as converged before this
+	Burn     int      // steps discarded; -1 chooses 5 tau after the ladder froze
+	Thin     int      // thinning for the products; 0 chooses max(1, floor(tau/2))
+	Until    Criteria // convergence conditions
+	// CheckEvery is the interval between convergence checks, 0 meaning
+	// 500. A check costs time proportional to the history, so from the
+	// 32nd check on the interval doubles whenever the step count doubles
+	// (16 checks per doubling; see isCheckStep), which keeps the checks a
+	// bounded fraction of a long run.
+	CheckEvery int
 	// OnStep, if not nil, is called after every step (to write chains); an
 	// error stops the run and is returned.
 	OnStep func(e *Ensemble) error
@@ -159,7 +164,7 @@ type Progress struct {
 	Rate      float64       // steps per second during this Run
 	MaxTau    float64       // largest autocorrelation time
 	MinESS    float64       // smallest ESS after burn-in
-	MaxRhat   float64       // largest split R-hat
+	MaxRhat   float64       // largest split R-hat (bulk and tail ESS are left for the Result)
 	Burn      int           // burn-in chosen at this check
 	Converged bool          // all criteria hold
 	ETA       time.Duration // estimated time to convergence; -1 if unknown
@@ -237,10 +242,8 @@ func Run(ctx context.Context, e *Ensemble, opt RunOptions) (Result, error) {
 	t0 := time.Now()
 	s0 := e.steps
 	var ev evaluation
-	evaluated := -1
 	check := func() bool {
-		ev = evaluate(e, opt)
-		evaluated = e.steps
+		ev = evaluate(e, opt, false)
 		if opt.OnCheck != nil {
 			opt.OnCheck(ev.progress(e, opt, t0, s0))
 		}
@@ -251,7 +254,7 @@ func Run(ctx context.Context, e *Ensemble, opt RunOptions) (Result, error) {
 	// A checkpoint written by OnStep at a check step precedes that step's
 	// check: repeat it so that a resumed run decides as the original did
 	// (evaluate depends only on the history, so repeating it is harmless).
-	if e.hist.n > 0 && e.steps%opt.CheckEvery == 0 && check() {
+	if e.hist.n > 0 && isCheckStep(e.steps, opt.CheckEvery) && check() {
 		status = Converged
 	}
 	for status != Converged && e.steps < opt.MaxSteps {
@@ -267,18 +270,33 @@ func Run(ctx context.Context, e *Ensemble, opt RunOptions) (Result, error) {
 				return Result{}, fmt.Errorf("sampler: step %d: %w", e.steps, err)
 			}
 		}
-		if (e.steps%opt.CheckEvery == 0 || e.steps == opt.MaxSteps) && check() {
+		if (isCheckStep(e.steps, opt.CheckEvery) || e.steps == opt.MaxSteps) && check() {
 			status = Converged
 		}
 	}
-	if evaluated != e.steps {
-		ev = evaluate(e, opt)
-	}
+	// The final report adds bulk and tail ESS, which no decision uses.
+	ev = evaluate(e, opt, true)
 	return Result{
 		Status: status, Steps: e.steps, Burn: ev.burn, Thin: ev.thin,
 		Report: ev.report, History: e.hist, BurnIndex: ev.burnIndex,
 		LadderFrozenAt: e.frozenAt, Betas: e.Betas(), SwapAcceptance: e.SwapAcceptance(),
 	}, runErr
+}
+
+// isCheckStep reports whether Run checks convergence after step s: at
+// multiples of every up to 32 every, then at multiples of 2^j every for
+// s in [2^(j+4), 2^(j+5)) every. It depends only on s, so a resumed run
+// checks at the same steps.
+func isCheckStep(s, every int) bool {
+	if s <= 0 || s%every != 0 {
+		return false
+	}
+	q := s / every
+	m := 1
+	for q >= 32*m {
+		m *= 2
+	}
+	return q%m == 0
 }
 
 type evaluation struct {
@@ -290,7 +308,7 @@ type evaluation struct {
 
 // evaluate applies the burn-in, thinning and convergence rules to the
 // history; it depends on nothing but the history and options.
-func evaluate(e *Ensemble, opt RunOptions) evaluation {
+func evaluate(e *Ensemble, opt RunOptions, final bool) evaluation {
 	h := e.hist
 	ev := evaluation{thin: max(opt.Thin, 1), needSteps: math.NaN()}
 	first := max(e.frozenAt, h.start) // ensemble step after which samples are usable
@@ -322,7 +340,7 @@ func evaluate(e *Ensemble, opt RunOptions) evaluation {
 	for s := ev.burnIndex; s < h.n; s += k {
 		pos = append(pos, h.pos[s*row:(s+1)*row]...)
 	}
-	rep, err := Diagnose(pos, ns, h.walkers, h.dim, e.AcceptanceFractions(0), nil)
+	rep, err := diagnose(pos, ns, h.walkers, h.dim, e.AcceptanceFractions(0), nil, final)
 	if err != nil {
 		return ev
 	}

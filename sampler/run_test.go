@@ -126,3 +126,33 @@ func TestHistoryMaxTau(t *testing.T) {
 		}
 	}
 }
+
+func TestIsCheckStep(t *testing.T) {
+	tests := []struct {
+		every int
+		steps []int
+		want  []bool
+	}{
+		// Below 32 intervals every multiple is checked.
+		{10, []int{0, 5, 10, 20, 310, 315}, []bool{false, false, true, true, true, false}},
+		// From 32 to 64 intervals every second, from 64 to 128 every fourth.
+		{10, []int{320, 330, 340, 640, 650, 660, 670, 680}, []bool{true, false, true, true, false, false, false, true}},
+	}
+	for _, tc := range tests {
+		for i, s := range tc.steps {
+			if got := isCheckStep(s, tc.every); got != tc.want[i] {
+				t.Errorf("isCheckStep(%d, %d) = %v, want %v", s, tc.every, got, tc.want[i])
+			}
+		}
+	}
+	// 16 checks per doubling once the interval grows.
+	n := 0
+	for s := 3200; s < 6400; s++ {
+		if isCheckStep(s, 10) {
+			n++
+		}
+	}
+	if n != 16 {
+		t.Errorf("%d checks between steps 3200 and 6400, want 16", n)
+	}
+}
