@@ -39,6 +39,10 @@ var ErrOutsideTable = errors.New("strings: parameters outside the tabulated doma
 // the direct path by more than 0.01 in ln Omega inside the band.
 var ErrCertification = errors.New("strings: table failed certification")
 
+// ErrCacheWrite is wrapped by LoadTable when a freshly built table could not
+// be written to the cache; the table itself is returned and usable.
+var ErrCacheWrite = errors.New("strings: could not cache the table")
+
 var errStepTable = errors.New("strings: table: the step C_eff puts a kink in Omega(f) whose position moves with (Gmu, alpha), which an interpolating table would smooth over; use the direct path for CEff = \"step\"")
 
 // A Certificate records how well a table reproduces the direct path: the
@@ -140,9 +144,25 @@ func BuildTable(s Settings, opt BuildOptions) (*Table, error) {
 		return nil, err
 	}
 	t := newEmptyTable(s)
+	all := make([]int, t.nG*t.nA)
+	for i := range all {
+		all[i] = i
+	}
+	if err := t.computeNodes(proto, max(1, opt.Workers), all, opt.Progress); err != nil {
+		return nil, err
+	}
+	cert, err := t.certify(proto, opt)
+	t.cert = cert
+	if err != nil {
+		return nil, err
+	}
+	return t, nil
+}
+
+// computeNodes fills the rows of the given (Gmu, alpha) nodes (index
+// iG*nA + iA) with ln Omega from the direct path, on workers goroutines.
+func (t *Table) computeNodes(proto *Direct, workers int, nodes []int, progress func(done, total int)) error {
 	fn := t.lnFNodes()
-	workers := max(1, opt.Workers)
-	total := t.nG * t.nA
 	jobs := make(chan int)
 	var (
 		wg       sync.WaitGroup
@@ -173,27 +193,19 @@ func BuildTable(s Settings, opt BuildOptions) (*Table, error) {
 					firstErr = err
 				}
 				done++
-				if opt.Progress != nil {
-					opt.Progress(done, total)
+				if progress != nil {
+					progress(done, len(nodes))
 				}
 				mu.Unlock()
 			}
 		}()
 	}
-	for j := range total {
+	for _, j := range nodes {
 		jobs <- j
 	}
 	close(jobs)
 	wg.Wait()
-	if firstErr != nil {
-		return nil, firstErr
-	}
-	cert, err := t.certify(proto, opt)
-	t.cert = cert
-	if err != nil {
-		return nil, err
-	}
-	return t, nil
+	return firstErr
 }
 
 // certify compares the table with the direct path (see Certificate).
@@ -467,7 +479,8 @@ func CachePath(s Settings, cacheDir string) (string, error) {
 // s has the default settings' hash, else the cached file under cacheDir
 // (see CachePath), else a freshly built and certified table, which it then
 // caches. A cached file that is corrupt or built for other settings is
-// rebuilt.
+// rebuilt. If only the caching fails, it returns the table together with an
+// error wrapping ErrCacheWrite.
 func LoadTable(s Settings, cacheDir string, build BuildOptions) (*Table, error) {
 	if err := s.Validate(); err != nil {
 		return nil, err
@@ -492,7 +505,7 @@ func LoadTable(s Settings, cacheDir string, build BuildOptions) (*Table, error) 
 		return nil, err
 	}
 	if err := t.WriteFile(path); err != nil {
-		return t, err
+		return t, fmt.Errorf("%w: %w", ErrCacheWrite, err)
 	}
 	return t, nil
 }
