@@ -251,7 +251,9 @@ func TestReportFit(t *testing.T) {
 	if len(m2.Masses) != 2 || math.Abs(m2.Masses[0]-(1-math.Exp(-0.5))) > 1e-15 || math.Abs(m2.Masses[1]-(1-math.Exp(-2))) > 1e-15 || len(m2.Levels) != 2 {
 		t.Errorf("--sigma2d: masses %v, levels %v", m2.Masses, m2.Levels)
 	}
-	if got := reportFiles(t, alt); slices.ContainsFunc(got, func(s string) bool { return strings.HasSuffix(s, ".png") || strings.Contains(s, "spectrum") || strings.Contains(s, "trace") }) {
+	if got := reportFiles(t, alt); slices.ContainsFunc(got, func(s string) bool {
+		return strings.HasSuffix(s, ".png") || strings.Contains(s, "spectrum") || strings.Contains(s, "trace")
+	}) {
 		t.Errorf("--formats svg --no-spectrum --no-trace still wrote %v", got)
 	}
 
