@@ -142,6 +142,14 @@ func TestGStarLimits(t *testing.T) {
 	if g := b.Gdof(1e17); math.Abs(g/0.39-1) > 0.02 {
 		t.Errorf("Gdof(high T) = %.4f, want about 0.39", g)
 	}
+	// Today: T = T_CMB (2.7255 K = 2.3487e-13 GeV with k_B = 8.617333e-5
+	// eV/K, CODATA) and Gdof = 1 by definition; 1e-6 is the table's rounding.
+	if got := b.T(0); math.Abs(got/2.34865e-13-1) > 1e-5 {
+		t.Errorf("T(0) = %.6g GeV, want 2.34865e-13", got)
+	}
+	if g := b.Gdof(0); math.Abs(g-1) > 1e-6 {
+		t.Errorf("Gdof(0) = %.8f, want 1", g)
+	}
 	// Entropy conservation: T a g*s^(1/3) is constant (PHYSICS.md section 2).
 	for _, z := range []float64{0, 1e5, 1e9, 1e11, 1e12, 1e13, 1e15} {
 		T := b.T(z)
