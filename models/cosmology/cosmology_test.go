@@ -143,7 +143,8 @@ func TestGStarLimits(t *testing.T) {
 		t.Errorf("Gdof(high T) = %.4f, want about 0.39", g)
 	}
 	// Today: T = T_CMB (2.7255 K = 2.3487e-13 GeV with k_B = 8.617333e-5
-	// eV/K, CODATA) and Gdof = 1 by definition; 1e-6 is the table's rounding.
+	// eV/K, CODATA; 1e-5 is the rounding of that value) and Gdof = 1 by
+	// definition (1e-6: interpolation rounding).
 	if got := b.T(0); math.Abs(got/2.34865e-13-1) > 1e-5 {
 		t.Errorf("T(0) = %.6g GeV, want 2.34865e-13", got)
 	}
