@@ -22,6 +22,9 @@ type Config struct {
 	Moves []WeightedMove
 	// Betas is the ladder of inverse temperatures, cold rung first:
 	// Betas[0] = 1, strictly decreasing, the last >= 0. nil means {1}.
+	// A ladder may also start below 1: it is then one block of a longer
+	// ladder, sampled as its own ensemble; rung 0 is still the one whose
+	// positions Run records and diagnoses.
 	Betas []float64
 	// SwapEvery is the number of steps between swap rounds between
 	// neighbouring rungs; 0 means 1.

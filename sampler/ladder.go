@@ -52,18 +52,20 @@ func PowerLadder(n int, exponent float64) ([]float64, error) {
 	return b, nil
 }
 
-// checkLadder verifies that betas starts at 1 and strictly decreases to a
-// value >= 0.
+// checkLadder verifies that betas lies in (0, 1] at its start and strictly
+// decreases to a value >= 0. A ladder usually starts at the cold rung
+// beta = 1; one that does not is a block of a longer ladder run as its own
+// ensemble (no swaps reach the rungs outside it).
 func checkLadder(betas []float64) error {
 	if len(betas) == 0 {
 		return fmt.Errorf("sampler: Betas is empty (nil means the single rung {1})")
 	}
-	if betas[0] != 1 {
-		return fmt.Errorf("sampler: Betas[0] must be 1 (the cold rung), got %v", betas[0])
+	if !(betas[0] > 0 && betas[0] <= 1) {
+		return fmt.Errorf("sampler: Betas[0] must be in (0, 1] (1 is the cold rung), got %v", betas[0])
 	}
 	for i := 1; i < len(betas); i++ {
 		if !(betas[i] < betas[i-1]) || !(betas[i] >= 0) {
-			return fmt.Errorf("sampler: Betas must decrease strictly from 1 to a value >= 0; Betas[%d] = %v after Betas[%d] = %v",
+			return fmt.Errorf("sampler: Betas must decrease strictly to a value >= 0; Betas[%d] = %v after Betas[%d] = %v",
 				i, betas[i], i-1, betas[i-1])
 		}
 	}

@@ -30,6 +30,9 @@ scale. Every ln Z carries a Monte-Carlo error (batch means along the chain)
 and a discretisation error (the ladder against its every-other-rung
 sub-ladder); the table shows both and their sum.
 
+Each rung discards the first quarter of its steps as burn-in unless --burn
+is given (the same for every rung, so that rung blocks line up).
+
 With no options it compares smbhb, strings and strings+smbhb on the embedded
 simulated string demo. Results go to --out: compare.json, compare.csv and,
 per model, models/NAME/ (evidence.json, lnl_beta.csv: the ln L-versus-beta
@@ -262,14 +265,23 @@ func runUnit(ctx context.Context, e *env, lg *logrus.Logger, cfg Config, co comp
 			return err
 		}
 		prog := newProgress(e, lg, steps)
+		burn := cfg.Sampler.Burn
+		if burn < 0 {
+			// Every block of a ladder must keep the same steps, so the
+			// burn-in is a fixed share rather than chosen per block.
+			burn = steps / 4
+		}
 		res, err := sampler.Run(ctx, ens, sampler.RunOptions{
-			MaxSteps: steps, Burn: cfg.Sampler.Burn, Thin: cfg.Sampler.Thin, CheckEvery: max(100, steps/10),
+			MaxSteps: steps, Burn: burn, Thin: cfg.Sampler.Thin, CheckEvery: max(100, steps/10),
 			OnStep: func(en *sampler.Ensemble) error { prog.update(en.Steps(), u.Model, 0); return nil },
 		})
 		prog.finish()
 		ens.Close()
 		if err != nil {
 			return err
+		}
+		if t := res.Report.MaxTau; 5*t > float64(burn) {
+			lg.Warnf("model %s, rung block %d: burn-in of %d steps is under 5 autocorrelation times (tau %.0f); give more --steps", u.Model, u.Block, burn, t)
 		}
 		rungs := unitRungs(res, betas)
 		ev, evErr := integrateRungs(rungs)
