@@ -750,6 +750,12 @@ func reportReadCurve(path string) (beta, mean, se []float64, err error) {
 	if err != nil {
 		return nil, nil, nil, err
 	}
+	return reportParseCurve(path, raw)
+}
+
+// reportParseCurve parses the bytes of lnl_beta.csv; path names it in
+// errors.
+func reportParseCurve(path string, raw []byte) (beta, mean, se []float64, err error) {
 	lines := strings.Split(strings.TrimSpace(string(raw)), "\n")
 	if len(lines) < 2 {
 		return nil, nil, nil, fmt.Errorf("%s: no rungs", path)

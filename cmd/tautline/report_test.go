@@ -427,3 +427,61 @@ func TestReportExclusion(t *testing.T) {
 		}
 	}
 }
+
+// FuzzReportMasses checks that --masses never panics and that what it
+// accepts is a sorted list of distinct masses in (0, 1).
+func FuzzReportMasses(f *testing.F) {
+	for _, s := range []string{"0.68,0.95", "68,95", "0.393,0.865", "", ",", "1", "100", "-1", "nan", "inf", "0.5,0.5", "1e-300"} {
+		f.Add(s)
+	}
+	f.Fuzz(func(t *testing.T, s string) {
+		ms, err := reportParseMasses(s)
+		if err != nil {
+			return
+		}
+		for i, m := range ms {
+			if !(m > 0 && m < 1) || (i > 0 && !(m > ms[i-1])) {
+				t.Fatalf("%q gave masses %v", s, ms)
+			}
+		}
+	})
+}
+
+// FuzzReportTruths checks that --truth (entries separated by ';' here)
+// never panics and accepts only named, finite values.
+func FuzzReportTruths(f *testing.F) {
+	for _, s := range []string{"log10_A=-14.6", "gamma=13/3", "a=1;b=2", "=1", "a=", "a", "a=1/0", "a=nan", "a==1"} {
+		f.Add(s)
+	}
+	f.Fuzz(func(t *testing.T, s string) {
+		got, err := reportParseTruths(strings.Split(s, ";"))
+		if err != nil {
+			return
+		}
+		for k, v := range got {
+			if k == "" || math.IsNaN(v) || math.IsInf(v, 0) {
+				t.Fatalf("%q gave %q = %v", s, k, v)
+			}
+		}
+	})
+}
+
+// FuzzReportCurve checks that the lnl_beta.csv reader never panics and
+// returns columns of equal length.
+func FuzzReportCurve(f *testing.F) {
+	for _, s := range []string{
+		"beta,mean_ln_like,mean_err,var_ln_like,tau_steps,ess\n0,-900,30,1e6,5,97\n1,-60,0.1,2,7,80\n",
+		"beta,mean_ln_like,mean_err\n0.5,-1,0.1\n",
+		"beta,mean_ln_like\n0,1\n",
+		"beta,mean_ln_like,mean_err\n0,x,1\n",
+		"", "\n\n", "beta,mean_ln_like,mean_err\n0,1\n",
+	} {
+		f.Add([]byte(s))
+	}
+	f.Fuzz(func(t *testing.T, raw []byte) {
+		b, m, e, err := reportParseCurve("lnl_beta.csv", raw)
+		if err == nil && (len(b) != len(m) || len(b) != len(e) || len(b) == 0) {
+			t.Fatalf("%d beta, %d means, %d errors", len(b), len(m), len(e))
+		}
+	})
+}
