@@ -49,7 +49,8 @@ var errStepTable = errors.New("strings: table: the step C_eff puts a kink in Ome
 // maximum and 99th-percentile absolute error of ln Omega over Points
 // comparisons at random (log10 Gmu, log10 alpha) inside the default prior
 // box and random frequencies in [BandLo, BandHi], plus a set of points at
-// the centres of the table's cells (the worst case for interpolation).
+// the centre of every (Gmu, alpha) cell of the table at ln f cell centres
+// (the worst case for interpolation).
 type Certificate struct {
 	MaxErr, P99Err float64
 	Points         int
@@ -85,8 +86,8 @@ type BuildOptions struct {
 	// Seed seeds the certification points.
 	Seed uint64
 	// CertPoints is the number of random (Gmu, alpha) points, each compared
-	// at 8 frequencies; 0 means 200. A further 50 cell-centre points are
-	// always added.
+	// at 8 frequencies; 0 means 200. The 1000 cell centres are always
+	// added.
 	CertPoints int
 	// Progress, if not nil, is called after each grid node (from worker
 	// goroutines, serialised).
@@ -210,30 +211,43 @@ func (t *Table) computeNodes(proto *Direct, workers int, nodes []int, progress f
 
 // certify compares the table with the direct path (see Certificate).
 func (t *Table) certify(proto *Direct, opt BuildOptions) (Certificate, error) {
+	return t.certifyCells(proto, opt, -1)
+}
+
+// certifyCells is certify with at most maxCells cell centres (all when
+// negative); tests use a few.
+func (t *Table) certifyCells(proto *Direct, opt BuildOptions, maxCells int) (Certificate, error) {
 	n := opt.CertPoints
 	if n <= 0 {
 		n = 200
 	}
-	const centres = 50
 	rng := rand.New(rand.NewPCG(opt.Seed, 0x7461757463657274))
 	type point struct{ lg, la float64 }
-	pts := make([]point, 0, n+centres)
+	var pts []point
 	for range n {
 		pts = append(pts, point{tableGLo + (tableGHi-tableGLo)*rng.Float64(), tableALo + (tableAHi-tableALo)*rng.Float64()})
 	}
-	for range centres {
-		ig := rng.IntN(int(math.Round((tableGHi - tableGLo) / tableGStep)))
-		ia := rng.IntN(int(math.Round((tableAHi - tableALo) / tableAStep)))
-		pts = append(pts, point{tableGLo + (float64(ig)+0.5)*tableGStep, tableALo + (float64(ia)+0.5)*tableAStep})
+	// Every (Gmu, alpha) cell centre inside the domain, each at random
+	// ln f cell centres inside the band: the worst case for interpolation.
+	cg := int(math.Round((tableGHi - tableGLo) / tableGStep))
+	ca := int(math.Round((tableAHi - tableALo) / tableAStep))
+	for ig := range cg {
+		for ia := range ca {
+			if maxCells >= 0 && len(pts)-n >= maxCells {
+				break
+			}
+			pts = append(pts, point{tableGLo + (float64(ig)+0.5)*tableGStep, tableALo + (float64(ia)+0.5)*tableAStep})
+		}
 	}
+	kLo := int(math.Ceil((math.Log(certBandLo)-t.f0)/tableLnFStep - 0.5))
+	kHi := int(math.Floor((math.Log(certBandHi)-t.f0)/tableLnFStep - 0.5))
 	freqs := make([][]float64, len(pts))
 	for i := range pts {
 		f := make([]float64, certFreqsPerPoint)
 		for j := range f {
-			if i >= n && j%2 == 0 {
-				// Cell centres in ln f too, inside the band.
-				k := rng.IntN(int((math.Log(certBandHi) - math.Log(certBandLo)) / tableLnFStep))
-				f[j] = certBandLo * math.Exp((float64(k)+0.5)*tableLnFStep)
+			if i >= n {
+				k := kLo + rng.IntN(kHi-kLo+1)
+				f[j] = math.Exp(t.f0 + (float64(k)+0.5)*tableLnFStep)
 				continue
 			}
 			f[j] = certBandLo * math.Pow(certBandHi/certBandLo, rng.Float64())

@@ -30,7 +30,7 @@ func TestEmbeddedTableCurrent(t *testing.T) {
 	}
 	tab := defaultTable(t)
 	c := tab.Certificate()
-	if c.Points < 2000 || !(c.MaxErr <= certMaxErr) || c.BandLo != certBandLo || c.BandHi != certBandHi {
+	if c.Points < 9000 || !(c.MaxErr <= certMaxErr) || c.BandLo != certBandLo || c.BandHi != certBandHi {
 		t.Errorf("embedded certificate %v does not meet the 0.01 requirement", c)
 	}
 	t.Logf("embedded table: %v", c)
@@ -318,7 +318,7 @@ func TestCertificationCatchesErrors(t *testing.T) {
 		t.Fatal(err)
 	}
 	opt := BuildOptions{Workers: 2, CertPoints: 5, Seed: 7}
-	if _, err := tab.certify(d, opt); err != nil {
+	if _, err := tab.certifyCells(d, opt, 20); err != nil {
 		t.Fatalf("intact table failed: %v", err)
 	}
 	bad := *tab
@@ -326,7 +326,7 @@ func TestCertificationCatchesErrors(t *testing.T) {
 	for i := range bad.data {
 		bad.data[i] += 0.02
 	}
-	if _, err := bad.certify(d, opt); !errors.Is(err, ErrCertification) {
+	if _, err := bad.certifyCells(d, opt, 20); !errors.Is(err, ErrCertification) {
 		t.Errorf("shifted table: certify returned %v, want ErrCertification", err)
 	}
 }
