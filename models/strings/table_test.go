@@ -299,7 +299,7 @@ func BenchmarkLoadEmbedded(b *testing.B) {
 }
 
 // BenchmarkTableBuild builds and certifies the default table on 2 workers
-// (about 45 s on a loaded 2-core machine); run with -benchtime=1x.
+// (45-55 s wall on a shared 2-core machine); run with -benchtime=1x.
 func BenchmarkTableBuild(b *testing.B) {
 	for b.Loop() {
 		if _, err := BuildTable(DefaultSettings(), BuildOptions{Workers: 2, Seed: 1}); err != nil {
