@@ -1,6 +1,7 @@
 package chains
 
 import (
+	"bufio"
 	"encoding/binary"
 	"errors"
 	"fmt"
@@ -95,7 +96,9 @@ func readNPY(f *os.File) (rows, cols int, data []float64, err error) {
 	if _, err := f.Seek(0, io.SeekStart); err != nil {
 		return 0, 0, nil, err
 	}
-	r, err := npy.NewReader(f)
+	// The decoder reads value by value; buffer it, or each value is a
+	// system call.
+	r, err := npy.NewReader(bufio.NewReaderSize(f, 1<<16))
 	if err != nil {
 		return 0, 0, nil, fmt.Errorf("not a .npy file: %w", err)
 	}
