@@ -487,7 +487,7 @@ func finalize(out string, dirs []string) (*compareResult, error) {
 			continue
 		}
 		r.LnB, r.LnBErr = evidence.BayesFactor(r.TI, refRow.TI)
-		r.Reading = evidence.KassRaftery(r.LnB)
+		r.Reading = strings.NewReplacer("the first model", r.Model, "the second model", refRow.Model).Replace(evidence.KassRaftery(r.LnB))
 	}
 	if err := writeJSON(filepath.Join(out, "compare.json"), res); err != nil {
 		return nil, err
