@@ -3,8 +3,11 @@ package main
 import (
 	"bytes"
 	"context"
+	"encoding/json"
+	"math"
 	"os"
 	"path/filepath"
+	"strconv"
 	"strings"
 	"testing"
 )
@@ -124,5 +127,75 @@ func TestFitDeterministic(t *testing.T) {
 	}
 	if n := bytes.Count(chains[0], []byte("\n")); n != 1+300*16 {
 		t.Errorf("chain.csv has %d lines, want header + 300 x 16", n)
+	}
+}
+
+// TestConvert checks the conversions the command prints against the check
+// values of PHYSICS.md section 9 (1.35e17 kg/m and 0.52 mas at Gmu = 1e-10;
+// eta ~ 1e16 GeV at Gmu = 1e-6, common practice) and that the caveat is
+// printed.
+func TestConvert(t *testing.T) {
+	cases := []struct {
+		args []string
+		want []string
+	}{
+		{[]string{"--gmu", "1e-10"}, []string{"1.34659e+17", "0.5184", "order-of-magnitude"}},
+		{[]string{"--gmu", "1e-6"}, []string{"1.221e+16"}},
+		{[]string{"--mu", "1.34659e17"}, []string{"log10 = -10.0000"}},
+		{[]string{"--separation", "0.5184", "--json"}, []string{`"max_image_separation_mas": 0.5184`, `"eta_caveat"`}},
+	}
+	for _, c := range cases {
+		code, out, errs := runCLI(t, append([]string{"convert"}, c.args...)...)
+		if code != 0 {
+			t.Fatalf("convert %v: exit %d: %s", c.args, code, errs)
+		}
+		for _, w := range c.want {
+			if !strings.Contains(out, w) {
+				t.Errorf("convert %v: output lacks %q:\n%s", c.args, w, out)
+			}
+		}
+	}
+	if code, _, errs := runCLI(t, "convert", "--gmu", "1e-10", "--mu", "3"); code != 2 || !strings.Contains(errs, "exactly one") {
+		t.Errorf("two inputs: exit %d, %s", code, errs)
+	}
+}
+
+// TestSpectrumSMBHB checks `spectrum` against the closed form of the power
+// law (PHYSICS.md section 4): at f = f_yr, h_c = A, and log10 rho follows
+// from S = h_c^2/(12 pi^2 f^3), rho^2 = S/T (section 5), computed here by hand.
+func TestSpectrumSMBHB(t *testing.T) {
+	fyr := 1 / secondsPerYear
+	code, out, errs := runCLI(t, "spectrum", "--model", "smbhb", "--param", "log10_A=-15", "--param", "gamma=13/3",
+		"--freqs", strconv.FormatFloat(fyr, 'g', -1, 64), "--span-yr", "10", "--format", "json")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	var doc struct {
+		Rows []spectrumRow `json:"spectrum"`
+	}
+	if err := json.Unmarshal([]byte(out), &doc); err != nil || len(doc.Rows) != 1 {
+		t.Fatalf("bad JSON (%v):\n%s", err, out)
+	}
+	r := doc.Rows[0]
+	wantPSD := 1e-30 / (12 * math.Pi * math.Pi * fyr * fyr * fyr)
+	wantRho := 0.5 * math.Log10(wantPSD/(10*secondsPerYear))
+	// Tolerance: the conversions are exact, so only rounding (1e-12) remains.
+	if math.Abs(r.Hc-1e-15)/1e-15 > 1e-12 || math.Abs(r.PSD-wantPSD)/wantPSD > 1e-12 || math.Abs(r.Log10Rho-wantRho) > 1e-12 {
+		t.Errorf("got h_c %g, S %g, log10 rho %g; want 1e-15, %g, %g", r.Hc, r.PSD, r.Log10Rho, wantPSD, wantRho)
+	}
+}
+
+// TestFitStrings runs a short string-model fit on the string demo through
+// the embedded table and checks the summary names the three parameters.
+func TestFitStrings(t *testing.T) {
+	dir := t.TempDir()
+	code, out, errs := runCLI(t, "fit", "--model", "strings", "--steps", "300", "--walkers", "16", "--out", dir, "--log-level", "warn")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	for _, w := range []string{"log10_Gmu", "log10_alpha", "log10_P", "Model strings on strings (30 bins)"} {
+		if !strings.Contains(out, w) {
+			t.Errorf("summary lacks %q:\n%s", w, out)
+		}
 	}
 }
