@@ -93,6 +93,10 @@ func LnLBetaFigure(stem string, beta, mean, stderr []float64, axis BetaAxis, o F
 type Trace struct {
 	Label, Unit string
 	Walkers     [][]float64
+	// Every is the number of steps between consecutive stored values of a
+	// chain already thinned by the caller (1 when 0); the step axis counts
+	// sampler steps either way.
+	Every int
 }
 
 // Limits on what a trace figure draws, to keep files small.
@@ -119,6 +123,7 @@ func TraceFigure(stem string, traces []Trace, o FigureOptions, progress func(don
 		addGrid(p)
 		nw := len(tr.Walkers)
 		stride := max(1, (nw+maxTraceWalkers-1)/maxTraceWalkers)
+		every := max(tr.Every, 1)
 		for w := 0; w < nw; w += stride {
 			ch := tr.Walkers[w]
 			if len(ch) < 2 {
@@ -128,7 +133,7 @@ func TraceFigure(stem string, traces []Trace, o FigureOptions, progress func(don
 			xy := make(plotter.XYs, 0, len(ch)/th+1)
 			for t := 0; t < len(ch); t += th {
 				if finite(ch[t]) {
-					xy = append(xy, plotter.XY{X: float64(t), Y: ch[t]})
+					xy = append(xy, plotter.XY{X: float64(t * every), Y: ch[t]})
 				}
 			}
 			if len(xy) < 2 {

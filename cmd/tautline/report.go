@@ -1,6 +1,7 @@
 package main
 
 import (
+	"bufio"
 	"context"
 	"encoding/json"
 	"errors"
@@ -217,6 +218,7 @@ type reportModel struct {
 	samples    []float64 // rows x cols, row-major
 	npyPath    string
 	chainPath  string // fit runs: chain.csv ("" when absent)
+	steps      int    // fit runs: steps per walker in chain.csv (0: unknown)
 	evPath     string // compare runs: evidence.json ("" when absent)
 	curvePath  string // compare runs: lnl_beta.csv ("" when absent)
 }
@@ -260,7 +262,10 @@ func loadFitRun(dir, metaPath string, traces bool) (*reportRun, error) {
 		return nil, err
 	}
 	var status struct {
-		Status string `json:"status"`
+		Status   string `json:"status"`
+		Sampling struct {
+			Steps int `json:"steps"`
+		} `json:"sampling"`
 	}
 	if raw, err := os.ReadFile(metaPath); err == nil {
 		_ = json.Unmarshal(raw, &status)
@@ -289,7 +294,7 @@ func loadFitRun(dir, metaPath string, traces bool) (*reportRun, error) {
 		return nil, err
 	}
 	if c := filepath.Join(dir, "chain.csv"); traces && reportExists(c) {
-		rm.chainPath = c
+		rm.chainPath, rm.steps = c, status.Sampling.Steps
 	}
 	return &reportRun{kind: "fit", dir: dir, models: []*reportModel{rm}}, nil
 }
@@ -669,41 +674,21 @@ func reportLabel(label, name string) string {
 	return name
 }
 
+// reportTracePoints is about how many steps per walker the trace figure
+// keeps; the chain is thinned while it is read, so a long run's chain.csv
+// is never held in memory whole.
+const reportTracePoints = 1500
+
 // writeTrace draws every walker of chain.csv against step.
 func (w *reportWriter) writeTrace(dir string, m *reportModel) error {
 	w.lg.WithField("model", m.name).Info("reading chain.csv for the trace figure")
-	cols, rows, err := chains.ReadCSV(m.chainPath)
+	every := max(1, (m.steps+reportTracePoints-1)/reportTracePoints)
+	traces, err := reportReadTraces(m.chainPath, m.names, every)
 	if err != nil {
 		return err
 	}
-	iw := slices.Index(cols, "walker")
-	if iw < 0 || len(rows) == 0 {
-		return fmt.Errorf("%s: no walker column or no rows", m.chainPath)
-	}
-	nw := 0
-	for _, r := range rows {
-		nw = max(nw, int(r[iw])+1)
-	}
-	if nw < 1 || nw > len(rows) {
-		return fmt.Errorf("%s: walker column out of range", m.chainPath)
-	}
-	var traces []report.Trace
-	add := func(ci int, label, unit string) {
-		tr := report.Trace{Label: label, Unit: unit, Walkers: make([][]float64, nw)}
-		for _, r := range rows {
-			k := int(r[iw])
-			if k >= 0 && k < nw {
-				tr.Walkers[k] = append(tr.Walkers[k], r[ci])
-			}
-		}
-		traces = append(traces, tr)
-	}
-	for k, n := range m.names {
-		ci := slices.Index(cols, n)
-		if ci < 0 {
-			return fmt.Errorf("%s has no column %s", m.chainPath, n)
-		}
-		add(ci, reportLabel(m.labels[k], n), m.units[k])
+	for k := range traces {
+		traces[k].Label, traces[k].Unit = reportLabel(m.labels[k], m.names[k]), m.units[k]
 	}
 	files, err := report.TraceFigure(filepath.Join(dir, "trace"), traces, w.figOpts(), nil)
 	if err != nil {
@@ -711,6 +696,74 @@ func (w *reportWriter) writeTrace(dir string, m *reportModel) error {
 	}
 	w.add(files...)
 	return nil
+}
+
+// reportReadTraces reads the columns names of a chain file written by
+// chains.Writer (header "# step,walker,..."), keeping steps 1, 1+every,
+// 1+2 every, ... of every walker.
+func reportReadTraces(path string, names []string, every int) ([]report.Trace, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, err
+	}
+	defer f.Close()
+	sc := bufio.NewScanner(f)
+	sc.Buffer(make([]byte, 1<<16), 1<<24)
+	if !sc.Scan() {
+		return nil, fmt.Errorf("%s: line 1: empty file, want a header", path)
+	}
+	head := sc.Text()
+	if !strings.HasPrefix(head, "#") {
+		return nil, fmt.Errorf("%s: line 1: header must start with '#'", path)
+	}
+	cols := strings.Split(strings.TrimSpace(head[1:]), ",")
+	is, iw := slices.Index(cols, "step"), slices.Index(cols, "walker")
+	if is < 0 || iw < 0 {
+		return nil, fmt.Errorf("%s: line 1: no step or walker column", path)
+	}
+	idx := make([]int, len(names))
+	for k, n := range names {
+		if idx[k] = slices.Index(cols, n); idx[k] < 0 {
+			return nil, fmt.Errorf("%s: line 1: no column %s", path, n)
+		}
+	}
+	traces := make([]report.Trace, len(names))
+	for k := range traces {
+		traces[k].Every = every
+	}
+	line := 1
+	for sc.Scan() {
+		line++
+		fields := strings.Split(sc.Text(), ",")
+		if len(fields) != len(cols) {
+			return nil, fmt.Errorf("%s: line %d: %d fields, want %d", path, line, len(fields), len(cols))
+		}
+		step, err1 := strconv.Atoi(fields[is])
+		wk, err2 := strconv.Atoi(fields[iw])
+		if err1 != nil || err2 != nil || step < 1 || wk < 0 || wk > 1<<20 {
+			return nil, fmt.Errorf("%s: line %d: bad step or walker", path, line)
+		}
+		if (step-1)%every != 0 {
+			continue
+		}
+		for k, c := range idx {
+			v, err := strconv.ParseFloat(fields[c], 64)
+			if err != nil {
+				return nil, fmt.Errorf("%s: line %d: %s: %q is not a number", path, line, names[k], fields[c])
+			}
+			for len(traces[k].Walkers) <= wk {
+				traces[k].Walkers = append(traces[k].Walkers, nil)
+			}
+			traces[k].Walkers[wk] = append(traces[k].Walkers[wk], v)
+		}
+	}
+	if err := sc.Err(); err != nil {
+		return nil, fmt.Errorf("%s: line %d: %w", path, line+1, err)
+	}
+	if len(names) > 0 && len(traces[0].Walkers) == 0 {
+		return nil, fmt.Errorf("%s: no rows", path)
+	}
+	return traces, nil
 }
 
 // writeLnLBeta draws the ln L-versus-beta curve from evidence.json, or from

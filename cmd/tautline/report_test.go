@@ -485,3 +485,28 @@ func FuzzReportCurve(f *testing.F) {
 		}
 	})
 }
+
+// FuzzReportTraces checks that the thinning chain reader never panics and
+// keeps, per parameter, the same walkers with the same number of steps.
+func FuzzReportTraces(f *testing.F) {
+	for _, s := range []string{
+		"# step,walker,ln_post,ln_like,a,b\n1,0,-1,-1,0.5,2\n1,1,-1,-1,0.6,2\n2,0,-1,-1,0.5,2\n2,1,-1,-1,0.7,3\n",
+		"# step,walker,a\n1,0,1\n", "# step,walker,a\n", "step,walker,a\n1,0,1\n", "# step,walker,a\n1,0\n",
+		"# step,walker,a\n0,0,1\n", "# step,walker,a\n1,-1,1\n", "# step,walker,a\n1,3,x\n", "",
+	} {
+		f.Add([]byte(s), uint8(1))
+	}
+	f.Fuzz(func(t *testing.T, raw []byte, every uint8) {
+		path := filepath.Join(t.TempDir(), "chain.csv")
+		if err := os.WriteFile(path, raw, 0o644); err != nil {
+			t.Fatal(err)
+		}
+		tr, err := reportReadTraces(path, []string{"a"}, max(1, int(every)))
+		if err != nil {
+			return
+		}
+		if len(tr) != 1 || len(tr[0].Walkers) == 0 {
+			t.Fatalf("accepted a chain with no rows: %+v", tr)
+		}
+	})
+}
