@@ -166,6 +166,16 @@ func SpectrumFigure(stem string, sd SpectrumData, o FigureOptions) ([]string, er
 		p.Legend.Add(m.Name, ln)
 	}
 	p.Add(lines...)
+	// Keep the outermost violins clear of the axes: pad the data range by
+	// 3 % (in log f for the frequency axis).
+	if p.X.Min > 0 && p.X.Max > p.X.Min {
+		lo, hi := math.Log10(p.X.Min), math.Log10(p.X.Max)
+		pad := 0.03 * (hi - lo)
+		p.X.Min, p.X.Max = math.Pow(10, lo-pad), math.Pow(10, hi+pad)
+	}
+	if pad := 0.03 * (p.Y.Max - p.Y.Min); pad > 0 {
+		p.Y.Min, p.Y.Max = p.Y.Min-pad, p.Y.Max+pad
+	}
 	// Spectra fall with frequency, leaving the lower left empty.
 	p.Legend.Top = false
 	p.Legend.Left = true
