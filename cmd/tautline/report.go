@@ -526,6 +526,16 @@ func (w *reportWriter) writeModel(m *reportModel) error {
 			w.data = pb.data
 		}
 	}
+	if pb == nil && slices.Contains(m.labels, "") {
+		// Labels and units only: the model without data or likelihood.
+		if md, err := buildModel(m.cfg, w.lg.Debugf); err == nil {
+			for _, p := range md.Params() {
+				if k := slices.Index(m.names, p.Name); k >= 0 && m.labels[k] == "" {
+					m.labels[k], m.units[k] = p.Label, p.Unit
+				}
+			}
+		}
+	}
 	ps := make([]report.Param, m.cols)
 	for k := range ps {
 		pr, err := priors.Parse(m.priors[k])
