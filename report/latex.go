@@ -230,8 +230,8 @@ type Evidence struct {
 	// the reference and its error as the caller computed them (for example
 	// from a derivative-corrected TI estimate); tables then quote them
 	// instead of recomputing with BayesFactor, so that one run never shows
-	// two different ln B. Reading, when not empty, replaces the words of
-	// Interpret.
+	// two different ln B. Reading, when not empty, is plain text that
+	// replaces the words of Interpret.
 	LnBSet      bool
 	LnB, LnBErr float64
 	Reading     string
@@ -331,6 +331,9 @@ func ComparisonTable(rows []Evidence, reference string, sig int) (string, error)
 		if i != ri {
 			lnB, e, w := r.bayesAgainst(ref)
 			cell, words = pm(lnB, e), w
+			if r.Reading != "" {
+				words = escapeText(w)
+			}
 			if r.Reading == "" && finite(lnB) && math.Abs(lnB) >= 1 {
 				fav := r
 				if lnB < 0 {

@@ -147,7 +147,7 @@ func TestComparisonGivenLnB(t *testing.T) {
 		{Model: "strings", LnZTI: -7, LnZTIErr: 0.2, LnZSS: -7.1, LnZSSErr: 0.12,
 			LnBSet: true, LnB: 3, LnBErr: math.Hypot(0.2, 0.1)},
 		{Model: "sum", LnZTI: -9, LnZTIErr: 0.2, LnZSS: -9, LnZSSErr: 0.2,
-			LnBSet: true, LnB: 1, LnBErr: 0.3, Reading: "caller's words"},
+			LnBSet: true, LnB: 1, LnBErr: 0.3, Reading: "caller's_words"},
 	}
 	tab, err := ComparisonTable(rows, "smbhb", 2)
 	if err != nil {
@@ -155,7 +155,7 @@ func TestComparisonGivenLnB(t *testing.T) {
 	}
 	for _, want := range []string{
 		`strings & $-7.00 \pm 0.20$ & $-7.10 \pm 0.12$ & $3.00 \pm 0.22$ & strong for strings \\`,
-		`sum & $-9.00 \pm 0.20$ & $-9.00 \pm 0.20$ & $1.00 \pm 0.30$ & caller's words \\`,
+		`sum & $-9.00 \pm 0.20$ & $-9.00 \pm 0.20$ & $1.00 \pm 0.30$ & caller's\_words \\`,
 	} {
 		if !strings.Contains(tab, want) {
 			t.Errorf("comparison table lacks %q:\n%s", want, tab)
@@ -170,7 +170,7 @@ func TestComparisonGivenLnB(t *testing.T) {
 	}
 	readJSON(t, filepath.Join(dir, "comparison.json"), &cj)
 	if len(cj.Models) != 3 || cj.Models[1]["ln_b"] != 3.0 || cj.Models[1]["ln_b_err"] != math.Hypot(0.2, 0.1) ||
-		cj.Models[0]["ln_b"] != 0.0 || cj.Models[2]["evidence"] != "caller's words" {
+		cj.Models[0]["ln_b"] != 0.0 || cj.Models[2]["evidence"] != "caller's_words" {
 		t.Errorf("comparison.json models: %v", cj.Models)
 	}
 }

@@ -1004,8 +1004,12 @@ func (w *reportWriter) writeComparison() error {
 	res := w.run.cmp
 	var rows []report.Evidence
 	for _, r := range res.Rows {
-		rows = append(rows, report.Evidence{Model: r.Model, LnZTI: r.TI.LnZ, LnZTIErr: r.TI.Total, LnZSS: r.SS.LnZ, LnZSSErr: r.SS.Total,
-			LnBSet: true, LnB: r.LnB, LnBErr: r.LnBErr})
+		ev := report.Evidence{Model: r.Model, LnZTI: r.TI.LnZ, LnZTIErr: r.TI.Total, LnZSS: r.SS.LnZ, LnZSSErr: r.SS.Total,
+			LnBSet: true, LnB: r.LnB, LnBErr: r.LnBErr}
+		if r.Model != res.Reference {
+			ev.Reading = r.Reading // compare.json's words, so the table reads as compare printed
+		}
+		rows = append(rows, ev)
 	}
 	meta := w.meta(strings.Join(reportModelNames(w.run), ","))
 	meta.Extra["ln_z_ti"] = "derivative-corrected trapezoid (compare.json ln_z_ti), total error"

@@ -314,6 +314,7 @@ func TestReportCompare(t *testing.T) {
 	alt.TI.LnZ += 2.5
 	alt.SS.LnZ += 0.7
 	alt.LnB, alt.LnBErr = 2.5, math.Hypot(res.Rows[0].TI.Total, alt.TI.Total)
+	alt.Reading = "positive support for alt_model"
 	res.Rows = append(res.Rows, alt)
 	if err := writeJSON(cmpPath, res); err != nil {
 		t.Fatal(err)
@@ -355,7 +356,7 @@ func TestReportCompare(t *testing.T) {
 	}
 	cell := "$" + report.FormatPM(alt.LnB, alt.LnBErr, 2) + "$"
 	ss := "$" + report.FormatPM(alt.SS.LnZ-res.Rows[0].SS.LnZ, math.Hypot(alt.SS.Total, res.Rows[0].SS.Total), 2) + "$"
-	if !bytes.Contains(tex, []byte(cell)) || bytes.Contains(tex, []byte(ss)) {
+	if !bytes.Contains(tex, []byte(cell+` & positive support for alt\_model \\`)) || bytes.Contains(tex, []byte(ss)) {
 		t.Errorf("comparison.tex does not quote compare.json's ln B %s (stepping-stone would give %s):\n%s", cell, ss, tex)
 	}
 	var cj struct {
