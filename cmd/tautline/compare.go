@@ -2,6 +2,8 @@ package main
 
 import (
 	"context"
+	"crypto/sha256"
+	"encoding/hex"
 	"encoding/json"
 	"errors"
 	"flag"
@@ -210,12 +212,15 @@ func unitSeed(seed uint64, model, block int) uint64 {
 
 // partMeta is the self-description of one unit's result.
 type partMeta struct {
-	Schema      int              `json:"schema"`
-	Version     string           `json:"tautline_version"`
-	Unit        compareUnit      `json:"unit"`
-	Reference   string           `json:"reference"`
-	Models      []string         `json:"models"`
-	Fingerprint string           `json:"fingerprint"`
+	Schema      int         `json:"schema"`
+	Version     string      `json:"tautline_version"`
+	Unit        compareUnit `json:"unit"`
+	Reference   string      `json:"reference"`
+	Models      []string    `json:"models"`
+	Fingerprint string      `json:"fingerprint"`
+	// Comparison identifies the whole comparison (data, every option and
+	// the seed): parts merge only with parts of the same comparison.
+	Comparison  string           `json:"comparison"`
 	Config      Config           `json:"config"`
 	DataName    string           `json:"data_name"`
 	DataSHA256  string           `json:"data_sha256"`
@@ -309,6 +314,18 @@ func runUnit(ctx context.Context, e *env, lg *logrus.Logger, cfg Config, co comp
 	}
 }
 
+// comparisonID hashes everything that decides a comparison's result: the
+// data, the configuration and the compare options, but not the task split
+// or where the output goes.
+func comparisonID(cfg Config, co compareOpts, dataSHA string) string {
+	c := cfg
+	c.Output, c.Sampler.Workers = OutputConfig{}, 0
+	o := co
+	o.task, o.tasks, o.cmdline = 0, 0, ""
+	h := sha256.Sum256([]byte(fmt.Sprintf("%s\n%s\n%+v", dataSHA, marshalConfig(c), o)))
+	return hex.EncodeToString(h[:])
+}
+
 // mergeLadder adds the betas in extra to the decreasing ladder, keeping it
 // decreasing and at most max long.
 func mergeLadder(betas, extra []float64, maxN int) []float64 {
@@ -361,7 +378,8 @@ func writePart(u compareUnit, co compareOpts, mc Config, pb *problem, fp string,
 	u.Betas = betas
 	pm := partMeta{
 		Schema: 1, Version: version, Unit: u, Reference: co.reference, Models: splitList(co.models), Fingerprint: fp,
-		Config: mc, DataName: pb.data.Name, DataSHA256: pb.data.SHA256, Params: pb.post.FreeNames(), Priors: freePriors(pb),
+		Comparison: comparisonID(cfg, co, pb.data.SHA256),
+		Config:     mc, DataName: pb.data.Name, DataSHA256: pb.data.SHA256, Params: pb.post.FreeNames(), Priors: freePriors(pb),
 		Steps: steps, Walkers: h.Walkers(), BurnIndex: res.BurnIndex, Recorded: rec, Swap: res.SwapAcceptance,
 		Passes: passes,
 	}
@@ -411,6 +429,7 @@ type compareResult struct {
 // their outputs are identical.
 func finalize(out string, dirs []string) (*compareResult, error) {
 	parts := map[string]partMeta{}
+	src := map[string]string{}
 	var keys []string
 	for _, d := range dirs {
 		matches, err := filepath.Glob(filepath.Join(d, "parts", "*", "part.json"))
@@ -427,14 +446,14 @@ func finalize(out string, dirs []string) (*compareResult, error) {
 				return nil, fmt.Errorf("%s: %w", m, err)
 			}
 			k := fmt.Sprintf("%04d.%04d", pm.Unit.Index, pm.Unit.Block)
-			if _, dup := parts[k]; dup {
-				continue // the same unit from two folders (e.g. a merged output folder listed again)
+			if prev, dup := parts[k]; dup {
+				if prev.Comparison != pm.Comparison {
+					return nil, fmt.Errorf("%s and %s hold the same unit (model %s, block %d) from different comparisons (data, options or seed differ)", src[k], m, pm.Unit.Model, pm.Unit.Block)
+				}
+				continue // the same unit listed twice (e.g. a merged folder given again)
 			}
-			parts[k] = pm
+			parts[k], src[k] = pm, m
 			keys = append(keys, k)
-			if err := copyPart(filepath.Dir(m), pm.Unit.dir(out)); err != nil {
-				return nil, err
-			}
 		}
 	}
 	if len(parts) == 0 {
@@ -446,9 +465,8 @@ func finalize(out string, dirs []string) (*compareResult, error) {
 	byModel := map[string][]partMeta{}
 	for _, k := range keys {
 		pm := parts[k]
-		if pm.DataSHA256 != first.DataSHA256 || pm.Reference != first.Reference || !slices.Equal(pm.Models, first.Models) ||
-			pm.Config.Sampler.Seed != first.Config.Sampler.Seed || pm.Unit.Blocks != first.Unit.Blocks {
-			return nil, fmt.Errorf("part %s (model %s, block %d) belongs to another comparison (data, models, reference or seed differ)", k, pm.Unit.Model, pm.Unit.Block)
+		if pm.Comparison != first.Comparison {
+			return nil, fmt.Errorf("%s (model %s, block %d) belongs to another comparison than %s (data, options or seed differ)", src[k], pm.Unit.Model, pm.Unit.Block, src[keys[0]])
 		}
 		byModel[pm.Unit.Model] = append(byModel[pm.Unit.Model], pm)
 	}
@@ -466,6 +484,11 @@ func finalize(out string, dirs []string) (*compareResult, error) {
 	}
 	if len(missing) > 0 {
 		return nil, fmt.Errorf("no parts for %s (of %d rung block(s) per model): run every task before merging", strings.Join(missing, ", "), first.Unit.Blocks)
+	}
+	for _, k := range keys {
+		if err := copyPart(filepath.Dir(src[k]), parts[k].Unit.dir(out)); err != nil {
+			return nil, err
+		}
 	}
 	var refRow *compareRow
 	for _, m := range first.Models {
