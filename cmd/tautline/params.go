@@ -91,3 +91,25 @@ func describeTheta(ps []models.Param, theta []float64) string {
 	}
 	return strings.Join(parts, ", ")
 }
+
+// modelAt builds the configured model and evaluates ln Omega_GW at freqs
+// for the parameters given as NAME=VALUE (the rest from injectionDefaults).
+func modelAt(cfg Config, given []string, freqs []float64) (models.Model, []float64, []float64, error) {
+	m, err := buildModel(cfg, nil)
+	if err != nil {
+		return nil, nil, nil, err
+	}
+	theta, err := paramValues(m, given)
+	if err != nil {
+		return nil, nil, nil, err
+	}
+	sp, err := m.At(freqs)
+	if err != nil {
+		return nil, nil, nil, err
+	}
+	ln := make([]float64, len(freqs))
+	if err := sp.LnOmega(theta, ln); err != nil {
+		return nil, nil, nil, fmt.Errorf("model %s at %s: %w", m.Name(), describeTheta(m.Params(), theta), err)
+	}
+	return m, theta, ln, nil
+}

@@ -45,14 +45,6 @@ func runSimulate(_ context.Context, e *env, args []string) error {
 	if fs.NArg() != 0 {
 		return fmt.Errorf("%w: unexpected argument %q", errUsage, fs.Arg(0))
 	}
-	m, err := buildModel(cfg, nil)
-	if err != nil {
-		return err
-	}
-	theta, err := paramValues(m, params)
-	if err != nil {
-		return err
-	}
 	arr := simulate.Array{
 		Pulsars: *pulsars, Span: *spanYr * secondsPerYear, Cadence: *cadenceDays * 86400,
 		Sigma: *sigmaNs * 1e-9, Bins: *bins,
@@ -61,13 +53,9 @@ func runSimulate(_ context.Context, e *env, args []string) error {
 	for i := range freqs {
 		freqs[i] = float64(i+1) / arr.Span
 	}
-	sp, err := m.At(freqs)
+	m, theta, lnOmega, err := modelAt(cfg, params, freqs)
 	if err != nil {
 		return err
-	}
-	lnOmega := make([]float64, len(freqs))
-	if err := sp.LnOmega(theta, lnOmega); err != nil {
-		return fmt.Errorf("model %s at %v: %w", m.Name(), theta, err)
 	}
 	ds, err := simulate.Run(lnOmega, arr, gw.H0SI(cfg.Cosmology.H0), *seed, simulate.GridOptions{Samples: *samples})
 	if err != nil {

@@ -57,21 +57,9 @@ func runSpectrum(_ context.Context, e *env, args []string) error {
 	if *spanYr <= 0 {
 		return fmt.Errorf("%w: --span-yr must be > 0, got %g", errUsage, *spanYr)
 	}
-	m, err := buildModel(cfg, nil)
+	m, theta, ln, err := modelAt(cfg, params, freqs)
 	if err != nil {
 		return err
-	}
-	theta, err := paramValues(m, params)
-	if err != nil {
-		return err
-	}
-	sp, err := m.At(freqs)
-	if err != nil {
-		return err
-	}
-	ln := make([]float64, len(freqs))
-	if err := sp.LnOmega(theta, ln); err != nil {
-		return fmt.Errorf("model %s at %s: %w", m.Name(), describeTheta(m.Params(), theta), err)
 	}
 	h0 := gw.H0SI(cfg.Cosmology.H0)
 	span := *spanYr * secondsPerYear
