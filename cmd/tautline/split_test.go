@@ -13,10 +13,10 @@ import (
 )
 
 // splitOpts is a comparison small enough to run several times in a test:
-// one model, its ladder cut into three rung blocks, so that three tasks get
-// one unit each.
+// two models, each ladder cut into two rung blocks; of the four units, three
+// tasks get two, one and one, so a task holds units of both models.
 var splitOpts = []string{
-	"--models", "smbhb", "--data", "demo:smbhb", "--rungs", "12", "--rung-blocks", "3",
+	"--models", "smbhb,strings", "--data", "demo:smbhb", "--rungs", "12", "--rung-blocks", "2",
 	"--steps", "600", "--walkers", "16", "--seed", "3", "--log-level", "warn",
 }
 
@@ -116,8 +116,10 @@ func sameResults(t *testing.T, want, got string) {
 	if !slices.Equal(wf, gf) {
 		t.Fatalf("merged folder holds %v, one process wrote %v", gf, wf)
 	}
-	if !slices.Contains(wf, filepath.Join("models", "smbhb", "evidence.json")) {
-		t.Fatalf("one process wrote no models/smbhb/evidence.json: %v", wf)
+	for _, m := range []string{"smbhb", "strings"} {
+		if f := filepath.Join("models", m, "evidence.json"); !slices.Contains(wf, f) {
+			t.Fatalf("one process wrote no %s: %v", f, wf)
+		}
 	}
 	for _, f := range wf {
 		a, err1 := os.ReadFile(filepath.Join(want, f))

@@ -20,10 +20,11 @@ repo=$(cd "$here/../.." && pwd)
 export PATH="$PATH:/usr/local/go/bin"
 
 tasks=3
-# A grid of 3 units (one model x 3 rung blocks), one per task, a few seconds
-# of sampling in all. The tasks run with GOMAXPROCS=1, the single process
-# with every CPU: results must not depend on it.
-opts=(--models smbhb --data demo:smbhb --rungs 12 --rung-blocks 3 --steps 1000 --walkers 16 --seed 11 --log-level warn)
+# A grid of 4 units (2 models x 2 rung blocks) over 3 tasks, so that one
+# task runs units of both models; a few seconds of sampling in all. The
+# tasks run with GOMAXPROCS=1, the single process with every CPU: results
+# must not depend on it.
+opts=(--models smbhb,strings --data demo:smbhb --rungs 12 --rung-blocks 2 --steps 1000 --walkers 16 --seed 11 --log-level warn)
 timeout_s=90
 
 fail() { echo "FAIL: slurm job array: $*"; exit 1; }
