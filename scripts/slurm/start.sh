@@ -10,9 +10,9 @@ here=$(cd "$(dirname "$0")" && pwd)
 dir=${SLURM_DIR:-/tmp/tautline-slurm}
 ctlport=${SLURM_CTL_PORT:-6817}
 dport=${SLURM_D_PORT:-6818}
-host=$(hostname -s)
+host=$(uname -n | cut -d. -f1) # the short name slurmd finds itself by
 cpus=$(nproc)
-mem=$(free -m | awk '/^Mem:/ {print $2}')
+mem=$(awk '/^MemTotal:/ {print int($2 / 1024)}' /proc/meminfo) # MiB
 mkdir -p "$dir"/state "$dir/spool/$host" "$dir"/log "$dir"/out "$dir"/munge
 # munged runs as the munge user and checks that the path to its key and
 # socket is not writable by others.
