@@ -81,7 +81,7 @@ cleanup() {
   exit $rc
 }
 trap cleanup EXIT
-trap 'exit 130' INT TERM
+trap 'echo "FAIL: slurm job array: interrupted"; exit 130' INT TERM
 
 # Free ports for this cluster (another one may be running on the defaults).
 port_free() { ! (exec 3<>"/dev/tcp/127.0.0.1/$1") 2>/dev/null; }
