@@ -208,7 +208,7 @@ func TestSplitMatchesOneProcess(t *testing.T) {
 			if code != 1 || !strings.Contains(msg, c.want) {
 				t.Errorf("merge %v: exit %d, want 1 and %q in:\n%s", c.dirs, code, c.want, msg)
 			}
-			for _, f := range []string{"compare.json", "compare.csv", "models"} {
+			for _, f := range []string{"compare.json", "compare.csv", "models", "parts"} {
 				if _, err := os.Stat(filepath.Join(out, f)); err == nil {
 					t.Errorf("refused merge left %s in its output folder", f)
 				}
