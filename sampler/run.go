@@ -142,7 +142,7 @@ type Criteria struct {
 type RunOptions struct {
 	MaxSteps int      // stop here if not converged; must be > 0
 	MinSteps int      // never stop as converged before this
-	Burn     int      // steps discarded; -1 chooses 5 tau after the ladder froze
+	Burn     int      // steps discarded; -1 chooses max(5 tau, a tenth of the run) after the ladder froze
 	Thin     int      // thinning for the products; 0 chooses max(1, floor(tau/2))
 	Until    Criteria // convergence conditions
 	// CheckEvery is the interval between convergence checks, 0 meaning
@@ -318,7 +318,10 @@ func evaluate(e *Ensemble, opt RunOptions, final bool) evaluation {
 	if opt.Burn >= 0 {
 		burn = max(opt.Burn, first)
 	} else if !math.IsNaN(tau0) {
-		burn = first + int(math.Ceil(5*tau0))
+		// Five autocorrelation times, but at least a tenth of the usable
+		// run (common practice): a walker that started far out can take
+		// longer than 5 tau of the settled ensemble to join it.
+		burn = first + max(int(math.Ceil(5*tau0)), (e.steps-first)/10)
 	}
 	ev.burn = burn
 	ev.burnIndex = min(burn-h.start, h.n)

@@ -49,7 +49,7 @@ func bindModel(fs *flag.FlagSet, cfg *Config) {
 func bindSampler(fs *flag.FlagSet, cfg *Config) {
 	fs.IntVar(&cfg.Sampler.Walkers, "walkers", cfg.Sampler.Walkers, "number of ensemble walkers (at least 2 x the number of sampled parameters, even)")
 	fs.IntVar(&cfg.Sampler.Steps, "steps", cfg.Sampler.Steps, "number of ensemble steps; with --until, the cap on steps (100000 when --until is given and --steps is not)")
-	fs.IntVar(&cfg.Sampler.Burn, "burn", cfg.Sampler.Burn, "steps discarded as burn-in in the summary; -1 chooses 5 autocorrelation times")
+	fs.IntVar(&cfg.Sampler.Burn, "burn", cfg.Sampler.Burn, "steps discarded as burn-in in the summary; -1 chooses 5 autocorrelation times or a tenth of the run, whichever is longer")
 	fs.IntVar(&cfg.Sampler.Thin, "thin", cfg.Sampler.Thin, "keep every n-th step in the posterior samples; 0 chooses from the autocorrelation time")
 	fs.Uint64Var(&cfg.Sampler.Seed, "seed", cfg.Sampler.Seed, "random seed; the same seed gives byte-identical chains")
 	fs.IntVar(&cfg.Sampler.Workers, "workers", cfg.Sampler.Workers, "goroutines evaluating walkers; 0 uses every CPU (results do not depend on it)")
