@@ -154,7 +154,11 @@ func compare(ctx context.Context, e *env, lg *logrus.Logger, cfg Config, co comp
 		return fmt.Errorf("%w: --models is empty", errUsage)
 	}
 	if co.tasks < 1 || co.task >= co.tasks {
-		return fmt.Errorf("%w: want 0 <= --task < --tasks, got --task %d --tasks %d", errUsage, co.task, co.tasks)
+		hint := ""
+		if os.Getenv("SLURM_ARRAY_TASK_ID") != "" {
+			hint = " (SLURM_ARRAY_TASK_ID is set: pass --tasks N, the size of the job array)"
+		}
+		return fmt.Errorf("%w: want 0 <= --task < --tasks, got --task %d --tasks %d%s", errUsage, co.task, co.tasks, hint)
 	}
 	if co.target > 0 && co.blocks > 1 {
 		return fmt.Errorf("%w: --evidence-error needs the whole ladder in one block (--rung-blocks 1)", errUsage)
@@ -395,6 +399,29 @@ func writePart(u compareUnit, co compareOpts, mc Config, pb *problem, fp string,
 	return writeJSON(filepath.Join(dir, "part.json"), pm)
 }
 
+// decodePart reads one part.json and checks that it describes a unit.
+func decodePart(name string, raw []byte) (partMeta, error) {
+	var pm partMeta
+	if err := json.Unmarshal(raw, &pm); err != nil {
+		return pm, fmt.Errorf("%s: not a compare part: %w", name, err)
+	}
+	u := pm.Unit
+	switch {
+	case pm.Schema != 1:
+		return pm, fmt.Errorf("%s: part schema %d, want 1", name, pm.Schema)
+	case u.Model == "" || u.Index < 0 || u.Block < 0 || u.Blocks < 1 || u.Block >= u.Blocks:
+		return pm, fmt.Errorf("%s: unit (model %q, block %d of %d) is malformed", name, u.Model, u.Block, u.Blocks)
+	case len(u.Betas) == 0 || pm.Walkers < 1 || pm.Recorded < 0 || len(pm.Params) != len(pm.Priors):
+		return pm, fmt.Errorf("%s: ladder, walkers, steps or parameter list is missing or inconsistent", name)
+	}
+	for i, b := range u.Betas {
+		if !(b >= 0 && b <= 1) || (i > 0 && !(b < u.Betas[i-1])) {
+			return pm, fmt.Errorf("%s: unit.betas[%d] = %g: betas must decrease within [0, 1]", name, i, b)
+		}
+	}
+	return pm, nil
+}
+
 // compareRow is one model's line of the comparison table.
 type compareRow struct {
 	Model    string            `json:"model"`
@@ -441,9 +468,9 @@ func finalize(out string, dirs []string) (*compareResult, error) {
 			if err != nil {
 				return nil, err
 			}
-			var pm partMeta
-			if err := json.Unmarshal(raw, &pm); err != nil {
-				return nil, fmt.Errorf("%s: %w", m, err)
+			pm, err := decodePart(m, raw)
+			if err != nil {
+				return nil, err
 			}
 			k := fmt.Sprintf("%04d.%04d", pm.Unit.Index, pm.Unit.Block)
 			if prev, dup := parts[k]; dup {
@@ -529,9 +556,14 @@ func finalizeModel(out, model string, parts []partMeta) (compareRow, error) {
 		if pm.Walkers != parts[0].Walkers || pm.Recorded != parts[0].Recorded || pm.Config.Sampler.Seed != want.Seed {
 			return compareRow{}, errors.New("its rung blocks were run with different walkers or steps")
 		}
-		_, walkers, data, err := chains.ReadNPY(filepath.Join(pm.Unit.dir(out), "lnl.npy"))
+		path := filepath.Join(pm.Unit.dir(out), "lnl.npy")
+		rows, walkers, data, err := chains.ReadNPY(path)
 		if err != nil {
 			return compareRow{}, err
+		}
+		if rows != len(pm.Unit.Betas)*pm.Recorded || walkers != pm.Walkers {
+			return compareRow{}, fmt.Errorf("%s: holds %d x %d values, but its part.json promises %d rungs x %d steps x %d walkers",
+				path, rows, walkers, len(pm.Unit.Betas), pm.Recorded, pm.Walkers)
 		}
 		per := pm.Recorded * walkers
 		for r, b := range pm.Unit.Betas {
