@@ -38,14 +38,14 @@ func TestGaussianMoments(t *testing.T) {
 			mu:    []float64{1, -2},
 			cov:   [][]float64{{1, 0.9 * 1 * 3}, {0.9 * 1 * 3, 9}},
 			steps: 4000,
-			moves: []WeightedMove{{DefaultDEMove(2), 1}},
+			moves: []WeightedMove{{DefaultDiffEvolution(2), 1}},
 		},
 		{
 			name:  "3-D unequal scales, stretch + differential evolution",
 			mu:    []float64{0.5, 0, -30},
 			cov:   [][]float64{{1e-4, 0, 0}, {0, 1, 0}, {0, 0, 1e4}},
 			steps: 4000,
-			moves: []WeightedMove{{StretchMove{A: 2}, 0.5}, {DefaultDEMove(3), 0.5}},
+			moves: []WeightedMove{{Stretch{A: 2}, 0.5}, {DefaultDiffEvolution(3), 0.5}},
 		},
 	}
 	for _, tc := range tests {

@@ -21,7 +21,7 @@ func checkpointSetup(t *testing.T) (Target, Config) {
 	}
 	return g, Config{
 		Walkers: 8, Seed: 77, Betas: ladder, AdaptLadder: true, AdaptSteps: 20,
-		Moves:       []WeightedMove{{StretchMove{A: 2}, 2}, {DefaultDEMove(2), 1}},
+		Moves:       []WeightedMove{{Stretch{A: 2}, 2}, {DefaultDiffEvolution(2), 1}},
 		Fingerprint: "data+model+settings hash",
 	}
 }

@@ -173,7 +173,7 @@ func build(t Target, cfg Config) (*Ensemble, error) {
 	}
 	moves := cfg.Moves
 	if moves == nil {
-		moves = []WeightedMove{{Move: StretchMove{A: 2}, Weight: 1}}
+		moves = []WeightedMove{{Move: Stretch{A: 2}, Weight: 1}}
 	}
 	if len(moves) == 0 {
 		return nil, errors.New("sampler: Moves is empty (nil means the stretch move)")

@@ -25,11 +25,11 @@ func TestConfigErrors(t *testing.T) {
 		{"zero ladder start", Config{Walkers: 8, Betas: []float64{0, 0}}, "Betas[0] must be in (0, 1]"},
 		{"ladder not decreasing", Config{Walkers: 8, Betas: []float64{1, 0.5, 0.6}}, "Betas[2] = 0.6 after Betas[1] = 0.5"},
 		{"negative beta", Config{Walkers: 8, Betas: []float64{1, -0.1}}, "Betas must decrease"},
-		{"bad stretch scale", Config{Walkers: 8, Moves: []WeightedMove{{StretchMove{A: 1}, 1}}}, "sampler: Moves[0]: stretch move scale A"},
-		{"bad weight", Config{Walkers: 8, Moves: []WeightedMove{{StretchMove{A: 2}, 0}}}, "Moves[0].Weight"},
+		{"bad stretch scale", Config{Walkers: 8, Moves: []WeightedMove{{Stretch{A: 1}, 1}}}, "sampler: Moves[0]: stretch move scale A"},
+		{"bad weight", Config{Walkers: 8, Moves: []WeightedMove{{Stretch{A: 2}, 0}}}, "Moves[0].Weight"},
 		{"nil move", Config{Walkers: 8, Moves: []WeightedMove{{nil, 1}}}, "Moves[0].Move is nil"},
 		{"empty moves", Config{Walkers: 8, Moves: []WeightedMove{}}, "Moves is empty"},
-		{"bad DE", Config{Walkers: 8, Moves: []WeightedMove{{DEMove{Gamma: 1, JumpProb: 2}, 1}}}, "JumpProb must be in [0, 1]"},
+		{"bad DE", Config{Walkers: 8, Moves: []WeightedMove{{DiffEvolution{Gamma: 1, JumpProb: 2}, 1}}}, "JumpProb must be in [0, 1]"},
 		{"negative workers", Config{Walkers: 8, Workers: -1}, "Workers must be >= 0"},
 	}
 	for _, tc := range tests {
@@ -89,7 +89,7 @@ func TestDeterminism(t *testing.T) {
 	}
 	base := Config{
 		Walkers: 12, Seed: 42, Betas: ladder, AdaptLadder: true, AdaptSteps: 40,
-		Moves: []WeightedMove{{StretchMove{A: 2}, 0.7}, {DefaultDEMove(3), 0.3}},
+		Moves: []WeightedMove{{Stretch{A: 2}, 0.7}, {DefaultDiffEvolution(3), 0.3}},
 	}
 	const steps = 80
 	with := func(workers, minBatch int) Config {
@@ -331,7 +331,7 @@ func TestStepAllocs(t *testing.T) {
 	for _, workers := range []int{1, 2} {
 		e, err := New(noopTarget{3}, Config{
 			Walkers: 16, Seed: 1, Workers: workers, MinBatch: 1, Betas: ladder,
-			Moves: []WeightedMove{{StretchMove{A: 2}, 1}, {DefaultDEMove(3), 1}},
+			Moves: []WeightedMove{{Stretch{A: 2}, 1}, {DefaultDiffEvolution(3), 1}},
 		})
 		if err != nil {
 			t.Fatal(err)

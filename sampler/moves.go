@@ -28,7 +28,7 @@ type WeightedMove struct {
 	Weight float64
 }
 
-// StretchMove is the affine-invariant stretch move of Goodman & Weare (2010),
+// Stretch is the affine-invariant stretch move of Goodman & Weare (2010),
 // eq. (7)-(10):
 //
 //	y = x_j + z (x - x_j),  z ~ g(z) ∝ 1/sqrt(z) on [1/A, A],
@@ -36,12 +36,12 @@ type WeightedMove struct {
 //
 // with x_j a uniformly chosen walker of the complementary half. A must be
 // > 1; A = 2 is the value recommended by the authors.
-type StretchMove struct {
+type Stretch struct {
 	A float64
 }
 
 // Propose implements Move.
-func (m StretchMove) Propose(r *rand.Rand, x, others []float64, n int, y []float64) float64 {
+func (m Stretch) Propose(r *rand.Rand, x, others []float64, n int, y []float64) float64 {
 	d := len(x)
 	j := r.IntN(n)
 	xj := others[j*d : j*d+d]
@@ -55,14 +55,14 @@ func (m StretchMove) Propose(r *rand.Rand, x, others []float64, n int, y []float
 	return float64(d-1) * math.Log(z)
 }
 
-func (m StretchMove) validate() error {
+func (m Stretch) validate() error {
 	if !(m.A > 1) || math.IsInf(m.A, 0) {
 		return fmt.Errorf("stretch move scale A must be finite and > 1, got %v", m.A)
 	}
 	return nil
 }
 
-// DEMove is the differential-evolution move of ter Braak (2006):
+// DiffEvolution is the differential-evolution move of ter Braak (2006):
 //
 //	y = x + gamma (x_j - x_k) + e,  e ~ N(0, Noise^2) per coordinate,
 //
@@ -70,26 +70,26 @@ func (m StretchMove) validate() error {
 // Gamma, or 1 with probability JumpProb, which lets a walker jump between
 // modes that are translates of each other (ter Braak 2006, section 2). The
 // move is symmetric, so the acceptance is min(1, p(y)/p(x)). Use
-// DefaultDEMove for the published settings.
-type DEMove struct {
+// DefaultDiffEvolution for the published settings.
+type DiffEvolution struct {
 	Gamma    float64 // step factor; ter Braak (2006) recommends 2.38/sqrt(2d)
 	JumpProb float64 // probability of gamma = 1
 	Noise    float64 // standard deviation of the small jitter e
 }
 
-// DefaultDEMove returns the differential-evolution move with ter Braak's
+// DefaultDiffEvolution returns the differential-evolution move with ter Braak's
 // (2006) settings for dimension dim: Gamma = 2.38/sqrt(2 dim),
 // JumpProb = 0.1, and a jitter of 1e-6 (small against any posterior width of
 // order one; the jitter only has to make the chain irreducible).
-func DefaultDEMove(dim int) DEMove {
+func DefaultDiffEvolution(dim int) DiffEvolution {
 	if dim < 1 {
 		dim = 1
 	}
-	return DEMove{Gamma: 2.38 / math.Sqrt(2*float64(dim)), JumpProb: 0.1, Noise: 1e-6}
+	return DiffEvolution{Gamma: 2.38 / math.Sqrt(2*float64(dim)), JumpProb: 0.1, Noise: 1e-6}
 }
 
 // Propose implements Move.
-func (m DEMove) Propose(r *rand.Rand, x, others []float64, n int, y []float64) float64 {
+func (m DiffEvolution) Propose(r *rand.Rand, x, others []float64, n int, y []float64) float64 {
 	d := len(x)
 	j := r.IntN(n)
 	k := r.IntN(n - 1)
@@ -111,7 +111,7 @@ func (m DEMove) Propose(r *rand.Rand, x, others []float64, n int, y []float64) f
 	return 0
 }
 
-func (m DEMove) validate() error {
+func (m DiffEvolution) validate() error {
 	switch {
 	case !(m.Gamma > 0) || math.IsInf(m.Gamma, 0):
 		return fmt.Errorf("differential-evolution Gamma must be finite and > 0, got %v", m.Gamma)
@@ -125,7 +125,7 @@ func (m DEMove) validate() error {
 
 // minOthers is the number of complementary walkers a move needs.
 func minOthers(m Move) int {
-	if _, ok := m.(DEMove); ok {
+	if _, ok := m.(DiffEvolution); ok {
 		return 2
 	}
 	return 1

@@ -172,9 +172,9 @@ func parseMoves(s string, dim int) ([]sampler.WeightedMove, error) {
 		var m sampler.Move
 		switch name {
 		case "stretch":
-			m = sampler.StretchMove{A: 2}
+			m = sampler.Stretch{A: 2}
 		case "de":
-			m = sampler.DefaultDEMove(dim)
+			m = sampler.DefaultDiffEvolution(dim)
 		default:
 			return nil, fmt.Errorf("%w: --moves %q: unknown move %q; want stretch or de", errUsage, s, name)
 		}
