@@ -8,8 +8,9 @@ import (
 	"math"
 	"slices"
 
-	"gonum.org/v1/gonum/dsp/fourier"
 	"gonum.org/v1/gonum/stat/distuv"
+
+	"tautline/sampler/internal/acf"
 )
 
 // Chain layout used by every diagnostic: x[s*walkers+w] is the value of one
@@ -39,60 +40,6 @@ func checkLayout(x []float64, steps, walkers int) error {
 	return nil
 }
 
-// nextPow2 returns the least power of two >= n.
-func nextPow2(n int) int {
-	p := 1
-	for p < n {
-		p <<= 1
-	}
-	return p
-}
-
-// acovFFT writes into acov[0:n] the biased autocovariance
-// (1/n) sum_t (x_t - m)(x_{t+k} - m) of series, using a zero-padded FFT
-// (Wiener–Khinchin), and returns the mean m.
-type acovWork struct {
-	fft   *fourier.FFT
-	buf   []float64
-	coeff []complex128
-	out   []float64
-}
-
-func newAcovWork(n int) *acovWork {
-	m := nextPow2(2 * n)
-	return &acovWork{
-		fft:   fourier.NewFFT(m),
-		buf:   make([]float64, m),
-		coeff: make([]complex128, m/2+1),
-		out:   make([]float64, m),
-	}
-}
-
-func (a *acovWork) acov(series []float64, acov []float64) (mean float64) {
-	n := len(series)
-	for _, v := range series {
-		mean += v
-	}
-	mean /= float64(n)
-	for i := range a.buf {
-		a.buf[i] = 0
-	}
-	for i, v := range series {
-		a.buf[i] = v - mean
-	}
-	a.fft.Coefficients(a.coeff, a.buf)
-	for i, c := range a.coeff {
-		a.coeff[i] = complex(real(c)*real(c)+imag(c)*imag(c), 0)
-	}
-	a.fft.Sequence(a.out, a.coeff)
-	// gonum's inverse transform is unnormalised: divide by the FFT length.
-	scale := 1 / float64(len(a.buf)) / float64(n)
-	for k := range n {
-		acov[k] = a.out[k] * scale
-	}
-	return mean
-}
-
 // AutocorrTime estimates the integrated autocorrelation time
 //
 //	tau = 1 + 2 sum_{k>=1} rho(k)
@@ -110,7 +57,7 @@ func AutocorrTime(x []float64, steps, walkers int) (float64, error) {
 	if steps < 2 {
 		return math.NaN(), fmt.Errorf("%w: %d step", ErrShortChain, steps)
 	}
-	w := newAcovWork(steps)
+	w := acf.New(steps)
 	series := make([]float64, steps)
 	ac := make([]float64, steps)
 	rho := make([]float64, steps)
@@ -119,7 +66,7 @@ func AutocorrTime(x []float64, steps, walkers int) (float64, error) {
 		for s := range steps {
 			series[s] = x[s*walkers+k]
 		}
-		w.acov(series, ac)
+		w.Autocov(series, ac)
 		if !(ac[0] > 0) {
 			continue
 		}
@@ -287,11 +234,11 @@ func multiESS(c []float64, n, m int) float64 {
 	if n < 4 || m < 1 {
 		return math.NaN()
 	}
-	w := newAcovWork(n)
+	w := acf.New(n)
 	acov := make([]float64, m*n)
 	means := make([]float64, m)
 	for j := range m {
-		means[j] = w.acov(c[j*n:(j+1)*n], acov[j*n:(j+1)*n])
+		means[j] = w.Autocov(c[j*n:(j+1)*n], acov[j*n:(j+1)*n])
 	}
 	W := 0.0
 	for j := range m {

@@ -1,0 +1,71 @@
+// Package acf computes the autocovariance of a series by FFT
+// (Wiener–Khinchin theorem), the shared core of the integrated
+// autocorrelation times of package sampler (convergence diagnostics) and
+// package sampler/evidence (Monte-Carlo errors of the evidence):
+//
+//	C(k) = (1/n) sum_{t=0}^{n-1-k} (x_t - m)(x_{t+k} - m),  k = 0 .. n-1,
+//
+// computed from the zero-padded series, padding to at least 2n so that the
+// FFT's circular correlation is the linear one. Cost O(n log n).
+package acf
+
+import "gonum.org/v1/gonum/dsp/fourier"
+
+// Work holds the FFT plan and buffers for series of up to a fixed length,
+// so that Autocov allocates nothing. A Work is not safe for concurrent use.
+type Work struct {
+	max   int
+	fft   *fourier.FFT
+	buf   []float64
+	coeff []complex128
+	out   []float64
+}
+
+// New returns a Work for series of up to n values.
+func New(n int) *Work {
+	m := 1
+	for m < 2*n {
+		m *= 2
+	}
+	return &Work{
+		max:   n,
+		fft:   fourier.NewFFT(m),
+		buf:   make([]float64, m),
+		coeff: make([]complex128, m/2+1),
+		out:   make([]float64, m),
+	}
+}
+
+// Autocov writes the biased autocovariance C(k) of series into
+// acov[0:len(series)] and returns the series' mean. series must not be
+// longer than the n given to New, nor acov shorter than series.
+func (a *Work) Autocov(series, acov []float64) (mean float64) {
+	n := len(series)
+	if n > a.max || len(acov) < n {
+		panic("acf: series longer than the Work or acov too short")
+	}
+	if n == 0 {
+		return 0
+	}
+	for _, v := range series {
+		mean += v
+	}
+	mean /= float64(n)
+	for i := range a.buf {
+		a.buf[i] = 0
+	}
+	for i, v := range series {
+		a.buf[i] = v - mean
+	}
+	a.fft.Coefficients(a.coeff, a.buf)
+	for i, c := range a.coeff {
+		a.coeff[i] = complex(real(c)*real(c)+imag(c)*imag(c), 0)
+	}
+	a.fft.Sequence(a.out, a.coeff)
+	// gonum's inverse transform is unnormalised: divide by the FFT length.
+	scale := 1 / float64(len(a.buf)) / float64(n)
+	for k := range n {
+		acov[k] = a.out[k] * scale
+	}
+	return mean
+}

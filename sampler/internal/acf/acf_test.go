@@ -1,0 +1,55 @@
+package acf
+
+import (
+	"math"
+	"math/rand/v2"
+	"testing"
+)
+
+// TestAgainstDirectSum compares the FFT autocovariance with the defining
+// lag-by-lag sum (the formula in the package doc), to rounding.
+func TestAgainstDirectSum(t *testing.T) {
+	r := rand.New(rand.NewPCG(1, 2))
+	w := New(300)
+	for _, n := range []int{1, 2, 7, 64, 300} {
+		x := make([]float64, n)
+		for i := range x {
+			x[i] = r.NormFloat64() + 3
+			if i > 0 {
+				x[i] += 0.8 * x[i-1]
+			}
+		}
+		got := make([]float64, n)
+		m := w.Autocov(x, got)
+		var mean float64
+		for _, v := range x {
+			mean += v
+		}
+		mean /= float64(n)
+		if math.Abs(m-mean) > 1e-12*math.Abs(mean) {
+			t.Errorf("n=%d: mean %g, want %g", n, m, mean)
+		}
+		for k := range n {
+			var c float64
+			for s := 0; s+k < n; s++ {
+				c += (x[s] - mean) * (x[s+k] - mean)
+			}
+			c /= float64(n)
+			// Tolerance: FFT rounding, a few ulps of C(0) times log2 of the length.
+			if math.Abs(got[k]-c) > 1e-10*got[0] {
+				t.Errorf("n=%d lag %d: %g, want %g", n, k, got[k], c)
+			}
+		}
+	}
+}
+
+func TestAllocs(t *testing.T) {
+	w := New(512)
+	x, c := make([]float64, 512), make([]float64, 512)
+	for i := range x {
+		x[i] = float64(i % 7)
+	}
+	if a := testing.AllocsPerRun(20, func() { w.Autocov(x, c) }); a != 0 {
+		t.Errorf("Autocov allocates %v times per call", a)
+	}
+}
