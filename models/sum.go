@@ -106,6 +106,23 @@ func (s *sumSpectrum) LnOmega(theta, out []float64) error {
 	}
 	// out holds part 0; fold in the others one frequency at a time:
 	// ln(sum_k e^{x_k}) = m + ln(sum_k e^{x_k - m}), m = max_k x_k.
+	if len(s.parts) == 2 {
+		// Two parts (the usual case): m + log1p(e^{-|a-b|}) needs one
+		// exponential and one logarithm per frequency.
+		b := s.scratch[1]
+		for i, a := range out {
+			m, d := a, b[i]-a
+			if d > 0 {
+				m, d = b[i], -d
+			}
+			if math.IsInf(m, 0) || math.IsNaN(d) {
+				out[i] = math.Max(a, b[i]) // zero spectra, or an Inf/NaN part
+				continue
+			}
+			out[i] = m + math.Log1p(math.Exp(d))
+		}
+		return nil
+	}
 	for i := range out {
 		m := out[i]
 		for k := 1; k < len(s.parts); k++ {
