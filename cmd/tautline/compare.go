@@ -10,9 +10,11 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+	"runtime"
 	"slices"
 	"strconv"
 	"strings"
+	"sync"
 	"time"
 
 	"github.com/sirupsen/logrus"
@@ -173,13 +175,14 @@ func compare(ctx context.Context, e *env, lg *logrus.Logger, cfg Config, co comp
 	if err := os.MkdirAll(cfg.Output.Dir, 0o755); err != nil {
 		return fmt.Errorf("output folder: %w", err)
 	}
+	var mine []compareUnit
 	for i, u := range units {
-		if co.task >= 0 && i%co.tasks != co.task {
-			continue
+		if co.task < 0 || i%co.tasks == co.task {
+			mine = append(mine, u)
 		}
-		if err := runUnit(ctx, e, lg, cfg, co, u); err != nil {
-			return fmt.Errorf("model %s, rung block %d: %w", u.Model, u.Block, err)
-		}
+	}
+	if err := runUnits(ctx, e, lg, cfg, co, mine); err != nil {
+		return err
 	}
 	if co.task >= 0 {
 		fmt.Fprintf(e.stdout, "task %d of %d done: parts in %s; combine all tasks with: tautline merge --out DIR %s ...\n",
@@ -203,6 +206,57 @@ func splitList(s string) []string {
 		}
 	}
 	return out
+}
+
+// runUnits runs independent units side by side, one goroutine each and as
+// many at once as --workers allows (default: every CPU), each unit's
+// ensemble then stepping serially: a tempered ensemble's step is too little
+// work to split across goroutines with profit (BenchmarkHalfStep), while
+// independent units scale. Results do not depend on the order or the
+// concurrency, since every unit has its own seed and its own files.
+func runUnits(ctx context.Context, e *env, lg *logrus.Logger, cfg Config, co compareOpts, units []compareUnit) error {
+	par := cfg.Sampler.Workers
+	if par <= 0 {
+		par = runtime.GOMAXPROCS(0)
+	}
+	par = max(1, min(par, len(units)))
+	ucfg, ue := cfg, e
+	if par > 1 {
+		ucfg.Sampler.Workers = 1
+		ue = &env{stdout: e.stdout, stderr: e.stderr} // log lines: bars would overwrite each other
+	}
+	ctx, cancel := context.WithCancel(ctx)
+	defer cancel()
+	errs := make([]error, len(units))
+	sem := make(chan struct{}, par)
+	var wg sync.WaitGroup
+	for i, u := range units {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			sem <- struct{}{}
+			defer func() { <-sem }()
+			if ctx.Err() != nil {
+				return
+			}
+			if err := runUnit(ctx, ue, lg, ucfg, co, u); err != nil {
+				errs[i] = fmt.Errorf("model %s, rung block %d: %w", u.Model, u.Block, err)
+				cancel()
+			}
+		}()
+	}
+	wg.Wait()
+	for _, err := range errs {
+		if err != nil && !errors.Is(err, context.Canceled) {
+			return err
+		}
+	}
+	for _, err := range errs {
+		if err != nil {
+			return err
+		}
+	}
+	return ctx.Err()
 }
 
 // unitSeed derives a unit's seed from the run seed, so that units are

@@ -52,7 +52,7 @@ func bindSampler(fs *flag.FlagSet, cfg *Config) {
 	fs.IntVar(&cfg.Sampler.Burn, "burn", cfg.Sampler.Burn, "steps discarded as burn-in in the summary; -1 chooses 5 autocorrelation times or a tenth of the run, whichever is longer")
 	fs.IntVar(&cfg.Sampler.Thin, "thin", cfg.Sampler.Thin, "keep every n-th step in the posterior samples; 0 chooses from the autocorrelation time")
 	fs.Uint64Var(&cfg.Sampler.Seed, "seed", cfg.Sampler.Seed, "random seed; the same seed gives byte-identical chains")
-	fs.IntVar(&cfg.Sampler.Workers, "workers", cfg.Sampler.Workers, "goroutines evaluating walkers; 0 uses every CPU (results do not depend on it)")
+	fs.IntVar(&cfg.Sampler.Workers, "workers", cfg.Sampler.Workers, "goroutines evaluating walkers (compare: units run side by side); 0 uses every CPU (results do not depend on it)")
 	fs.StringVar(&cfg.Sampler.Until, "until", cfg.Sampler.Until, "stop when all criteria hold, e.g. ess=5000,tau=50,rhat=1.01 (effective sample size, chain length in autocorrelation times, split R-hat); --steps is then the cap")
 	fs.StringVar(&cfg.Sampler.Moves, "moves", cfg.Sampler.Moves, "ensemble moves: stretch, de (differential evolution), or a weighted mix such as stretch:0.8,de:0.2")
 	fs.IntVar(&cfg.Sampler.CheckpointEvery, "checkpoint-every", cfg.Sampler.CheckpointEvery, "steps between checkpoints (0 disables them)")
