@@ -147,9 +147,10 @@ type RunOptions struct {
 	Until    Criteria // convergence conditions
 	// CheckEvery is the interval between convergence checks, 0 meaning
 	// 500. A check costs time proportional to the history, so from the
-	// 32nd check on the interval doubles whenever the step count doubles
-	// (16 checks per doubling; see isCheckStep), which keeps the checks a
-	// bounded fraction of a long run.
+	// 8th check on the interval doubles whenever the step count doubles
+	// (4 checks per doubling; see isCheckStep), which keeps the checks a
+	// bounded fraction of a long run; a run stops at most a quarter past
+	// the step where it converged.
 	CheckEvery int
 	// OnStep, if not nil, is called after every step (to write chains); an
 	// error stops the run and is returned.
@@ -284,16 +285,17 @@ func Run(ctx context.Context, e *Ensemble, opt RunOptions) (Result, error) {
 }
 
 // isCheckStep reports whether Run checks convergence after step s: at
-// multiples of every up to 32 every, then at multiples of 2^j every for
-// s in [2^(j+4), 2^(j+5)) every. It depends only on s, so a resumed run
+// multiples of every up to 8 every, then at multiples of 2^j every for
+// s in [2^(j+2), 2^(j+3)) every. It depends only on s, so a resumed run
 // checks at the same steps.
 func isCheckStep(s, every int) bool {
+	const checksBeforeDoubling = 8
 	if s <= 0 || s%every != 0 {
 		return false
 	}
 	q := s / every
 	m := 1
-	for q >= 32*m {
+	for q >= checksBeforeDoubling*m {
 		m *= 2
 	}
 	return q%m == 0

@@ -133,10 +133,10 @@ func TestIsCheckStep(t *testing.T) {
 		steps []int
 		want  []bool
 	}{
-		// Below 32 intervals every multiple is checked.
-		{10, []int{0, 5, 10, 20, 310, 315}, []bool{false, false, true, true, true, false}},
-		// From 32 to 64 intervals every second, from 64 to 128 every fourth.
-		{10, []int{320, 330, 340, 640, 650, 660, 670, 680}, []bool{true, false, true, true, false, false, false, true}},
+		// Below 8 intervals every multiple is checked.
+		{10, []int{0, 5, 10, 20, 70, 75}, []bool{false, false, true, true, true, false}},
+		// From 8 to 16 intervals every second, from 16 to 32 every fourth.
+		{10, []int{80, 90, 100, 160, 170, 180, 190, 200}, []bool{true, false, true, true, false, false, false, true}},
 	}
 	for _, tc := range tests {
 		for i, s := range tc.steps {
@@ -145,14 +145,14 @@ func TestIsCheckStep(t *testing.T) {
 			}
 		}
 	}
-	// 16 checks per doubling once the interval grows.
+	// 4 checks per doubling once the interval grows.
 	n := 0
 	for s := 3200; s < 6400; s++ {
 		if isCheckStep(s, 10) {
 			n++
 		}
 	}
-	if n != 16 {
-		t.Errorf("%d checks between steps 3200 and 6400, want 16", n)
+	if n != 4 {
+		t.Errorf("%d checks between steps 3200 and 6400, want 4", n)
 	}
 }

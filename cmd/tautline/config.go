@@ -112,7 +112,7 @@ func defaultConfig() Config {
 		Cosmology:  CosmologyConfig{H0: 67.4, OmegaM: 0.315},
 		Sampler: SamplerConfig{
 			Walkers: 32, Steps: 4000, Burn: -1, Thin: 0, Seed: 1, Workers: 0,
-			Moves: "stretch", CheckpointEvery: 500,
+			Moves: "stretch", CheckpointEvery: 1000,
 		},
 		Output: OutputConfig{Dir: "", FlushEvery: 100},
 	}
