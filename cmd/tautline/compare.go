@@ -62,6 +62,7 @@ type compareOpts struct {
 	task       int
 	tasks      int
 	swapEvery  int
+	adapt      bool
 	cmdline    string
 	evidenceOK bool
 }
@@ -80,6 +81,7 @@ func runCompare(ctx context.Context, e *env, args []string) error {
 		fs.IntVar(&co.task, "task", -1, "run only slice TASK (0-based) of --tasks; -1 runs everything; the environment variable SLURM_ARRAY_TASK_ID is used when set and --task is not")
 		fs.IntVar(&co.tasks, "tasks", 1, "number of slices the work is split into")
 		fs.IntVar(&co.swapEvery, "swap-every", 1, "steps between swap rounds of neighbouring rungs")
+		fs.BoolVar(&co.adapt, "adapt-ladder", false, "adapt the inner rungs' temperatures during burn-in to even out swap acceptance (Vousden, Farr & Mandel 2016); the ladder is frozen after burn-in and only later samples enter ln Z")
 	}
 	cfg, rf, fs, err := resolveConfig(e, "compare", "[options]", compareHelp, args, extra)
 	if err != nil {
@@ -320,20 +322,24 @@ func runUnit(ctx context.Context, e *env, lg *logrus.Logger, cfg Config, co comp
 	steps := cfg.Sampler.Steps
 	var passes []map[string]any
 	for pass := 0; ; pass++ {
-		ens, err := sampler.New(pb.post, sampler.Config{
-			Walkers: cfg.Sampler.Walkers, Seed: unitSeed(cfg.Sampler.Seed, u.Index, u.Block), Betas: betas,
-			SwapEvery: co.swapEvery, Workers: cfg.Sampler.Workers, Fingerprint: fp,
-		})
-		if err != nil {
-			return err
-		}
-		prog := newProgress(e, lg, steps)
 		burn := cfg.Sampler.Burn
 		if burn < 0 {
 			// Every block of a ladder must keep the same steps, so the
 			// burn-in is a fixed share rather than chosen per block.
 			burn = steps / 4
 		}
+		scfg := sampler.Config{
+			Walkers: cfg.Sampler.Walkers, Seed: unitSeed(cfg.Sampler.Seed, u.Index, u.Block), Betas: betas,
+			SwapEvery: co.swapEvery, Workers: cfg.Sampler.Workers, Fingerprint: fp,
+		}
+		if co.adapt && len(betas) > 2 && burn > 0 {
+			scfg.AdaptLadder, scfg.AdaptSteps = true, burn
+		}
+		ens, err := sampler.New(pb.post, scfg)
+		if err != nil {
+			return err
+		}
+		prog := newProgress(e, lg, steps)
 		res, err := sampler.Run(ctx, ens, sampler.RunOptions{
 			MaxSteps: steps, Burn: burn, Thin: cfg.Sampler.Thin, CheckEvery: max(100, steps/10),
 			OnStep: func(en *sampler.Ensemble) error { prog.update(en.Steps(), u.Model, 0); return nil },
@@ -346,6 +352,7 @@ func runUnit(ctx context.Context, e *env, lg *logrus.Logger, cfg Config, co comp
 		if t := res.Report.MaxTau; 5*t > float64(burn) {
 			lg.Warnf("model %s, rung block %d: burn-in of %d steps is under 5 autocorrelation times (tau %.0f); give more --steps", u.Model, u.Block, burn, t)
 		}
+		betas = res.Betas // the frozen ladder, when it adapted
 		rungs := unitRungs(res, betas)
 		ev, evErr := integrateRungs(rungs)
 		if co.target > 0 && evErr == nil {
