@@ -199,3 +199,45 @@ func TestFitStrings(t *testing.T) {
 		}
 	}
 }
+
+// TestCompareAdaptLadder: with --adapt-ladder the inner temperatures move
+// during burn-in (Vousden, Farr & Mandel 2016) while both ends stay at 1
+// and 0, and ln Z is integrated over the frozen ladder that part.json
+// records.
+func TestCompareAdaptLadder(t *testing.T) {
+	dir := t.TempDir()
+	code, _, errs := runCLI(t, "compare", "--models", "smbhb", "--data", "demo:smbhb", "--rungs", "8", "--steps", "800",
+		"--walkers", "16", "--adapt-ladder", "--out", dir, "--log-level", "warn")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	raw, err := os.ReadFile(filepath.Join(dir, "parts", "smbhb.block0", "part.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var pm partMeta
+	if err := json.Unmarshal(raw, &pm); err != nil {
+		t.Fatal(err)
+	}
+	b := pm.Unit.Betas
+	if len(b) != 8 || b[0] != 1 || b[7] != 0 {
+		t.Fatalf("frozen ladder %v: want 8 rungs from 1 to 0", b)
+	}
+	moved := false
+	for k := 1; k < 7; k++ {
+		want := math.Pow(float64(7-k)/7, 5) // the power ladder it started from
+		if math.Abs(b[k]-want) > 1e-9*want {
+			moved = true
+		}
+	}
+	if !moved {
+		t.Errorf("ladder did not adapt: %v", b)
+	}
+	var ev struct {
+		Curve []struct{ Beta float64 } `json:"curve"`
+	}
+	raw, _ = os.ReadFile(filepath.Join(dir, "models", "smbhb", "evidence.json"))
+	if err := json.Unmarshal(raw, &ev); err != nil || len(ev.Curve) != 8 || ev.Curve[3].Beta != b[4] {
+		t.Errorf("evidence curve does not use the frozen ladder (%v): %+v", err, ev.Curve)
+	}
+}
