@@ -15,6 +15,12 @@ import (
 // FixedValue and not sampled.
 type fixer interface{ FixedValue() float64 }
 
+// A domainer is a model valid only inside a box of parameter values (a
+// tabulated spectrum, say): Domain gives [lo, hi] per parameter. NewPosterior
+// refuses priors that reach outside it, since the posterior would otherwise
+// be cut off at the box without a word and its evidence normalised wrongly.
+type domainer interface{ Domain() [][2]float64 }
+
 // Posterior is a model's posterior given a free spectrum: the priors of its
 // free parameters times the free-spectrum likelihood. It has the method set
 // of the sampler's Target and is safe for concurrent use.
@@ -87,6 +93,19 @@ func NewPosterior(m models.Model, pri []priors.Prior, ds *Dataset, fs *FreeSpect
 		} else {
 			p.fixed[j] = math.NaN()
 			p.free = append(p.free, j)
+		}
+	}
+	if d, ok := m.(domainer); ok {
+		dom := d.Domain()
+		for j, par := range p.params {
+			if j >= len(dom) {
+				break
+			}
+			lo, hi := p.pri[j].Bounds()
+			if lo < dom[j][0] || hi > dom[j][1] {
+				return nil, fmt.Errorf("likelihood: model %s: prior %s of %s reaches outside the model's domain [%g, %g]; narrow the prior",
+					m.Name(), p.pri[j], par.Name, dom[j][0], dom[j][1])
+			}
 		}
 	}
 	for i, f := range ds.Freqs {

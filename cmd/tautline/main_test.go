@@ -78,6 +78,7 @@ func TestConfigErrors(t *testing.T) {
 		{"bad-prior.yaml", 1, `model.priors.log10_A: priors: "unifrom(-18, -11)": unknown shape "unifrom"`},
 		{"bad-prior-param.yaml", 2, `model.priors: "log10_Gmu" is not a parameter of model smbhb; its parameters are log10_A, gamma`},
 		{"bad-model.yaml", 2, `model "axions": unknown; want one of smbhb, strings, strings+smbhb`},
+		{"bad-prior-domain.yaml", 1, `prior uniform(-16, -6) of log10_Gmu reaches outside the model's domain [-14, -6]`},
 	}
 	for _, c := range cases {
 		path := filepath.Join(dir, c.file)

@@ -58,6 +58,19 @@ func (m *Model) Params() []models.Param {
 	}
 }
 
+// Domain returns, per parameter in Params order, the range LnOmega
+// accepts: the table's box in log10 Gmu and log10 alpha (the direct path:
+// any Gmu, alpha <= 1), and log10 P <= 0 (P enters analytically).
+// Priors must lie inside it, or the posterior would be cut off silently.
+func (m *Model) Domain() [][2]float64 {
+	inf := math.Inf(1)
+	if m.table != nil {
+		gl, gh, al, ah, _, _ := m.table.Domain()
+		return [][2]float64{{gl, gh}, {al, ah}, {-inf, 0}}
+	}
+	return [][2]float64{{-inf, inf}, {-inf, 0}, {-inf, 0}}
+}
+
 // At prepares evaluation at the frequencies f (Hz, > 0). For the table it
 // collapses the ln f direction once: each returned Spectrum holds
 // ln Omega at its own frequencies on the (Gmu, alpha) grid.
