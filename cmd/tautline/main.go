@@ -57,7 +57,7 @@ func commands() []command {
 // them with a hint to --help and exits with status 2.
 var errUsage = errors.New("usage")
 
-// exitSilently is returned when a command has already reported the problem
+// errSilent is returned when a command has already reported the problem
 // (for example flag parsing, which prints its own message).
 var errSilent = errors.New("silent")
 
