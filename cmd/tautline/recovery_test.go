@@ -77,31 +77,33 @@ func fitSimulated(t *testing.T, seed uint64) [][]float64 {
 
 // TestRecoveryAndCoverage is the end-to-end check of simulate, likelihood
 // and sampler: the injected values lie inside the 95 % intervals, and over
-// 20 seeds the number of central 68 % intervals of log10 A that cover the
-// truth is consistent with a Binomial(20, 0.68) at the 1 % level (two-sided,
+// 20 seeds the number of central 68 % intervals of each parameter that
+// cover the truth is consistent with a Binomial(20, 0.68) at the 1 % level (two-sided,
 // gonum distuv.Binomial).
 func TestRecoveryAndCoverage(t *testing.T) {
 	const seeds = 20
 	truth := []float64{-14.6, 13.0 / 3}
-	covered := 0
+	names := []string{"log10_A", "gamma"}
+	covered := make([]int, 2)
 	for s := uint64(1); s <= seeds; s++ {
 		post := fitSimulated(t, 100+s)
-		for k, name := range []string{"log10_A", "gamma"} {
+		for k, name := range names {
 			lo, hi := report.Quantile(post[k], 0.025), report.Quantile(post[k], 0.975)
 			if s == 1 && !(truth[k] > lo && truth[k] < hi) {
 				t.Errorf("seed %d: %s = %g outside the 95 %% interval [%g, %g]", s, name, truth[k], lo, hi)
 			}
-		}
-		lo, hi := report.Quantile(post[0], 0.16), report.Quantile(post[0], 0.84)
-		if truth[0] > lo && truth[0] < hi {
-			covered++
+			if lo, hi := report.Quantile(post[k], 0.16), report.Quantile(post[k], 0.84); truth[k] > lo && truth[k] < hi {
+				covered[k]++
+			}
 		}
 	}
 	b := distuv.Binomial{N: seeds, P: 0.68}
-	pLow, pHigh := b.CDF(float64(covered)), 1-b.CDF(float64(covered)-1)
-	p := math.Min(1, 2*math.Min(pLow, pHigh))
-	t.Logf("68 %% intervals covering log10 A: %d of %d (two-sided binomial p = %.3f)", covered, seeds, p)
-	if p < 0.01 {
-		t.Errorf("coverage %d/%d is inconsistent with 68 %% (p = %.4f < 0.01)", covered, seeds, p)
+	for k, name := range names {
+		pLow, pHigh := b.CDF(float64(covered[k])), 1-b.CDF(float64(covered[k])-1)
+		p := math.Min(1, 2*math.Min(pLow, pHigh))
+		t.Logf("68 %% intervals covering %s: %d of %d (two-sided binomial p = %.3f)", name, covered[k], seeds, p)
+		if p < 0.01 {
+			t.Errorf("%s: coverage %d/%d is inconsistent with 68 %% (p = %.4f < 0.01)", name, covered[k], seeds, p)
+		}
 	}
 }
