@@ -42,7 +42,8 @@
 // (-14..-6) and log10 alpha (-5..0) and every 0.1 in ln f (1e-11..1e-5 Hz),
 // with one extra node beyond each edge, so that tricubic Lagrange
 // interpolation never extrapolates; P enters exactly as -kappa ln P. Points
-// outside the domain get ErrOutsideTable. BuildTable computes it in
+// outside the domain get ErrOutsideTable, frequencies outside the band
+// ErrFrequencyOutsideTable (the direct path has no band). BuildTable computes it in
 // parallel and certifies it against the direct path at random points and
 // cell centres inside the default prior box, failing if any error of
 // ln Omega in 1e-10..1e-6 Hz exceeds 0.01. The table for DefaultSettings is

@@ -73,7 +73,9 @@ func (m *Model) Domain() [][2]float64 {
 
 // At prepares evaluation at the frequencies f (Hz, > 0). For the table it
 // collapses the ln f direction once: each returned Spectrum holds
-// ln Omega at its own frequencies on the (Gmu, alpha) grid.
+// ln Omega at its own frequencies on the (Gmu, alpha) grid, and a frequency
+// outside the table's band (1e-11 to 1e-5 Hz) gives an error wrapping
+// ErrFrequencyOutsideTable.
 func (m *Model) At(f []float64) (models.Spectrum, error) {
 	for i, v := range f {
 		if !(v > 0 && v < math.Inf(1)) {
@@ -88,7 +90,7 @@ func (m *Model) At(f []float64) (models.Spectrum, error) {
 	sp := &tableSpectrum{t: t, nf: nf, slice: make([]float64, t.nG*t.nA*nf)}
 	for j, v := range f {
 		if !(v >= tableFLo && v <= tableFHi) {
-			return nil, fmt.Errorf("strings: frequency %d = %g Hz: %w (table covers %g to %g Hz)", j, v, ErrOutsideTable, tableFLo, tableFHi)
+			return nil, frequencyError{v}
 		}
 		i0, w := lagrangeWeights((math.Log(v)-t.f0)/tableLnFStep, t.nF)
 		for node := range t.nG * t.nA {

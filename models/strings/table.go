@@ -31,9 +31,23 @@ const (
 )
 
 // ErrOutsideTable is returned (as this exact value) by Spectrum.LnOmega
-// when theta lies outside the table's domain, and wrapped by At for
-// frequencies outside it. The table never extrapolates.
+// and Table.LnOmega when theta lies outside the table's domain; frequencies
+// outside it get ErrFrequencyOutsideTable. The table never extrapolates.
 var ErrOutsideTable = errors.New("strings: parameters outside the tabulated domain (log10_Gmu in [-14, -6], log10_alpha in [-5, 0], log10_P <= 0)")
+
+// ErrFrequencyOutsideTable is wrapped, with the frequency, by Model.At and
+// Table.LnOmega for a frequency outside the table's band (1e-11 to 1e-5 Hz);
+// the direct path has no such limit.
+var ErrFrequencyOutsideTable = errors.New("strings: frequency outside the table's range")
+
+// frequencyError reports one frequency outside the table's band.
+type frequencyError struct{ f float64 }
+
+func (e frequencyError) Error() string {
+	return fmt.Sprintf("strings: frequency %g Hz is outside the table's range [%g, %g] Hz; evaluate it with the direct path (--direct)", e.f, tableFLo, tableFHi)
+}
+
+func (e frequencyError) Unwrap() error { return ErrFrequencyOutsideTable }
 
 // ErrCertification is wrapped by BuildTable when the table disagrees with
 // the direct path by more than 0.01 in ln Omega inside the band.
@@ -333,8 +347,11 @@ func inDomain(lg, la, lp float64) bool {
 // It is meant for checks; Model uses the faster per-frequency path.
 func (t *Table) LnOmega(log10Gmu, log10Alpha, log10P, f float64) (float64, error) {
 	lf := math.Log(f)
-	if !inDomain(log10Gmu, log10Alpha, log10P) || !(f >= tableFLo && f <= tableFHi) {
+	if !inDomain(log10Gmu, log10Alpha, log10P) {
 		return 0, ErrOutsideTable
+	}
+	if !(f >= tableFLo && f <= tableFHi) {
+		return 0, frequencyError{f}
 	}
 	ig, wg := lagrangeWeights((log10Gmu-t.g0)/tableGStep, t.nG)
 	ia, wa := lagrangeWeights((log10Alpha-t.a0)/tableAStep, t.nA)

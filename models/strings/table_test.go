@@ -7,6 +7,7 @@ import (
 	"os"
 	"path/filepath"
 	"slices"
+	"strings"
 	"testing"
 
 	"tautline/models"
@@ -152,10 +153,49 @@ func TestModelSpectrum(t *testing.T) {
 			t.Errorf("LnOmega(%v) = %v, want ErrOutsideTable", bad, err)
 		}
 	}
-	if _, err := m.At([]float64{1e-12}); !errors.Is(err, ErrOutsideTable) {
-		t.Errorf("At(1e-12 Hz) error = %v, want ErrOutsideTable", err)
-	}
 	var _ models.Model = m
+}
+
+// TestFrequencyOutsideTable: a frequency outside the table's band is
+// reported as such (ErrFrequencyOutsideTable, naming the frequency and the
+// band), not as parameters outside the domain; the band's edges are
+// accepted.
+func TestFrequencyOutsideTable(t *testing.T) {
+	tab := defaultTable(t)
+	m := NewModel(tab)
+	for _, c := range []struct {
+		f       []float64
+		bad     float64 // 0: accepted
+		wantMsg string
+	}{
+		{[]float64{1e-3}, 1e-3, "strings: frequency 0.001 Hz is outside the table's range [1e-11, 1e-05] Hz"},
+		{[]float64{1e-8, 1e-12}, 1e-12, "frequency 1e-12 Hz is outside"},
+		{[]float64{1e-9, 2e-5, 1e-7}, 2e-5, "frequency 2e-05 Hz is outside"},
+		{[]float64{tableFLo, tableFHi}, 0, ""},
+	} {
+		_, err := m.At(c.f)
+		if c.bad == 0 {
+			if err != nil {
+				t.Errorf("At(%g): %v, want the band's edges accepted", c.f, err)
+			}
+			continue
+		}
+		if !errors.Is(err, ErrFrequencyOutsideTable) || errors.Is(err, ErrOutsideTable) {
+			t.Errorf("At(%g) error = %v, want ErrFrequencyOutsideTable only", c.f, err)
+			continue
+		}
+		if msg := err.Error(); !strings.Contains(msg, c.wantMsg) || !strings.Contains(msg, "direct path") {
+			t.Errorf("At(%g) error %q: want it to contain %q and point to the direct path", c.f, msg, c.wantMsg)
+		}
+		if _, err := tab.LnOmega(-10, -1, 0, c.bad); !errors.Is(err, ErrFrequencyOutsideTable) {
+			t.Errorf("Table.LnOmega at %g Hz: %v, want ErrFrequencyOutsideTable", c.bad, err)
+		}
+	}
+	// Parameters outside the domain keep their own error even at a bad
+	// frequency.
+	if _, err := tab.LnOmega(-15, -1, 0, 1e-3); err != ErrOutsideTable {
+		t.Errorf("Table.LnOmega(log10 Gmu = -15, 1e-3 Hz) = %v, want ErrOutsideTable", err)
+	}
 }
 
 // TestDirectModel: the direct model agrees with the table model within the
