@@ -510,9 +510,16 @@ func CachePath(s Settings, cacheDir string) (string, error) {
 // s has the default settings' hash, else the cached file under cacheDir
 // (see CachePath), else a freshly built and certified table, which it then
 // caches. A cached file that is corrupt or built for other settings is
-// rebuilt. If only the caching fails, it returns the table together with an
-// error wrapping ErrCacheWrite.
+// rebuilt. If only the caching fails, including when there is no user cache
+// directory (HOME unset), it returns the table together with an error
+// wrapping ErrCacheWrite.
 func LoadTable(s Settings, cacheDir string, build BuildOptions) (*Table, error) {
+	return loadTable(s, cacheDir, build, BuildTable)
+}
+
+// loadTable is LoadTable with the builder as a parameter, so that tests can
+// exercise the cache logic without a minute-long build.
+func loadTable(s Settings, cacheDir string, build BuildOptions, builder func(Settings, BuildOptions) (*Table, error)) (*Table, error) {
 	if err := s.Validate(); err != nil {
 		return nil, err
 	}
@@ -524,16 +531,18 @@ func LoadTable(s Settings, cacheDir string, build BuildOptions) (*Table, error) 
 			return t, nil
 		}
 	}
-	path, err := CachePath(s, cacheDir)
+	path, pathErr := CachePath(s, cacheDir)
+	if pathErr == nil {
+		if t, err := ReadTable(path, s); err == nil {
+			return t, nil
+		}
+	}
+	t, err := builder(s, build)
 	if err != nil {
 		return nil, err
 	}
-	if t, err := ReadTable(path, s); err == nil {
-		return t, nil
-	}
-	t, err := BuildTable(s, build)
-	if err != nil {
-		return nil, err
+	if pathErr != nil {
+		return t, fmt.Errorf("%w: %w", ErrCacheWrite, pathErr)
 	}
 	if err := t.WriteFile(path); err != nil {
 		return t, fmt.Errorf("%w: %w", ErrCacheWrite, err)

@@ -370,3 +370,67 @@ func TestCertificationCatchesErrors(t *testing.T) {
 		t.Errorf("shifted table: certify returned %v, want ErrCertification", err)
 	}
 }
+
+// TestLoadTableCacheFailures: when the table cannot be cached (no user
+// cache directory because HOME is unset, or an unwritable cache
+// directory), LoadTable still builds the table in memory and returns it
+// with an error wrapping ErrCacheWrite. A stand-in builder replaces the
+// minute-long build; it only has to count calls.
+func TestLoadTableCacheFailures(t *testing.T) {
+	t.Setenv("HOME", "")
+	t.Setenv("XDG_CACHE_HOME", "") // empty counts as unset for os.UserCacheDir
+	if _, err := os.UserCacheDir(); err == nil {
+		t.Skip("os.UserCacheDir works without HOME on this platform")
+	}
+	s := DefaultSettings()
+	s.Q = QKinks // not the embedded table's settings: LoadTable must build
+	file := filepath.Join(t.TempDir(), "file")
+	if err := os.WriteFile(file, nil, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	for _, c := range []struct {
+		name, cacheDir string
+	}{
+		{"no user cache directory", ""},
+		{"cache directory below a regular file", filepath.Join(file, "cache")},
+	} {
+		builds := 0
+		builder := func(s Settings, _ BuildOptions) (*Table, error) {
+			builds++
+			return newEmptyTable(s), nil
+		}
+		tab, err := loadTable(s, c.cacheDir, BuildOptions{}, builder)
+		if tab == nil || !errors.Is(err, ErrCacheWrite) || builds != 1 {
+			t.Errorf("%s: table %v, error %v, %d builds; want the built table and ErrCacheWrite", c.name, tab != nil, err, builds)
+			continue
+		}
+		if tab.Hash() != s.Hash() {
+			t.Errorf("%s: table built for hash %.12s, want %.12s", c.name, tab.Hash(), s.Hash())
+		}
+	}
+	// A failing build is reported as such, not as a cache problem.
+	boom := errors.New("boom")
+	if tab, err := loadTable(s, "", BuildOptions{}, func(Settings, BuildOptions) (*Table, error) { return nil, boom }); tab != nil || !errors.Is(err, boom) || errors.Is(err, ErrCacheWrite) {
+		t.Errorf("failing build: table %v, error %v; want nil and the build's error", tab != nil, err)
+	}
+	// The default settings need no cache at all.
+	if _, err := LoadTable(DefaultSettings(), "", BuildOptions{}); err != nil {
+		t.Errorf("default settings without HOME: %v, want the embedded table", err)
+	}
+	// With a working cache the second load reads the file instead of
+	// building again.
+	dir := t.TempDir()
+	builds := 0
+	builder := func(s Settings, _ BuildOptions) (*Table, error) {
+		builds++
+		return newEmptyTable(s), nil
+	}
+	for range 2 {
+		if _, err := loadTable(s, dir, BuildOptions{}, builder); err != nil {
+			t.Fatal(err)
+		}
+	}
+	if builds != 1 {
+		t.Errorf("%d builds with a working cache, want 1", builds)
+	}
+}
