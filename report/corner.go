@@ -5,6 +5,7 @@ import (
 	"image"
 	"image/color"
 	"math"
+	"strings"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
@@ -108,6 +109,13 @@ func minusSign(s string) string {
 	return s
 }
 
+// plainLimit turns FormatLimit's "< -1.6" into plain text with a true
+// minus sign after the relation.
+func plainLimit(s string) string {
+	rel, num, _ := strings.Cut(PlainLabel(s), " ")
+	return rel + " " + minusSign(num)
+}
+
 // summaryTitle is the text above a diagonal panel of the corner figure.
 func summaryTitle(s Summary) string {
 	name := PlainLabel(s.Label)
@@ -117,9 +125,9 @@ func summaryTitle(s Summary) string {
 	scale := s.Std
 	switch s.Rails {
 	case EdgeLower:
-		return name + " " + minusSign(PlainLabel(FormatLimit(s.Limit, scale, true, 2)))
+		return name + " " + plainLimit(FormatLimit(s.Limit, scale, true, 2))
 	case EdgeUpper:
-		return name + " " + minusSign(PlainLabel(FormatLimit(s.Limit, scale, false, 2)))
+		return name + " " + plainLimit(FormatLimit(s.Limit, scale, false, 2))
 	case EdgeBoth:
 		return name + " unconstrained"
 	}

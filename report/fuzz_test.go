@@ -2,6 +2,7 @@ package report
 
 import (
 	"math"
+	"strconv"
 	"strings"
 	"testing"
 	"unicode/utf8"
@@ -39,5 +40,51 @@ func FuzzFormatAsym(f *testing.F) {
 			t.Fatalf("FormatAsym(%g, ...) is empty", v)
 		}
 		_ = FormatLimit(v, math.Abs(plus), true, sig)
+	})
+}
+
+// FuzzFormatLimit checks that a printed limit is never tighter than the
+// value: the number after "< " is at least v and the one after "> " at most
+// v, for any value, scale and significant figures.
+func FuzzFormatLimit(f *testing.F) {
+	f.Add(-1.68, 1.0, true, 2)
+	f.Add(0.3684, 0.0, false, 2)
+	f.Add(9.96e-5, 0.0, true, 2)
+	f.Add(-123456.7, 30.0, false, 1)
+	f.Fuzz(func(t *testing.T, v, scale float64, upper bool, sig int) {
+		sig = min(sig, 17)
+		s := FormatLimit(v, scale, upper, sig)
+		op := "> "
+		if upper {
+			op = "< "
+		}
+		num, ok := strings.CutPrefix(s, op)
+		if !ok {
+			t.Fatalf("FormatLimit(%g, %g, %v, %d) = %q: no %q", v, scale, upper, sig, s, op)
+		}
+		if !finite(v) || strings.Contains(num, "NaN") {
+			// NaN only for absurd decimal counts (a scale hundreds of
+			// decades below the value), where 10^d overflows.
+			return
+		}
+		mant, exp, sci := strings.Cut(num, `\times 10^{`)
+		got, err := strconv.ParseFloat(mant, 64)
+		if err != nil {
+			t.Fatalf("FormatLimit(%g, %g, %v, %d) = %q: %v", v, scale, upper, sig, s, err)
+		}
+		if sci {
+			e, err := strconv.Atoi(strings.TrimSuffix(exp, "}"))
+			if err != nil {
+				t.Fatalf("FormatLimit(%g, %g, %v, %d) = %q: %v", v, scale, upper, sig, s, err)
+			}
+			got *= math.Pow(10, float64(e))
+		}
+		// roundOutward treats values within 1e-9 (relative) of the
+		// rounding grid as on it; 1e-8 also covers the float error of
+		// parsing and scaling by 10^e (~1e-15).
+		tol := 1e-8 * math.Abs(v)
+		if upper && got < v-tol || !upper && got > v+tol {
+			t.Fatalf("FormatLimit(%g, %g, %v, %d) = %q is tighter than the value", v, scale, upper, sig, s)
+		}
 	})
 }

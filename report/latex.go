@@ -115,11 +115,17 @@ func fmtNonFinite(v float64) string {
 }
 
 // FormatLimit formats a one-sided limit as LaTeX math: "< 3.9" for an
-// upper limit, "> 0.37" for a lower one. The limit is rounded to the decimal
+// upper limit, "> 0.36" for a lower one. The limit is cut to the decimal
 // place of the first significant figure of scale, a measure of the
 // posterior's spread such as its standard deviation; when scale is not
 // positive, to sig significant figures (2 when sig < 1) of the limit
 // itself. Digits before the decimal point are kept.
+//
+// The cut is outward, never to nearest: an upper limit is rounded up and a
+// lower limit down, so that the printed bound is never tighter than the
+// one the samples give (a 95 % upper limit of -1.68 with a spread of 1
+// reads "< -1", not "< -2"). The quoted credible mass is then a lower
+// bound on the mass beyond the printed number.
 func FormatLimit(v, scale float64, upper bool, sig int) string {
 	if sig < 1 {
 		sig = 2
@@ -135,7 +141,7 @@ func FormatLimit(v, scale float64, upper bool, sig int) string {
 		if scale > 0 && finite(scale) {
 			sig = max(1, decimalsFor(scale, 1)+e+1)
 		}
-		return op + formatSig(v, sig)
+		return op + formatSigOutward(v, sig, upper)
 	}
 	d := 0
 	switch {
@@ -144,7 +150,40 @@ func FormatLimit(v, scale float64, upper bool, sig int) string {
 	case v != 0:
 		d = max(decimalsFor(math.Abs(v), sig), 0)
 	}
-	return op + fixed(v, d)
+	return op + fixed(roundOutward(v, d, upper), d)
+}
+
+// roundOutward rounds v to d decimal places up (up true) or down. A value
+// within a few ulps of the grid, such as 2.5e-5 scaled to 2.5000000000000004,
+// counts as on it, so that exact limits are not pushed a digit outward by
+// the binary representation.
+func roundOutward(v float64, d int, up bool) float64 {
+	p := math.Pow(10, float64(d))
+	x := v * p
+	if !finite(x) {
+		return v
+	}
+	if r := math.Round(x); math.Abs(x-r) <= 1e-9*math.Max(1, math.Abs(x)) {
+		return r / p
+	}
+	if up {
+		return math.Ceil(x) / p
+	}
+	return math.Floor(x) / p
+}
+
+// formatSigOutward formats v, of size 1e4 or more or below 1e-3, to sig
+// significant figures in LaTeX math with a power of ten, rounding up (up
+// true) or down like roundOutward.
+func formatSigOutward(v float64, sig int, up bool) string {
+	e := sciExponent(math.Abs(v))
+	m := roundOutward(v*math.Pow(10, float64(-e)), sig-1, up)
+	if math.Abs(m) >= 10 {
+		// Rounding up carried into a new digit (9.96 -> 10.0).
+		e++
+		m /= 10
+	}
+	return fixed(m, sig-1) + `\times 10^{` + strconv.Itoa(e) + "}"
 }
 
 // FormatInterval formats [lo, hi] with the decimal places of the

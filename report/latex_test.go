@@ -44,18 +44,37 @@ func TestFormatLimitInterval(t *testing.T) {
 		upper    bool
 		want     string
 	}{
-		// Worked by hand: decimal place of the scale's first significant
-		// figure (2 significant figures of the value when scale is 0),
-		// integer digits kept.
-		{3.9199, 0, true, `< 3.9`},
+		// Worked by hand from FormatLimit's doc: cut at the decimal place
+		// of the scale's first significant figure (2 significant figures
+		// of the value when scale is 0), integer digits kept, upper limits
+		// rounded up and lower limits down so the bound printed is never
+		// tighter than the value.
+		{-1.68, 1, true, `< -1`},     // ceil(-1.68) = -1; nearest gave "< -2"
+		{-1.68, 0.9, true, `< -1.6`}, // std 0.9: first figure in the tenths
+		{-1.68, 1, false, `> -2`},    // floor(-1.68) = -2
+		{-1.68, 0.3, true, `< -1.6`},
+		{-1.68, 0, true, `< -1.6`}, // ceil(-16.8) = -16
+		{3.9199, 0, true, `< 4.0`},
+		{3.9199, 0, false, `> 3.9`},
 		{-7.048, 0, true, `< -7.0`},
-		{0.3684, 0, false, `> 0.37`},
-		{123.4, 0, true, `< 123`},
+		{-7.048, 0, false, `> -7.1`},
+		{0.3684, 0, false, `> 0.36`},
+		{0.3684, 0, true, `< 0.37`},
+		{123.4, 0, true, `< 124`},
 		{-10.234, 0.8, true, `< -10.2`},
+		{-10.234, 0.8, false, `> -10.3`},
 		{-10.234, 0.05, true, `< -10.23`},
-		{123.4, 50, true, `< 123`},
-		{2.5e-5, 0, true, `< 2.5\times 10^{-5}`},
+		{123.4, 50, true, `< 124`},
+		{123.4, 50, false, `> 123`},
+		{2.0, 0.5, true, `< 2.0`},                // on the grid: not pushed outward
+		{-0.3, 1, true, `< 0`},                   // ceil gives -0: no "-0"
+		{2.5e-5, 0, true, `< 2.5\times 10^{-5}`}, // 2.5e-5*1e5 is not exactly 2.5 in binary
 		{2.54e-5, 1e-7, true, `< 2.54\times 10^{-5}`},
+		{2.541e-5, 1e-7, true, `< 2.55\times 10^{-5}`},
+		{2.549e-5, 1e-7, false, `> 2.54\times 10^{-5}`},
+		{9.96e-5, 0, true, `< 1.0\times 10^{-4}`},    // carry into a new digit
+		{-9.96e-5, 0, false, `> -1.0\times 10^{-4}`}, // and for negative values
+		{1.23e5, 0, true, `< 1.3\times 10^{5}`},
 		{math.Inf(1), 0, true, `< \infty`},
 	}
 	for _, c := range lim {
@@ -172,5 +191,30 @@ func TestComparisonGivenLnB(t *testing.T) {
 	if len(cj.Models) != 3 || cj.Models[1]["ln_b"] != 3.0 || cj.Models[1]["ln_b_err"] != math.Hypot(0.2, 0.1) ||
 		cj.Models[0]["ln_b"] != 0.0 || cj.Models[2]["evidence"] != "caller's_words" {
 		t.Errorf("comparison.json models: %v", cj.Models)
+	}
+}
+
+// TestLimitTableAndCorner checks that the summary table and the corner
+// figure's panel title print the same outward-rounded limit: a 95 % upper
+// limit of -1.68 on a posterior of standard deviation 1 (the review's case,
+// worked by hand: ceil(-1.68) = -1) and a lower limit of 0.3684 with
+// standard deviation 0.02 (floor(36.84) / 100 = 0.36).
+func TestLimitTableAndCorner(t *testing.T) {
+	cases := []struct {
+		s           Summary
+		table, plot string
+	}{
+		{Summary{Name: "log10_alpha", Label: `\log_{10} \alpha`, Rails: EdgeLower, Std: 1, Limit: -1.68, LimitMass: 0.95},
+			`$< -1$ (95\,\%)`, "< −1"},
+		{Summary{Name: "x", Rails: EdgeUpper, Std: 0.02, Limit: 0.3684, LimitMass: 0.95},
+			`$> 0.36$ (95\,\%)`, "x > 0.36"},
+	}
+	for _, c := range cases {
+		if tab := SummaryTable([]Summary{c.s}, 2); !strings.Contains(tab, c.table) {
+			t.Errorf("%s: table lacks %q:\n%s", c.s.Name, c.table, tab)
+		}
+		if got := summaryTitle(c.s); !strings.HasSuffix(got, c.plot) {
+			t.Errorf("%s: corner title %q, want suffix %q", c.s.Name, got, c.plot)
+		}
 	}
 }
