@@ -49,7 +49,7 @@
 // ln Omega in 1e-10..1e-6 Hz exceeds 0.01. The table for DefaultSettings is
 // compiled in (defaulttable.bin, 0.7 MB of float32); other settings are
 // built once and cached under os.UserCacheDir()/tautline, keyed by
-// Settings.Hash (kept in memory only, with an error wrapping ErrCacheWrite,
+// Settings.TableHash, which leaves out Kappa (kept in memory only, with an error wrapping ErrCacheWrite,
 // when there is no cache directory). The step C_eff has no table: it puts a kink in Omega(f) at
 // a position that moves with (Gmu, alpha), which interpolation would smooth
 // over; use the direct path for it.

@@ -21,10 +21,13 @@ const (
 type Model struct {
 	table  *Table
 	direct *Direct // prototype for the direct path; nil for the table
+	kappa  float64 // loop density propto P^(-kappa)
 }
 
-// NewModel returns the tabulated (fast) model.
-func NewModel(t *Table) *Model { return &Model{table: t} }
+// NewModel returns the tabulated (fast) model with the Kappa of
+// t.Settings(), the settings t was built or loaded for (the table itself
+// does not depend on Kappa).
+func NewModel(t *Table) *Model { return &Model{table: t, kappa: t.s.Kappa} }
 
 // NewDirectModel returns the model evaluated by direct quadrature at every
 // call (tens of milliseconds per spectrum); for checks and for settings
@@ -34,7 +37,7 @@ func NewDirectModel(s Settings) (*Model, error) {
 	if err != nil {
 		return nil, err
 	}
-	return &Model{direct: d}, nil
+	return &Model{direct: d, kappa: s.Kappa}, nil
 }
 
 // Name returns "strings".
@@ -83,11 +86,11 @@ func (m *Model) At(f []float64) (models.Spectrum, error) {
 		}
 	}
 	if m.table == nil {
-		return &directSpectrum{d: m.direct.Clone(), f: append([]float64(nil), f...), buf: make([]float64, len(f)), kappa: m.direct.Settings().Kappa}, nil
+		return &directSpectrum{d: m.direct.Clone(), f: append([]float64(nil), f...), buf: make([]float64, len(f)), kappa: m.kappa}, nil
 	}
 	t := m.table
 	nf := len(f)
-	sp := &tableSpectrum{t: t, nf: nf, slice: make([]float64, t.nG*t.nA*nf)}
+	sp := &tableSpectrum{t: t, nf: nf, kappa: m.kappa, slice: make([]float64, t.nG*t.nA*nf)}
 	for j, v := range f {
 		if !(v >= tableFLo && v <= tableFHi) {
 			return nil, frequencyError{v}
@@ -102,11 +105,13 @@ func (m *Model) At(f []float64) (models.Spectrum, error) {
 }
 
 // tableSpectrum interpolates in (log10 Gmu, log10 alpha) with cubic
-// Lagrange weights computed once per call; slice holds ln Omega at each
-// node for each frequency, laid out [node][frequency].
+// Lagrange weights computed once per call; slice holds ln Omega at P = 1
+// at each node for each frequency, laid out [node][frequency], and LnOmega
+// adds -kappa ln P.
 type tableSpectrum struct {
 	t     *Table
 	nf    int
+	kappa float64
 	slice []float64
 }
 
@@ -124,7 +129,7 @@ func (s *tableSpectrum) LnOmega(theta, out []float64) error {
 	t := s.t
 	ig, wg := lagrangeWeights((lg-t.g0)/tableGStep, t.nG)
 	ia, wa := lagrangeWeights((la-t.a0)/tableAStep, t.nA)
-	shift := -t.s.Kappa * math.Ln10 * lp
+	shift := -s.kappa * math.Ln10 * lp
 	for j := range out {
 		out[j] = shift
 	}

@@ -101,11 +101,21 @@ func (s Settings) canonical() string {
 		g(c.H0), g(c.OmegaM), g(c.TCMB), g(c.Neff), c.DOF)
 }
 
-// Hash identifies the settings (and the version of the computation) for
-// table caching: the hex SHA-256 of their canonical form.
+// Hash identifies the settings (and the version of the computation): the
+// hex SHA-256 of their canonical form. Tables are keyed by TableHash.
 func (s Settings) Hash() string {
 	h := sha256.Sum256([]byte(s.canonical()))
 	return hex.EncodeToString(h[:])
+}
+
+// TableHash identifies what a Table stores: Hash with Kappa set to 1. The
+// table holds ln Omega at P = 1, where P^(-kappa) = 1 for every kappa, so
+// one table serves all kappa (the Model applies -kappa ln P). Normalising
+// Kappa rather than dropping it keeps the hash of tables built for
+// kappa = 1, the embedded one included.
+func (s Settings) TableHash() string {
+	s.Kappa = 1
+	return s.Hash()
 }
 
 // String describes the settings for logs and reports.

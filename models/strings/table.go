@@ -81,8 +81,9 @@ func (c Certificate) String() string {
 }
 
 // A Table holds ln Omega_GW at P = 1 on a grid in (log10 Gmu, log10 alpha,
-// ln f) for fixed Settings; P enters analytically as -kappa ln P. It is
-// immutable and safe for concurrent use.
+// ln f) for fixed Settings; P enters analytically as -kappa ln P, so the
+// stored values do not depend on Kappa. It is immutable and safe for
+// concurrent use.
 type Table struct {
 	s    Settings
 	hash string
@@ -110,10 +111,12 @@ type BuildOptions struct {
 	NoEmbedded bool
 }
 
-// Settings returns the settings the table was built for.
+// Settings returns the settings the table was built or loaded for,
+// including the Kappa that LnOmega and Model apply.
 func (t *Table) Settings() Settings { return t.s }
 
-// Hash returns the settings hash the table was built for.
+// Hash returns the table hash (Settings.TableHash, independent of Kappa)
+// the table was built for.
 func (t *Table) Hash() string { return t.hash }
 
 // Certificate returns the table's certification record.
@@ -125,7 +128,7 @@ func (t *Table) Domain() (log10GmuLo, log10GmuHi, log10AlphaLo, log10AlphaHi, fL
 }
 
 func newEmptyTable(s Settings) *Table {
-	t := &Table{s: s, hash: s.Hash()}
+	t := &Table{s: s, hash: s.TableHash()}
 	t.g0 = tableGLo - tableGStep
 	t.a0 = tableALo - tableAStep
 	t.f0 = math.Log(tableFLo) - tableLnFStep
@@ -432,7 +435,7 @@ func decodeTable(name string, b []byte, s Settings) (*Table, error) {
 	if h.Magic != tableMagic {
 		return nil, fmt.Errorf("strings: %s: not a tautline string table", name)
 	}
-	if got, want := string(h.Hash[:]), s.Hash(); got != want {
+	if got, want := string(h.Hash[:]), s.TableHash(); got != want {
 		return nil, fmt.Errorf("strings: %s: built for settings hash %.12s..., want %.12s...", name, got, want)
 	}
 	t := newEmptyTable(s)
@@ -494,7 +497,8 @@ func (t *Table) WriteFile(path string) error {
 }
 
 // CachePath returns where LoadTable caches the table for s under cacheDir
-// (os.UserCacheDir()/tautline when cacheDir is empty).
+// (os.UserCacheDir()/tautline when cacheDir is empty); the name depends on
+// s.TableHash, so all values of Kappa share one file.
 func CachePath(s Settings, cacheDir string) (string, error) {
 	if cacheDir == "" {
 		base, err := os.UserCacheDir()
@@ -503,11 +507,11 @@ func CachePath(s Settings, cacheDir string) (string, error) {
 		}
 		cacheDir = filepath.Join(base, "tautline")
 	}
-	return filepath.Join(cacheDir, "strings-"+s.Hash()[:16]+".tbl"), nil
+	return filepath.Join(cacheDir, "strings-"+s.TableHash()[:16]+".tbl"), nil
 }
 
 // LoadTable returns the table for s: the one compiled into the binary when
-// s has the default settings' hash, else the cached file under cacheDir
+// s has the default settings' TableHash (any Kappa), else the cached file under cacheDir
 // (see CachePath), else a freshly built and certified table, which it then
 // caches. A cached file that is corrupt or built for other settings is
 // rebuilt. If only the caching fails, including when there is no user cache

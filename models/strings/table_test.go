@@ -8,6 +8,7 @@ import (
 	"path/filepath"
 	"slices"
 	"strings"
+	"sync/atomic"
 	"testing"
 
 	"tautline/models"
@@ -244,9 +245,16 @@ func TestTableFileRoundTrip(t *testing.T) {
 		t.Error("round trip changed the table")
 	}
 	other := DefaultSettings()
-	other.Kappa = 0.6
+	other.Q = QKinks
 	if _, err := ReadTable(path, other); err == nil {
 		t.Error("ReadTable accepted a table built for other settings")
+	}
+	// Kappa does not enter the table: the file serves kappa = 0.6, and the
+	// table read carries that kappa.
+	other = DefaultSettings()
+	other.Kappa = 0.6
+	if back, err := ReadTable(path, other); err != nil || back.Settings().Kappa != 0.6 {
+		t.Errorf("ReadTable with Kappa = 0.6: %v", err)
 	}
 	b, _ := os.ReadFile(path)
 	b[len(b)/2] ^= 1
@@ -281,16 +289,98 @@ func TestSettingsHash(t *testing.T) {
 	if a.Hash() != b.Hash() {
 		t.Error("empty DOF hashes differently from standard-model")
 	}
-	for _, mod := range []func(*Settings){
-		func(s *Settings) { s.Q = QKinks },
-		func(s *Settings) { s.Modes = 0 },
-		func(s *Settings) { s.Cosmology.H0 = 70 },
-		func(s *Settings) { s.Kappa = 0.6 },
+	for _, c := range []struct {
+		mod       func(*Settings)
+		sameTable bool // the table at P = 1 is unchanged
+	}{
+		{func(s *Settings) { s.Q = QKinks }, false},
+		{func(s *Settings) { s.Modes = 0 }, false},
+		{func(s *Settings) { s.Cosmology.H0 = 70 }, false},
+		{func(s *Settings) { s.Kappa = 0.6 }, true},
+		{func(s *Settings) { s.Kappa = 0 }, true},
 	} {
-		c := DefaultSettings()
-		mod(&c)
-		if c.Hash() == a.Hash() {
-			t.Errorf("settings %v hash equal to default", c)
+		s := DefaultSettings()
+		c.mod(&s)
+		if s.Hash() == a.Hash() {
+			t.Errorf("settings %v hash equal to default", s)
+		}
+		if got := s.TableHash() == a.TableHash(); got != c.sameTable {
+			t.Errorf("settings %v: table hash equal to default's: %v, want %v", s, got, c.sameTable)
+		}
+	}
+	// Tables built before TableHash existed were keyed by Hash at kappa = 1.
+	if a.TableHash() != a.Hash() {
+		t.Error("TableHash of the default settings differs from Hash: the embedded table and old caches would be rebuilt")
+	}
+}
+
+// TestKappaSharesTable: the table stores ln Omega at P = 1, so a model with
+// kappa = 0.6 uses the embedded default table (no build, nothing cached),
+// and its ln Omega is that of P = 1 shifted by exactly -0.6 ln P (the
+// P^(-kappa) scaling of PHYSICS.md section 3).
+func TestKappaSharesTable(t *testing.T) {
+	s := DefaultSettings()
+	s.Kappa = 0.6
+	dir := t.TempDir()
+	var progress atomic.Int64
+	tab, err := LoadTable(s, dir, BuildOptions{Workers: 2, Progress: func(int, int) { progress.Add(1) }})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if n := progress.Load(); n != 0 {
+		t.Errorf("LoadTable with Kappa = 0.6 built %d nodes, want the embedded table", n)
+	}
+	if files, _ := os.ReadDir(dir); len(files) != 0 {
+		t.Errorf("LoadTable with Kappa = 0.6 wrote %d files to the cache, want none", len(files))
+	}
+	def := defaultTable(t)
+	if !slices.Equal(tab.data, def.data) || tab.Certificate() != def.Certificate() {
+		t.Error("Kappa = 0.6 table differs from the embedded default table")
+	}
+	m := NewModel(tab)
+	if k := m.Settings().Kappa; k != 0.6 {
+		t.Errorf("model Kappa = %g, want 0.6", k)
+	}
+	f := []float64{1e-9, 1e-8, 1e-7}
+	sp, err := m.At(f)
+	if err != nil {
+		t.Fatal(err)
+	}
+	ref, out := make([]float64, len(f)), make([]float64, len(f))
+	for _, c := range []struct{ lg, la float64 }{{-10.3, -1.7}, {-7.1, -4.2}, {-12.9, -0.3}} {
+		if err := sp.LnOmega([]float64{c.lg, c.la, 0}, ref); err != nil {
+			t.Fatal(err)
+		}
+		for _, lp := range []float64{-0.5, -1, -2.7} {
+			if err := sp.LnOmega([]float64{c.lg, c.la, lp}, out); err != nil {
+				t.Fatal(err)
+			}
+			for j := range f {
+				want := ref[j] - 0.6*lp*math.Ln10
+				// 1e-12: ln Omega is about -20, so a few rounding steps
+				// of float64 arithmetic reach 1e-14.
+				if math.Abs(out[j]-want) > 1e-12 {
+					t.Errorf("log10 Gmu=%g log10 alpha=%g log10 P=%g f=%g: ln Omega %.14f, want %.14f", c.lg, c.la, lp, f[j], out[j], want)
+				}
+			}
+		}
+	}
+	// Independent check: the direct path, which applies P^(-kappa) inside
+	// its own mode sum, agrees within the certified 0.01.
+	d, err := NewDirect(s)
+	if err != nil {
+		t.Fatal(err)
+	}
+	theta := []float64{-9.2, -2.3, -2.2}
+	if err := d.Omega(f, math.Pow(10, theta[0]), math.Pow(10, theta[1]), math.Pow(10, theta[2]), ref); err != nil {
+		t.Fatal(err)
+	}
+	if err := sp.LnOmega(theta, out); err != nil {
+		t.Fatal(err)
+	}
+	for j := range f {
+		if e := math.Abs(out[j] - math.Log(ref[j])); e > certMaxErr {
+			t.Errorf("f=%g, kappa = 0.6: table %.5f, direct %.5f", f[j], out[j], math.Log(ref[j]))
 		}
 	}
 }
@@ -404,8 +494,8 @@ func TestLoadTableCacheFailures(t *testing.T) {
 			t.Errorf("%s: table %v, error %v, %d builds; want the built table and ErrCacheWrite", c.name, tab != nil, err, builds)
 			continue
 		}
-		if tab.Hash() != s.Hash() {
-			t.Errorf("%s: table built for hash %.12s, want %.12s", c.name, tab.Hash(), s.Hash())
+		if tab.Hash() != s.TableHash() {
+			t.Errorf("%s: table built for hash %.12s, want %.12s", c.name, tab.Hash(), s.TableHash())
 		}
 	}
 	// A failing build is reported as such, not as a cache problem.

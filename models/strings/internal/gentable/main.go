@@ -30,5 +30,5 @@ func main() {
 		fmt.Fprintln(os.Stderr, "gentable:", err)
 		os.Exit(1)
 	}
-	fmt.Printf("wrote %s for settings %s (hash %.12s) in %s\ncertificate: %v\n", *out, s, s.Hash(), time.Since(start).Round(time.Millisecond), t.Certificate())
+	fmt.Printf("wrote %s for settings %s (table hash %.12s) in %s\ncertificate: %v\n", *out, s, s.TableHash(), time.Since(start).Round(time.Millisecond), t.Certificate())
 }
