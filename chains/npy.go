@@ -6,18 +6,18 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"math"
 	"os"
 	"strings"
 
-	"codeberg.org/sbinet/npyio"
 	"codeberg.org/sbinet/npyio/npy"
-	"gonum.org/v1/gonum/mat"
 )
 
 // WriteNPY writes the rows x cols matrix held row-major in data to path as
-// a NumPy .npy file (dtype "<f8", C order), atomically. An empty matrix
-// (rows or cols zero) keeps its shape, so that numpy.load returns an array
-// of shape (rows, cols).
+// a NumPy .npy file (dtype "<f8", C order), atomically: the header of
+// npyHeader followed by the values as little-endian float64 bits. An empty
+// matrix (rows or cols zero) keeps its shape, so that numpy.load returns an
+// array of shape (rows, cols).
 func WriteNPY(path string, rows, cols int, data []float64) error {
 	if rows < 0 || cols < 0 {
 		return fmt.Errorf("chains: %s: negative matrix size %dx%d", path, rows, cols)
@@ -25,32 +25,53 @@ func WriteNPY(path string, rows, cols int, data []float64) error {
 	if cols > 0 && rows > len(data)/cols || rows*cols != len(data) {
 		return fmt.Errorf("chains: %s: %dx%d matrix needs %d values, got %d", path, rows, cols, rows*cols, len(data))
 	}
-	if rows == 0 || cols == 0 {
-		// gonum's mat.Dense cannot be empty, so npyio cannot write this
-		// shape; the header alone is the whole file.
-		return WriteFileAtomic(path, func(w io.Writer) error {
-			_, err := w.Write(emptyNPY(rows, cols))
+	return WriteFileAtomic(path, func(w io.Writer) error {
+		if _, err := w.Write(npyHeader(rows, cols)); err != nil {
 			return err
-		})
-	}
-	m := mat.NewDense(rows, cols, data)
-	return WriteFileAtomic(path, func(w io.Writer) error { return npyio.Write(w, m) })
+		}
+		// WriteFileAtomic buffers w; encode in chunks so a large matrix
+		// is not copied whole.
+		var buf [8 * 512]byte
+		for len(data) > 0 {
+			n := min(len(data), len(buf)/8)
+			for i, v := range data[:n] {
+				binary.LittleEndian.PutUint64(buf[8*i:], math.Float64bits(v))
+			}
+			if _, err := w.Write(buf[:8*n]); err != nil {
+				return err
+			}
+			data = data[n:]
+		}
+		return nil
+	})
 }
 
-// emptyNPY returns a version-1.0 .npy file holding no data and the shape
-// (rows, cols), laid out as the format specification (NumPy enhancement
-// proposal 1) requires: magic, version, header length, a dict literal padded
-// with spaces and ended by a newline so that the data would start on a
-// 16-byte boundary.
-func emptyNPY(rows, cols int) []byte {
-	hdr := fmt.Sprintf("{'descr': '<f8', 'fortran_order': False, 'shape': (%d, %d), }", rows, cols)
-	for (10+len(hdr)+1)%16 != 0 {
-		hdr += " "
+// npyAlign is the alignment of the data in a .npy file: the format
+// specification (NumPy enhancement proposal 1, version 1.0) pads the header
+// so that magic, version, length field and header together are a multiple
+// of 16 bytes; current NumPy pads to 64, which also satisfies 16, and so
+// do we.
+const npyAlign = 64
+
+// npyHeader returns the version-1.0 .npy header of a rows x cols float64
+// matrix in C order, laid out as the format specification (NumPy
+// enhancement proposal 1) requires: the magic "\x93NUMPY", the version
+// bytes 1, 0, the header length as a little-endian uint16, and a Python
+// dict literal padded with spaces and ended by a newline so that the data
+// start on an npyAlign-byte boundary.
+func npyHeader(rows, cols int) []byte {
+	const pre = 10 // magic (6), version (2), header length (2)
+	dict := fmt.Sprintf("{'descr': '<f8', 'fortran_order': False, 'shape': (%d, %d), }", rows, cols)
+	n := pre + len(dict) + 1 // + the newline
+	pad := (npyAlign - n%npyAlign) % npyAlign
+	b := make([]byte, 0, n+pad)
+	b = append(b, "\x93NUMPY\x01\x00"...)
+	b = binary.LittleEndian.AppendUint16(b, uint16(len(dict)+pad+1))
+	b = append(b, dict...)
+	for range pad {
+		b = append(b, ' ')
 	}
-	hdr += "\n"
-	b := []byte("\x93NUMPY\x01\x00")
-	b = binary.LittleEndian.AppendUint16(b, uint16(len(hdr)))
-	return append(b, hdr...)
+	return append(b, '\n')
 }
 
 // ReadNPY reads a two-dimensional float64 .npy file (either byte order,
