@@ -63,6 +63,11 @@ var modelNames = []string{"smbhb", "strings", "strings+smbhb"}
 // buildModel constructs the model cfg names. progress, if not nil, receives
 // log lines while a string-spectrum table is built.
 func buildModel(cfg Config, logf func(format string, args ...any)) (models.Model, error) {
+	c := cfg.Cosmology
+	if !(c.H0 > 0 && c.H0 < 1000) || !(c.OmegaM > 0 && c.OmegaM < 1) || !(c.TCMB > 0) || !(c.Neff >= 0) {
+		return nil, fmt.Errorf("%w: cosmology: want 0 < --h0 < 1000 km/s/Mpc, 0 < --omega-m < 1, --t-cmb > 0 K and --n-eff >= 0; got %g, %g, %g, %g",
+			errUsage, c.H0, c.OmegaM, c.TCMB, c.Neff)
+	}
 	h0 := gw.H0SI(cfg.Cosmology.H0)
 	smbhb := func() (models.Model, error) {
 		return binaries.New(binaries.Options{FixGamma: cfg.Model.FixGamma, H0: h0})

@@ -83,18 +83,12 @@ func runCompare(ctx context.Context, e *env, args []string) error {
 		fs.IntVar(&co.swapEvery, "swap-every", 1, "steps between swap rounds of neighbouring rungs")
 		fs.BoolVar(&co.adapt, "adapt-ladder", false, "adapt the inner rungs' temperatures during burn-in to even out swap acceptance (Vousden, Farr & Mandel 2016); the ladder is frozen after burn-in and only later samples enter ln Z")
 	}
-	cfg, rf, fs, err := resolveConfig(e, "compare", "[options]", compareHelp, args, extra)
+	cfg, rf, fs, err := resolveConfig(e, "compare", "[options]", compareHelp, args, compareDefaults, bindCompareConfig, extra)
 	if err != nil {
 		return err
 	}
 	explicit := map[string]bool{}
 	fs.Visit(func(f *flag.Flag) { explicit[f.Name] = true })
-	if !explicit["data"] && (rf.configPath == "" || cfg.Data == defaultData(cfg.Model.Name)) {
-		cfg.Data = "demo:strings"
-	}
-	if !explicit["steps"] && rf.configPath == "" {
-		cfg.Sampler.Steps = 3000
-	}
 	if co.task < 0 && !explicit["task"] {
 		if s := os.Getenv("SLURM_ARRAY_TASK_ID"); s != "" {
 			if co.task, err = strconv.Atoi(s); err != nil {
@@ -102,11 +96,10 @@ func runCompare(ctx context.Context, e *env, args []string) error {
 			}
 		}
 	}
-	if cfg.Output.Dir == "" {
-		cfg.Output.Dir = filepath.Join("runs", "compare")
-	}
 	if rf.printConfig {
 		fmt.Fprint(e.stdout, marshalConfig(cfg))
+		fmt.Fprintf(e.stdout, "# compare: models %s, reference %s, %d rungs (exponent %g) in %d block(s), swap every %d, adapt ladder %v, evidence error %g (caps: %d steps, %d rungs)\n",
+			co.models, co.reference, co.rungs, co.exponent, co.blocks, co.swapEvery, co.adapt, co.target, co.maxSteps, co.maxRungs)
 		return nil
 	}
 	lg, err := newLogger(e.stderr, rf.logLevel, rf.logFormat)
@@ -115,6 +108,16 @@ func runCompare(ctx context.Context, e *env, args []string) error {
 	}
 	co.cmdline = strings.Join(append([]string{"tautline", "compare"}, args...), " ")
 	return compare(ctx, e, lg, cfg, co)
+}
+
+// compareDefaults are fit's defaults with compare's own: the string demo,
+// 3000 steps per rung, and runs/compare.
+func compareDefaults() Config {
+	c := defaultConfig()
+	c.Data = "demo:strings"
+	c.Sampler.Steps = 3000
+	c.Output.Dir = filepath.Join("runs", "compare")
+	return c
 }
 
 // compareUnit is one independent piece of a comparison: one model on one
@@ -167,11 +170,26 @@ func compare(ctx context.Context, e *env, lg *logrus.Logger, cfg Config, co comp
 	if co.target > 0 && co.blocks > 1 {
 		return fmt.Errorf("%w: --evidence-error needs the whole ladder in one block (--rung-blocks 1)", errUsage)
 	}
+	for _, m := range models {
+		if !slices.Contains(modelNames, m) {
+			return fmt.Errorf("%w: --models: unknown model %q; want some of %s", errUsage, m, strings.Join(modelNames, ", "))
+		}
+	}
+	if err := checkSampler(cfg); err != nil {
+		return err
+	}
 	if !slices.Contains(models, co.reference) {
 		return fmt.Errorf("%w: --reference %q is not among --models %s", errUsage, co.reference, co.models)
 	}
 	units, err := plan(models, co)
 	if err != nil {
+		return err
+	}
+	ds, err := loadData(cfg.Data)
+	if err != nil {
+		return err
+	}
+	if err := checkOutFolder(cfg.Output.Dir, comparisonID(cfg, co, ds.SHA256)); err != nil {
 		return err
 	}
 	if err := os.MkdirAll(cfg.Output.Dir, 0o755); err != nil {
@@ -359,24 +377,56 @@ func runUnit(ctx context.Context, e *env, lg *logrus.Logger, cfg Config, co comp
 			adv := evidence.Advise(ev, co.target)
 			passes = append(passes, map[string]any{"pass": pass, "steps": steps, "rungs": len(betas), "total_error": ev.TIHigher.Total, "advice": adv.Reason})
 			lg.WithFields(logrus.Fields{"model": u.Model, "pass": pass, "steps": steps, "rungs": len(betas), "error": fmt.Sprintf("%.3f", ev.TIHigher.Total)}).Info("evidence accuracy")
-			if !adv.Done {
+			last := passes[len(passes)-1]
+			if adv.Done {
+				last["status"] = fmt.Sprintf("target %g met: total error %.3g", co.target, ev.TIHigher.Total)
+			} else {
 				grown := false
-				if adv.StepsFactor > 1 && steps < co.maxSteps {
-					steps = min(co.maxSteps, int(float64(steps)*adv.StepsFactor+0.5))
-					grown = true
+				var capped []string
+				if adv.StepsFactor > 1 {
+					if steps < co.maxSteps {
+						steps = min(co.maxSteps, int(float64(steps)*adv.StepsFactor+0.5))
+						grown = true
+					} else {
+						capped = append(capped, fmt.Sprintf("--max-steps %d", co.maxSteps))
+					}
 				}
-				if len(adv.Insert) > 0 && len(betas) < co.maxRungs {
-					betas = mergeLadder(betas, adv.Insert, co.maxRungs)
-					grown = true
+				if len(adv.Insert) > 0 {
+					if len(betas) < co.maxRungs {
+						betas = mergeLadder(betas, adv.Insert, co.maxRungs)
+						grown = true
+					} else {
+						capped = append(capped, fmt.Sprintf("--max-rungs %d", co.maxRungs))
+					}
 				}
 				if grown {
 					continue
 				}
-				passes[len(passes)-1]["stopped"] = "cap reached (--max-steps / --max-rungs) before the target"
+				last["stopped"] = fmt.Sprintf("cap reached (%s) before the target %g: total error %.3g", strings.Join(capped, ", "), co.target, ev.TIHigher.Total)
+				last["status"] = last["stopped"]
 			}
 		}
 		return writePart(u, co, mc, pb, fp, betas, steps, res, passes, cfg)
 	}
+}
+
+// checkOutFolder refuses an output folder that holds parts of another
+// comparison: finishing would mix them in (or refuse them) and leave the
+// folder half old, half new. Parts of this same comparison (other tasks,
+// or an earlier identical run) are fine.
+func checkOutFolder(out, id string) error {
+	matches, _ := filepath.Glob(filepath.Join(out, "parts", "*", "part.json"))
+	for _, m := range matches {
+		raw, err := os.ReadFile(m)
+		if err != nil {
+			return err
+		}
+		pm, err := decodePart(m, raw)
+		if err != nil || pm.Comparison != id {
+			return fmt.Errorf("%s holds the results of another comparison (%s); choose another --out, or remove that folder first", out, m)
+		}
+	}
+	return nil
 }
 
 // comparisonID hashes everything that decides a comparison's result: the
@@ -498,6 +548,9 @@ type compareRow struct {
 	Steps    int               `json:"steps_per_rung"`
 	Walkers  int               `json:"walkers"`
 	Warnings []string          `json:"warnings,omitempty"`
+	// Accuracy says, with --evidence-error, whether the target was met or
+	// which cap stopped the run.
+	Accuracy string `json:"evidence_target,omitempty"`
 }
 
 // compareResult is compare.json.
@@ -661,8 +714,12 @@ func finalizeModel(out, model string, parts []partMeta) (compareRow, error) {
 			}
 		}
 	}
+	var accuracy string
+	if ps := parts[0].Passes; len(ps) > 0 {
+		accuracy, _ = ps[len(ps)-1]["status"].(string)
+	}
 	return compareRow{
 		Model: model, Params: parts[0].Params, TI: ev.TIHigher, TITrap: ev.TI, SS: ev.SS, Disagree: ev.Disagree,
-		Rungs: len(rungs), Steps: parts[0].Steps, Walkers: parts[0].Walkers, Warnings: ev.Warnings,
+		Rungs: len(rungs), Steps: parts[0].Steps, Walkers: parts[0].Walkers, Warnings: ev.Warnings, Accuracy: accuracy,
 	}, nil
 }

@@ -72,6 +72,10 @@ type CosmologyConfig struct {
 	H0 float64 `yaml:"h0"`
 	// OmegaM is the matter density today.
 	OmegaM float64 `yaml:"omega_m"`
+	// TCMB is the CMB temperature today in K.
+	TCMB float64 `yaml:"t_cmb"`
+	// Neff is the effective number of neutrino species.
+	Neff float64 `yaml:"n_eff"`
 }
 
 // SamplerConfig sets the ensemble sampler.
@@ -109,7 +113,7 @@ func defaultConfig() Config {
 			},
 		},
 		Likelihood: LikelihoodConfig{Bandwidth: "scott"},
-		Cosmology:  CosmologyConfig{H0: 67.4, OmegaM: 0.315},
+		Cosmology:  CosmologyConfig{H0: 67.4, OmegaM: 0.315, TCMB: 2.7255, Neff: 3.046},
 		Sampler: SamplerConfig{
 			Walkers: 32, Steps: 4000, Burn: -1, Thin: 0, Seed: 1, Workers: 0,
 			Moves: "stretch", CheckpointEvery: 1000,

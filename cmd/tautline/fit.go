@@ -37,7 +37,7 @@ chain bytes as a run that never stopped.`
 
 func runFit(ctx context.Context, e *env, args []string) error {
 	var resume bool
-	cfg, rf, _, err := resolveConfig(e, "fit", "[options]", fitHelp, args, func(fs *flag.FlagSet) {
+	cfg, rf, _, err := resolveConfig(e, "fit", "[options]", fitHelp, args, defaultConfig, bindConfig, func(fs *flag.FlagSet) {
 		fs.BoolVar(&resume, "resume", false, "continue the run in --out from its checkpoint (same configuration required)")
 	})
 	if err != nil {
@@ -81,8 +81,8 @@ func fit(ctx context.Context, e *env, lg *logrus.Logger, cfg Config, resume bool
 		cfg.Sampler.Steps = untilDefaultCap
 		lg.Infof("--until without --steps: capping the run at %d steps", untilDefaultCap)
 	}
-	if cfg.Sampler.Steps <= 0 {
-		return fmt.Errorf("%w: --steps must be > 0, got %d", errUsage, cfg.Sampler.Steps)
+	if err := checkSampler(cfg); err != nil {
+		return err
 	}
 	pb, err := buildProblem(cfg, lg.Infof)
 	if err != nil {
@@ -294,8 +294,12 @@ func summarise(names []string, post []float64, n, dim int) []paramSummary {
 }
 
 func printFitSummary(e *env, cfg Config, pb *problem, res sampler.Result, sum []paramSummary, n int, paths runFiles) {
+	status := res.Status.String()
+	if cfg.Sampler.Until == "" && res.Status == sampler.MaxStepsReached {
+		status = "finished" // no criteria were asked for; the diagnostics below say how well it mixed
+	}
 	fmt.Fprintf(e.stdout, "\nModel %s on %s (%d bins): %s after %d steps x %d walkers; burn-in %d, thin %d, %d posterior samples\n\n",
-		pb.model.Name(), pb.data.Name, len(pb.data.Freqs), res.Status, res.Steps, cfg.Sampler.Walkers, res.Burn, res.Thin, n)
+		pb.model.Name(), pb.data.Name, len(pb.data.Freqs), status, res.Steps, cfg.Sampler.Walkers, res.Burn, res.Thin, n)
 	tw := tabwriter.NewWriter(e.stdout, 0, 0, 2, ' ', tabwriter.AlignRight)
 	fmt.Fprintln(tw, "parameter\tmedian\t68% low\t68% high\t95% low\t95% high\ttau\tESS\tR-hat\t")
 	for k, s := range sum {

@@ -17,7 +17,7 @@ the file, line and field at fault, and the exit status is 1.`
 
 // inspectRow is one bin in `inspect --json`.
 type inspectRow struct {
-	Bin            int     `json:"bin"` // 0-based; the table shows i = bin+1
+	Bin            int     `json:"bin"` // harmonic number i of f_i = i/T, from 1 as in the data files
 	FrequencyHz    float64 `json:"frequency_hz"`
 	Median         float64 `json:"log10_rho_median"`
 	Lo68           float64 `json:"log10_rho_lo68"`
@@ -56,7 +56,7 @@ func runInspect(_ context.Context, e *env, args []string) error {
 	}
 	for _, b := range ds.Summary() {
 		out.Bins = append(out.Bins, inspectRow{
-			Bin: b.Index, FrequencyHz: b.Freq, Median: b.Median, Lo68: b.Lo68, Hi68: b.Hi68, Representation: b.Kind.String(),
+			Bin: b.Index + 1, FrequencyHz: b.Freq, Median: b.Median, Lo68: b.Lo68, Hi68: b.Hi68, Representation: b.Kind.String(),
 		})
 	}
 	out.Total = len(out.Bins)
@@ -70,7 +70,7 @@ func runInspect(_ context.Context, e *env, args []string) error {
 	tw := tabwriter.NewWriter(e.stdout, 0, 0, 2, ' ', tabwriter.AlignRight)
 	fmt.Fprintln(tw, "i\tfrequency [Hz]\tlog10 rho median\t68% low\t68% high\trepresentation\t")
 	for _, r := range out.Bins {
-		fmt.Fprintf(tw, "%d\t%.6e\t%.3f\t%.3f\t%.3f\t%s\t\n", r.Bin+1, r.FrequencyHz, r.Median, r.Lo68, r.Hi68, r.Representation)
+		fmt.Fprintf(tw, "%d\t%.6e\t%.3f\t%.3f\t%.3f\t%s\t\n", r.Bin, r.FrequencyHz, r.Median, r.Lo68, r.Hi68, r.Representation)
 	}
 	if err := tw.Flush(); err != nil {
 		return err

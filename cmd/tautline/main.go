@@ -21,6 +21,7 @@ import (
 	"io"
 	"os"
 	"os/signal"
+	"strings"
 	"syscall"
 )
 
@@ -99,7 +100,8 @@ func run(ctx context.Context, e *env, args []string) int {
 		case errors.Is(err, errSilent):
 			return 2
 		case errors.Is(err, errUsage):
-			fmt.Fprintf(e.stderr, "tautline %s: %v\nRun 'tautline %s --help' for the options.\n", c.name, err, c.name)
+			msg := strings.TrimPrefix(err.Error(), errUsage.Error()+": ")
+			fmt.Fprintf(e.stderr, "tautline %s: %s\nRun 'tautline %s --help' for the options.\n", c.name, msg, c.name)
 			return 2
 		default:
 			fmt.Fprintf(e.stderr, "tautline %s: %v\n", c.name, err)

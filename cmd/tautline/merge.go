@@ -109,7 +109,7 @@ func writeCurveCSV(path string, ev evidence.Result) error {
 }
 
 func printCompare(e *env, res *compareResult, out string) {
-	fmt.Fprintf(e.stdout, "\nEvidence on %s (reference %s; errors: Monte-Carlo + discretisation = total)\n\n", res.Data, res.Reference)
+	fmt.Fprintf(e.stdout, "\nEvidence of each model given data set %s (reference %s; errors: Monte-Carlo + discretisation = total)\n\n", res.Data, res.Reference)
 	tw := tabwriter.NewWriter(e.stdout, 0, 0, 2, ' ', 0)
 	fmt.Fprintln(tw, "model\tln Z (TI)\t± MC\t± disc\t± total\tln Z (SS)\t± total\tln B\t± err\treading")
 	for _, r := range res.Rows {
@@ -121,6 +121,11 @@ func printCompare(e *env, res *compareResult, out string) {
 			r.SS.LnZ, r.SS.Total, lnb, lnbErr, r.Reading)
 	}
 	_ = tw.Flush()
+	for _, r := range res.Rows {
+		if r.Accuracy != "" {
+			fmt.Fprintf(e.stdout, "%s: evidence accuracy: %s\n", r.Model, r.Accuracy)
+		}
+	}
 	for _, r := range res.Rows {
 		if r.Disagree {
 			fmt.Fprintf(e.stdout, "warning: %s: thermodynamic integration and stepping-stone disagree beyond their errors; run longer or with more rungs\n", r.Model)

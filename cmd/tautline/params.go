@@ -94,8 +94,8 @@ func describeTheta(ps []models.Param, theta []float64) string {
 
 // modelAt builds the configured model and evaluates ln Omega_GW at freqs
 // for the parameters given as NAME=VALUE (the rest from injectionDefaults).
-func modelAt(cfg Config, given []string, freqs []float64) (models.Model, []float64, []float64, error) {
-	m, err := buildModel(cfg, nil)
+func modelAt(cfg Config, given []string, freqs []float64, logf func(string, ...any)) (models.Model, []float64, []float64, error) {
+	m, err := buildModel(cfg, logf)
 	if err != nil {
 		return nil, nil, nil, err
 	}

@@ -73,7 +73,7 @@ func (p *progress) update(done int, extra string, eta time.Duration) {
 		p.drawn = true
 		return
 	}
-	p.log.WithFields(logrus.Fields{"step": done, "of": p.total, "rate_per_s": fmt.Sprintf("%.0f", rate), "eta": fmtDur(eta)}).Info("sampling " + extra)
+	p.log.WithFields(logrus.Fields{"step": done, "of": p.total, "rate_per_s": fmt.Sprintf("%.0f", rate), "eta": fmtDur(eta)}).Info(strings.TrimSpace("sampling " + extra))
 }
 
 // finish ends the bar's line.
@@ -88,4 +88,12 @@ func fmtDur(d time.Duration) string {
 		return "-"
 	}
 	return d.Round(time.Second).String()
+}
+
+// stderrLog returns a printf-style logger to stderr for commands without
+// --log-level (simulate, spectrum): it reports long steps such as building
+// a string-spectrum table.
+func stderrLog(e *env) func(string, ...any) {
+	lg, _ := newLogger(e.stderr, "info", "text")
+	return lg.Infof
 }

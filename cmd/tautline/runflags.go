@@ -20,18 +20,42 @@ type runFlags struct {
 	logFormat   string
 }
 
-// bindConfig registers a flag for every key of cfg, writing into cfg.
+// bindConfig registers a flag for every key of cfg that fit uses, writing
+// into cfg.
 func bindConfig(fs *flag.FlagSet, cfg *Config) {
 	fs.StringVar(&cfg.Data, "data", cfg.Data, "free-spectrum data set: path to its YAML description, or demo:smbhb / demo:strings (embedded, simulated); empty picks the demo that suits --model")
-	bindModel(fs, cfg)
+	fs.StringVar(&cfg.Model.Name, "model", cfg.Model.Name, "model: smbhb, strings, or strings+smbhb")
+	bindModelSettings(fs, cfg)
 	fs.StringVar(&cfg.Likelihood.Bandwidth, "bandwidth", cfg.Likelihood.Bandwidth, "KDE bandwidth rule for bins given as samples: scott or silverman")
-	bindSampler(fs, cfg)
+	bindSampler(fs, cfg, false)
+	fs.StringVar(&cfg.Sampler.Until, "until", cfg.Sampler.Until, "stop when all criteria hold, e.g. ess=5000,tau=50,rhat=1.01 (effective sample size, chain length in autocorrelation times, split R-hat); --steps is then the cap")
+	fs.StringVar(&cfg.Sampler.Moves, "moves", cfg.Sampler.Moves, "ensemble moves: stretch, de (differential evolution), or a weighted mix such as stretch:0.8,de:0.2")
+	fs.IntVar(&cfg.Sampler.CheckpointEvery, "checkpoint-every", cfg.Sampler.CheckpointEvery, "steps between checkpoints (0 disables them)")
+	fs.StringVar(&cfg.Output.Dir, "out", cfg.Output.Dir, "output folder for chains and metadata; empty means runs/fit-MODEL")
+	fs.IntVar(&cfg.Output.FlushEvery, "flush-every", cfg.Output.FlushEvery, "steps between chain flushes to disk (a crash loses at most this many)")
 }
 
-// bindModel registers the flags that choose and configure the model and
-// the background cosmology.
+// bindCompareConfig registers the configuration keys compare uses: not
+// the model (compare takes --models), nor --until, the moves, checkpoints
+// or flushing, which compare does not use.
+func bindCompareConfig(fs *flag.FlagSet, cfg *Config) {
+	fs.StringVar(&cfg.Data, "data", cfg.Data, "free-spectrum data set: path to its YAML description, or demo:smbhb / demo:strings (embedded, simulated)")
+	bindModelSettings(fs, cfg)
+	fs.StringVar(&cfg.Likelihood.Bandwidth, "bandwidth", cfg.Likelihood.Bandwidth, "KDE bandwidth rule for bins given as samples: scott or silverman")
+	bindSampler(fs, cfg, true)
+	fs.StringVar(&cfg.Output.Dir, "out", cfg.Output.Dir, "output folder of the comparison")
+}
+
+// bindModel registers the flags that choose the model and configure it
+// and the background cosmology (simulate, spectrum).
 func bindModel(fs *flag.FlagSet, cfg *Config) {
 	fs.StringVar(&cfg.Model.Name, "model", cfg.Model.Name, "model: smbhb, strings, or strings+smbhb")
+	bindModelSettings(fs, cfg)
+}
+
+// bindModelSettings registers the models' fixed settings and the
+// background cosmology.
+func bindModelSettings(fs *flag.FlagSet, cfg *Config) {
 	fs.BoolVar(&cfg.Model.FixGamma, "fix-gamma", cfg.Model.FixGamma, "fix the SMBHB spectral index gamma to 13/3 (circular GW-driven binaries)")
 	fs.Float64Var(&cfg.Model.Strings.Q, "q", cfg.Model.Strings.Q, "string-loop emission spectral index: 4/3 cusps, 5/3 kinks, 2 kink-kink collisions (dimensionless)")
 	fs.Float64Var(&cfg.Model.Strings.Gamma, "gamma-loop", cfg.Model.Strings.Gamma, "total GW power of a loop in units of G mu^2")
@@ -43,21 +67,28 @@ func bindModel(fs *flag.FlagSet, cfg *Config) {
 	fs.BoolVar(&cfg.Model.Strings.Direct, "direct", cfg.Model.Strings.Direct, "evaluate the string spectrum by direct quadrature instead of the certified table (slow; for checks)")
 	fs.Float64Var(&cfg.Cosmology.H0, "h0", cfg.Cosmology.H0, "Hubble constant in km/s/Mpc")
 	fs.Float64Var(&cfg.Cosmology.OmegaM, "omega-m", cfg.Cosmology.OmegaM, "matter density parameter today")
+	fs.Float64Var(&cfg.Cosmology.TCMB, "t-cmb", cfg.Cosmology.TCMB, "CMB temperature today in K")
+	fs.Float64Var(&cfg.Cosmology.Neff, "n-eff", cfg.Cosmology.Neff, "effective number of neutrino species")
 }
 
-// bindSampler registers the sampler and output flags.
-func bindSampler(fs *flag.FlagSet, cfg *Config) {
+// bindSampler registers the sampler flags fit and compare share; compare's
+// steps count per rung and its burn-in is a fixed share.
+func bindSampler(fs *flag.FlagSet, cfg *Config, compare bool) {
+	if compare {
+		fs.IntVar(&cfg.Sampler.Walkers, "walkers", cfg.Sampler.Walkers, "walkers per rung (at least 2 x the number of sampled parameters, even)")
+		fs.IntVar(&cfg.Sampler.Steps, "steps", cfg.Sampler.Steps, "ensemble steps of every rung")
+		fs.IntVar(&cfg.Sampler.Burn, "burn", cfg.Sampler.Burn, "steps of every rung discarded as burn-in; -1 discards the first quarter")
+		fs.IntVar(&cfg.Sampler.Thin, "thin", cfg.Sampler.Thin, "keep every n-th step in the beta = 1 posterior samples; 0 chooses from the autocorrelation time")
+		fs.Uint64Var(&cfg.Sampler.Seed, "seed", cfg.Sampler.Seed, "random seed; the same seed gives byte-identical results, in one process or split into tasks")
+		fs.IntVar(&cfg.Sampler.Workers, "workers", cfg.Sampler.Workers, "(model, rung block) units run side by side; 0 uses every CPU (results do not depend on it)")
+		return
+	}
 	fs.IntVar(&cfg.Sampler.Walkers, "walkers", cfg.Sampler.Walkers, "number of ensemble walkers (at least 2 x the number of sampled parameters, even)")
 	fs.IntVar(&cfg.Sampler.Steps, "steps", cfg.Sampler.Steps, "number of ensemble steps; with --until, the cap on steps (100000 when --until is given and --steps is not)")
 	fs.IntVar(&cfg.Sampler.Burn, "burn", cfg.Sampler.Burn, "steps discarded as burn-in in the summary; -1 chooses 5 autocorrelation times or a tenth of the run, whichever is longer")
 	fs.IntVar(&cfg.Sampler.Thin, "thin", cfg.Sampler.Thin, "keep every n-th step in the posterior samples; 0 chooses from the autocorrelation time")
 	fs.Uint64Var(&cfg.Sampler.Seed, "seed", cfg.Sampler.Seed, "random seed; the same seed gives byte-identical chains")
-	fs.IntVar(&cfg.Sampler.Workers, "workers", cfg.Sampler.Workers, "goroutines evaluating walkers (compare: units run side by side); 0 uses every CPU (results do not depend on it)")
-	fs.StringVar(&cfg.Sampler.Until, "until", cfg.Sampler.Until, "stop when all criteria hold, e.g. ess=5000,tau=50,rhat=1.01 (effective sample size, chain length in autocorrelation times, split R-hat); --steps is then the cap")
-	fs.StringVar(&cfg.Sampler.Moves, "moves", cfg.Sampler.Moves, "ensemble moves: stretch, de (differential evolution), or a weighted mix such as stretch:0.8,de:0.2")
-	fs.IntVar(&cfg.Sampler.CheckpointEvery, "checkpoint-every", cfg.Sampler.CheckpointEvery, "steps between checkpoints (0 disables them)")
-	fs.StringVar(&cfg.Output.Dir, "out", cfg.Output.Dir, "output folder for chains and metadata; empty means runs/fit-MODEL")
-	fs.IntVar(&cfg.Output.FlushEvery, "flush-every", cfg.Output.FlushEvery, "steps between chain flushes to disk (a crash loses at most this many)")
+	fs.IntVar(&cfg.Sampler.Workers, "workers", cfg.Sampler.Workers, "goroutines evaluating walkers; 0 uses every CPU (results do not depend on it)")
 }
 
 // bindCommon registers the options that are not configuration keys.
@@ -72,11 +103,12 @@ func bindCommon(fs *flag.FlagSet, rf *runFlags) {
 // resolveConfig parses args twice: first to find --config (and to serve
 // --help with the built-in defaults), then over the file's values so that
 // flags override the file.
-func resolveConfig(e *env, name, synopsis, description string, args []string, extra func(*flag.FlagSet)) (Config, *runFlags, *flag.FlagSet, error) {
-	def := defaultConfig()
+func resolveConfig(e *env, name, synopsis, description string, args []string, defaults func() Config,
+	bind func(*flag.FlagSet, *Config), extra func(*flag.FlagSet)) (Config, *runFlags, *flag.FlagSet, error) {
+	def := defaults()
 	var rf runFlags
 	fs := newFlagSet(e, name, synopsis, description)
-	bindConfig(fs, &def)
+	bind(fs, &def)
 	bindCommon(fs, &rf)
 	if extra != nil {
 		extra(fs)
@@ -84,7 +116,7 @@ func resolveConfig(e *env, name, synopsis, description string, args []string, ex
 	if err := parseFlags(fs, args); err != nil {
 		return Config{}, nil, nil, err
 	}
-	cfg := defaultConfig()
+	cfg := defaults()
 	if rf.configPath != "" {
 		if err := loadConfig(rf.configPath, &cfg); err != nil {
 			return Config{}, nil, nil, err
@@ -93,7 +125,7 @@ func resolveConfig(e *env, name, synopsis, description string, args []string, ex
 	var rf2 runFlags
 	fs2 := flag.NewFlagSet(name, flag.ContinueOnError)
 	fs2.SetOutput(e.stderr)
-	bindConfig(fs2, &cfg)
+	bind(fs2, &cfg)
 	bindCommon(fs2, &rf2)
 	if extra != nil {
 		extra(fs2)
@@ -115,6 +147,27 @@ func resolveConfig(e *env, name, synopsis, description string, args []string, ex
 		cfg.Data = defaultData(cfg.Model.Name)
 	}
 	return cfg, &rf2, fs2, nil
+}
+
+// checkSampler refuses sampler settings that could only fail after the
+// sampling: no steps, a burn-in that keeps nothing, a negative thinning.
+func checkSampler(cfg Config) error {
+	sc := cfg.Sampler
+	switch {
+	case sc.Steps <= 0:
+		return fmt.Errorf("%w: --steps must be > 0, got %d", errUsage, sc.Steps)
+	case sc.Burn < -1:
+		return fmt.Errorf("%w: --burn must be >= 0, or -1 to choose it, got %d", errUsage, sc.Burn)
+	case sc.Burn >= sc.Steps:
+		return fmt.Errorf("%w: --burn %d keeps none of --steps %d", errUsage, sc.Burn, sc.Steps)
+	case sc.Thin < 0:
+		return fmt.Errorf("%w: --thin must be >= 0 (0 chooses it), got %d", errUsage, sc.Thin)
+	case sc.Walkers < 2:
+		return fmt.Errorf("%w: --walkers must be at least 2 x the number of sampled parameters, got %d", errUsage, sc.Walkers)
+	case sc.CheckpointEvery < 0 || cfg.Output.FlushEvery < 0:
+		return fmt.Errorf("%w: --checkpoint-every and --flush-every must be >= 0", errUsage)
+	}
+	return nil
 }
 
 // untilCriteria is the parsed form of --until.

@@ -53,7 +53,7 @@ func runSimulate(_ context.Context, e *env, args []string) error {
 	for i := range freqs {
 		freqs[i] = float64(i+1) / arr.Span
 	}
-	m, theta, lnOmega, err := modelAt(cfg, params, freqs)
+	m, theta, lnOmega, err := modelAt(cfg, params, freqs, stderrLog(e))
 	if err != nil {
 		return err
 	}

@@ -57,7 +57,7 @@ func runSpectrum(_ context.Context, e *env, args []string) error {
 	if *spanYr <= 0 {
 		return fmt.Errorf("%w: --span-yr must be > 0, got %g", errUsage, *spanYr)
 	}
-	m, theta, ln, err := modelAt(cfg, params, freqs)
+	m, theta, ln, err := modelAt(cfg, params, freqs, stderrLog(e))
 	if err != nil {
 		return err
 	}

@@ -14,6 +14,7 @@ func stringSettings(cfg Config) cosmic.Settings {
 	sc := cfg.Model.Strings
 	s.Q, s.Gamma, s.F, s.Kappa, s.CEff, s.Modes = sc.Q, sc.Gamma, sc.F, sc.Kappa, sc.CEff, sc.Modes
 	s.Cosmology.H0, s.Cosmology.OmegaM, s.Cosmology.DOF = cfg.Cosmology.H0, cfg.Cosmology.OmegaM, sc.DOF
+	s.Cosmology.TCMB, s.Cosmology.Neff = cfg.Cosmology.TCMB, cfg.Cosmology.Neff
 	return s
 }
 
