@@ -95,7 +95,8 @@ type NamedExclusion struct {
 // ExclusionFigure draws each curve's conditional limit against the slice
 // centres and shades the excluded side above it up to yTop (the prior's
 // upper bound, say; NaN for the top of the plotted curves plus a margin).
-// Slices without a limit break the curve. xLabel and yLabel are axis texts
+// Slices without a limit break the curve. With more than one curve, a
+// legend of their names runs along the top, outside the axes. xLabel and yLabel are axis texts
 // (see AxisLabel). It writes stem.png and stem.svg (and stem.pdf when
 // asked), one column wide.
 func ExclusionFigure(stem, xLabel, yLabel string, curves []NamedExclusion, yTop float64, o FigureOptions) ([]string, error) {
@@ -123,6 +124,8 @@ func ExclusionFigure(stem, xLabel, yLabel string, curves []NamedExclusion, yTop 
 	p.X.Tick.Marker = plainTicks{plot.DefaultTicks{}}
 	p.Y.Tick.Marker = plainTicks{plot.DefaultTicks{}}
 	var lines []plot.Plotter
+	var names []string
+	var thumbs []plot.Thumbnailer
 	for i, c := range curves {
 		s := palette(i)
 		// Split at slices without a limit.
@@ -165,13 +168,20 @@ func ExclusionFigure(stem, xLabel, yLabel string, curves []NamedExclusion, yTop 
 			ln.LineStyle = draw.LineStyle{Color: s.line, Width: vg.Points(1.1), Dashes: s.dash}
 			lines = append(lines, ln)
 			if k == 0 && len(curves) > 1 {
-				p.Legend.Add(c.Name, ln)
+				names, thumbs = append(names, c.Name), append(thumbs, ln)
 			}
 		}
 	}
 	p.Add(lines...)
 	p.Y.Max = top
-	p.Legend.Top = false
-	p.Legend.ThumbnailWidth = vg.Points(16)
-	return saveFigures(stem, ColumnWidth, 2.4*vg.Inch, o, func(dc draw.Canvas) { p.Draw(dc) })
+	// The legend goes above the data area: limit curves can run into any
+	// corner, and a legend inside would hide them.
+	sty := p.Legend
+	sty.ThumbnailWidth = vg.Points(16)
+	return saveFigures(stem, ColumnWidth, 2.4*vg.Inch, o, func(dc draw.Canvas) {
+		if len(names) > 0 {
+			dc = legendAbove(dc, sty, names, thumbs)
+		}
+		p.Draw(dc)
+	})
 }

@@ -392,3 +392,61 @@ func powerLabel(m, e int) string {
 	}
 	return strconv.Itoa(m) + "e" + strconv.Itoa(e)
 }
+
+// legendAbove draws a legend in a strip along the top of dc, outside the
+// plot's data area so that it can hide no curve, and returns the rest of
+// dc for the plot. Each entry is its thumbnail, a space and its name, in
+// the text style and thumbnail width of sty; the entries run left to right
+// in centred rows, wrapping when a row is full.
+func legendAbove(dc draw.Canvas, sty plot.Legend, names []string, thumbs []plot.Thumbnailer) draw.Canvas {
+	boxes, h := legendLayout(dc.Rectangle, sty, names)
+	for i, b := range boxes {
+		l := plot.NewLegend()
+		l.TextStyle, l.ThumbnailWidth = sty.TextStyle, sty.ThumbnailWidth
+		l.Top, l.Left = true, true
+		l.Add(names[i], thumbs[i])
+		l.Draw(draw.Canvas{Canvas: dc.Canvas, Rectangle: b})
+	}
+	return draw.Crop(dc, 0, 0, 0, -h)
+}
+
+// legendLayout returns the box of each legend entry in a strip along the
+// top of r and the strip's height. Entries are separated by three spaces
+// and rows by a third of the text height; an entry wider than r gets a row
+// of its own.
+func legendLayout(r vg.Rectangle, sty plot.Legend, names []string) (boxes []vg.Rectangle, h vg.Length) {
+	if len(names) == 0 {
+		return nil, 0
+	}
+	ts := sty.TextStyle
+	em := ts.Rectangle(" ").Max.X
+	gap := 3 * em
+	var textH vg.Length
+	widths := make([]vg.Length, len(names))
+	for i, n := range names {
+		tr := ts.Rectangle(n)
+		textH = max(textH, tr.Max.Y)
+		// plot.Legend.Draw puts the text one space after the thumbnail.
+		widths[i] = sty.ThumbnailWidth + em + tr.Max.X
+	}
+	// The legend draws its text baseline one descent above the box bottom.
+	rowH := textH + ts.FontExtents().Descent
+	pad := textH / 3
+	top := r.Max.Y - pad
+	for i := 0; i < len(names); {
+		// Fill a row, then centre it.
+		j, w := i+1, widths[i]
+		for j < len(names) && w+gap+widths[j] <= r.Size().X {
+			w += gap + widths[j]
+			j++
+		}
+		x := r.Min.X + max(0, (r.Size().X-w)/2)
+		for k := i; k < j; k++ {
+			boxes = append(boxes, vg.Rectangle{Min: vg.Point{X: x, Y: top - rowH}, Max: vg.Point{X: x + widths[k], Y: top}})
+			x += widths[k] + gap
+		}
+		top -= rowH + pad
+		i = j
+	}
+	return boxes, r.Max.Y - top + pad/2
+}
