@@ -36,7 +36,7 @@
 // # Matrices (NumPy .npy)
 //
 // WriteNPY writes a row-major float64 matrix in the NumPy .npy format
-// (dtype "<f8", C order; format version 2.0, or 1.0 for an empty matrix),
+// (dtype "<f8", C order; format version 1.0, data aligned to 64 bytes),
 // read in Python with numpy.load("file.npy"). A chain exported this way
 // keeps the CSV column order.
 //

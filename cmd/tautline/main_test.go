@@ -40,6 +40,12 @@ func TestHelpVersionAndExitCodes(t *testing.T) {
 		{[]string{"inspect"}, 2, "want exactly one data set"},
 		{[]string{"fit", "--until", "ess=lots"}, 2, "ess must be a positive number"},
 		{[]string{"fit", "--prior", "log10_A"}, 2, "want NAME=SPEC"},
+		{[]string{"fit", "--burn", "500", "--steps", "100"}, 2, "--burn 500 keeps none of --steps 100"},
+		{[]string{"fit", "--thin", "-1"}, 2, "--thin must be >= 0"},
+		{[]string{"fit", "--h0", "-1"}, 2, "0 < --h0 < 1000 km/s/Mpc"},
+		{[]string{"compare", "--models", "foo"}, 2, `--models: unknown model "foo"`},
+		{[]string{"compare", "--help"}, 0, "ensemble steps of every rung (default 3000)"},
+		{[]string{"compare", "--until", "ess=10"}, 2, "flag provided but not defined: -until"},
 	}
 	for _, c := range cases {
 		code, out, errs := runCLI(t, c.args...)
@@ -240,5 +246,28 @@ func TestCompareAdaptLadder(t *testing.T) {
 	raw, _ = os.ReadFile(filepath.Join(dir, "models", "smbhb", "evidence.json"))
 	if err := json.Unmarshal(raw, &ev); err != nil || len(ev.Curve) != 8 || ev.Curve[3].Beta != b[4] {
 		t.Errorf("evidence curve does not use the frozen ladder (%v): %+v", err, ev.Curve)
+	}
+}
+
+// TestCompareRefusesOtherComparison: a compare into a folder that holds
+// another comparison's parts stops before sampling, with a message, and
+// leaves the folder as it was.
+func TestCompareRefusesOtherComparison(t *testing.T) {
+	dir := t.TempDir()
+	base := []string{"compare", "--models", "smbhb", "--data", "demo:smbhb", "--rungs", "6", "--steps", "300", "--walkers", "16", "--out", dir, "--log-level", "warn"}
+	if code, _, errs := runCLI(t, base...); code != 0 {
+		t.Fatalf("first compare: %s", errs)
+	}
+	before, _ := os.ReadFile(filepath.Join(dir, "compare.json"))
+	if code, _, errs := runCLI(t, base...); code != 0 {
+		t.Errorf("the same comparison again must be accepted: exit %d, %s", code, errs)
+	}
+	code, _, errs := runCLI(t, append(base, "--seed", "2")...)
+	if code != 1 || !strings.Contains(errs, "holds the results of another comparison") {
+		t.Errorf("another comparison into the same folder: exit %d, %s", code, errs)
+	}
+	after, _ := os.ReadFile(filepath.Join(dir, "compare.json"))
+	if !bytes.Equal(before, after) {
+		t.Error("the refused run changed compare.json")
 	}
 }
