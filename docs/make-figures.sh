@@ -1,11 +1,13 @@
 #!/bin/sh
-# Regenerates the example figures committed under docs/ from a fresh run on
-# the embedded demo data set (simulated: an invented array of invented
-# pulsars with an injected SMBHB power law, log10 A = -14.6, gamma = 13/3).
+# Regenerates the example figures committed under docs/ from fresh runs on
+# the embedded demo data sets (simulated: invented arrays of invented
+# pulsars with an injected SMBHB power law, log10 A = -14.6, gamma = 13/3,
+# and an injected string network, Gmu = 2e-11, alpha = 0.1, P = 1).
 #
 # Run from the repository root:   sh docs/make-figures.sh
 # It takes about a minute on one core. The run folder is temporary; only
-# docs/corner-demo.png is written into the repository.
+# docs/corner-demo.png and docs/spectrum-demo.png are written into the
+# repository.
 set -eu
 
 root=$(cd "$(dirname "$0")/.." && pwd)
@@ -26,3 +28,10 @@ go build -o "$work/tautline" ./cmd/tautline
 
 cp "$work/report/smbhb/corner.png" docs/corner-demo.png
 echo "wrote docs/corner-demo.png"
+
+# The main job: the three models on the simulated string demo, and the
+# spectrum figure (each bin's posterior with every model's predictive band).
+"$work/tautline" compare --out "$work/compare" --log-level warn > /dev/null
+"$work/tautline" report "$work/compare" --out "$work/creport" --formats png --log-level warn > /dev/null
+cp "$work/creport/spectrum.png" docs/spectrum-demo.png
+echo "wrote docs/spectrum-demo.png"
