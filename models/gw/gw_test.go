@@ -5,10 +5,11 @@ import (
 	"testing"
 )
 
-// Hand-worked reference numbers. Each was computed step by step with a pocket
-// calculation written out beside it (the intermediate factors are shown so a
-// reader can redo them); the tolerance 1e-9 relative covers the ten digits
-// kept in each written-out factor.
+// Hand-worked reference numbers. Each was computed step by step, with the
+// intermediate factors written out beside it so that a reader can redo them
+// (most to ten or eleven significant digits; H0^2 to eight, which the final
+// values were not rounded from). The tolerance 1e-9 relative covers the
+// rounding of the final values, quoted to eleven digits.
 const relTol = 1e-9
 
 func near(got, want, rel float64) bool { return math.Abs(got-want) <= rel*math.Abs(want) }
@@ -30,11 +31,11 @@ func TestHandWorked(t *testing.T) {
 		{"H0SI", H0SI(67.4), 2.1842852411e-18},
 		// f = f_yr, h_c = 1e-15: 2 pi^2/3 = 6.5797362674, f/H0 =
 		// 3.1688087814e-8 / 2.1842852411e-18 = 1.4507302992e10, squared
-		// 2.1046184e20; 6.5797362674 * 2.1046184e20 * 1e-30 = 1.3847834023e-9.
+		// 2.1046184011e20; 6.5797362674 * 2.1046184011e20 * 1e-30 = 1.3847834023e-9.
 		{"OmegaFromHc", OmegaFromHc(FYear, 1e-15, h0), 1.3847834023e-9},
 		// Omega = 1e-9 at f = 2 nHz: h_c = (H0/(pi f)) sqrt(1.5 Omega)
 		// = (2.1842852411e-18 / 6.2831853072e-9) * sqrt(1.5e-9)
-		// = 3.4763916e-10 * 3.8729833462e-5 = 1.3464031297e-14.
+		// = 3.4763979324e-10 * 3.8729833462e-5 = 1.3464031297e-14.
 		{"HcFromOmega", HcFromOmega(2e-9, 1e-9, h0), 1.3464031297e-14},
 		// h_c = 1e-15 at f = 1e-8 Hz: 12 pi^2 = 118.4352528131,
 		// S = 1e-30 / (118.4352528131 * 1e-24) = 8.4434319702e-9 s^3.
@@ -47,8 +48,8 @@ func TestHandWorked(t *testing.T) {
 		// 1.7837080915e-17 * 473364000 = 8.4434319702e-9.
 		{"PSDFromRho2", PSDFromRho2(1.7837080915e-17, span), 8.4434319702e-9},
 		// Omega = 1e-9, f = 2e-9 Hz, T = 473364000 s: 8 pi^4 = 779.2727282720,
-		// f^5 = 3.2e-43, H0^2 = 4.7711021e-36;
-		// rho^2 = 4.7711021e-36 * 1e-9 / (779.2727282720 * 3.2e-43 * 473364000)
+		// f^5 = 3.2e-44, H0^2 = 4.7711021e-36;
+		// rho^2 = 4.7711021e-36 * 1e-9 / (779.2727282720 * 3.2e-44 * 473364000)
 		// = 4.0418856293e-13 s^2.
 		{"Rho2FromOmega", Rho2FromOmega(2e-9, 1e-9, h0, span), 4.0418856293e-13},
 		{"OmegaFromRho2", OmegaFromRho2(2e-9, 4.0418856293e-13, h0, span), 1e-9},
