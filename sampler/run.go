@@ -184,6 +184,7 @@ const (
 	Interrupted
 )
 
+// String describes the status in words, as the command prints it.
 func (s Status) String() string {
 	switch s {
 	case Converged:

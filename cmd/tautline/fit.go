@@ -301,14 +301,14 @@ func printFitSummary(e *env, cfg Config, pb *problem, res sampler.Result, sum []
 	fmt.Fprintf(e.stdout, "\nModel %s on %s (%d bins): %s after %d steps x %d walkers; burn-in %d, thin %d, %d posterior samples\n\n",
 		pb.model.Name(), pb.data.Name, len(pb.data.Freqs), status, res.Steps, cfg.Sampler.Walkers, res.Burn, res.Thin, n)
 	tw := tabwriter.NewWriter(e.stdout, 0, 0, 2, ' ', tabwriter.AlignRight)
-	fmt.Fprintln(tw, "parameter\tmedian\t68% low\t68% high\t95% low\t95% high\ttau\tESS\tR-hat\t")
+	fmt.Fprintln(tw, "parameter\tmedian\t68% low\t68% high\t95% low\t95% high\ttau\tESS\tbulk ESS\ttail ESS\tR-hat\t")
 	for k, s := range sum {
-		var tau, ess, rh float64
+		var p sampler.ParamReport
 		if k < len(res.Report.Params) {
-			p := res.Report.Params[k]
-			tau, ess, rh = p.Tau, p.ESS, p.Rhat
+			p = res.Report.Params[k]
 		}
-		fmt.Fprintf(tw, "%s\t%.4f\t%.4f\t%.4f\t%.4f\t%.4f\t%.1f\t%.0f\t%.4f\t\n", s.Name, s.Median, s.Lo68, s.Hi68, s.Lo95, s.Hi95, tau, ess, rh)
+		fmt.Fprintf(tw, "%s\t%.4f\t%.4f\t%.4f\t%.4f\t%.4f\t%.1f\t%.0f\t%.0f\t%.0f\t%.4f\t\n",
+			s.Name, s.Median, s.Lo68, s.Hi68, s.Lo95, s.Hi95, p.Tau, p.ESS, p.BulkESS, p.TailESS, p.Rhat)
 	}
 	_ = tw.Flush()
 	fmt.Fprintf(e.stdout, "\nmean acceptance %.3f", res.Report.MeanAcceptance)
