@@ -96,6 +96,13 @@ func wrap(s string, width int) []string {
 // parseFlags parses args and turns flag-package errors into errSilent (the
 // flag package has already printed them) while passing --help through.
 func parseFlags(fs *flag.FlagSet, args []string) error {
+	if !asksHelp(args) {
+		// A bad option gets its one-line message and a pointer to --help,
+		// not the whole option list.
+		full := fs.Usage
+		fs.Usage = func() { fmt.Fprintf(fs.Output(), "Run 'tautline %s --help' for the options.\n", fs.Name()) }
+		defer func() { fs.Usage = full }()
+	}
 	if err := fs.Parse(args); err != nil {
 		if err == flag.ErrHelp {
 			return err
@@ -113,4 +120,17 @@ func (m *multiFlag) String() string { return strings.Join(*m, ",") }
 func (m *multiFlag) Set(s string) error {
 	*m = append(*m, s)
 	return nil
+}
+
+// asksHelp reports whether args ask for help before the first non-flag.
+func asksHelp(args []string) bool {
+	for _, a := range args {
+		switch a {
+		case "-h", "-help", "--help", "--h":
+			return true
+		case "--":
+			return false
+		}
+	}
+	return false
 }
