@@ -123,6 +123,9 @@ while :; do
     fail "merge dependency can never be satisfied: array [$a]"
   fi
   if [ -z "$(squeue -h -j "$jid,$mid" 2>/dev/null)" ]; then
+    # Read the states again: a job may have ended between the reading above
+    # and the queue check.
+    a=$(states "$jid"); m=$(states "$mid")
     [[ "$a" != *PENDING* && "$a" != *RUNNING* && "$m" == *COMPLETED* ]] || fail "jobs left the queue in states array [$a], merge [$m]"
     break
   fi
