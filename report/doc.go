@@ -41,7 +41,8 @@
 //     slices of another, from the joint samples, withheld where a slice has
 //     fewer samples than MinSlice.
 //
-//   - Bayes factors read on the scale of Kass & Raftery (1995).
+//   - comparison tables quoting each model's ln B and its reading as the
+//     evidence computation (package sampler/evidence) gave them.
 //
 // Typical use: Analyze the samples, then Posterior.Write (CSV and JSON),
 // WriteSummaryTable and WriteComparison (LaTeX), and the figures

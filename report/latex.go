@@ -255,82 +255,21 @@ func SummaryTable(ss []Summary, sig int) string {
 
 // An Evidence row of a model-comparison table: the log evidence of one
 // model from thermodynamic integration (TI) and stepping stones (SS), each
-// with its standard error; NaN marks an estimate that was not computed.
+// with its standard error (NaN marks an estimate that was not computed),
+// and its log Bayes factor against the table's reference with error and
+// reading, as the evidence computation gave them (package sampler/evidence
+// defines the rule; the table only quotes it, so that a run never shows two
+// different ln B).
 type Evidence struct {
 	// Model names the model; Label, when set, is LaTeX used instead.
 	Model, Label    string
 	LnZTI, LnZTIErr float64
 	LnZSS, LnZSSErr float64
-	// Correlated, when true, marks errors that are not independent of the
-	// reference's (same chains); they are then not combined in quadrature
-	// but the larger is quoted.
-	Correlated bool
-	// LnBSet says that LnB and LnBErr hold the log Bayes factor against
-	// the reference and its error as the caller computed them (for example
-	// from a derivative-corrected TI estimate); tables then quote them
-	// instead of recomputing with BayesFactor, so that one run never shows
-	// two different ln B. Reading, when not empty, is plain text that
-	// replaces the words of Interpret.
-	LnBSet      bool
+	// LnB and LnBErr are ln Z(model) - ln Z(reference) and its error;
+	// Reading is their interpretation in plain words. The reference row's
+	// are ignored.
 	LnB, LnBErr float64
 	Reading     string
-}
-
-// bayesAgainst returns the row's ln B against ref, its error and its
-// reading: the caller's values when LnBSet (and Reading) are set, else
-// BayesFactor and Interpret.
-func (e Evidence) bayesAgainst(ref Evidence) (lnB, err float64, words string) {
-	if e.LnBSet {
-		lnB, err = e.LnB, e.LnBErr
-	} else {
-		lnB, err = BayesFactor(e, ref)
-	}
-	if e.Reading != "" {
-		return lnB, err, e.Reading
-	}
-	return lnB, err, Interpret(lnB)
-}
-
-// bestLnZ returns the stepping-stone estimate when finite, else the
-// thermodynamic one.
-func (e Evidence) bestLnZ() (z, err float64, ss bool) {
-	if finite(e.LnZSS) && finite(e.LnZSSErr) {
-		return e.LnZSS, e.LnZSSErr, true
-	}
-	return e.LnZTI, e.LnZTIErr, false
-}
-
-// BayesFactor returns ln B = ln Z(e) - ln Z(ref) and its error, using the
-// stepping-stone evidences when both have them and thermodynamic
-// integration otherwise. Independent errors add in quadrature.
-func BayesFactor(e, ref Evidence) (lnB, err float64) {
-	z1, e1, s1 := e.bestLnZ()
-	z0, e0, s0 := ref.bestLnZ()
-	if s1 != s0 {
-		z1, e1 = e.LnZTI, e.LnZTIErr
-		z0, e0 = ref.LnZTI, ref.LnZTIErr
-	}
-	if e.Correlated {
-		return z1 - z0, math.Max(e1, e0)
-	}
-	return z1 - z0, math.Hypot(e1, e0)
-}
-
-// Interpret describes a log Bayes factor on the scale of Kass & Raftery
-// (1995, sec. 3.2), whose bands in 2 ln B are 0-2, 2-6, 6-10 and > 10.
-func Interpret(lnB float64) string {
-	a := math.Abs(lnB)
-	switch {
-	case !finite(lnB):
-		return "n/a"
-	case a < 1:
-		return "inconclusive"
-	case a < 3:
-		return "positive"
-	case a < 5:
-		return "strong"
-	}
-	return "very strong"
 }
 
 func modelCell(e Evidence) string {
@@ -341,10 +280,9 @@ func modelCell(e Evidence) string {
 }
 
 // ComparisonTable returns a LaTeX tabular with one row per model: ln Z from
-// TI and SS with errors, ln B against the model named reference and its
-// interpretation (Interpret, saying which model is favoured). A row with
-// LnBSet quotes its own LnB, LnBErr (and Reading); other rows get
-// BayesFactor. sig is the significant figures of errors (2 when sig < 1).
+// TI and SS with errors, and each row's ln B against the model named
+// reference with its error and reading. sig is the significant figures of
+// errors (2 when sig < 1).
 func ComparisonTable(rows []Evidence, reference string, sig int) (string, error) {
 	ri := -1
 	for i, r := range rows {
@@ -368,17 +306,9 @@ func ComparisonTable(rows []Evidence, reference string, sig int) (string, error)
 	for i, r := range rows {
 		cell, words := "reference", "---"
 		if i != ri {
-			lnB, e, w := r.bayesAgainst(ref)
-			cell, words = pm(lnB, e), w
+			cell, words = pm(r.LnB, r.LnBErr), "---"
 			if r.Reading != "" {
-				words = escapeText(w)
-			}
-			if r.Reading == "" && finite(lnB) && math.Abs(lnB) >= 1 {
-				fav := r
-				if lnB < 0 {
-					fav = ref
-				}
-				words += " for " + modelCell(fav)
+				words = escapeText(r.Reading)
 			}
 		}
 		fmt.Fprintf(&b, "%s & %s & %s & %s & %s \\\\\n", modelCell(r), pm(r.LnZTI, r.LnZTIErr), pm(r.LnZSS, r.LnZSSErr), cell, words)

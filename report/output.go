@@ -290,12 +290,6 @@ func WriteComparison(dir string, meta Metadata, rows []Evidence, reference strin
 	if err != nil {
 		return err
 	}
-	var ref Evidence
-	for _, r := range rows {
-		if r.Model == reference {
-			ref = r
-		}
-	}
 	type rowJSON struct {
 		Model    string `json:"model"`
 		LnZTI    num    `json:"ln_z_ti"`
@@ -309,7 +303,7 @@ func WriteComparison(dir string, meta Metadata, rows []Evidence, reference strin
 	js := make([]rowJSON, len(rows))
 	recs := make([][]string, len(rows))
 	for i, r := range rows {
-		b, e, v := r.bayesAgainst(ref)
+		b, e, v := r.LnB, r.LnBErr, r.Reading
 		if r.Model == reference {
 			b, e, v = 0, 0, "reference"
 		}

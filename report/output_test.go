@@ -96,7 +96,8 @@ func TestPosteriorWrite(t *testing.T) {
 	}
 	rows := []Evidence{
 		{Model: "a", LnZTI: -3, LnZTIErr: 0.1, LnZSS: math.NaN(), LnZSSErr: math.NaN()},
-		{Model: "b", LnZTI: -1, LnZTIErr: 0.1, LnZSS: math.NaN(), LnZSSErr: math.NaN()},
+		{Model: "b", LnZTI: -1, LnZTIErr: 0.1, LnZSS: math.NaN(), LnZSSErr: math.NaN(),
+			LnB: 2, LnBErr: math.Hypot(0.1, 0.1), Reading: "positive"},
 	}
 	if err := WriteComparison(dir, meta, rows, "a", 2); err != nil {
 		t.Fatal(err)
@@ -105,7 +106,7 @@ func TestPosteriorWrite(t *testing.T) {
 		Models []map[string]any `json:"models"`
 	}
 	readJSON(t, filepath.Join(dir, "comparison.json"), &cj)
-	// ln B = -1 - (-3) = 2 from TI alone (no SS): positive (Kass & Raftery 1995).
+	// The row's given ln B and reading are written; the missing SS is null.
 	if len(cj.Models) != 2 || cj.Models[1]["ln_b"] != 2.0 || cj.Models[1]["evidence"] != "positive" || cj.Models[0]["ln_z_ss"] != nil {
 		t.Errorf("comparison.json models: %v", cj.Models)
 	}

@@ -1005,7 +1005,7 @@ func (w *reportWriter) writeComparison() error {
 	var rows []report.Evidence
 	for _, r := range res.Rows {
 		ev := report.Evidence{Model: r.Model, LnZTI: r.TI.LnZ, LnZTIErr: r.TI.Total, LnZSS: r.SS.LnZ, LnZSSErr: r.SS.Total,
-			LnBSet: true, LnB: r.LnB, LnBErr: r.LnBErr}
+			LnB: r.LnB, LnBErr: r.LnBErr}
 		if r.Model != res.Reference {
 			ev.Reading = r.Reading // compare.json's words, so the table reads as compare printed
 		}
