@@ -5,11 +5,13 @@ import (
 	"encoding/csv"
 	"encoding/json"
 	"fmt"
+	"io"
 	"math"
-	"os"
 	"path/filepath"
 	"strconv"
 	"strings"
+
+	"tautline/chains"
 )
 
 // Metadata identifies the run a product comes from; it is copied into every
@@ -22,10 +24,12 @@ type Metadata struct {
 	Extra   map[string]string `json:"extra,omitempty"`
 }
 
-// num is a float64 that encodes NaN and ±Inf as JSON null.
-type num float64
+// Num is a float64 that encodes NaN and ±Inf as JSON null (JSON has no
+// non-finite numbers); every JSON file of the report uses it.
+type Num float64
 
-func (v num) MarshalJSON() ([]byte, error) {
+// MarshalJSON implements json.Marshaler.
+func (v Num) MarshalJSON() ([]byte, error) {
 	f := float64(v)
 	if math.IsNaN(f) || math.IsInf(f, 0) {
 		return []byte("null"), nil
@@ -33,10 +37,10 @@ func (v num) MarshalJSON() ([]byte, error) {
 	return strconv.AppendFloat(nil, f, 'g', -1, 64), nil
 }
 
-func nums(x []float64) []num {
-	out := make([]num, len(x))
+func nums(x []float64) []Num {
+	out := make([]Num, len(x))
 	for i, v := range x {
-		out[i] = num(v)
+		out[i] = Num(v)
 	}
 	return out
 }
@@ -55,31 +59,13 @@ func ffmt(v float64) string {
 	return strconv.FormatFloat(v, 'g', -1, 64)
 }
 
-// writeFileAtomic writes data to path through a temporary file in the same
-// directory and a rename, so that readers never see a partial file.
+// writeFileAtomic writes data to path through chains.WriteFileAtomic
+// (temporary file, fsync, rename), so that readers never see a partial file.
 func writeFileAtomic(path string, data []byte) error {
-	dir, base := filepath.Split(path)
-	if dir == "" {
-		dir = "."
-	}
-	f, err := os.CreateTemp(dir, "."+base+".tmp*")
-	if err != nil {
-		return fmt.Errorf("report: %w", err)
-	}
-	tmp := f.Name()
-	// CreateTemp makes the file private (0600); products are for sharing.
-	merr := f.Chmod(0o644)
-	_, werr := f.Write(data)
-	serr := f.Sync()
-	cerr := f.Close()
-	for _, e := range []error{merr, werr, serr, cerr} {
-		if e != nil {
-			os.Remove(tmp)
-			return fmt.Errorf("report: writing %s: %w", path, e)
-		}
-	}
-	if err := os.Rename(tmp, path); err != nil {
-		os.Remove(tmp)
+	if err := chains.WriteFileAtomic(path, func(w io.Writer) error {
+		_, err := w.Write(data)
+		return err
+	}); err != nil {
 		return fmt.Errorf("report: %w", err)
 	}
 	return nil
@@ -121,30 +107,30 @@ func FileStem(name string) string {
 }
 
 type intervalJSON struct {
-	Lo num `json:"lo"`
-	Hi num `json:"hi"`
+	Lo Num `json:"lo"`
+	Hi Num `json:"hi"`
 }
 
-func ivj(iv Interval) intervalJSON { return intervalJSON{num(iv.Lo), num(iv.Hi)} }
+func ivj(iv Interval) intervalJSON { return intervalJSON{Num(iv.Lo), Num(iv.Hi)} }
 
 type summaryJSON struct {
 	Name      string       `json:"name"`
 	Label     string       `json:"label,omitempty"`
 	Unit      string       `json:"unit,omitempty"`
 	N         int          `json:"n"`
-	Median    num          `json:"median"`
-	Mean      num          `json:"mean"`
-	Std       num          `json:"std"`
-	Mode      num          `json:"mode"`
+	Median    Num          `json:"median"`
+	Mean      Num          `json:"mean"`
+	Std       Num          `json:"std"`
+	Mode      Num          `json:"mode"`
 	ET68      intervalJSON `json:"equal_tailed_68"`
 	ET95      intervalJSON `json:"equal_tailed_95"`
 	HDI68     intervalJSON `json:"hdi_68"`
 	HDI95     intervalJSON `json:"hdi_95"`
-	EdgeRatio [2]num       `json:"edge_density_ratio"`
+	EdgeRatio [2]Num       `json:"edge_density_ratio"`
 	Rails     string       `json:"rails"`
-	Limit     num          `json:"limit"`
+	Limit     Num          `json:"limit"`
 	LimitKind string       `json:"limit_kind"`
-	LimitMass num          `json:"limit_mass"`
+	LimitMass Num          `json:"limit_mass"`
 }
 
 // LimitKind returns "upper", "lower" or "" for the one-sided limit of s.
@@ -170,10 +156,10 @@ func WriteSummaries(dir string, meta Metadata, ss []Summary) error {
 			ffmt(s.ET68.Lo), ffmt(s.ET68.Hi), ffmt(s.ET95.Lo), ffmt(s.ET95.Hi),
 			ffmt(s.HDI68.Lo), ffmt(s.HDI68.Hi), ffmt(s.HDI95.Lo), ffmt(s.HDI95.Hi),
 			ffmt(s.EdgeRatio[0]), ffmt(s.EdgeRatio[1]), s.Rails.String(), s.LimitKind(), ffmt(s.Limit), ffmt(s.LimitMass)}
-		js[i] = summaryJSON{Name: s.Name, Label: s.Label, Unit: s.Unit, N: s.N, Median: num(s.Median), Mean: num(s.Mean),
-			Std: num(s.Std), Mode: num(s.Mode), ET68: ivj(s.ET68), ET95: ivj(s.ET95), HDI68: ivj(s.HDI68), HDI95: ivj(s.HDI95),
-			EdgeRatio: [2]num{num(s.EdgeRatio[0]), num(s.EdgeRatio[1])}, Rails: s.Rails.String(),
-			Limit: num(s.Limit), LimitKind: s.LimitKind(), LimitMass: num(s.LimitMass)}
+		js[i] = summaryJSON{Name: s.Name, Label: s.Label, Unit: s.Unit, N: s.N, Median: Num(s.Median), Mean: Num(s.Mean),
+			Std: Num(s.Std), Mode: Num(s.Mode), ET68: ivj(s.ET68), ET95: ivj(s.ET95), HDI68: ivj(s.HDI68), HDI95: ivj(s.HDI95),
+			EdgeRatio: [2]Num{Num(s.EdgeRatio[0]), Num(s.EdgeRatio[1])}, Rails: s.Rails.String(),
+			Limit: Num(s.Limit), LimitKind: s.LimitKind(), LimitMass: Num(s.LimitMass)}
 	}
 	if err := writeCSV(filepath.Join(dir, "summary.csv"), header, rows); err != nil {
 		return err
@@ -198,16 +184,16 @@ func WriteMarginal1D(dir string, meta Metadata, name string, d Density1D) error 
 	return writeJSON(filepath.Join(dir, stem+".json"), struct {
 		Meta      Metadata `json:"metadata"`
 		Name      string   `json:"name"`
-		X         []num    `json:"x"`
-		Density   []num    `json:"density"`
-		Bandwidth num      `json:"bandwidth"`
+		X         []Num    `json:"x"`
+		Density   []Num    `json:"density"`
+		Bandwidth Num      `json:"bandwidth"`
 		Rule      string   `json:"bandwidth_rule"`
 		Reflect   [2]bool  `json:"reflected_at_bounds"`
-		Edges     []num    `json:"histogram_edges"`
-		Hist      []num    `json:"histogram_density"`
+		Edges     []Num    `json:"histogram_edges"`
+		Hist      []Num    `json:"histogram_density"`
 		N         int      `json:"n"`
 		Dropped   int      `json:"dropped"`
-	}{meta, name, nums(d.X), nums(d.P), num(d.Bandwidth), d.Rule, d.Reflect, nums(d.Edges), nums(d.Hist), d.N, d.Dropped})
+	}{meta, name, nums(d.X), nums(d.P), Num(d.Bandwidth), d.Rule, d.Reflect, nums(d.Edges), nums(d.Hist), d.N, d.Dropped})
 }
 
 // WriteMarginal2D writes marginal2d_<x>__<y>.csv (long format: x, y,
@@ -220,7 +206,7 @@ func WriteMarginal2D(dir string, meta Metadata, nameX, nameY string, d Density2D
 	stem := "marginal2d_" + FileStem(nameX) + "__" + FileStem(nameY)
 	nx := len(d.X)
 	rows := make([][]string, 0, len(d.P))
-	grid := make([][]num, len(d.Y))
+	grid := make([][]Num, len(d.Y))
 	for r, y := range d.Y {
 		grid[r] = nums(d.P[r*nx : (r+1)*nx])
 		for c, x := range d.X {
@@ -234,17 +220,17 @@ func WriteMarginal2D(dir string, meta Metadata, nameX, nameY string, d Density2D
 		Meta    Metadata   `json:"metadata"`
 		NameX   string     `json:"x_name"`
 		NameY   string     `json:"y_name"`
-		GX      []num      `json:"x"`
-		GY      []num      `json:"y"`
-		Density [][]num    `json:"density_rows"`
-		H       [3]num     `json:"kernel_covariance_xx_xy_yy"`
+		GX      []Num      `json:"x"`
+		GY      []Num      `json:"y"`
+		Density [][]Num    `json:"density_rows"`
+		H       [3]Num     `json:"kernel_covariance_xx_xy_yy"`
 		Rule    string     `json:"bandwidth_rule"`
 		Reflect [2][2]bool `json:"reflected_at_bounds"`
-		Masses  []num      `json:"credible_masses"`
-		Levels  []num      `json:"density_levels"`
+		Masses  []Num      `json:"credible_masses"`
+		Levels  []Num      `json:"density_levels"`
 		N       int        `json:"n"`
 	}{Meta: meta, NameX: nameX, NameY: nameY, GX: nums(d.X), GY: nums(d.Y), Density: grid,
-		H: [3]num{num(d.H[0]), num(d.H[1]), num(d.H[2])}, Rule: d.Rule, Reflect: d.Reflect,
+		H: [3]Num{Num(d.H[0]), Num(d.H[1]), Num(d.H[2])}, Rule: d.Rule, Reflect: d.Reflect,
 		Masses: nums(masses), Levels: nums(levels), N: d.N})
 }
 
@@ -253,16 +239,16 @@ func WriteExclusion(dir string, meta Metadata, nameX, nameY string, mass float64
 	stem := "exclusion_" + FileStem(nameY) + "_vs_" + FileStem(nameX)
 	rows := make([][]string, len(pts))
 	type ptJSON struct {
-		X     num `json:"x"`
-		Lo    num `json:"slice_lo"`
-		Hi    num `json:"slice_hi"`
+		X     Num `json:"x"`
+		Lo    Num `json:"slice_lo"`
+		Hi    Num `json:"slice_hi"`
 		N     int `json:"n"`
-		Limit num `json:"limit"`
+		Limit Num `json:"limit"`
 	}
 	js := make([]ptJSON, len(pts))
 	for i, p := range pts {
 		rows[i] = []string{ffmt(p.X), ffmt(p.Lo), ffmt(p.Hi), strconv.Itoa(p.N), ffmt(p.Limit)}
-		js[i] = ptJSON{num(p.X), num(p.Lo), num(p.Hi), p.N, num(p.Limit)}
+		js[i] = ptJSON{Num(p.X), Num(p.Lo), Num(p.Hi), p.N, Num(p.Limit)}
 	}
 	if err := writeCSV(filepath.Join(dir, stem+".csv"), []string{"x", "slice_lo", "slice_hi", "n", "limit"}, rows); err != nil {
 		return err
@@ -271,9 +257,9 @@ func WriteExclusion(dir string, meta Metadata, nameX, nameY string, mass float64
 		Meta   Metadata `json:"metadata"`
 		NameX  string   `json:"x_name"`
 		NameY  string   `json:"y_name"`
-		Mass   num      `json:"limit_mass"`
+		Mass   Num      `json:"limit_mass"`
 		Points []ptJSON `json:"slices"`
-	}{meta, nameX, nameY, num(mass), js})
+	}{meta, nameX, nameY, Num(mass), js})
 }
 
 // WriteSummaryTable writes the LaTeX table of SummaryTable to
@@ -292,12 +278,12 @@ func WriteComparison(dir string, meta Metadata, rows []Evidence, reference strin
 	}
 	type rowJSON struct {
 		Model    string `json:"model"`
-		LnZTI    num    `json:"ln_z_ti"`
-		LnZTIErr num    `json:"ln_z_ti_err"`
-		LnZSS    num    `json:"ln_z_ss"`
-		LnZSSErr num    `json:"ln_z_ss_err"`
-		LnB      num    `json:"ln_b"`
-		LnBErr   num    `json:"ln_b_err"`
+		LnZTI    Num    `json:"ln_z_ti"`
+		LnZTIErr Num    `json:"ln_z_ti_err"`
+		LnZSS    Num    `json:"ln_z_ss"`
+		LnZSSErr Num    `json:"ln_z_ss_err"`
+		LnB      Num    `json:"ln_b"`
+		LnBErr   Num    `json:"ln_b_err"`
 		Verdict  string `json:"evidence"`
 	}
 	js := make([]rowJSON, len(rows))
@@ -307,7 +293,7 @@ func WriteComparison(dir string, meta Metadata, rows []Evidence, reference strin
 		if r.Model == reference {
 			b, e, v = 0, 0, "reference"
 		}
-		js[i] = rowJSON{r.Model, num(r.LnZTI), num(r.LnZTIErr), num(r.LnZSS), num(r.LnZSSErr), num(b), num(e), v}
+		js[i] = rowJSON{r.Model, Num(r.LnZTI), Num(r.LnZTIErr), Num(r.LnZSS), Num(r.LnZSSErr), Num(b), Num(e), v}
 		recs[i] = []string{r.Model, ffmt(r.LnZTI), ffmt(r.LnZTIErr), ffmt(r.LnZSS), ffmt(r.LnZSSErr), ffmt(b), ffmt(e), v}
 	}
 	if err := writeCSV(filepath.Join(dir, "comparison.csv"),

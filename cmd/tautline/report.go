@@ -907,20 +907,20 @@ func (w *reportWriter) writeSpectrum() error {
 	w.add(files...)
 	// The same quantiles as numbers: one row per (source, frequency).
 	type rowJSON struct {
-		Source    string      `json:"source"`
-		Freq      float64     `json:"frequency_hz"`
-		Quantiles []reportNum `json:"log10_rho_quantiles"`
+		Source    string       `json:"source"`
+		Freq      float64      `json:"frequency_hz"`
+		Quantiles []report.Num `json:"log10_rho_quantiles"`
 	}
 	var rows []rowJSON
 	quant := func(src string, k int, vals []float64) {
 		v := slices.Clone(vals)
 		v = slices.DeleteFunc(v, func(x float64) bool { return math.IsNaN(x) || math.IsInf(x, 0) })
 		slices.Sort(v)
-		q := make([]reportNum, len(reportProbs))
+		q := make([]report.Num, len(reportProbs))
 		for i, p := range reportProbs {
-			q[i] = reportNum(math.NaN())
+			q[i] = report.Num(math.NaN())
 			if len(v) > 0 {
-				q[i] = reportNum(report.Quantile(v, p))
+				q[i] = report.Num(report.Quantile(v, p))
 			}
 		}
 		rows = append(rows, rowJSON{src, ds.Freqs[k], q})
@@ -963,18 +963,6 @@ func (w *reportWriter) writeSpectrum() error {
 	}
 	w.add(cp, jp)
 	return nil
-}
-
-// reportNum is a float64 written as JSON null when it is NaN or infinite.
-type reportNum float64
-
-// MarshalJSON implements json.Marshaler.
-func (v reportNum) MarshalJSON() ([]byte, error) {
-	f := float64(v)
-	if math.IsNaN(f) || math.IsInf(f, 0) {
-		return []byte("null"), nil
-	}
-	return strconv.AppendFloat(nil, f, 'g', -1, 64), nil
 }
 
 func reportModelNames(run *reportRun) []string {
