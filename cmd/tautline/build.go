@@ -141,21 +141,31 @@ type problem struct {
 
 // buildProblem loads the data and model of cfg and joins them.
 func buildProblem(cfg Config, logf func(string, ...any)) (*problem, error) {
-	var p problem
+	ds, err := loadData(cfg.Data)
+	if err != nil {
+		return nil, err
+	}
+	like, err := likelihood.NewFreeSpectrum(ds, likelihood.Options{Bandwidth: cfg.Likelihood.Bandwidth})
+	if err != nil {
+		return nil, err
+	}
+	m, err := buildModel(cfg, logf)
+	if err != nil {
+		return nil, err
+	}
+	return newProblem(cfg, ds, like, m)
+}
+
+// newProblem joins a loaded data set, its free spectrum and a built model
+// under the priors of cfg. The data set, free spectrum and model are not
+// changed, so one of each can serve many problems (compare's units).
+func newProblem(cfg Config, ds *likelihood.Dataset, like *likelihood.FreeSpectrum, m models.Model) (*problem, error) {
+	p := problem{data: ds, like: like, model: m}
 	var err error
-	if p.data, err = loadData(cfg.Data); err != nil {
+	if p.priors, err = resolvePriors(m, cfg.Model.Priors); err != nil {
 		return nil, err
 	}
-	if p.model, err = buildModel(cfg, logf); err != nil {
-		return nil, err
-	}
-	if p.priors, err = resolvePriors(p.model, cfg.Model.Priors); err != nil {
-		return nil, err
-	}
-	if p.like, err = likelihood.NewFreeSpectrum(p.data, likelihood.Options{Bandwidth: cfg.Likelihood.Bandwidth}); err != nil {
-		return nil, err
-	}
-	if p.post, err = likelihood.NewPosterior(p.model, p.priors, p.data, p.like, gw.H0SI(cfg.Cosmology.H0)); err != nil {
+	if p.post, err = likelihood.NewPosterior(m, p.priors, ds, like, gw.H0SI(cfg.Cosmology.H0)); err != nil {
 		return nil, err
 	}
 	return &p, nil

@@ -20,6 +20,8 @@ import (
 	"github.com/sirupsen/logrus"
 
 	"tautline/chains"
+	"tautline/likelihood"
+	"tautline/models"
 	"tautline/sampler"
 	"tautline/sampler/evidence"
 )
@@ -192,6 +194,10 @@ func compare(ctx context.Context, e *env, lg *logrus.Logger, cfg Config, co comp
 	if err := checkOutFolder(cfg.Output.Dir, comparisonID(cfg, co, ds.SHA256)); err != nil {
 		return err
 	}
+	sh, err := newCompareInputs(cfg, models, ds, lg)
+	if err != nil {
+		return err
+	}
 	if err := os.MkdirAll(cfg.Output.Dir, 0o755); err != nil {
 		return fmt.Errorf("output folder: %w", err)
 	}
@@ -201,7 +207,7 @@ func compare(ctx context.Context, e *env, lg *logrus.Logger, cfg Config, co comp
 			mine = append(mine, u)
 		}
 	}
-	if err := runUnits(ctx, e, lg, cfg, co, mine); err != nil {
+	if err := runUnits(ctx, e, lg, cfg, co, sh, mine); err != nil {
 		return err
 	}
 	if co.task >= 0 {
@@ -234,7 +240,7 @@ func splitList(s string) []string {
 // work to split across goroutines with profit (BenchmarkHalfStep), while
 // independent units scale. Results do not depend on the order or the
 // concurrency, since every unit has its own seed and its own files.
-func runUnits(ctx context.Context, e *env, lg *logrus.Logger, cfg Config, co compareOpts, units []compareUnit) error {
+func runUnits(ctx context.Context, e *env, lg *logrus.Logger, cfg Config, co compareOpts, sh *compareInputs, units []compareUnit) error {
 	par := cfg.Sampler.Workers
 	if par <= 0 {
 		par = runtime.GOMAXPROCS(0)
@@ -259,7 +265,7 @@ func runUnits(ctx context.Context, e *env, lg *logrus.Logger, cfg Config, co com
 			if ctx.Err() != nil {
 				return
 			}
-			if err := runUnit(ctx, ue, lg, ucfg, co, u); err != nil {
+			if err := runUnit(ctx, ue, lg, ucfg, co, sh, u); err != nil {
 				errs[i] = fmt.Errorf("model %s, rung block %d: %w", u.Model, u.Block, err)
 				cancel()
 			}
@@ -277,6 +283,48 @@ func runUnits(ctx context.Context, e *env, lg *logrus.Logger, cfg Config, co com
 		}
 	}
 	return ctx.Err()
+}
+
+// compareInputs is what every unit of a comparison shares, built once: the
+// data set and its free spectrum, each model, and each model's share of
+// the --prior settings (a prior applies to every model with that
+// parameter). None of them is changed by a unit.
+type compareInputs struct {
+	data   *likelihood.Dataset
+	like   *likelihood.FreeSpectrum
+	models map[string]models.Model
+	priors map[string]map[string]string
+}
+
+func newCompareInputs(cfg Config, names []string, ds *likelihood.Dataset, lg *logrus.Logger) (*compareInputs, error) {
+	like, err := likelihood.NewFreeSpectrum(ds, likelihood.Options{Bandwidth: cfg.Likelihood.Bandwidth})
+	if err != nil {
+		return nil, err
+	}
+	sh := &compareInputs{data: ds, like: like, models: map[string]models.Model{}, priors: map[string]map[string]string{}}
+	used := map[string]bool{}
+	for _, name := range names {
+		mc := cfg
+		mc.Model.Name = name
+		m, err := buildModel(mc, lg.Infof)
+		if err != nil {
+			return nil, err
+		}
+		sh.models[name] = m
+		sh.priors[name] = map[string]string{}
+		for _, p := range m.Params() {
+			if v, ok := cfg.Model.Priors[p.Name]; ok {
+				sh.priors[name][p.Name] = v
+				used[p.Name] = true
+			}
+		}
+	}
+	for k := range cfg.Model.Priors {
+		if !used[k] {
+			return nil, fmt.Errorf("%w: prior for %q: none of the models %s has that parameter", errUsage, k, strings.Join(names, ", "))
+		}
+	}
+	return sh, nil
 }
 
 // unitSeed derives a unit's seed from the run seed, so that units are
@@ -316,22 +364,11 @@ type partMeta struct {
 // runUnit samples one unit and writes its part folder: part.json,
 // lnl.npy (rows: rung-major recorded steps, columns: walkers) and, for the
 // block holding beta = 1, posterior.npy.
-func runUnit(ctx context.Context, e *env, lg *logrus.Logger, cfg Config, co compareOpts, u compareUnit) error {
+func runUnit(ctx context.Context, e *env, lg *logrus.Logger, cfg Config, co compareOpts, sh *compareInputs, u compareUnit) error {
 	mc := cfg
 	mc.Model.Name = u.Model
-	mc.Model.Priors = map[string]string{}
-	pb0, err := buildModel(mc, lg.Infof)
-	if err != nil {
-		return err
-	}
-	for k, v := range cfg.Model.Priors { // a prior applies to every model that has the parameter
-		for _, p := range pb0.Params() {
-			if p.Name == k {
-				mc.Model.Priors[k] = v
-			}
-		}
-	}
-	pb, err := buildProblem(mc, lg.Infof)
+	mc.Model.Priors = sh.priors[u.Model]
+	pb, err := newProblem(mc, sh.data, sh.like, sh.models[u.Model])
 	if err != nil {
 		return err
 	}
