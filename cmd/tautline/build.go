@@ -70,7 +70,20 @@ func buildModel(cfg Config, logf func(format string, args ...any)) (models.Model
 	}
 	h0 := gw.H0SI(cfg.Cosmology.H0)
 	smbhb := func() (models.Model, error) {
-		return binaries.New(binaries.Options{FixGamma: cfg.Model.FixGamma, H0: h0})
+		o := binaries.Options{FixGamma: cfg.Model.FixGamma, H0: h0}
+		switch cfg.Model.Turnover {
+		case "", "none":
+		case "fixed":
+			if !(cfg.Model.FBend > 0) {
+				return nil, fmt.Errorf("%w: --turnover fixed needs --f-bend > 0 (Hz), got %g", errUsage, cfg.Model.FBend)
+			}
+			o.Turnover, o.FBend, o.Kappa = true, cfg.Model.FBend, cfg.Model.TurnoverKappa
+		case "fit":
+			o.Turnover, o.FitTurnover = true, true
+		default:
+			return nil, fmt.Errorf("%w: --turnover %q: want none, fixed or fit", errUsage, cfg.Model.Turnover)
+		}
+		return binaries.New(o)
 	}
 	str := func() (models.Model, error) {
 		return buildStrings(cfg, logf)

@@ -36,6 +36,13 @@ type ModelConfig struct {
 	Priors map[string]string `yaml:"priors"`
 	// FixGamma fixes the SMBHB spectral index to 13/3.
 	FixGamma bool `yaml:"fix_gamma"`
+	// Turnover adds the SMBHB low-frequency bend: none, fixed (at FBend and
+	// TurnoverKappa) or fit (parameters log10_fbend and kappa sampled).
+	Turnover string `yaml:"turnover"`
+	// FBend is the fixed bend frequency in Hz.
+	FBend float64 `yaml:"f_bend_hz"`
+	// TurnoverKappa is the fixed shape exponent of the bend (0: 10/3).
+	TurnoverKappa float64 `yaml:"turnover_kappa"`
 	// Strings holds the string-network settings.
 	Strings StringsConfig `yaml:"strings"`
 }
@@ -107,7 +114,7 @@ func defaultConfig() Config {
 	return Config{
 		Data: "",
 		Model: ModelConfig{
-			Name: "smbhb",
+			Name: "smbhb", Turnover: "none",
 			Strings: StringsConfig{
 				Q: 4.0 / 3, Gamma: 50, F: 0.1, CEff: "vos", Kappa: 1, Modes: 100000, DOF: "standard-model",
 			},

@@ -44,6 +44,8 @@ func TestHelpVersionAndExitCodes(t *testing.T) {
 		{[]string{"fit", "--thin", "-1"}, 2, "--thin must be >= 0"},
 		{[]string{"fit", "--h0", "-1"}, 2, "0 < --h0 < 1000 km/s/Mpc"},
 		{[]string{"compare", "--models", "foo"}, 2, `--models: unknown model "foo"`},
+		{[]string{"fit", "--turnover", "fixed"}, 2, "--turnover fixed needs --f-bend > 0"},
+		{[]string{"fit", "--turnover", "maybe"}, 2, `--turnover "maybe": want none, fixed or fit`},
 		{[]string{"compare", "--help"}, 0, "ensemble steps of every rung (default 3000)"},
 		{[]string{"compare", "--until", "ess=10"}, 2, "flag provided but not defined: -until"},
 	}
@@ -269,5 +271,20 @@ func TestCompareRefusesOtherComparison(t *testing.T) {
 	after, _ := os.ReadFile(filepath.Join(dir, "compare.json"))
 	if !bytes.Equal(before, after) {
 		t.Error("the refused run changed compare.json")
+	}
+}
+
+// TestFitTurnover: --turnover fit samples the bend frequency and shape of
+// the SMBHB spectrum (PHYSICS.md section 4) next to log10_A and gamma.
+func TestFitTurnover(t *testing.T) {
+	dir := t.TempDir()
+	code, out, errs := runCLI(t, "fit", "--turnover", "fit", "--steps", "200", "--walkers", "16", "--out", dir, "--log-level", "warn")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	for _, w := range []string{"log10_A", "gamma", "log10_fbend", "kappa"} {
+		if !strings.Contains(out, w) {
+			t.Errorf("summary lacks %q:\n%s", w, out)
+		}
 	}
 }

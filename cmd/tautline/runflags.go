@@ -57,6 +57,9 @@ func bindModel(fs *flag.FlagSet, cfg *Config) {
 // background cosmology.
 func bindModelSettings(fs *flag.FlagSet, cfg *Config) {
 	fs.BoolVar(&cfg.Model.FixGamma, "fix-gamma", cfg.Model.FixGamma, "fix the SMBHB spectral index gamma to 13/3 (circular GW-driven binaries)")
+	fs.StringVar(&cfg.Model.Turnover, "turnover", cfg.Model.Turnover, "SMBHB low-frequency turnover (environmental hardening), h_c x (1 + (f_bend/f)^kappa)^(-1/2): none, fixed (at --f-bend and --turnover-kappa) or fit (log10_fbend and kappa sampled)")
+	fs.Float64Var(&cfg.Model.FBend, "f-bend", cfg.Model.FBend, "fixed turnover bend frequency in Hz (with --turnover fixed)")
+	fs.Float64Var(&cfg.Model.TurnoverKappa, "turnover-kappa", cfg.Model.TurnoverKappa, "fixed turnover shape exponent (with --turnover fixed; 0 means 10/3)")
 	fs.Float64Var(&cfg.Model.Strings.Q, "q", cfg.Model.Strings.Q, "string-loop emission spectral index: 4/3 cusps, 5/3 kinks, 2 kink-kink collisions (dimensionless)")
 	fs.Float64Var(&cfg.Model.Strings.Gamma, "gamma-loop", cfg.Model.Strings.Gamma, "total GW power of a loop in units of G mu^2")
 	fs.Float64Var(&cfg.Model.Strings.F, "f-large", cfg.Model.Strings.F, "fraction of loop-production energy going into large loops")
