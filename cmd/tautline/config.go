@@ -100,6 +100,11 @@ type SamplerConfig struct {
 	Moves string `yaml:"moves"`
 	// CheckpointEvery is the number of steps between checkpoints.
 	CheckpointEvery int `yaml:"checkpoint_every"`
+	// Temperatures is the number of parallel-tempering rungs of fit (1:
+	// no tempering), spaced geometrically from beta = 1 to BetaMin.
+	Temperatures int `yaml:"temperatures"`
+	// BetaMin is the hottest rung's inverse temperature.
+	BetaMin float64 `yaml:"beta_min"`
 }
 
 // OutputConfig says where results go.
@@ -123,7 +128,7 @@ func defaultConfig() Config {
 		Cosmology:  CosmologyConfig{H0: 67.4, OmegaM: 0.315, TCMB: 2.7255, Neff: 3.046},
 		Sampler: SamplerConfig{
 			Walkers: 32, Steps: 4000, Burn: -1, Thin: 0, Seed: 1, Workers: 0,
-			Moves: "stretch", CheckpointEvery: 1000,
+			Moves: "stretch", CheckpointEvery: 1000, Temperatures: 1, BetaMin: 1e-3,
 		},
 		Output: OutputConfig{Dir: "", FlushEvery: 100},
 	}

@@ -98,6 +98,13 @@ func fit(ctx context.Context, e *env, lg *logrus.Logger, cfg Config, resume bool
 		Walkers: cfg.Sampler.Walkers, Seed: cfg.Sampler.Seed, Moves: moves, Workers: cfg.Sampler.Workers,
 		Fingerprint: fingerprint(cfg, pb.data.SHA256),
 	}
+	if n := cfg.Sampler.Temperatures; n > 1 {
+		if scfg.Betas, err = sampler.GeometricLadder(n, cfg.Sampler.BetaMin); err != nil {
+			return fmt.Errorf("%w: --temperatures %d --beta-min %g: %v", errUsage, n, cfg.Sampler.BetaMin, err)
+		}
+	} else if n < 1 {
+		return fmt.Errorf("%w: --temperatures must be >= 1, got %d", errUsage, n)
+	}
 	if err := os.MkdirAll(cfg.Output.Dir, 0o755); err != nil {
 		return fmt.Errorf("output folder: %w", err)
 	}

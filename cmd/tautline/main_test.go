@@ -288,3 +288,27 @@ func TestFitTurnover(t *testing.T) {
 		}
 	}
 }
+
+// TestFitTempered: with --temperatures the cold rung's chain is written as
+// usual, and the run is reproducible (same bytes for the same seed).
+func TestFitTempered(t *testing.T) {
+	var chain [2][]byte
+	for i := range chain {
+		dir := t.TempDir()
+		code, _, errs := runCLI(t, "fit", "--temperatures", "4", "--beta-min", "0.01", "--steps", "200", "--walkers", "16",
+			"--workers", strconv.Itoa(i+1), "--out", dir, "--log-level", "warn")
+		if code != 0 {
+			t.Fatalf("exit %d: %s", code, errs)
+		}
+		chain[i], _ = os.ReadFile(filepath.Join(dir, "chain.csv"))
+	}
+	if n := bytes.Count(chain[0], []byte("\n")); n != 1+200*16 {
+		t.Errorf("chain.csv has %d lines, want header + 200 x 16 (the cold rung only)", n)
+	}
+	if !bytes.Equal(chain[0], chain[1]) {
+		t.Error("tempered chains differ between --workers 1 and 2")
+	}
+	if code, _, errs := runCLI(t, "fit", "--temperatures", "4", "--beta-min", "2"); code != 2 || !strings.Contains(errs, "--beta-min 2") {
+		t.Errorf("bad --beta-min: exit %d, %s", code, errs)
+	}
+}

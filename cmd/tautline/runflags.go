@@ -31,6 +31,8 @@ func bindConfig(fs *flag.FlagSet, cfg *Config) {
 	fs.StringVar(&cfg.Sampler.Until, "until", cfg.Sampler.Until, "stop when all criteria hold, e.g. ess=5000,tau=50,rhat=1.01 (effective sample size, chain length in autocorrelation times, split R-hat); --steps is then the cap")
 	fs.StringVar(&cfg.Sampler.Moves, "moves", cfg.Sampler.Moves, "ensemble moves: stretch, de (differential evolution), or a weighted mix such as stretch:0.8,de:0.2")
 	fs.IntVar(&cfg.Sampler.CheckpointEvery, "checkpoint-every", cfg.Sampler.CheckpointEvery, "steps between checkpoints (0 disables them)")
+	fs.IntVar(&cfg.Sampler.Temperatures, "temperatures", cfg.Sampler.Temperatures, "parallel-tempering rungs, geometric in beta from 1 to --beta-min, swapping walkers every step; helps multimodal posteriors mix; only the beta = 1 rung is written (1: no tempering)")
+	fs.Float64Var(&cfg.Sampler.BetaMin, "beta-min", cfg.Sampler.BetaMin, "inverse temperature of the hottest rung with --temperatures")
 	fs.StringVar(&cfg.Output.Dir, "out", cfg.Output.Dir, "output folder for chains and metadata; empty means runs/fit-MODEL")
 	fs.IntVar(&cfg.Output.FlushEvery, "flush-every", cfg.Output.FlushEvery, "steps between chain flushes to disk (a crash loses at most this many)")
 }
