@@ -688,7 +688,7 @@ func finalize(out string, dirs []string) (*compareResult, error) {
 			continue
 		}
 		r.LnB, r.LnBErr = evidence.BayesFactor(r.TI, refRow.TI)
-		r.Reading = strings.NewReplacer("the first model", r.Model, "the second model", refRow.Model).Replace(evidence.KassRaftery(r.LnB))
+		r.Reading = evidence.KassRafteryNamed(r.LnB, r.Model, refRow.Model)
 	}
 	if err := writeJSON(filepath.Join(out, "compare.json"), res); err != nil {
 		return nil, err

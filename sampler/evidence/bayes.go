@@ -33,12 +33,18 @@ func BayesFactorEstimate(a, b Estimate) Estimate {
 // scale is symmetric: a negative ln B favours the second model. A value
 // exactly on a threshold takes the stronger category.
 func KassRaftery(lnB float64) string {
+	return KassRafteryNamed(lnB, "the first model", "the second model")
+}
+
+// KassRafteryNamed is KassRaftery for ln B = ln Z(first) - ln Z(second),
+// naming the favoured model in the words.
+func KassRafteryNamed(lnB float64, first, second string) string {
 	if math.IsNaN(lnB) {
 		return "undefined (ln B is NaN)"
 	}
-	side := "the first model"
+	side := first
 	if lnB < 0 {
-		side = "the second model"
+		side = second
 	}
 	switch a := math.Abs(lnB); {
 	case a < 1:

@@ -34,6 +34,13 @@ func TestKassRaftery(t *testing.T) {
 			t.Errorf("KassRaftery(%g) = %q, want %q", tc.lnB, got, tc.want)
 		}
 	}
+	// The named form says which model the evidence favours.
+	if got := KassRafteryNamed(-3.5, "strings", "smbhb"); got != "strong support for smbhb" {
+		t.Errorf("KassRafteryNamed(-3.5) = %q", got)
+	}
+	if got := KassRafteryNamed(1.2, "strings", "smbhb"); got != "positive support for strings" {
+		t.Errorf("KassRafteryNamed(1.2) = %q", got)
+	}
 }
 
 // TestBayesFactor checks ln B = ln Z_a - ln Z_b and that the errors of
