@@ -53,20 +53,19 @@ a single process as in split runs.`
 
 // compareOpts are compare's options that are not configuration keys.
 type compareOpts struct {
-	models     string
-	reference  string
-	rungs      int
-	exponent   float64
-	blocks     int
-	target     float64
-	maxSteps   int
-	maxRungs   int
-	task       int
-	tasks      int
-	swapEvery  int
-	adapt      bool
-	cmdline    string
-	evidenceOK bool
+	models    string
+	reference string
+	rungs     int
+	exponent  float64
+	blocks    int
+	target    float64
+	maxSteps  int
+	maxRungs  int
+	task      int
+	tasks     int
+	swapEvery int
+	adapt     bool
+	cmdline   string
 }
 
 func runCompare(ctx context.Context, e *env, args []string) error {

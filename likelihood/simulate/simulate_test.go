@@ -180,9 +180,9 @@ func TestRunSamplesFollowGrid(t *testing.T) {
 			if k >= len(g) {
 				return 1
 			}
-			ys := d[:k+1]
+
 			xs := append(append([]float64(nil), g[:k]...), x)
-			ys = append(append([]float64(nil), d[:k]...), d[k-1]+(d[k]-d[k-1])*(x-g[k-1])/(g[k]-g[k-1]))
+			ys := append(append([]float64(nil), d[:k]...), d[k-1]+(d[k]-d[k-1])*(x-g[k-1])/(g[k]-g[k-1]))
 			return integrate.Trapezoidal(xs, ys)
 		}
 		if dd := ks(ds.Bins[i].Samples, cdf); dd > ksCritical001(5000) {

@@ -101,8 +101,8 @@ type Direct struct {
 	step  float64 // ln f spacing of the Omega^(1) grid
 
 	// current parameters
-	lnGG, gg, alpha, ln2f, lnPref float64
-	edges                         []float64
+	gg, alpha, ln2f, lnPref float64
+	edges                   []float64
 
 	// Omega^(1) grid: om1[j] at y = ln(f - fLow) = y0 + j step, that is
 	// at ln f = sNode[j]; cum is the running integral used by modeSum.

@@ -436,7 +436,7 @@ func decodeTable(name string, b []byte, s Settings) (*Table, error) {
 		return nil, fmt.Errorf("strings: %s: not a tautline string table", name)
 	}
 	if got, want := string(h.Hash[:]), s.TableHash(); got != want {
-		return nil, fmt.Errorf("strings: %s: built for settings hash %.12s..., want %.12s...", name, got, want)
+		return nil, fmt.Errorf("strings: %s: built for settings hash %.12s, want %.12s", name, got, want)
 	}
 	t := newEmptyTable(s)
 	if int(h.NG) != t.nG || int(h.NA) != t.nA || int(h.NF) != t.nF || h.G0 != t.g0 || h.A0 != t.a0 || h.F0 != t.f0 ||
