@@ -79,7 +79,7 @@ func TestConfigErrors(t *testing.T) {
 		want string
 	}{
 		{"bad-unknown-top.yaml", 1, `bad-unknown-top.yaml: line 2: unknown key "samplr"; known keys here: cosmology, data, likelihood, model, output, sampler`},
-		{"bad-unknown-nested.yaml", 1, `bad-unknown-nested.yaml: line 5: unknown key "sampler.stepz"; known keys here: burn, checkpoint_every, moves, seed, steps, thin, until, walkers, workers`},
+		{"bad-unknown-nested.yaml", 1, `bad-unknown-nested.yaml: line 5: unknown key "sampler.stepz"; known keys here: beta_min, burn, checkpoint_every, moves, seed, steps, temperatures, thin, until, walkers, workers`},
 		{"bad-type.yaml", 1, "bad-type.yaml: line 2: cannot unmarshal !!str `many` into int"},
 		{"bad-syntax.yaml", 1, "bad-syntax.yaml: line 2: did not find expected key"},
 		{"bad-not-mapping.yaml", 1, "bad-not-mapping.yaml: line 1: sampler: want a mapping of keys"},
