@@ -8,7 +8,7 @@ import (
 	"math"
 	"text/tabwriter"
 
-	cosmic "tautline/models/strings"
+	"tautline/models/cosmicstrings"
 )
 
 const convertHelp = `
@@ -55,19 +55,19 @@ func runConvert(_ context.Context, e *env, args []string) error {
 	case "gmu":
 		g = *gmu
 	case "mu":
-		g = cosmic.GmuFromMassPerLength(*mu)
+		g = cosmicstrings.GmuFromMassPerLength(*mu)
 	case "eta":
-		g = cosmic.GmuFromScale(*eta)
+		g = cosmicstrings.GmuFromScale(*eta)
 	case "separation":
-		g = cosmic.GmuFromImageSeparationMas(*sep)
+		g = cosmicstrings.GmuFromImageSeparationMas(*sep)
 	}
 	if !(g > 0) || math.IsInf(g, 0) {
 		return fmt.Errorf("%w: --%s must be a positive finite number", errUsage, given[0])
 	}
 	c := conversion{
-		Gmu: g, MuKgPerM: cosmic.MassPerLength(g), EtaGeV: cosmic.SymmetryBreakingScale(g),
-		DeficitRad: cosmic.DeficitAngle(g), DeficitArcsec: cosmic.DeficitAngleArcsec(g),
-		MaxSeparationMs: cosmic.MaxImageSeparationMas(g), Caveat: cosmic.ScaleCaveat,
+		Gmu: g, MuKgPerM: cosmicstrings.MassPerLength(g), EtaGeV: cosmicstrings.SymmetryBreakingScale(g),
+		DeficitRad: cosmicstrings.DeficitAngle(g), DeficitArcsec: cosmicstrings.DeficitAngleArcsec(g),
+		MaxSeparationMs: cosmicstrings.MaxImageSeparationMas(g), Caveat: cosmicstrings.ScaleCaveat,
 	}
 	if *asJSON {
 		enc := json.NewEncoder(e.stdout)

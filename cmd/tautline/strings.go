@@ -5,12 +5,12 @@ import (
 	"runtime"
 
 	"tautline/models"
-	cosmic "tautline/models/strings"
+	"tautline/models/cosmicstrings"
 )
 
 // stringSettings turns the configuration into the string model's settings.
-func stringSettings(cfg Config) cosmic.Settings {
-	s := cosmic.DefaultSettings()
+func stringSettings(cfg Config) cosmicstrings.Settings {
+	s := cosmicstrings.DefaultSettings()
 	sc := cfg.Model.Strings
 	s.Q, s.Gamma, s.F, s.Kappa, s.CEff, s.Modes = sc.Q, sc.Gamma, sc.F, sc.Kappa, sc.CEff, sc.Modes
 	s.Cosmology.H0, s.Cosmology.OmegaM, s.Cosmology.DOF = cfg.Cosmology.H0, cfg.Cosmology.OmegaM, sc.DOF
@@ -28,14 +28,14 @@ func buildStrings(cfg Config, logf func(string, ...any)) (models.Model, error) {
 		logf = func(string, ...any) {}
 	}
 	s := stringSettings(cfg)
-	if cfg.Model.Strings.Direct || s.CEff == cosmic.CEffStep {
+	if cfg.Model.Strings.Direct || s.CEff == cosmicstrings.CEffStep {
 		if !cfg.Model.Strings.Direct {
 			logf("loop_production step: using the direct quadrature (slow), since a table would smooth the step's kink")
 		}
-		return cosmic.NewDirectModel(s)
+		return cosmicstrings.NewDirectModel(s)
 	}
 	last := -1
-	t, err := cosmic.LoadTable(s, "", cosmic.BuildOptions{
+	t, err := cosmicstrings.LoadTable(s, "", cosmicstrings.BuildOptions{
 		Workers: runtime.NumCPU(), Seed: 1,
 		Progress: func(done, total int) {
 			if pct := 10 * done / total; pct != last {
@@ -44,7 +44,7 @@ func buildStrings(cfg Config, logf func(string, ...any)) (models.Model, error) {
 			}
 		},
 	})
-	if errors.Is(err, cosmic.ErrCacheWrite) && t != nil {
+	if errors.Is(err, cosmicstrings.ErrCacheWrite) && t != nil {
 		logf("warning: %v (the table is used but will be rebuilt next time)", err)
 		err = nil
 	}
@@ -54,5 +54,5 @@ func buildStrings(cfg Config, logf func(string, ...any)) (models.Model, error) {
 	if last >= 0 {
 		logf("string table certified: %s", t.Certificate())
 	}
-	return cosmic.NewModel(t), nil
+	return cosmicstrings.NewModel(t), nil
 }

@@ -1,4 +1,4 @@
-package strings
+package cosmicstrings
 
 import (
 	"errors"
@@ -25,7 +25,7 @@ func defaultTable(t testing.TB) *Table {
 
 // TestEmbeddedTableCurrent checks that the compiled-in table was built for
 // the current default settings (and code version). If this fails, run
-// go run ./models/strings/internal/gentable -o models/strings/defaulttable.bin
+// go run ./models/cosmicstrings/internal/gentable -o models/cosmicstrings/defaulttable.bin
 func TestEmbeddedTableCurrent(t *testing.T) {
 	if _, err := decodeTable("embedded table", embeddedTable, DefaultSettings()); err != nil {
 		t.Fatalf("embedded table does not match DefaultSettings(): %v", err)

@@ -1,4 +1,4 @@
-package strings
+package cosmicstrings
 
 import (
 	"crypto/sha256"

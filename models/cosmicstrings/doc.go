@@ -1,11 +1,9 @@
-// Package strings computes the stochastic gravitational-wave background of
+// Package cosmicstrings computes the stochastic gravitational-wave background of
 // a cosmic-string loop network in the one-scale model (PHYSICS.md section
 // 3; the published form of Cui, Lewicki, Morrissey & Wells 2018-2019 and
 // Sousa, Avelino & Guedes 2020), with the loop-production coefficient C_eff
 // from the velocity-dependent one-scale equations (Martins & Shellard 1996,
 // 2002) solved on the tabulated Lambda-CDM background of package cosmology.
-//
-// Importers alias the package, e.g. cosmic "tautline/models/strings".
 //
 // # Direct path
 //
@@ -62,4 +60,4 @@
 // units.go converts Gmu to the mass per length, the symmetry-breaking scale,
 // the deficit angle and the largest lensing image separation (PHYSICS.md
 // section 9).
-package strings
+package cosmicstrings

@@ -1,10 +1,10 @@
-package strings
+package cosmicstrings
 
 import _ "embed"
 
 // embeddedTable is the certified table for DefaultSettings, regenerated with
 //
-//	go run ./models/strings/internal/gentable -o models/strings/defaulttable.bin
+//	go run ./models/cosmicstrings/internal/gentable -o models/cosmicstrings/defaulttable.bin
 //
 // from the repository root (about a minute on two cores).
 //

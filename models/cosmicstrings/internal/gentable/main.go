@@ -1,7 +1,7 @@
 // Command gentable builds and certifies the string-spectrum table for the
 // default settings and writes it to the file the strings package embeds:
 //
-//	go run ./models/strings/internal/gentable -o models/strings/defaulttable.bin
+//	go run ./models/cosmicstrings/internal/gentable -o models/cosmicstrings/defaulttable.bin
 package main
 
 import (
@@ -11,17 +11,17 @@ import (
 	"runtime"
 	"time"
 
-	cosmic "tautline/models/strings"
+	"tautline/models/cosmicstrings"
 )
 
 func main() {
-	out := flag.String("o", "models/strings/defaulttable.bin", "output file")
+	out := flag.String("o", "models/cosmicstrings/defaulttable.bin", "output file")
 	workers := flag.Int("workers", runtime.NumCPU(), "worker goroutines")
 	seed := flag.Uint64("seed", 1, "certification seed")
 	flag.Parse()
 	start := time.Now()
-	s := cosmic.DefaultSettings()
-	t, err := cosmic.BuildTable(s, cosmic.BuildOptions{Workers: *workers, Seed: *seed})
+	s := cosmicstrings.DefaultSettings()
+	t, err := cosmicstrings.BuildTable(s, cosmicstrings.BuildOptions{Workers: *workers, Seed: *seed})
 	if err != nil {
 		fmt.Fprintln(os.Stderr, "gentable:", err)
 		os.Exit(1)
