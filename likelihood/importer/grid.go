@@ -98,7 +98,7 @@ func FromGrid(m *Matrix, opt GridOptions) (*likelihood.Dataset, error) {
 	}
 	for i, v := range x {
 		if v < opt.PriorMin || v > opt.PriorMax {
-			return fail("%s: %s: log10(rho/s) = %g%s lies outside the prior range [%g, %g] stated for the original analysis; the grid must lie inside it", ax, m.where(opt.Abscissa, i), v, fromUnit(cv), opt.PriorMin, opt.PriorMax)
+			return fail("%s: %s: log10(rho/s) = %.6g%s lies outside the prior range [%g, %g] stated for the original analysis; the grid must lie inside it", ax, m.where(opt.Abscissa, i), v, fromUnit(cv), opt.PriorMin, opt.PriorMax)
 		}
 	}
 	bins := make([]likelihood.Bin, len(sel))

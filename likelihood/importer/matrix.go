@@ -142,7 +142,7 @@ func FromMatrix(m *Matrix, opt MatrixOptions) (*likelihood.Dataset, error) {
 		for k, y := range s {
 			if y < lo || y > hi {
 				i := drop + k*thin
-				return fail("%s: %s: log10(rho/s) = %g%s lies outside the prior range [%g, %g] stated for the original analysis; check the prior range and the unit", name, m.where(j, i), y, fromUnit(cv), lo, hi)
+				return fail("%s: %s: log10(rho/s) = %.6g%s lies outside the prior range [%g, %g] stated for the original analysis; %s", name, m.where(j, i), y, fromUnit(cv), lo, hi, guessUnit(cv, col[drop:], lo, hi))
 			}
 		}
 		if smin == smax {
@@ -190,7 +190,7 @@ func suspect(src, name string, cv converter, raw []float64, smin, smax float64) 
 	var what, hint string
 	switch {
 	case smin > suspectHigh:
-		what = fmt.Sprintf("every value is above %d (log10(rho/s) from %g to %g%s), which would mean rho > 1 s", suspectHigh, smin, smax, fromUnit(cv))
+		what = fmt.Sprintf("every value is above %d (log10(rho/s) from %.4g to %.4g%s), which would mean rho > 1 s", suspectHigh, smin, smax, fromUnit(cv))
 		switch {
 		case cv.u != Log10RhoS:
 			hint = fmt.Sprintf("check the unit (%s)", cv.u)
@@ -200,7 +200,7 @@ func suspect(src, name string, cv converter, raw []float64, smin, smax float64) 
 			hint = fmt.Sprintf("these look like log10(rho/ns); give the unit %s", Log10RhoNS)
 		}
 	case smax < suspectLow:
-		what = fmt.Sprintf("every value is below %d (log10(rho/s) from %g to %g%s), which would mean rho < 1e-20 s", suspectLow, smin, smax, fromUnit(cv))
+		what = fmt.Sprintf("every value is below %d (log10(rho/s) from %.4g to %.4g%s), which would mean rho < 1e-20 s", suspectLow, smin, smax, fromUnit(cv))
 		if cv.u == Log10RhoS {
 			hint = fmt.Sprintf("these look like ln(rho/s); give the unit %s", LnRhoS)
 		} else {
@@ -210,6 +210,30 @@ func suspect(src, name string, cv converter, raw []float64, smin, smax float64) 
 		return nil
 	}
 	return fmt.Errorf("importer: %s: %s: %s; %s", src, name, what, hint)
+}
+
+// guessUnit names the unit under which all of raw would lie inside the
+// prior range, when another than the stated one does.
+func guessUnit(cv converter, raw []float64, lo, hi float64) string {
+	// The PSD conversion maps almost any column of log10 rho into a
+	// prior range, so only the two common slips are suggested.
+	for _, u := range []Unit{Log10RhoS, LnRhoS, Log10RhoNS} {
+		if u == cv.u {
+			continue
+		}
+		alt := newConverter(u, cv.span)
+		ok := true
+		for _, x := range raw {
+			if y := alt.to(x); !(y >= lo && y <= hi) {
+				ok = false
+				break
+			}
+		}
+		if ok {
+			return fmt.Sprintf("read as %s every value of this column would lie inside it: was that unit meant?", u)
+		}
+	}
+	return "check the prior range and the unit"
 }
 
 // pickColumns resolves the column choice; label describes a choice other
