@@ -191,7 +191,9 @@ func decodeNPY(r io.Reader, src string, size, limit int64) (*Matrix, error) {
 		m.Cols[j] = make([]float64, rows)
 	}
 	buf := make([]byte, 1<<16)
-	var k int64 // flat index of the next value in file order
+	// (i, j) of the next value in file order: C order varies the last
+	// index fastest, Fortran order the first.
+	var i, j int64
 	left := nbytes
 	for left > 0 {
 		n := min(int64(len(buf)), left)
@@ -209,16 +211,14 @@ func decodeNPY(r io.Reader, src string, size, limit int64) (*Matrix, error) {
 			} else {
 				v = float64(math.Float32frombits(order.Uint32(buf[off:])))
 			}
-			// C order: the last index varies fastest; Fortran order:
-			// the first.
-			var i, j int64
-			if h.fortran {
-				i, j = k%rows, k/rows
-			} else {
-				i, j = k/cols, k%cols
-			}
 			m.Cols[j][i] = v
-			k++
+			if h.fortran {
+				if i++; i == rows {
+					i, j = 0, j+1
+				}
+			} else if j++; j == cols {
+				i, j = i+1, 0
+			}
 		}
 		left -= n
 	}
