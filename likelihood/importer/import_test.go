@@ -142,7 +142,7 @@ func TestMatrixOptions(t *testing.T) {
 			t.Errorf("bin %d: %d samples, first %g last %g", b+1, len(s), s[0], s[len(s)-1])
 		}
 	}
-	want := "simulated: invented samples for tests; imported by tautline: 100 posterior samples per bin; columns 3,1 of 4 taken as bins 1..2; first fraction 0.25 of each column dropped as burn-in; thinned to every 3-th sample"
+	want := "simulated: invented samples for tests; imported by tautline: 100 posterior samples per bin; columns 3,1 of 4 taken as bins 1..2; first fraction 0.25 of each column dropped as burn-in; thinned by a factor of 3"
 	if ds.Provenance != want {
 		t.Errorf("provenance\n%s\nwant\n%s", ds.Provenance, want)
 	}

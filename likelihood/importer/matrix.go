@@ -163,7 +163,7 @@ func FromMatrix(m *Matrix, opt MatrixOptions) (*likelihood.Dataset, error) {
 		steps = append(steps, fmt.Sprintf("first fraction %s of each column dropped as burn-in", num(opt.BurnIn)))
 	}
 	if thin > 1 {
-		steps = append(steps, fmt.Sprintf("thinned to every %d-th sample", thin))
+		steps = append(steps, fmt.Sprintf("thinned by a factor of %d", thin))
 	}
 	if d := cv.describe(); d != "" {
 		steps = append(steps, d)
