@@ -66,4 +66,8 @@
 // log10 rho_i = ln Omega_i / (2 ln 10) + 0.5 log10(H0^2 / (8 pi^4 f_i^5 T)).
 // A parameter vector outside the model's domain has LogLike = -Inf, which
 // the sampler treats as zero prior support.
+//
+// Joint sums the free-spectrum log likelihoods of several independent data
+// sets, each with its own span, bins and prior range, for one model.
+// Dataset.Select keeps a subset of a data set's bins and records which.
 package likelihood
