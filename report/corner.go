@@ -11,16 +11,18 @@ import (
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
+
+	"tautline/stats"
 )
 
 // gridWindow presents the part of a Density2D inside an axis window as a
 // plotter.GridXYZ, so that contours stay inside their panel.
 type gridWindow struct {
-	d              *Density2D
+	d              *stats.Density2D
 	c0, c1, r0, r1 int // inclusive node index ranges
 }
 
-func newGridWindow(d *Density2D, xr, yr [2]float64) gridWindow {
+func newGridWindow(d *stats.Density2D, xr, yr [2]float64) gridWindow {
 	w := gridWindow{d: d, c1: len(d.X) - 1, r1: len(d.Y) - 1}
 	for w.c0 < w.c1-1 && d.X[w.c0+1] <= xr[0] {
 		w.c0++
@@ -45,7 +47,7 @@ func (g gridWindow) Y(r int) float64    { return g.d.Y[r+g.r0] }
 // regionFill paints the credible regions of a 2-D density as a raster:
 // darker inside the innermost level, lighter out to the outermost.
 type regionFill struct {
-	d      *Density2D
+	d      *stats.Density2D
 	levels []float64 // decreasing density thresholds, innermost first
 	fills  []color.NRGBA
 	xr, yr [2]float64
@@ -73,7 +75,7 @@ func (f regionFill) Plot(c draw.Canvas, p *plot.Plot) {
 // axisRange returns the plotting range of a 1-D marginal: where the density
 // exceeds 1e-3 of its peak, widened by 4 % on each side and kept on the
 // grid.
-func axisRange(d *Density1D) [2]float64 {
+func axisRange(d *stats.Density1D) [2]float64 {
 	_, pk := d.Peak()
 	lo, hi := 0, len(d.X)-1
 	for lo < hi && d.P[lo] < 1e-3*pk {
@@ -117,18 +119,18 @@ func plainLimit(s string) string {
 }
 
 // summaryTitle is the text above a diagonal panel of the corner figure.
-func summaryTitle(s Summary) string {
+func summaryTitle(s stats.Summary) string {
 	name := PlainLabel(s.Label)
 	if name == "" {
 		name = s.Name
 	}
 	scale := s.Std
 	switch s.Rails {
-	case EdgeLower:
+	case stats.EdgeLower:
 		return name + " " + plainLimit(FormatLimit(s.Limit, scale, true, 2))
-	case EdgeUpper:
+	case stats.EdgeUpper:
 		return name + " " + plainLimit(FormatLimit(s.Limit, scale, false, 2))
-	case EdgeBoth:
+	case stats.EdgeBoth:
 		return name + " unconstrained"
 	}
 	return name + " = " + plainAsym(s.Median, s.ET68.Hi-s.Median, s.Median-s.ET68.Lo)
@@ -163,7 +165,7 @@ func truthStyle() draw.LineStyle {
 
 // diagonalPlot draws a 1-D marginal: the density, the 68 % equal-tailed
 // region shaded beneath it, the median dashed and the true value dotted.
-func diagonalPlot(m *Marginal1D, xr [2]float64, truth float64) (*plot.Plot, error) {
+func diagonalPlot(m *stats.Marginal1D, xr [2]float64, truth float64) (*plot.Plot, error) {
 	p := newPlot()
 	s := palette(0)
 	d := &m.Density
@@ -175,9 +177,9 @@ func diagonalPlot(m *Marginal1D, xr [2]float64, truth float64) (*plot.Plot, erro
 		line = append(line, plotter.XY{X: x, Y: d.P[i]})
 	}
 	lo, hi := math.Max(m.Summary.ET68.Lo, xr[0]), math.Min(m.Summary.ET68.Hi, xr[1])
-	if m.Summary.Rails != EdgeNone && finite(m.Summary.Limit) {
+	if m.Summary.Rails != stats.EdgeNone && finite(m.Summary.Limit) {
 		// For a one-sided limit shade the region inside the limit.
-		if m.Summary.Rails == EdgeLower {
+		if m.Summary.Rails == stats.EdgeLower {
 			lo, hi = xr[0], math.Min(m.Summary.Limit, xr[1])
 		} else {
 			lo, hi = math.Max(m.Summary.Limit, xr[0]), xr[1]
@@ -205,7 +207,7 @@ func diagonalPlot(m *Marginal1D, xr [2]float64, truth float64) (*plot.Plot, erro
 	}
 	ln.LineStyle = draw.LineStyle{Color: s.line, Width: vg.Points(1)}
 	p.Add(pg, ln)
-	if m.Summary.Rails == EdgeNone {
+	if m.Summary.Rails == stats.EdgeNone {
 		p.Add(vline{at: m.Summary.Median, style: draw.LineStyle{Color: s.line, Width: vg.Points(0.6), Dashes: []vg.Length{vg.Points(3), vg.Points(1.5)}}})
 	}
 	if inRange(truth, xr) {
@@ -224,7 +226,7 @@ func diagonalPlot(m *Marginal1D, xr [2]float64, truth float64) (*plot.Plot, erro
 
 // pairPlot draws a 2-D marginal: shaded credible regions, their contour
 // lines (solid innermost, dashed outer) and the true point.
-func pairPlot(q *Pair, xr, yr [2]float64, tx, ty float64) *plot.Plot {
+func pairPlot(q *stats.Pair, xr, yr [2]float64, tx, ty float64) *plot.Plot {
 	p := newPlot()
 	s := palette(0)
 	d := &q.Density
@@ -288,7 +290,7 @@ func minMaxGrid(g gridWindow) (lo, hi float64) {
 // writes it as stem.png, stem.svg (and stem.pdf when asked), 7 in square.
 // truths, when not nil, holds a true (injected) value per parameter, NaN
 // for none. progress, when not nil, is called after each panel.
-func CornerFigure(stem string, post *Posterior, truths []float64, o FigureOptions, progress func(done, total int)) ([]string, error) {
+func CornerFigure(stem string, post *stats.Posterior, truths []float64, o FigureOptions, progress func(done, total int)) ([]string, error) {
 	n := len(post.Params)
 	if n == 0 || len(post.Marginals) != n || len(post.Pairs) != n*(n-1)/2 {
 		return nil, fmt.Errorf("report: corner: posterior has %d parameters, %d marginals and %d pairs", n, len(post.Marginals), len(post.Pairs))
@@ -357,7 +359,7 @@ func CornerFigure(stem string, post *Posterior, truths []float64, o FigureOption
 	})
 }
 
-func labelOr(p Param) string {
+func labelOr(p stats.Param) string {
 	if p.Label != "" {
 		return p.Label
 	}

@@ -13,6 +13,8 @@ import (
 	"testing"
 
 	"gonum.org/v1/plot/vg"
+
+	"tautline/stats"
 )
 
 const testDPI = 72
@@ -112,11 +114,11 @@ func TestFigures(t *testing.T) {
 
 	// Corner: a railing parameter and a Gaussian one, all three formats.
 	x, y := correlated(src, 3000, 1, 0.5, 0.5, true)
-	ps := []Param{
+	ps := []stats.Param{
 		{Name: "log10_Gmu", Label: `\log_{10} G\mu`, Bounds: [2]float64{0, 6}, Samples: x},
 		{Name: "gamma", Label: `\gamma`, Bounds: [2]float64{math.Inf(-1), math.Inf(1)}, Samples: y},
 	}
-	post, err := Analyze(ps, Options{Two: Options2D{GridPoints: 40}}, nil)
+	post, err := stats.Analyze(ps, stats.Options{Two: stats.Options2D{GridPoints: 40}}, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -176,13 +178,13 @@ func TestFigures(t *testing.T) {
 	// Exclusion: a rising limit with one empty slice, two curves.
 	var ex []NamedExclusion
 	for m := range 2 {
-		var pts []ExclusionPoint
+		var pts []stats.ExclusionPoint
 		for k := range 8 {
 			lim := -10 + 0.4*float64(k) - 0.5*float64(m)
 			if k == 5 {
 				lim = math.NaN()
 			}
-			pts = append(pts, ExclusionPoint{X: float64(k) - 3.5, Lo: float64(k) - 4, Hi: float64(k) - 3, N: 500, Limit: lim})
+			pts = append(pts, stats.ExclusionPoint{X: float64(k) - 3.5, Lo: float64(k) - 4, Hi: float64(k) - 3, N: 500, Limit: lim})
 		}
 		ex = append(ex, NamedExclusion{Name: "model " + strconv.Itoa(m), Points: pts})
 	}
@@ -228,7 +230,7 @@ func TestFigureErrors(t *testing.T) {
 	if _, err := TraceFigure(filepath.Join(dir, "t"), nil, o, nil); err == nil {
 		t.Error("no traces did not fail")
 	}
-	if _, err := CornerFigure(filepath.Join(dir, "c"), &Posterior{}, nil, o, nil); err == nil {
+	if _, err := CornerFigure(filepath.Join(dir, "c"), &stats.Posterior{}, nil, o, nil); err == nil {
 		t.Error("empty posterior did not fail")
 	}
 	if _, err := saveFigures(filepath.Join(dir, "x"), vg.Inch, vg.Inch, FigureOptions{Formats: []string{"gif"}}, nil); err == nil {
@@ -283,4 +285,19 @@ func TestLogTicks(t *testing.T) {
 	if (logTicks{}).Ticks(-1, 1) != nil {
 		t.Error("ticks for a non-positive range")
 	}
+}
+
+// correlated draws n pairs from a bivariate normal with zero mean, standard
+// deviations sx, sy and correlation rho; fold replaces x by |x|.
+func correlated(src *rand.Rand, n int, sx, sy, rho float64, fold bool) (x, y []float64) {
+	x, y = make([]float64, n), make([]float64, n)
+	for i := range x {
+		a, b := src.NormFloat64(), src.NormFloat64()
+		x[i] = sx * a
+		y[i] = sy * (rho*a + math.Sqrt(1-rho*rho)*b)
+		if fold {
+			x[i] = math.Abs(x[i])
+		}
+	}
+	return x, y
 }

@@ -5,6 +5,8 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"tautline/stats"
 )
 
 func TestFormatAsym(t *testing.T) {
@@ -83,12 +85,12 @@ func TestFormatLimitInterval(t *testing.T) {
 		}
 	}
 	ivs := []struct {
-		iv   Interval
+		iv   stats.Interval
 		want string
 	}{
-		{Interval{-8.123, -6.987}, `[-8.1, -7.0]`},
-		{Interval{0.0123, 0.0456}, `[0.012, 0.046]`},
-		{Interval{1.1e-9, 3.4e-9}, `[1.1, 3.4] \times 10^{-9}`},
+		{stats.Interval{Lo: -8.123, Hi: -6.987}, `[-8.1, -7.0]`},
+		{stats.Interval{Lo: 0.0123, Hi: 0.0456}, `[0.012, 0.046]`},
+		{stats.Interval{Lo: 1.1e-9, Hi: 3.4e-9}, `[1.1, 3.4] \times 10^{-9}`},
 	}
 	for _, c := range ivs {
 		if got := FormatInterval(c.iv, 2); got != c.want {
@@ -98,11 +100,11 @@ func TestFormatLimitInterval(t *testing.T) {
 }
 
 func TestSummaryTable(t *testing.T) {
-	ss := []Summary{
-		{Name: "log10_A", Label: `\log_{10} A`, Median: -14.62, ET68: Interval{-14.81, -14.50},
-			ET95: Interval{-15.02, -14.37}, Rails: EdgeNone, Limit: math.NaN(), LimitMass: 0.95},
-		{Name: "log10_Gmu", Label: `\log_{10} G\mu`, Rails: EdgeLower, Std: 0.8, Limit: -10.234, LimitMass: 0.95},
-		{Name: "f_bend", Unit: "Hz", Rails: EdgeBoth, LimitMass: 0.95},
+	ss := []stats.Summary{
+		{Name: "log10_A", Label: `\log_{10} A`, Median: -14.62, ET68: stats.Interval{Lo: -14.81, Hi: -14.50},
+			ET95: stats.Interval{Lo: -15.02, Hi: -14.37}, Rails: stats.EdgeNone, Limit: math.NaN(), LimitMass: 0.95},
+		{Name: "log10_Gmu", Label: `\log_{10} G\mu`, Rails: stats.EdgeLower, Std: 0.8, Limit: -10.234, LimitMass: 0.95},
+		{Name: "f_bend", Unit: "Hz", Rails: stats.EdgeBoth, LimitMass: 0.95},
 	}
 	tab := SummaryTable(ss, 2)
 	for _, want := range []string{
@@ -168,16 +170,16 @@ func TestComparisonTable(t *testing.T) {
 // standard deviation 0.02 (floor(36.84) / 100 = 0.36).
 func TestLimitTableAndCorner(t *testing.T) {
 	cases := []struct {
-		s           Summary
+		s           stats.Summary
 		table, plot string
 	}{
-		{Summary{Name: "log10_alpha", Label: `\log_{10} \alpha`, Rails: EdgeLower, Std: 1, Limit: -1.68, LimitMass: 0.95},
+		{stats.Summary{Name: "log10_alpha", Label: `\log_{10} \alpha`, Rails: stats.EdgeLower, Std: 1, Limit: -1.68, LimitMass: 0.95},
 			`$< -1$ (95\,\%)`, "< −1"},
-		{Summary{Name: "x", Rails: EdgeUpper, Std: 0.02, Limit: 0.3684, LimitMass: 0.95},
+		{stats.Summary{Name: "x", Rails: stats.EdgeUpper, Std: 0.02, Limit: 0.3684, LimitMass: 0.95},
 			`$> 0.36$ (95\,\%)`, "x > 0.36"},
 	}
 	for _, c := range cases {
-		if tab := SummaryTable([]Summary{c.s}, 2); !strings.Contains(tab, c.table) {
+		if tab := SummaryTable([]stats.Summary{c.s}, 2); !strings.Contains(tab, c.table) {
 			t.Errorf("%s: table lacks %q:\n%s", c.s.Name, c.table, tab)
 		}
 		if got := summaryTitle(c.s); !strings.HasSuffix(got, c.plot) {

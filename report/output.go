@@ -7,11 +7,13 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"os"
 	"path/filepath"
 	"strconv"
 	"strings"
 
 	"tautline/chains"
+	"tautline/stats"
 )
 
 // Metadata identifies the run a product comes from; it is copied into every
@@ -58,6 +60,8 @@ func ffmt(v float64) string {
 	}
 	return strconv.FormatFloat(v, 'g', -1, 64)
 }
+
+func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
 
 // writeFileAtomic writes data to path through chains.WriteFileAtomic
 // (temporary file, fsync, rename), so that readers never see a partial file.
@@ -111,7 +115,7 @@ type intervalJSON struct {
 	Hi Num `json:"hi"`
 }
 
-func ivj(iv Interval) intervalJSON { return intervalJSON{Num(iv.Lo), Num(iv.Hi)} }
+func ivj(iv stats.Interval) intervalJSON { return intervalJSON{Num(iv.Lo), Num(iv.Hi)} }
 
 type summaryJSON struct {
 	Name      string       `json:"name"`
@@ -133,19 +137,8 @@ type summaryJSON struct {
 	LimitMass Num          `json:"limit_mass"`
 }
 
-// LimitKind returns "upper", "lower" or "" for the one-sided limit of s.
-func (s Summary) LimitKind() string {
-	switch s.Rails {
-	case EdgeLower:
-		return "upper"
-	case EdgeUpper:
-		return "lower"
-	}
-	return ""
-}
-
 // WriteSummaries writes summary.csv and summary.json into dir.
-func WriteSummaries(dir string, meta Metadata, ss []Summary) error {
+func WriteSummaries(dir string, meta Metadata, ss []stats.Summary) error {
 	header := []string{"name", "n", "median", "mean", "std", "mode",
 		"et68_lo", "et68_hi", "et95_lo", "et95_hi", "hdi68_lo", "hdi68_hi", "hdi95_lo", "hdi95_hi",
 		"edge_ratio_lo", "edge_ratio_hi", "rails", "limit_kind", "limit", "limit_mass"}
@@ -170,9 +163,43 @@ func WriteSummaries(dir string, meta Metadata, ss []Summary) error {
 	}{meta, js})
 }
 
+// WritePosterior writes the summaries of post and every 1-D and 2-D marginal as CSV and JSON
+// into dir, creating it if needed. progress, when not nil, is called after
+// each file pair.
+func WritePosterior(dir string, meta Metadata, p *stats.Posterior, progress func(done, total int)) error {
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return fmt.Errorf("report: %w", err)
+	}
+	total := 1 + len(p.Marginals) + len(p.Pairs)
+	done := 0
+	step := func() {
+		done++
+		if progress != nil {
+			progress(done, total)
+		}
+	}
+	if err := WriteSummaries(dir, meta, p.Summaries()); err != nil {
+		return err
+	}
+	step()
+	for i, m := range p.Marginals {
+		if err := WriteMarginal1D(dir, meta, p.Params[i].Name, m.Density); err != nil {
+			return err
+		}
+		step()
+	}
+	for _, q := range p.Pairs {
+		if err := WriteMarginal2D(dir, meta, p.Params[q.I].Name, p.Params[q.J].Name, q.Density, p.Masses, q.Levels); err != nil {
+			return err
+		}
+		step()
+	}
+	return nil
+}
+
 // WriteMarginal1D writes marginal1d_<name>.csv (columns x, density) and
 // marginal1d_<name>.json (grid, histogram, bandwidth) into dir.
-func WriteMarginal1D(dir string, meta Metadata, name string, d Density1D) error {
+func WriteMarginal1D(dir string, meta Metadata, name string, d stats.Density1D) error {
 	stem := "marginal1d_" + FileStem(name)
 	rows := make([][]string, len(d.X))
 	for i := range d.X {
@@ -199,7 +226,7 @@ func WriteMarginal1D(dir string, meta Metadata, name string, d Density1D) error 
 // WriteMarginal2D writes marginal2d_<x>__<y>.csv (long format: x, y,
 // density) and marginal2d_<x>__<y>.json (grid, density rows, credible
 // masses and their density levels) into dir.
-func WriteMarginal2D(dir string, meta Metadata, nameX, nameY string, d Density2D, masses, levels []float64) error {
+func WriteMarginal2D(dir string, meta Metadata, nameX, nameY string, d stats.Density2D, masses, levels []float64) error {
 	if len(masses) != len(levels) {
 		return fmt.Errorf("report: %d credible masses but %d levels", len(masses), len(levels))
 	}
@@ -235,7 +262,7 @@ func WriteMarginal2D(dir string, meta Metadata, nameX, nameY string, d Density2D
 }
 
 // WriteExclusion writes exclusion_<y>_vs_<x>.csv and .json into dir.
-func WriteExclusion(dir string, meta Metadata, nameX, nameY string, mass float64, pts []ExclusionPoint) error {
+func WriteExclusion(dir string, meta Metadata, nameX, nameY string, mass float64, pts []stats.ExclusionPoint) error {
 	stem := "exclusion_" + FileStem(nameY) + "_vs_" + FileStem(nameX)
 	rows := make([][]string, len(pts))
 	type ptJSON struct {
@@ -264,7 +291,7 @@ func WriteExclusion(dir string, meta Metadata, nameX, nameY string, mass float64
 
 // WriteSummaryTable writes the LaTeX table of SummaryTable to
 // dir/summary.tex.
-func WriteSummaryTable(dir string, ss []Summary, sig int) error {
+func WriteSummaryTable(dir string, ss []stats.Summary, sig int) error {
 	return writeFileAtomic(filepath.Join(dir, "summary.tex"), []byte(SummaryTable(ss, sig)))
 }
 

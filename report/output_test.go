@@ -9,6 +9,8 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"tautline/stats"
 )
 
 func TestPosteriorWrite(t *testing.T) {
@@ -20,13 +22,13 @@ func TestPosteriorWrite(t *testing.T) {
 		c[i] = 3 + src.NormFloat64()
 	}
 	inf := math.Inf(1)
-	ps := []Param{
+	ps := []stats.Param{
 		{Name: "log10_Gmu", Label: `\log_{10} G\mu`, Bounds: [2]float64{0, 5}, Samples: a},
 		{Name: "beta", Bounds: [2]float64{-inf, inf}, Samples: b},
 		{Name: "odd name/x", Unit: "Hz", Bounds: [2]float64{-inf, inf}, Samples: c},
 	}
 	var calls, last int
-	post, err := Analyze(ps, Options{Two: Options2D{GridPoints: 32}}, func(done, total int) {
+	post, err := stats.Analyze(ps, stats.Options{Two: stats.Options2D{GridPoints: 32}}, func(done, total int) {
 		calls++
 		if done != calls || total != 6 {
 			t.Errorf("progress(%d, %d) at call %d, want (%d, 6)", done, total, calls, calls)
@@ -41,7 +43,7 @@ func TestPosteriorWrite(t *testing.T) {
 	}
 	dir := t.TempDir()
 	meta := Metadata{Run: "sim-1", Model: "strings", Dataset: "simulated", Version: "test"}
-	if err := post.Write(dir, meta, nil); err != nil {
+	if err := WritePosterior(dir, meta, post, nil); err != nil {
 		t.Fatal(err)
 	}
 	// The first parameter rails at 0: its JSON limit is a number and the
@@ -84,7 +86,7 @@ func TestPosteriorWrite(t *testing.T) {
 	if len(ents) != 2+2*3+2*3 {
 		t.Errorf("%d files written, want 14", len(ents))
 	}
-	pts, err := ExclusionCurve(b, a, LinearEdges(-1.5, 1.5, 6), 0.95, 0)
+	pts, err := stats.ExclusionCurve(b, a, stats.LinearEdges(-1.5, 1.5, 6), 0.95, 0)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -130,15 +132,15 @@ func TestAnalyzeErrors(t *testing.T) {
 	inf := [2]float64{math.Inf(-1), math.Inf(1)}
 	for _, c := range []struct {
 		name string
-		ps   []Param
-		o    Options
+		ps   []stats.Param
+		o    stats.Options
 	}{
-		{"no parameters", nil, Options{}},
-		{"length mismatch", []Param{{Name: "a", Bounds: inf, Samples: []float64{1, 2, 3}}, {Name: "b", Bounds: inf, Samples: []float64{1}}}, Options{}},
-		{"unnamed", []Param{{Bounds: inf, Samples: []float64{1, 2, 3}}}, Options{}},
-		{"bad mass", []Param{{Name: "a", Bounds: inf, Samples: []float64{1, 2, 3}}}, Options{Masses: []float64{1.5}}},
+		{"no parameters", nil, stats.Options{}},
+		{"length mismatch", []stats.Param{{Name: "a", Bounds: inf, Samples: []float64{1, 2, 3}}, {Name: "b", Bounds: inf, Samples: []float64{1}}}, stats.Options{}},
+		{"unnamed", []stats.Param{{Bounds: inf, Samples: []float64{1, 2, 3}}}, stats.Options{}},
+		{"bad mass", []stats.Param{{Name: "a", Bounds: inf, Samples: []float64{1, 2, 3}}}, stats.Options{Masses: []float64{1.5}}},
 	} {
-		if _, err := Analyze(c.ps, c.o, nil); err == nil {
+		if _, err := stats.Analyze(c.ps, c.o, nil); err == nil {
 			t.Errorf("%s: no error", c.name)
 		}
 	}

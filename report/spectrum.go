@@ -9,6 +9,8 @@ import (
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
+
+	"tautline/stats"
 )
 
 // A ModelBand is a model's posterior-predictive spectrum: Curves[d][k] is
@@ -53,7 +55,7 @@ func bandQuantiles(m ModelBand) ([5][]float64, error) {
 		}
 		slices.Sort(col)
 		for i, p := range []float64{0.025, 0.16, 0.5, 0.84, 0.975} {
-			q[i][k] = Quantile(col, p)
+			q[i][k] = stats.Quantile(col, p)
 		}
 	}
 	return q, nil
@@ -103,7 +105,7 @@ func SpectrumFigure(stem string, sd SpectrumData, o FigureOptions) ([]string, er
 	}
 	ink := palette(0)
 	for k, s := range sd.BinSamples {
-		d, err := KDE1D(s, sd.BinBounds, Options1D{GridPoints: 96})
+		d, err := stats.KDE1D(s, sd.BinBounds, stats.Options1D{GridPoints: 96})
 		if err != nil {
 			return nil, fmt.Errorf("report: spectrum: bin %d: %w", k, err)
 		}
