@@ -153,13 +153,11 @@ func TestComparisonTable(t *testing.T) {
 	if err := WriteComparison(dir, Metadata{Run: "r"}, rows, "smbhb", 2); err != nil {
 		t.Fatal(err)
 	}
-	var cj struct {
-		Models []map[string]any `json:"models"`
-	}
+	var cj comparisonRead
 	readJSON(t, filepath.Join(dir, "comparison.json"), &cj)
-	if len(cj.Models) != 3 || cj.Models[1]["ln_b"] != 3.0 || cj.Models[1]["ln_b_err"] != math.Hypot(0.2, 0.1) ||
-		cj.Models[0]["ln_b"] != 0.0 || cj.Models[0]["evidence"] != "reference" || cj.Models[2]["evidence"] != "caller's_words" {
-		t.Errorf("comparison.json models: %v", cj.Models)
+	if len(cj.Models) != 3 || !eqPtr(cj.Models[1].LnB, 3) || !eqPtr(cj.Models[1].LnBErr, math.Hypot(0.2, 0.1)) ||
+		!eqPtr(cj.Models[0].LnB, 0) || cj.Models[0].Evidence != "reference" || cj.Models[2].Evidence != "caller's_words" {
+		t.Errorf("comparison.json models: %+v", cj.Models)
 	}
 }
 

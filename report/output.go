@@ -75,7 +75,13 @@ func writeFileAtomic(path string, data []byte) error {
 	return nil
 }
 
-func writeJSON(path string, v any) error {
+// jsonFile is the set of layouts writeJSON accepts: every JSON file of the
+// report is one of these typed structs.
+type jsonFile interface {
+	summaryFile | marginal1DFile | marginal2DFile | exclusionFile | comparisonFile
+}
+
+func writeJSON[T jsonFile](path string, v T) error {
 	b, err := json.MarshalIndent(v, "", "  ")
 	if err != nil {
 		return fmt.Errorf("report: encoding %s: %w", path, err)
@@ -157,10 +163,7 @@ func WriteSummaries(dir string, meta Metadata, ss []stats.Summary) error {
 	if err := writeCSV(filepath.Join(dir, "summary.csv"), header, rows); err != nil {
 		return err
 	}
-	return writeJSON(filepath.Join(dir, "summary.json"), struct {
-		Meta       Metadata      `json:"metadata"`
-		Parameters []summaryJSON `json:"parameters"`
-	}{meta, js})
+	return writeJSON(filepath.Join(dir, "summary.json"), summaryFile{meta, js})
 }
 
 // WritePosterior writes the summaries of post and every 1-D and 2-D marginal as CSV and JSON
@@ -208,19 +211,7 @@ func WriteMarginal1D(dir string, meta Metadata, name string, d stats.Density1D) 
 	if err := writeCSV(filepath.Join(dir, stem+".csv"), []string{"x", "density"}, rows); err != nil {
 		return err
 	}
-	return writeJSON(filepath.Join(dir, stem+".json"), struct {
-		Meta      Metadata `json:"metadata"`
-		Name      string   `json:"name"`
-		X         []Num    `json:"x"`
-		Density   []Num    `json:"density"`
-		Bandwidth Num      `json:"bandwidth"`
-		Rule      string   `json:"bandwidth_rule"`
-		Reflect   [2]bool  `json:"reflected_at_bounds"`
-		Edges     []Num    `json:"histogram_edges"`
-		Hist      []Num    `json:"histogram_density"`
-		N         int      `json:"n"`
-		Dropped   int      `json:"dropped"`
-	}{meta, name, nums(d.X), nums(d.P), Num(d.Bandwidth), d.Rule, d.Reflect, nums(d.Edges), nums(d.Hist), d.N, d.Dropped})
+	return writeJSON(filepath.Join(dir, stem+".json"), marginal1DFile{meta, name, nums(d.X), nums(d.P), Num(d.Bandwidth), d.Rule, d.Reflect, nums(d.Edges), nums(d.Hist), d.N, d.Dropped})
 }
 
 // WriteMarginal2D writes marginal2d_<x>__<y>.csv (long format: x, y,
@@ -243,20 +234,7 @@ func WriteMarginal2D(dir string, meta Metadata, nameX, nameY string, d stats.Den
 	if err := writeCSV(filepath.Join(dir, stem+".csv"), []string{"x", "y", "density"}, rows); err != nil {
 		return err
 	}
-	return writeJSON(filepath.Join(dir, stem+".json"), struct {
-		Meta    Metadata   `json:"metadata"`
-		NameX   string     `json:"x_name"`
-		NameY   string     `json:"y_name"`
-		GX      []Num      `json:"x"`
-		GY      []Num      `json:"y"`
-		Density [][]Num    `json:"density_rows"`
-		H       [3]Num     `json:"kernel_covariance_xx_xy_yy"`
-		Rule    string     `json:"bandwidth_rule"`
-		Reflect [2][2]bool `json:"reflected_at_bounds"`
-		Masses  []Num      `json:"credible_masses"`
-		Levels  []Num      `json:"density_levels"`
-		N       int        `json:"n"`
-	}{Meta: meta, NameX: nameX, NameY: nameY, GX: nums(d.X), GY: nums(d.Y), Density: grid,
+	return writeJSON(filepath.Join(dir, stem+".json"), marginal2DFile{Meta: meta, NameX: nameX, NameY: nameY, GX: nums(d.X), GY: nums(d.Y), Density: grid,
 		H: [3]Num{Num(d.H[0]), Num(d.H[1]), Num(d.H[2])}, Rule: d.Rule, Reflect: d.Reflect,
 		Masses: nums(masses), Levels: nums(levels), N: d.N})
 }
@@ -265,28 +243,15 @@ func WriteMarginal2D(dir string, meta Metadata, nameX, nameY string, d stats.Den
 func WriteExclusion(dir string, meta Metadata, nameX, nameY string, mass float64, pts []stats.ExclusionPoint) error {
 	stem := "exclusion_" + FileStem(nameY) + "_vs_" + FileStem(nameX)
 	rows := make([][]string, len(pts))
-	type ptJSON struct {
-		X     Num `json:"x"`
-		Lo    Num `json:"slice_lo"`
-		Hi    Num `json:"slice_hi"`
-		N     int `json:"n"`
-		Limit Num `json:"limit"`
-	}
-	js := make([]ptJSON, len(pts))
+	js := make([]slicePointJSON, len(pts))
 	for i, p := range pts {
 		rows[i] = []string{ffmt(p.X), ffmt(p.Lo), ffmt(p.Hi), strconv.Itoa(p.N), ffmt(p.Limit)}
-		js[i] = ptJSON{Num(p.X), Num(p.Lo), Num(p.Hi), p.N, Num(p.Limit)}
+		js[i] = slicePointJSON{Num(p.X), Num(p.Lo), Num(p.Hi), p.N, Num(p.Limit)}
 	}
 	if err := writeCSV(filepath.Join(dir, stem+".csv"), []string{"x", "slice_lo", "slice_hi", "n", "limit"}, rows); err != nil {
 		return err
 	}
-	return writeJSON(filepath.Join(dir, stem+".json"), struct {
-		Meta   Metadata `json:"metadata"`
-		NameX  string   `json:"x_name"`
-		NameY  string   `json:"y_name"`
-		Mass   Num      `json:"limit_mass"`
-		Points []ptJSON `json:"slices"`
-	}{meta, nameX, nameY, Num(mass), js})
+	return writeJSON(filepath.Join(dir, stem+".json"), exclusionFile{meta, nameX, nameY, Num(mass), js})
 }
 
 // WriteSummaryTable writes the LaTeX table of SummaryTable to
@@ -303,7 +268,80 @@ func WriteComparison(dir string, meta Metadata, rows []Evidence, reference strin
 	if err != nil {
 		return err
 	}
-	type rowJSON struct {
+	js := make([]comparisonRowJSON, len(rows))
+	recs := make([][]string, len(rows))
+	for i, r := range rows {
+		b, e, v := r.LnB, r.LnBErr, r.Reading
+		if r.Model == reference {
+			b, e, v = 0, 0, "reference"
+		}
+		js[i] = comparisonRowJSON{r.Model, Num(r.LnZTI), Num(r.LnZTIErr), Num(r.LnZSS), Num(r.LnZSSErr), Num(b), Num(e), v}
+		recs[i] = []string{r.Model, ffmt(r.LnZTI), ffmt(r.LnZTIErr), ffmt(r.LnZSS), ffmt(r.LnZSSErr), ffmt(b), ffmt(e), v}
+	}
+	if err := writeCSV(filepath.Join(dir, "comparison.csv"),
+		[]string{"model", "ln_z_ti", "ln_z_ti_err", "ln_z_ss", "ln_z_ss_err", "ln_b", "ln_b_err", "evidence"}, recs); err != nil {
+		return err
+	}
+	if err := writeJSON(filepath.Join(dir, "comparison.json"), comparisonFile{meta, reference, js}); err != nil {
+		return err
+	}
+	return writeFileAtomic(filepath.Join(dir, "comparison.tex"), []byte(tex))
+}
+
+// The layouts of the JSON files. Field order is the order in the files.
+type (
+	// summaryFile is summary.json.
+	summaryFile struct {
+		Meta       Metadata      `json:"metadata"`
+		Parameters []summaryJSON `json:"parameters"`
+	}
+	// marginal1DFile is marginal1d_<name>.json.
+	marginal1DFile struct {
+		Meta      Metadata `json:"metadata"`
+		Name      string   `json:"name"`
+		X         []Num    `json:"x"`
+		Density   []Num    `json:"density"`
+		Bandwidth Num      `json:"bandwidth"`
+		Rule      string   `json:"bandwidth_rule"`
+		Reflect   [2]bool  `json:"reflected_at_bounds"`
+		Edges     []Num    `json:"histogram_edges"`
+		Hist      []Num    `json:"histogram_density"`
+		N         int      `json:"n"`
+		Dropped   int      `json:"dropped"`
+	}
+	// marginal2DFile is marginal2d_<x>__<y>.json.
+	marginal2DFile struct {
+		Meta    Metadata   `json:"metadata"`
+		NameX   string     `json:"x_name"`
+		NameY   string     `json:"y_name"`
+		GX      []Num      `json:"x"`
+		GY      []Num      `json:"y"`
+		Density [][]Num    `json:"density_rows"`
+		H       [3]Num     `json:"kernel_covariance_xx_xy_yy"`
+		Rule    string     `json:"bandwidth_rule"`
+		Reflect [2][2]bool `json:"reflected_at_bounds"`
+		Masses  []Num      `json:"credible_masses"`
+		Levels  []Num      `json:"density_levels"`
+		N       int        `json:"n"`
+	}
+	// slicePointJSON is one slice of an exclusion curve.
+	slicePointJSON struct {
+		X     Num `json:"x"`
+		Lo    Num `json:"slice_lo"`
+		Hi    Num `json:"slice_hi"`
+		N     int `json:"n"`
+		Limit Num `json:"limit"`
+	}
+	// exclusionFile is exclusion_<y>_vs_<x>.json.
+	exclusionFile struct {
+		Meta   Metadata         `json:"metadata"`
+		NameX  string           `json:"x_name"`
+		NameY  string           `json:"y_name"`
+		Mass   Num              `json:"limit_mass"`
+		Points []slicePointJSON `json:"slices"`
+	}
+	// comparisonRowJSON is one model of comparison.json.
+	comparisonRowJSON struct {
 		Model    string `json:"model"`
 		LnZTI    Num    `json:"ln_z_ti"`
 		LnZTIErr Num    `json:"ln_z_ti_err"`
@@ -313,26 +351,10 @@ func WriteComparison(dir string, meta Metadata, rows []Evidence, reference strin
 		LnBErr   Num    `json:"ln_b_err"`
 		Verdict  string `json:"evidence"`
 	}
-	js := make([]rowJSON, len(rows))
-	recs := make([][]string, len(rows))
-	for i, r := range rows {
-		b, e, v := r.LnB, r.LnBErr, r.Reading
-		if r.Model == reference {
-			b, e, v = 0, 0, "reference"
-		}
-		js[i] = rowJSON{r.Model, Num(r.LnZTI), Num(r.LnZTIErr), Num(r.LnZSS), Num(r.LnZSSErr), Num(b), Num(e), v}
-		recs[i] = []string{r.Model, ffmt(r.LnZTI), ffmt(r.LnZTIErr), ffmt(r.LnZSS), ffmt(r.LnZSSErr), ffmt(b), ffmt(e), v}
+	// comparisonFile is comparison.json.
+	comparisonFile struct {
+		Meta      Metadata            `json:"metadata"`
+		Reference string              `json:"reference"`
+		Models    []comparisonRowJSON `json:"models"`
 	}
-	if err := writeCSV(filepath.Join(dir, "comparison.csv"),
-		[]string{"model", "ln_z_ti", "ln_z_ti_err", "ln_z_ss", "ln_z_ss_err", "ln_b", "ln_b_err", "evidence"}, recs); err != nil {
-		return err
-	}
-	if err := writeJSON(filepath.Join(dir, "comparison.json"), struct {
-		Meta      Metadata  `json:"metadata"`
-		Reference string    `json:"reference"`
-		Models    []rowJSON `json:"models"`
-	}{meta, reference, js}); err != nil {
-		return err
-	}
-	return writeFileAtomic(filepath.Join(dir, "comparison.tex"), []byte(tex))
-}
+)

@@ -49,15 +49,18 @@ func TestPosteriorWrite(t *testing.T) {
 	// The first parameter rails at 0: its JSON limit is a number and the
 	// second one's (no rail) is null, as NaN cannot be encoded in JSON.
 	var sj struct {
-		Meta       Metadata         `json:"metadata"`
-		Parameters []map[string]any `json:"parameters"`
+		Meta       Metadata `json:"metadata"`
+		Parameters []struct {
+			LimitKind string   `json:"limit_kind"`
+			Limit     *float64 `json:"limit"`
+		} `json:"parameters"`
 	}
 	readJSON(t, filepath.Join(dir, "summary.json"), &sj)
 	if sj.Meta.Run != meta.Run || sj.Meta.Version != meta.Version || sj.Meta.Dataset != meta.Dataset {
 		t.Errorf("metadata %+v, want %+v", sj.Meta, meta)
 	}
-	if len(sj.Parameters) != 3 || sj.Parameters[0]["limit_kind"] != "upper" || sj.Parameters[1]["limit"] != nil {
-		t.Errorf("summary.json parameters: %v", sj.Parameters)
+	if len(sj.Parameters) != 3 || sj.Parameters[0].LimitKind != "upper" || sj.Parameters[0].Limit == nil || sj.Parameters[1].Limit != nil {
+		t.Errorf("summary.json parameters: %+v", sj.Parameters)
 	}
 	var mj struct {
 		Levels []float64   `json:"density_levels"`
@@ -104,13 +107,11 @@ func TestPosteriorWrite(t *testing.T) {
 	if err := WriteComparison(dir, meta, rows, "a", 2); err != nil {
 		t.Fatal(err)
 	}
-	var cj struct {
-		Models []map[string]any `json:"models"`
-	}
+	var cj comparisonRead
 	readJSON(t, filepath.Join(dir, "comparison.json"), &cj)
 	// The row's given ln B and reading are written; the missing SS is null.
-	if len(cj.Models) != 2 || cj.Models[1]["ln_b"] != 2.0 || cj.Models[1]["evidence"] != "positive" || cj.Models[0]["ln_z_ss"] != nil {
-		t.Errorf("comparison.json models: %v", cj.Models)
+	if len(cj.Models) != 2 || !eqPtr(cj.Models[1].LnB, 2) || cj.Models[1].Evidence != "positive" || cj.Models[0].LnZSS != nil {
+		t.Errorf("comparison.json models: %+v", cj.Models)
 	}
 	if err := WriteSummaries(filepath.Join(dir, "missing", "deeper"), meta, nil); err == nil {
 		t.Error("writing into a missing directory did not fail")
@@ -145,3 +146,17 @@ func TestAnalyzeErrors(t *testing.T) {
 		}
 	}
 }
+
+// comparisonRead reads comparison.json back; pointers tell null from 0.
+type comparisonRead struct {
+	Models []struct {
+		LnB      *float64 `json:"ln_b"`
+		LnBErr   *float64 `json:"ln_b_err"`
+		LnZSS    *float64 `json:"ln_z_ss"`
+		Evidence string   `json:"evidence"`
+	} `json:"models"`
+}
+
+// eqPtr reports whether p holds exactly v (a value written by
+// strconv.FormatFloat(v, 'g', -1) reads back exactly).
+func eqPtr(p *float64, v float64) bool { return p != nil && *p == v }
