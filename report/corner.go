@@ -5,7 +5,6 @@ import (
 	"image"
 	"image/color"
 	"math"
-	"strings"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
@@ -92,50 +91,6 @@ func axisRange(d *stats.Density1D) [2]float64 {
 	return [2]float64{math.Max(a-w, d.X[0]), math.Min(b+w, d.X[len(d.X)-1])}
 }
 
-// plainAsym formats v with errors for a figure title, e.g. "−7.52 +0.31/−0.45".
-func plainAsym(v, plus, minus float64) string {
-	if !(plus > 0 && minus > 0) || !finite(v) {
-		return fmt.Sprintf("%.3g", v)
-	}
-	d := decimalsFor(math.Min(plus, minus), 2)
-	if d > 8 || d < -8 {
-		return fmt.Sprintf("%.3g +%.2g/−%.2g", v, plus, minus)
-	}
-	return minusSign(fixed(v, d)) + " +" + fixed(plus, d) + "/−" + fixed(minus, d)
-}
-
-func minusSign(s string) string {
-	if len(s) > 0 && s[0] == '-' {
-		return "−" + s[1:]
-	}
-	return s
-}
-
-// plainLimit turns FormatLimit's "< -1.6" into plain text with a true
-// minus sign after the relation.
-func plainLimit(s string) string {
-	rel, num, _ := strings.Cut(PlainLabel(s), " ")
-	return rel + " " + minusSign(num)
-}
-
-// summaryTitle is the text above a diagonal panel of the corner figure.
-func summaryTitle(s stats.Summary) string {
-	name := PlainLabel(s.Label)
-	if name == "" {
-		name = s.Name
-	}
-	scale := s.Std
-	switch s.Rails {
-	case stats.EdgeLower:
-		return name + " " + plainLimit(FormatLimit(s.Limit, scale, true, 2))
-	case stats.EdgeUpper:
-		return name + " " + plainLimit(FormatLimit(s.Limit, scale, false, 2))
-	case stats.EdgeBoth:
-		return name + " unconstrained"
-	}
-	return name + " = " + plainAsym(s.Median, s.ET68.Hi-s.Median, s.Median-s.ET68.Lo)
-}
-
 // vline is a vertical (or, with horiz, horizontal) line across the panel.
 type vline struct {
 	at    float64
@@ -216,11 +171,7 @@ func diagonalPlot(m *stats.Marginal1D, xr [2]float64, truth float64) (*plot.Plot
 	_, pk := d.Peak()
 	p.X.Min, p.X.Max = xr[0], xr[1]
 	p.Y.Min, p.Y.Max = 0, 1.08*pk
-	p.Y.Tick.Marker = blankTicks{plot.DefaultTicks{}}
-	p.Title.Text = summaryTitle(m.Summary)
-	p.Title.TextStyle.Font = p.X.Tick.Label.Font
-	p.Title.TextStyle.Color = inkColour
-	p.Title.Padding = vg.Points(2)
+	p.Y.Tick.Marker = blankTicks{linearTicks{}}
 	return p, nil
 }
 
@@ -291,12 +242,20 @@ func minMaxGrid(g gridWindow) (lo, hi float64) {
 // truths, when not nil, holds a true (injected) value per parameter, NaN
 // for none. progress, when not nil, is called after each panel.
 func CornerFigure(stem string, post *stats.Posterior, truths []float64, o FigureOptions, progress func(done, total int)) ([]string, error) {
+	fig, err := cornerFigure(post, truths, progress)
+	if err != nil {
+		return nil, err
+	}
+	return saveFigures(stem, fig, o)
+}
+
+func cornerFigure(post *stats.Posterior, truths []float64, progress func(done, total int)) (figure, error) {
 	n := len(post.Params)
 	if n == 0 || len(post.Marginals) != n || len(post.Pairs) != n*(n-1)/2 {
-		return nil, fmt.Errorf("report: corner: posterior has %d parameters, %d marginals and %d pairs", n, len(post.Marginals), len(post.Pairs))
+		return figure{}, fmt.Errorf("report: corner: posterior has %d parameters, %d marginals and %d pairs", n, len(post.Marginals), len(post.Pairs))
 	}
 	if truths != nil && len(truths) != n {
-		return nil, fmt.Errorf("report: corner: %d true values for %d parameters", len(truths), n)
+		return figure{}, fmt.Errorf("report: corner: %d true values for %d parameters", len(truths), n)
 	}
 	truth := func(i int) float64 {
 		if truths == nil {
@@ -317,25 +276,26 @@ func CornerFigure(stem string, post *stats.Posterior, truths []float64, o Figure
 			if r == c {
 				var err error
 				if p, err = diagonalPlot(&post.Marginals[r], ranges[r], truth(r)); err != nil {
-					return nil, err
+					return figure{}, err
 				}
 			} else {
 				q := post.Pair(c, r)
 				if q == nil {
-					return nil, fmt.Errorf("report: corner: missing pair (%d, %d)", c, r)
+					return figure{}, fmt.Errorf("report: corner: missing pair (%d, %d)", c, r)
 				}
 				p = pairPlot(q, ranges[c], ranges[r], truth(c), truth(r))
 				if r > 0 && c == 0 {
 					p.Y.Label.Text = AxisLabel(labelOr(post.Params[r]), post.Params[r].Unit)
 				} else {
-					p.Y.Tick.Marker = blankTicks{plot.DefaultTicks{}}
+					p.Y.Tick.Marker = blankTicks{linearTicks{}}
 				}
 			}
 			if r == n-1 {
 				p.X.Label.Text = AxisLabel(labelOr(post.Params[c]), post.Params[c].Unit)
 			} else {
-				p.X.Tick.Marker = blankTicks{plot.DefaultTicks{}}
+				p.X.Tick.Marker = blankTicks{linearTicks{}}
 			}
+			factorPowers(p)
 			plots[r][c] = p
 			done++
 			if progress != nil {
@@ -349,14 +309,33 @@ func CornerFigure(stem string, post *stats.Posterior, truths []float64, o Figure
 	}
 	tiles := draw.Tiles{Rows: n, Cols: n, PadX: vg.Points(3), PadY: vg.Points(3),
 		PadLeft: vg.Points(4), PadRight: vg.Points(6), PadTop: vg.Points(4), PadBottom: vg.Points(4)}
-	return saveFigures(stem, size, size, o, func(dc draw.Canvas) {
+	rows := summaryRows(post)
+	return figure{size, size, func(dc draw.Canvas) {
+		var strip vg.Rectangle
+		if n == 1 {
+			// No empty panel: the summary takes a strip along the top.
+			_, h := summaryTableSize(rows, tickSize)
+			strip = dc.Rectangle
+			strip.Min.Y = strip.Max.Y - h - vg.Points(8)
+			dc = draw.Crop(dc, 0, 0, 0, -(h + vg.Points(8)))
+		}
 		cv := plot.Align(plots, tiles, dc)
 		for r := range n {
 			for c := 0; c <= r; c++ {
 				plots[r][c].Draw(cv[r][c])
 			}
 		}
-	})
+		if n > 1 {
+			// The largest block of empty panels in the upper triangle:
+			// rows 0..a-1, columns a..n-1.
+			a := n / 2
+			strip = vg.Rectangle{
+				Min: vg.Point{X: cv[0][a].Min.X, Y: cv[a-1][n-1].Min.Y},
+				Max: vg.Point{X: cv[0][n-1].Max.X, Y: cv[0][n-1].Max.Y},
+			}
+		}
+		drawSummaryTable(dc, strip, rows)
+	}}, nil
 }
 
 func labelOr(p stats.Param) string {

@@ -192,8 +192,8 @@ func TestFigures(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	checkPNG(t, files[0], ColumnWidth, 2.4*vg.Inch)
-	checkSVG(t, files[1], ColumnWidth, 2.4*vg.Inch)
+	checkPNG(t, files[0], ColumnWidth, 2.6*vg.Inch)
+	checkSVG(t, files[1], ColumnWidth, 2.6*vg.Inch)
 
 	// Traces: two parameters, eight walkers.
 	var tr []Trace
@@ -233,7 +233,7 @@ func TestFigureErrors(t *testing.T) {
 	if _, err := CornerFigure(filepath.Join(dir, "c"), &stats.Posterior{}, nil, o, nil); err == nil {
 		t.Error("empty posterior did not fail")
 	}
-	if _, err := saveFigures(filepath.Join(dir, "x"), vg.Inch, vg.Inch, FigureOptions{Formats: []string{"gif"}}, nil); err == nil {
+	if _, err := saveFigures(filepath.Join(dir, "x"), figure{vg.Inch, vg.Inch, nil}, FigureOptions{Formats: []string{"gif"}}); err == nil {
 		t.Error("unknown format did not fail")
 	}
 	ents, _ := os.ReadDir(dir)
@@ -262,14 +262,21 @@ func TestPlainLabel(t *testing.T) {
 			t.Errorf("PlainLabel(%q) = %q, want %q", c.in, got, c.want)
 		}
 	}
-	if got := AxisLabel(`\log_{10} \rho`, "s"); got != "log₁₀ ρ [s]" {
-		t.Errorf("AxisLabel = %q", got)
+	for _, c := range []struct{ label, unit, want string }{
+		{`\log_{10} \rho`, "s", `$\log_{10} \rho$ [s]`},
+		{`$\gamma$`, "", `$\gamma$`},
+		{"", "Hz", "[Hz]"},
+	} {
+		if got := AxisLabel(c.label, c.unit); got != c.want {
+			t.Errorf("AxisLabel(%q, %q) = %q, want %q", c.label, c.unit, got, c.want)
+		}
 	}
 }
 
 func TestLogTicks(t *testing.T) {
 	// Over 2e-9..3e-8 (1.2 decades) the labelled ticks are 3e-9, 1e-8 and
-	// 3e-8 by logTicks' rule; every tick lies in range.
+	// 3e-8 by logTicks' rule, written as TeX powers of ten; every tick
+	// lies in range.
 	var labels []string
 	for _, tk := range (logTicks{}).Ticks(2e-9, 3e-8) {
 		if tk.Value < 2e-9*(1-1e-9) || tk.Value > 3e-8*(1+1e-9) {
@@ -279,7 +286,7 @@ func TestLogTicks(t *testing.T) {
 			labels = append(labels, tk.Label)
 		}
 	}
-	if got := strings.Join(labels, ","); got != "3e-9,1e-8,3e-8" {
+	if got := strings.Join(labels, ","); got != `$3\times 10^{-9}$,$10^{-8}$,$3\times 10^{-8}$` {
 		t.Errorf("labels %s", got)
 	}
 	if (logTicks{}).Ticks(-1, 1) != nil {

@@ -162,26 +162,34 @@ func TestComparisonTable(t *testing.T) {
 }
 
 // TestLimitTableAndCorner checks that the summary table and the corner
-// figure's panel title print the same outward-rounded limit: a 95 % upper
-// limit of -1.68 on a posterior of standard deviation 1 (the review's case,
-// worked by hand: ceil(-1.68) = -1) and a lower limit of 0.3684 with
-// standard deviation 0.02 (floor(36.84) / 100 = 0.36).
+// figure's summary table print the same outward-rounded limit: a 95 %
+// upper limit of -1.68 on a posterior of standard deviation 1 (the
+// review's case, worked by hand: ceil(-1.68) = -1) and a lower limit of
+// 0.3684 with standard deviation 0.02 (floor(36.84) / 100 = 0.36); and
+// that a two-sided summary shows the median and 68 % interval rounded as
+// FormatAsym rounds them.
 func TestLimitTableAndCorner(t *testing.T) {
 	cases := []struct {
-		s           stats.Summary
-		table, plot string
+		s     stats.Summary
+		table string
+		cells [3]string
 	}{
 		{stats.Summary{Name: "log10_alpha", Label: `\log_{10} \alpha`, Rails: stats.EdgeLower, Std: 1, Limit: -1.68, LimitMass: 0.95},
-			`$< -1$ (95\,\%)`, "< −1"},
+			`$< -1$ (95\,\%)`, [3]string{`$\log_{10} \alpha$`, `$< -1$`, "95 % upper limit"}},
 		{stats.Summary{Name: "x", Rails: stats.EdgeUpper, Std: 0.02, Limit: 0.3684, LimitMass: 0.95},
-			`$> 0.36$ (95\,\%)`, "x > 0.36"},
+			`$> 0.36$ (95\,\%)`, [3]string{"x", `$> 0.36$`, "95 % lower limit"}},
+		{stats.Summary{Name: "log10_A", Label: `\log_{10} A`, Median: -14.62, ET68: stats.Interval{Lo: -14.81, Hi: -14.50},
+			ET95: stats.Interval{Lo: -15.02, Hi: -14.37}, Limit: math.NaN(), LimitMass: 0.95},
+			`$-14.62^{+0.12}_{-0.19}$`, [3]string{`$\log_{10} A$`, `$-14.62$`, `$[-14.81, -14.50]$`}},
+		{stats.Summary{Name: "f", Unit: "Hz", Median: 2.5e-9, ET68: stats.Interval{Lo: 2.31e-9, Hi: 2.74e-9}, LimitMass: 0.95},
+			``, [3]string{"f [Hz]", `$2.50\times 10^{-9}$`, `$[2.31, 2.74]\times 10^{-9}$`}},
 	}
 	for _, c := range cases {
 		if tab := SummaryTable([]stats.Summary{c.s}, 2); !strings.Contains(tab, c.table) {
 			t.Errorf("%s: table lacks %q:\n%s", c.s.Name, c.table, tab)
 		}
-		if got := summaryTitle(c.s); !strings.HasSuffix(got, c.plot) {
-			t.Errorf("%s: corner title %q, want suffix %q", c.s.Name, got, c.plot)
+		if got := summaryCells(c.s); got != c.cells {
+			t.Errorf("%s: corner cells %q, want %q", c.s.Name, got, c.cells)
 		}
 	}
 }

@@ -83,13 +83,21 @@ func band(f, lo, hi []float64) plotter.XYs {
 // predictive bands and median line. It writes stem.png and stem.svg (and
 // stem.pdf when asked), one column wide.
 func SpectrumFigure(stem string, sd SpectrumData, o FigureOptions) ([]string, error) {
+	fig, err := spectrumFigure(sd)
+	if err != nil {
+		return nil, err
+	}
+	return saveFigures(stem, fig, o)
+}
+
+func spectrumFigure(sd SpectrumData) (figure, error) {
 	nb := len(sd.Freq)
 	if nb == 0 || len(sd.BinSamples) != nb {
-		return nil, fmt.Errorf("report: spectrum: %d frequencies but %d bins of samples", nb, len(sd.BinSamples))
+		return figure{}, fmt.Errorf("report: spectrum: %d frequencies but %d bins of samples", nb, len(sd.BinSamples))
 	}
 	for k, f := range sd.Freq {
 		if !(f > 0) || (k > 0 && !(f > sd.Freq[k-1])) {
-			return nil, fmt.Errorf("report: spectrum: frequency[%d] = %g: must be > 0 and increasing", k, f)
+			return figure{}, fmt.Errorf("report: spectrum: frequency[%d] = %g: must be > 0 and increasing", k, f)
 		}
 	}
 	p := newPlot()
@@ -107,7 +115,7 @@ func SpectrumFigure(stem string, sd SpectrumData, o FigureOptions) ([]string, er
 	for k, s := range sd.BinSamples {
 		d, err := stats.KDE1D(s, sd.BinBounds, stats.Options1D{GridPoints: 96})
 		if err != nil {
-			return nil, fmt.Errorf("report: spectrum: bin %d: %w", k, err)
+			return figure{}, fmt.Errorf("report: spectrum: bin %d: %w", k, err)
 		}
 		_, pk := d.Peak()
 		lf := math.Log10(sd.Freq[k])
@@ -124,7 +132,7 @@ func SpectrumFigure(stem string, sd SpectrumData, o FigureOptions) ([]string, er
 		}
 		pg, err := plotter.NewPolygon(xy)
 		if err != nil {
-			return nil, fmt.Errorf("report: spectrum: bin %d: %w", k, err)
+			return figure{}, fmt.Errorf("report: spectrum: bin %d: %w", k, err)
 		}
 		pg.Color = gridColour
 		pg.LineStyle = draw.LineStyle{Color: ink.line, Width: vg.Points(0.4)}
@@ -134,17 +142,17 @@ func SpectrumFigure(stem string, sd SpectrumData, o FigureOptions) ([]string, er
 	var lines []plot.Plotter
 	for i, m := range sd.Models {
 		if len(m.Curves) == 0 || len(m.Freq) == 0 {
-			return nil, fmt.Errorf("report: spectrum: model %q has no curves", m.Name)
+			return figure{}, fmt.Errorf("report: spectrum: model %q has no curves", m.Name)
 		}
 		q, err := bandQuantiles(m)
 		if err != nil {
-			return nil, err
+			return figure{}, err
 		}
 		s := palette(i + 1)
 		for j, pair := range [][2]int{{0, 4}, {1, 3}} {
 			pg, err := plotter.NewPolygon(band(m.Freq, q[pair[0]], q[pair[1]]))
 			if err != nil {
-				return nil, fmt.Errorf("report: spectrum: model %q: %w", m.Name, err)
+				return figure{}, fmt.Errorf("report: spectrum: model %q: %w", m.Name, err)
 			}
 			pg.LineStyle.Width = 0
 			pg.Color = s.fillLight
@@ -161,7 +169,7 @@ func SpectrumFigure(stem string, sd SpectrumData, o FigureOptions) ([]string, er
 		}
 		ln, err := plotter.NewLine(med)
 		if err != nil {
-			return nil, fmt.Errorf("report: spectrum: model %q: %w", m.Name, err)
+			return figure{}, fmt.Errorf("report: spectrum: model %q: %w", m.Name, err)
 		}
 		ln.LineStyle = draw.LineStyle{Color: s.line, Width: vg.Points(1.1), Dashes: s.dash}
 		lines = append(lines, ln)
@@ -184,5 +192,6 @@ func SpectrumFigure(stem string, sd SpectrumData, o FigureOptions) ([]string, er
 	p.Legend.XOffs = vg.Points(4)
 	p.Legend.YOffs = vg.Points(4)
 	p.Legend.ThumbnailWidth = vg.Points(16)
-	return saveFigures(stem, ColumnWidth, 2.6*vg.Inch, o, func(dc draw.Canvas) { p.Draw(dc) })
+	factorPowers(p)
+	return figure{ColumnWidth, 2.6 * vg.Inch, func(dc draw.Canvas) { p.Draw(dc) }}, nil
 }

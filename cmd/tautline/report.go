@@ -672,7 +672,7 @@ func (w *reportWriter) writeExclusion(dir string, meta report.Metadata, m *repor
 		w.lg.WithField("model", m.name).Warnf("exclusion curve: no slice of %s holds enough samples for a limit; no figure", reportExclX)
 		return nil
 	}
-	w.excl = append(w.excl, report.NamedExclusion{Name: m.name, Points: pts})
+	w.excl = append(w.excl, report.NamedExclusion{Name: m.name, Points: pts, Mass: w.o.limitMass, Prior: m.priors[iy]})
 	w.exclTop = y.Bounds[1]
 	w.exclLbl = [2]string{report.AxisLabel(reportLabel(x.Label, x.Name), x.Unit), report.AxisLabel(reportLabel(y.Label, y.Name), y.Unit)}
 	return nil
