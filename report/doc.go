@@ -21,6 +21,12 @@
 //
 // Every file is written atomically (temporary file, then rename) so that a
 // failed report leaves no half-written file. Figures are sized for a journal
-// column (3.4 in) or page (7 in) with 7-8.5 pt type; series differ in
-// lightness and dash as well as hue so that they survive greyscale printing.
+// column (3.4 in) or page (7 in) with 7-8.5 pt sans-serif type; labels are
+// TeX math (AxisLabel) typeset with sub- and superscripts, Greek letters and
+// math italics by the figures' own text handler; every linear axis labels
+// its ticks by one rule (tickLabels), with a common power of ten moved into
+// the axis label; series differ in lightness and dash as well as hue so
+// that they survive greyscale printing. The corner figure quotes each
+// parameter's median and 68 % interval, or its one-sided limit, in a table
+// in its empty upper triangle.
 package report

@@ -322,7 +322,7 @@ func TestTextHandler(t *testing.T) {
 		{`$x_a^b$`, "xab", func(r []glyphRun) bool { return len(r) == 3 && r[1].dx == r[2].dx && r[1].dy < 0 && r[2].dy > 0 }},
 		{`$f_\mathrm{bend}$ [Hz]`, "fbend [Hz]", func(r []glyphRun) bool { return r[1].s == "bend" && !r[1].italic && r[1].dy < 0 }},
 		{`$\Omega_{\rm GW}$`, "ΩGW", func(r []glyphRun) bool { return !r[0].italic && r[1].s == "GW" }},
-		{`$-3\times 10^{-9}$`, "−3× 10−9", func(r []glyphRun) bool { return r[len(r)-1].dy > 0 && r[len(r)-1].s == "−9" }},
+		{`$-3\times 10^{-9}$`, "−3×10−9", func(r []glyphRun) bool { return r[len(r)-1].dy > 0 && r[len(r)-1].s == "−9" }},
 		{`plain_text $`, "plain_text ", nil},
 		{`$\frac{1}{2$ \unknown {`, "frac12 \\unknown {", nil},
 		{`$^^__{{}}\$`, "", nil}, // every $ delimits math, escaped or not

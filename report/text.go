@@ -262,6 +262,11 @@ func (l *texLayout) math(s string, scale float64, dy vg.Length, upright bool) {
 				sym = name
 			}
 			l.emit(sym, ok && italicSymbol(name), scale, dy)
+			if name == "times" || name == "cdot" || name == "pm" {
+				for i < len(s) && s[i] == ' ' {
+					i++ // an operator sets its own spacing: 3\times 10 is "3×10"
+				}
+			}
 		case c == '{':
 			arg, n := scriptArg(s[i:])
 			l.math(arg, scale, dy, upright)
