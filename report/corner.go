@@ -5,22 +5,23 @@ import (
 	"image"
 	"image/color"
 	"math"
-	"strings"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
+
+	"tautline/stats"
 )
 
 // gridWindow presents the part of a Density2D inside an axis window as a
 // plotter.GridXYZ, so that contours stay inside their panel.
 type gridWindow struct {
-	d              *Density2D
+	d              *stats.Density2D
 	c0, c1, r0, r1 int // inclusive node index ranges
 }
 
-func newGridWindow(d *Density2D, xr, yr [2]float64) gridWindow {
+func newGridWindow(d *stats.Density2D, xr, yr [2]float64) gridWindow {
 	w := gridWindow{d: d, c1: len(d.X) - 1, r1: len(d.Y) - 1}
 	for w.c0 < w.c1-1 && d.X[w.c0+1] <= xr[0] {
 		w.c0++
@@ -45,7 +46,7 @@ func (g gridWindow) Y(r int) float64    { return g.d.Y[r+g.r0] }
 // regionFill paints the credible regions of a 2-D density as a raster:
 // darker inside the innermost level, lighter out to the outermost.
 type regionFill struct {
-	d      *Density2D
+	d      *stats.Density2D
 	levels []float64 // decreasing density thresholds, innermost first
 	fills  []color.NRGBA
 	xr, yr [2]float64
@@ -73,7 +74,7 @@ func (f regionFill) Plot(c draw.Canvas, p *plot.Plot) {
 // axisRange returns the plotting range of a 1-D marginal: where the density
 // exceeds 1e-3 of its peak, widened by 4 % on each side and kept on the
 // grid.
-func axisRange(d *Density1D) [2]float64 {
+func axisRange(d *stats.Density1D) [2]float64 {
 	_, pk := d.Peak()
 	lo, hi := 0, len(d.X)-1
 	for lo < hi && d.P[lo] < 1e-3*pk {
@@ -88,50 +89,6 @@ func axisRange(d *Density1D) [2]float64 {
 		w = math.Max(1e-3*math.Abs(a), 1e-9)
 	}
 	return [2]float64{math.Max(a-w, d.X[0]), math.Min(b+w, d.X[len(d.X)-1])}
-}
-
-// plainAsym formats v with errors for a figure title, e.g. "−7.52 +0.31/−0.45".
-func plainAsym(v, plus, minus float64) string {
-	if !(plus > 0 && minus > 0) || !finite(v) {
-		return fmt.Sprintf("%.3g", v)
-	}
-	d := decimalsFor(math.Min(plus, minus), 2)
-	if d > 8 || d < -8 {
-		return fmt.Sprintf("%.3g +%.2g/−%.2g", v, plus, minus)
-	}
-	return minusSign(fixed(v, d)) + " +" + fixed(plus, d) + "/−" + fixed(minus, d)
-}
-
-func minusSign(s string) string {
-	if len(s) > 0 && s[0] == '-' {
-		return "−" + s[1:]
-	}
-	return s
-}
-
-// plainLimit turns FormatLimit's "< -1.6" into plain text with a true
-// minus sign after the relation.
-func plainLimit(s string) string {
-	rel, num, _ := strings.Cut(PlainLabel(s), " ")
-	return rel + " " + minusSign(num)
-}
-
-// summaryTitle is the text above a diagonal panel of the corner figure.
-func summaryTitle(s Summary) string {
-	name := PlainLabel(s.Label)
-	if name == "" {
-		name = s.Name
-	}
-	scale := s.Std
-	switch s.Rails {
-	case EdgeLower:
-		return name + " " + plainLimit(FormatLimit(s.Limit, scale, true, 2))
-	case EdgeUpper:
-		return name + " " + plainLimit(FormatLimit(s.Limit, scale, false, 2))
-	case EdgeBoth:
-		return name + " unconstrained"
-	}
-	return name + " = " + plainAsym(s.Median, s.ET68.Hi-s.Median, s.Median-s.ET68.Lo)
 }
 
 // vline is a vertical (or, with horiz, horizontal) line across the panel.
@@ -163,7 +120,7 @@ func truthStyle() draw.LineStyle {
 
 // diagonalPlot draws a 1-D marginal: the density, the 68 % equal-tailed
 // region shaded beneath it, the median dashed and the true value dotted.
-func diagonalPlot(m *Marginal1D, xr [2]float64, truth float64) (*plot.Plot, error) {
+func diagonalPlot(m *stats.Marginal1D, xr [2]float64, truth float64) (*plot.Plot, error) {
 	p := newPlot()
 	s := palette(0)
 	d := &m.Density
@@ -175,9 +132,9 @@ func diagonalPlot(m *Marginal1D, xr [2]float64, truth float64) (*plot.Plot, erro
 		line = append(line, plotter.XY{X: x, Y: d.P[i]})
 	}
 	lo, hi := math.Max(m.Summary.ET68.Lo, xr[0]), math.Min(m.Summary.ET68.Hi, xr[1])
-	if m.Summary.Rails != EdgeNone && finite(m.Summary.Limit) {
+	if m.Summary.Rails != stats.EdgeNone && finite(m.Summary.Limit) {
 		// For a one-sided limit shade the region inside the limit.
-		if m.Summary.Rails == EdgeLower {
+		if m.Summary.Rails == stats.EdgeLower {
 			lo, hi = xr[0], math.Min(m.Summary.Limit, xr[1])
 		} else {
 			lo, hi = math.Max(m.Summary.Limit, xr[0]), xr[1]
@@ -205,7 +162,7 @@ func diagonalPlot(m *Marginal1D, xr [2]float64, truth float64) (*plot.Plot, erro
 	}
 	ln.LineStyle = draw.LineStyle{Color: s.line, Width: vg.Points(1)}
 	p.Add(pg, ln)
-	if m.Summary.Rails == EdgeNone {
+	if m.Summary.Rails == stats.EdgeNone {
 		p.Add(vline{at: m.Summary.Median, style: draw.LineStyle{Color: s.line, Width: vg.Points(0.6), Dashes: []vg.Length{vg.Points(3), vg.Points(1.5)}}})
 	}
 	if inRange(truth, xr) {
@@ -214,17 +171,13 @@ func diagonalPlot(m *Marginal1D, xr [2]float64, truth float64) (*plot.Plot, erro
 	_, pk := d.Peak()
 	p.X.Min, p.X.Max = xr[0], xr[1]
 	p.Y.Min, p.Y.Max = 0, 1.08*pk
-	p.Y.Tick.Marker = blankTicks{plot.DefaultTicks{}}
-	p.Title.Text = summaryTitle(m.Summary)
-	p.Title.TextStyle.Font = p.X.Tick.Label.Font
-	p.Title.TextStyle.Color = inkColour
-	p.Title.Padding = vg.Points(2)
+	p.Y.Tick.Marker = blankTicks{linearTicks{}}
 	return p, nil
 }
 
 // pairPlot draws a 2-D marginal: shaded credible regions, their contour
 // lines (solid innermost, dashed outer) and the true point.
-func pairPlot(q *Pair, xr, yr [2]float64, tx, ty float64) *plot.Plot {
+func pairPlot(q *stats.Pair, xr, yr [2]float64, tx, ty float64) *plot.Plot {
 	p := newPlot()
 	s := palette(0)
 	d := &q.Density
@@ -288,13 +241,21 @@ func minMaxGrid(g gridWindow) (lo, hi float64) {
 // writes it as stem.png, stem.svg (and stem.pdf when asked), 7 in square.
 // truths, when not nil, holds a true (injected) value per parameter, NaN
 // for none. progress, when not nil, is called after each panel.
-func CornerFigure(stem string, post *Posterior, truths []float64, o FigureOptions, progress func(done, total int)) ([]string, error) {
+func CornerFigure(stem string, post *stats.Posterior, truths []float64, o FigureOptions, progress func(done, total int)) ([]string, error) {
+	fig, err := cornerFigure(post, truths, progress)
+	if err != nil {
+		return nil, err
+	}
+	return saveFigures(stem, fig, o)
+}
+
+func cornerFigure(post *stats.Posterior, truths []float64, progress func(done, total int)) (figure, error) {
 	n := len(post.Params)
 	if n == 0 || len(post.Marginals) != n || len(post.Pairs) != n*(n-1)/2 {
-		return nil, fmt.Errorf("report: corner: posterior has %d parameters, %d marginals and %d pairs", n, len(post.Marginals), len(post.Pairs))
+		return figure{}, fmt.Errorf("report: corner: posterior has %d parameters, %d marginals and %d pairs", n, len(post.Marginals), len(post.Pairs))
 	}
 	if truths != nil && len(truths) != n {
-		return nil, fmt.Errorf("report: corner: %d true values for %d parameters", len(truths), n)
+		return figure{}, fmt.Errorf("report: corner: %d true values for %d parameters", len(truths), n)
 	}
 	truth := func(i int) float64 {
 		if truths == nil {
@@ -315,25 +276,26 @@ func CornerFigure(stem string, post *Posterior, truths []float64, o FigureOption
 			if r == c {
 				var err error
 				if p, err = diagonalPlot(&post.Marginals[r], ranges[r], truth(r)); err != nil {
-					return nil, err
+					return figure{}, err
 				}
 			} else {
 				q := post.Pair(c, r)
 				if q == nil {
-					return nil, fmt.Errorf("report: corner: missing pair (%d, %d)", c, r)
+					return figure{}, fmt.Errorf("report: corner: missing pair (%d, %d)", c, r)
 				}
 				p = pairPlot(q, ranges[c], ranges[r], truth(c), truth(r))
 				if r > 0 && c == 0 {
 					p.Y.Label.Text = AxisLabel(labelOr(post.Params[r]), post.Params[r].Unit)
 				} else {
-					p.Y.Tick.Marker = blankTicks{plot.DefaultTicks{}}
+					p.Y.Tick.Marker = blankTicks{linearTicks{}}
 				}
 			}
 			if r == n-1 {
 				p.X.Label.Text = AxisLabel(labelOr(post.Params[c]), post.Params[c].Unit)
 			} else {
-				p.X.Tick.Marker = blankTicks{plot.DefaultTicks{}}
+				p.X.Tick.Marker = blankTicks{linearTicks{}}
 			}
+			factorPowers(p)
 			plots[r][c] = p
 			done++
 			if progress != nil {
@@ -347,17 +309,36 @@ func CornerFigure(stem string, post *Posterior, truths []float64, o FigureOption
 	}
 	tiles := draw.Tiles{Rows: n, Cols: n, PadX: vg.Points(3), PadY: vg.Points(3),
 		PadLeft: vg.Points(4), PadRight: vg.Points(6), PadTop: vg.Points(4), PadBottom: vg.Points(4)}
-	return saveFigures(stem, size, size, o, func(dc draw.Canvas) {
+	rows := summaryRows(post)
+	return figure{size, size, func(dc draw.Canvas) {
+		var strip vg.Rectangle
+		if n == 1 {
+			// No empty panel: the summary takes a strip along the top.
+			_, h := summaryTableSize(rows, tickSize)
+			strip = dc.Rectangle
+			strip.Min.Y = strip.Max.Y - h - vg.Points(8)
+			dc = draw.Crop(dc, 0, 0, 0, -(h + vg.Points(8)))
+		}
 		cv := plot.Align(plots, tiles, dc)
 		for r := range n {
 			for c := 0; c <= r; c++ {
 				plots[r][c].Draw(cv[r][c])
 			}
 		}
-	})
+		if n > 1 {
+			// The largest block of empty panels in the upper triangle:
+			// rows 0..a-1, columns a..n-1.
+			a := n / 2
+			strip = vg.Rectangle{
+				Min: vg.Point{X: cv[0][a].Min.X, Y: cv[a-1][n-1].Min.Y},
+				Max: vg.Point{X: cv[0][n-1].Max.X, Y: cv[0][n-1].Max.Y},
+			}
+		}
+		drawSummaryTable(dc, strip, rows)
+	}}, nil
 }
 
-func labelOr(p Param) string {
+func labelOr(p stats.Param) string {
 	if p.Label != "" {
 		return p.Label
 	}

@@ -33,8 +33,16 @@ func (b betaPoints) YError(i int) (float64, float64) { return b.e[i], b.e[i] }
 // when asked), one column wide. On a log axis, rungs with beta <= 0 are
 // left out.
 func LnLBetaFigure(stem string, beta, mean, stderr []float64, axis BetaAxis, o FigureOptions) ([]string, error) {
+	fig, err := lnlBetaFigure(beta, mean, stderr, axis)
+	if err != nil {
+		return nil, err
+	}
+	return saveFigures(stem, fig, o)
+}
+
+func lnlBetaFigure(beta, mean, stderr []float64, axis BetaAxis) (figure, error) {
 	if len(beta) != len(mean) || len(beta) != len(stderr) {
-		return nil, fmt.Errorf("report: ln L curve: %d beta, %d means, %d errors", len(beta), len(mean), len(stderr))
+		return figure{}, fmt.Errorf("report: ln L curve: %d beta, %d means, %d errors", len(beta), len(mean), len(stderr))
 	}
 	var pts betaPoints
 	for i, b := range beta {
@@ -52,40 +60,41 @@ func LnLBetaFigure(stem string, beta, mean, stderr []float64, axis BetaAxis, o F
 		pts.x, pts.y, pts.e = append(pts.x, x), append(pts.y, mean[i]), append(pts.e, e)
 	}
 	if len(pts.x) < 2 {
-		return nil, fmt.Errorf("report: ln L curve: fewer than 2 usable rungs of %d", len(beta))
+		return figure{}, fmt.Errorf("report: ln L curve: fewer than 2 usable rungs of %d", len(beta))
 	}
 	p := newPlot()
 	addGrid(p)
-	p.Y.Label.Text = "Mean ln L"
-	p.Y.Tick.Marker = plainTicks{plot.DefaultTicks{}}
+	p.Y.Label.Text = `Mean $\ln L$`
+	p.Y.Tick.Marker = linearTicks{}
 	switch axis {
 	case BetaFifthRoot:
-		p.X.Label.Text = "β¹⁄⁵"
-		p.X.Tick.Marker = plainTicks{plot.DefaultTicks{}}
+		p.X.Label.Text = `$\beta^{1/5}$`
+		p.X.Tick.Marker = linearTicks{}
 	default:
 		p.X.Scale = plot.LogScale{}
 		p.X.Tick.Marker = logTicks{}
-		p.X.Label.Text = "β"
+		p.X.Label.Text = `$\beta$`
 	}
 	s := palette(0)
 	ln, err := plotter.NewLine(pts)
 	if err != nil {
-		return nil, fmt.Errorf("report: %w", err)
+		return figure{}, fmt.Errorf("report: %w", err)
 	}
 	ln.LineStyle = draw.LineStyle{Color: s.fillDark, Width: vg.Points(0.7)}
 	eb, err := plotter.NewYErrorBars(pts)
 	if err != nil {
-		return nil, fmt.Errorf("report: %w", err)
+		return figure{}, fmt.Errorf("report: %w", err)
 	}
 	eb.LineStyle = draw.LineStyle{Color: s.line, Width: vg.Points(0.7)}
 	eb.CapWidth = vg.Points(3)
 	sc, err := plotter.NewScatter(pts)
 	if err != nil {
-		return nil, fmt.Errorf("report: %w", err)
+		return figure{}, fmt.Errorf("report: %w", err)
 	}
 	sc.GlyphStyle = draw.GlyphStyle{Color: s.line, Radius: vg.Points(1.6), Shape: draw.CircleGlyph{}}
 	p.Add(ln, eb, sc)
-	return saveFigures(stem, ColumnWidth, 2.4*vg.Inch, o, func(dc draw.Canvas) { p.Draw(dc) })
+	factorPowers(p)
+	return figure{ColumnWidth, 2.4 * vg.Inch, func(dc draw.Canvas) { p.Draw(dc) }}, nil
 }
 
 // A Trace is one parameter's chains for TraceFigure: Walkers[w][t] is the
@@ -110,14 +119,22 @@ const (
 // 1500 points) and writes stem.png, stem.svg (and stem.pdf when asked), a
 // page wide. progress, when not nil, is called after each panel.
 func TraceFigure(stem string, traces []Trace, o FigureOptions, progress func(done, total int)) ([]string, error) {
+	fig, err := traceFigure(traces, progress)
+	if err != nil {
+		return nil, err
+	}
+	return saveFigures(stem, fig, o)
+}
+
+func traceFigure(traces []Trace, progress func(done, total int)) (figure, error) {
 	n := len(traces)
 	if n == 0 {
-		return nil, fmt.Errorf("report: trace: no parameters")
+		return figure{}, fmt.Errorf("report: trace: no parameters")
 	}
 	plots := make([][]*plot.Plot, n)
 	for i, tr := range traces {
 		if len(tr.Walkers) == 0 {
-			return nil, fmt.Errorf("report: trace: parameter %d (%s) has no walkers", i, tr.Label)
+			return figure{}, fmt.Errorf("report: trace: parameter %d (%s) has no walkers", i, tr.Label)
 		}
 		p := newPlot()
 		addGrid(p)
@@ -141,7 +158,7 @@ func TraceFigure(stem string, traces []Trace, o FigureOptions, progress func(don
 			}
 			ln, err := plotter.NewLine(xy)
 			if err != nil {
-				return nil, fmt.Errorf("report: trace: %w", err)
+				return figure{}, fmt.Errorf("report: trace: %w", err)
 			}
 			// Alternate dark and mid tones so neighbouring walkers stay
 			// distinguishable in greyscale.
@@ -153,13 +170,14 @@ func TraceFigure(stem string, traces []Trace, o FigureOptions, progress func(don
 			p.Add(ln)
 		}
 		p.Y.Label.Text = AxisLabel(tr.Label, tr.Unit)
-		p.Y.Tick.Marker = plainTicks{plot.DefaultTicks{}}
+		p.Y.Tick.Marker = linearTicks{}
 		if i == n-1 {
 			p.X.Label.Text = "Step"
-			p.X.Tick.Marker = plainTicks{plot.DefaultTicks{}}
+			p.X.Tick.Marker = linearTicks{}
 		} else {
-			p.X.Tick.Marker = blankTicks{plot.DefaultTicks{}}
+			p.X.Tick.Marker = blankTicks{linearTicks{}}
 		}
+		factorPowers(p)
 		plots[i] = []*plot.Plot{p}
 		if progress != nil {
 			progress(i+1, n)
@@ -168,10 +186,10 @@ func TraceFigure(stem string, traces []Trace, o FigureOptions, progress func(don
 	tiles := draw.Tiles{Rows: n, Cols: 1, PadY: vg.Points(4), PadTop: vg.Points(4), PadBottom: vg.Points(2),
 		PadLeft: vg.Points(2), PadRight: vg.Points(6)}
 	h := vg.Length(n)*1.0*vg.Inch + 0.3*vg.Inch
-	return saveFigures(stem, PageWidth, h, o, func(dc draw.Canvas) {
+	return figure{PageWidth, h, func(dc draw.Canvas) {
 		cv := plot.Align(plots, tiles, dc)
 		for i := range plots {
 			plots[i][0].Draw(cv[i][0])
 		}
-	})
+	}}, nil
 }

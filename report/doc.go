@@ -1,55 +1,32 @@
-// Package report turns posterior samples into the numbers, tables, files and
-// figures of a paper.
+// Package report turns the statistics of package stats into the tables,
+// data files and figures of a paper.
 //
-// It takes plain inputs (one []float64 of samples per parameter, names,
-// LaTeX labels, units and prior bounds) and knows nothing about samplers or
-// chain files. The methods it implements:
+// It takes a stats.Posterior (or plain samples and curves) and knows nothing
+// about samplers or chain files. What it writes:
 //
-//   - Quantiles of sorted samples by linear interpolation between order
-//     statistics (Hyndman & Fan 1996, definition 7):
+//   - CSV and JSON files of every summary, 1-D and 2-D marginal and
+//     exclusion curve (WritePosterior, WriteExclusion), each JSON file with
+//     a Metadata block naming the run; non-finite numbers are JSON null
+//     (Num).
 //
-//     Q(p) = x_(j) + (h - j) (x_(j+1) - x_(j)),  h = (n-1) p, j = floor(h)
+//   - LaTeX tables of the summaries (WriteSummaryTable: the median with its
+//     68 % equal-tailed errors, the smaller error to a given number of
+//     significant figures and the rest to its decimal place, or a one-sided
+//     limit rounded outward) and of a model comparison quoting each model's
+//     ln B and its reading as the evidence computation (package
+//     sampler/evidence) gave them (WriteComparison).
 //
-//   - Highest-density intervals as the shortest interval holding a fraction
-//     p of the sorted samples (Chen & Shao 1999). This assumes a unimodal
-//     marginal; for a multimodal one it returns the shortest single interval.
+//   - Figures: CornerFigure, SpectrumFigure, LnLBetaFigure, TraceFigure and
+//     ExclusionFigure (PNG, SVG, optionally PDF).
 //
-//   - 1-D densities by a Gaussian kernel density estimate with Silverman's
-//     rule-of-thumb bandwidth (Silverman 1986, eq. 3.31)
-//
-//     h = 0.9 min(sigma, IQR/1.34) n^(-1/5),
-//
-//     evaluated by linear binning on an equally spaced grid (Wand 1994) and
-//     made consistent at a prior edge by reflection (Silverman 1986, sec.
-//     2.10): every sample x contributes a kernel at x and at its mirror image
-//     2a - x about the edge a.
-//
-//   - 2-D densities by a Gaussian kernel with full bandwidth matrix from
-//     Scott's rule (Scott 1992, eq. 6.42), H = n^(-1/3) Sigma, the sample
-//     covariance, binned and reflected in the same way.
-//
-//   - Credible regions bounded by a density contour: grid cells are sorted by
-//     density and their mass accumulated until it reaches the stated
-//     probability; the threshold is interpolated between the two cells that
-//     straddle it (the highest-posterior-density region of Box & Tiao 1973).
-//
-//   - A one-sided limit replaces the two-sided intervals when the posterior
-//     rails against a prior edge: the reflected density at the edge is at
-//     least Options1D.RailFraction (0.5) of its peak.
-//
-//   - Exclusion curves as conditional quantiles of one parameter within
-//     slices of another, from the joint samples, withheld where a slice has
-//     fewer samples than MinSlice.
-//
-//   - comparison tables quoting each model's ln B and its reading as the
-//     evidence computation (package sampler/evidence) gave them.
-//
-// Typical use: Analyze the samples, then Posterior.Write (CSV and JSON),
-// WriteSummaryTable and WriteComparison (LaTeX), and the figures
-// CornerFigure, SpectrumFigure, LnLBetaFigure, TraceFigure and
-// ExclusionFigure (PNG, SVG, optionally PDF). Every file is written
-// atomically (temporary file, then rename) so that a failed report leaves
-// no half-written file. Figures are sized for a journal column (3.4 in) or
-// page (7 in) with 7-8.5 pt sans-serif type; series differ in lightness and
-// dash as well as hue so that they survive greyscale printing.
+// Every file is written atomically (temporary file, then rename) so that a
+// failed report leaves no half-written file. Figures are sized for a journal
+// column (3.4 in) or page (7 in) with 7-8.5 pt sans-serif type; labels are
+// TeX math (AxisLabel) typeset with sub- and superscripts, Greek letters and
+// math italics by the figures' own text handler; every linear axis labels
+// its ticks by one rule (tickLabels), with a common power of ten moved into
+// the axis label; series differ in lightness and dash as well as hue so
+// that they survive greyscale printing. The corner figure quotes each
+// parameter's median and 68 % interval, or its one-sided limit, in a table
+// in its empty upper triangle.
 package report

@@ -2,106 +2,50 @@ package report
 
 import (
 	"fmt"
+	"image/color"
 	"math"
-	"slices"
+	"strconv"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/text"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
+
+	"tautline/stats"
 )
-
-// An ExclusionPoint is a one-sided limit on y within one slice of x.
-type ExclusionPoint struct {
-	// X is the slice centre and Lo, Hi its edges.
-	X, Lo, Hi float64
-	// N is the number of samples in the slice.
-	N int
-	// Limit is the conditional quantile of y at the limit mass within the
-	// slice; NaN when N is below the minimum.
-	Limit float64
-}
-
-// MinSlice returns the default minimum number of samples for a slice limit
-// of mass p: enough that ten samples are expected beyond the limit, so the
-// quantile's binomial relative error is at most about 1/sqrt(10).
-func MinSlice(p float64) int { return int(math.Ceil(10 / (1 - p))) }
-
-// ExclusionCurve returns the conditional upper limit of mass p on y (for
-// example log10 Gmu) as a function of x (for example log10 alpha): the
-// sample pairs are split into slices of x between consecutive edges
-// (increasing; a sample on an inner edge goes to the slice above it) and
-// the p-quantile of y is taken within each slice from its samples. Slices
-// with fewer than minSamples samples get a NaN limit; minSamples <= 0
-// selects MinSlice(p).
-func ExclusionCurve(x, y, edges []float64, p float64, minSamples int) ([]ExclusionPoint, error) {
-	if len(x) != len(y) {
-		return nil, fmt.Errorf("report: exclusion: %d x samples but %d y samples", len(x), len(y))
-	}
-	if !(p > 0 && p < 1) {
-		return nil, fmt.Errorf("report: exclusion: %w, got %g", errMass, p)
-	}
-	if len(edges) < 2 {
-		return nil, fmt.Errorf("report: exclusion: need at least 2 slice edges, got %d", len(edges))
-	}
-	for i := 1; i < len(edges); i++ {
-		if !(edges[i] > edges[i-1]) {
-			return nil, fmt.Errorf("report: exclusion: edges[%d] = %g not above edges[%d] = %g", i, edges[i], i-1, edges[i-1])
-		}
-	}
-	if minSamples <= 0 {
-		minSamples = MinSlice(p)
-	}
-	ns := len(edges) - 1
-	bins := make([][]float64, ns)
-	for i, u := range x {
-		v := y[i]
-		if math.IsNaN(u) || math.IsNaN(v) || math.IsInf(v, 0) || u < edges[0] || u > edges[ns] {
-			continue
-		}
-		k, found := slices.BinarySearch(edges, u)
-		if !found {
-			k--
-		}
-		k = min(k, ns-1)
-		bins[k] = append(bins[k], v)
-	}
-	out := make([]ExclusionPoint, ns)
-	for k, b := range bins {
-		pt := ExclusionPoint{X: (edges[k] + edges[k+1]) / 2, Lo: edges[k], Hi: edges[k+1], N: len(b), Limit: math.NaN()}
-		if len(b) >= minSamples {
-			slices.Sort(b)
-			pt.Limit = Quantile(b, p)
-		}
-		out[k] = pt
-	}
-	return out, nil
-}
-
-// LinearEdges returns n+1 equally spaced edges from lo to hi.
-func LinearEdges(lo, hi float64, n int) []float64 {
-	if n < 1 {
-		n = 1
-	}
-	return nodes(lo, hi, n+1)
-}
 
 // A NamedExclusion is one exclusion curve of a figure, e.g. one model's.
 type NamedExclusion struct {
 	Name   string
-	Points []ExclusionPoint
+	Points []stats.ExclusionPoint
+	// Mass is the credible mass of the limits (0.95, say) and Prior the
+	// prior of the limited parameter under which they hold, as the run's
+	// configuration states it ("uniform(-14, -6)", say); the figure's
+	// caption quotes both. Zero and empty leave them out.
+	Mass  float64
+	Prior string
 }
 
 // ExclusionFigure draws each curve's conditional limit against the slice
 // centres and shades the excluded side above it up to yTop (the prior's
 // upper bound, say; NaN for the top of the plotted curves plus a margin).
-// Slices without a limit break the curve. With more than one curve, a
-// legend of their names runs along the top, outside the axes. xLabel and yLabel are axis texts
-// (see AxisLabel). It writes stem.png and stem.svg (and stem.pdf when
-// asked), one column wide.
+// Slices without a limit break the curve. A caption along the top says
+// what is excluded, at which credible mass and under which prior, and a
+// legend below it names each curve (a shaded box with the limit line).
+// xLabel and yLabel are axis texts (see AxisLabel). It writes stem.png
+// and stem.svg (and stem.pdf when asked), one column wide.
 func ExclusionFigure(stem, xLabel, yLabel string, curves []NamedExclusion, yTop float64, o FigureOptions) ([]string, error) {
+	fig, err := exclusionFigure(xLabel, yLabel, curves, yTop)
+	if err != nil {
+		return nil, err
+	}
+	return saveFigures(stem, fig, o)
+}
+
+func exclusionFigure(xLabel, yLabel string, curves []NamedExclusion, yTop float64) (figure, error) {
 	if len(curves) == 0 {
-		return nil, fmt.Errorf("report: exclusion figure: no curves")
+		return figure{}, fmt.Errorf("report: exclusion figure: no curves")
 	}
 	lo, hi := math.Inf(1), math.Inf(-1)
 	for _, c := range curves {
@@ -112,7 +56,7 @@ func ExclusionFigure(stem, xLabel, yLabel string, curves []NamedExclusion, yTop 
 		}
 	}
 	if !(hi >= lo) {
-		return nil, fmt.Errorf("report: exclusion figure: no slice has a limit")
+		return figure{}, fmt.Errorf("report: exclusion figure: no slice has a limit")
 	}
 	top := yTop
 	if !finite(top) || top <= hi {
@@ -121,8 +65,12 @@ func ExclusionFigure(stem, xLabel, yLabel string, curves []NamedExclusion, yTop 
 	p := newPlot()
 	addGrid(p)
 	p.X.Label.Text, p.Y.Label.Text = xLabel, yLabel
-	p.X.Tick.Marker = plainTicks{plot.DefaultTicks{}}
-	p.Y.Tick.Marker = plainTicks{plot.DefaultTicks{}}
+	p.X.Tick.Marker = linearTicks{}
+	p.Y.Tick.Marker = linearTicks{}
+	samePrior := true
+	for _, c := range curves {
+		samePrior = samePrior && c.Prior == curves[0].Prior
+	}
 	var lines []plot.Plotter
 	var names []string
 	var thumbs []plot.Thumbnailer
@@ -156,32 +104,146 @@ func ExclusionFigure(stem, xLabel, yLabel string, curves []NamedExclusion, yTop 
 			}
 			pg, err := plotter.NewPolygon(poly)
 			if err != nil {
-				return nil, fmt.Errorf("report: exclusion figure: %w", err)
+				return figure{}, fmt.Errorf("report: exclusion figure: %w", err)
 			}
 			pg.Color = s.fillLight
 			pg.LineStyle.Width = 0
 			p.Add(pg)
 			ln, err := plotter.NewLine(run)
 			if err != nil {
-				return nil, fmt.Errorf("report: exclusion figure: %w", err)
+				return figure{}, fmt.Errorf("report: exclusion figure: %w", err)
 			}
 			ln.LineStyle = draw.LineStyle{Color: s.line, Width: vg.Points(1.1), Dashes: s.dash}
 			lines = append(lines, ln)
-			if k == 0 && len(curves) > 1 {
-				names, thumbs = append(names, c.Name), append(thumbs, ln)
+			if k == 0 {
+				names = append(names, legendName(c, len(curves), samePrior))
+				thumbs = append(thumbs, exclusionThumb{fill: s.fillLight, line: ln.LineStyle})
 			}
 		}
 	}
 	p.Add(lines...)
 	p.Y.Max = top
+	factorPowers(p)
 	// The legend goes above the data area: limit curves can run into any
 	// corner, and a legend inside would hide them.
 	sty := p.Legend
 	sty.ThumbnailWidth = vg.Points(16)
-	return saveFigures(stem, ColumnWidth, 2.4*vg.Inch, o, func(dc draw.Canvas) {
-		if len(names) > 0 {
-			dc = legendAbove(dc, sty, names, thumbs)
-		}
+	caption := exclusionCaption(xLabel, yLabel, curves, samePrior)
+	return figure{ColumnWidth, 2.6 * vg.Inch, func(dc draw.Canvas) {
+		dc = captionAbove(dc, textStyle(tickSize), caption)
+		dc = legendAbove(dc, sty, names, thumbs)
 		p.Draw(dc)
-	})
+	}}, nil
+}
+
+// exclusionCaption says what the figure shows: the mass, the parameter
+// limited, that the limit is one-sided and conditional on the slices of
+// the other, and the prior it holds under (or, when the curves' priors
+// differ, that the legend gives each).
+func exclusionCaption(xLabel, yLabel string, curves []NamedExclusion, samePrior bool) string {
+	mass := curves[0].Mass
+	for _, c := range curves {
+		if c.Mass != mass {
+			mass = 0
+		}
+	}
+	at := ""
+	if mass > 0 && mass < 1 {
+		at = " at " + strconv.FormatFloat(100*mass, 'f', -1, 64) + " %"
+	}
+	s := "Shaded: excluded" + at + ", " + yLabel + " above its one-sided upper limit in each slice of " + xLabel
+	switch {
+	case samePrior && curves[0].Prior != "":
+		s += ", for the run's prior " + yLabel + " ~ " + curves[0].Prior
+	case !samePrior:
+		s += ", for each model's prior (legend)"
+	}
+	return s
+}
+
+// legendName is a curve's legend text: its name, "upper limit" for a lone
+// unnamed curve, and its prior when the curves' priors differ.
+func legendName(c NamedExclusion, n int, samePrior bool) string {
+	name := c.Name
+	if name == "" {
+		name = "upper limit"
+		if n > 1 {
+			name = "curve"
+		}
+	}
+	if !samePrior && c.Prior != "" {
+		name += ", prior " + c.Prior
+	}
+	return name
+}
+
+// exclusionThumb is the legend mark of an exclusion curve: a shaded box
+// with the limit line along its lower edge.
+type exclusionThumb struct {
+	fill color.Color
+	line draw.LineStyle
+}
+
+// Thumbnail implements plot.Thumbnailer.
+func (t exclusionThumb) Thumbnail(c *draw.Canvas) {
+	y := c.Min.Y + 0.25*(c.Max.Y-c.Min.Y)
+	box := vg.Rectangle{Min: vg.Point{X: c.Min.X, Y: y}, Max: c.Max}
+	c.SetColor(t.fill)
+	c.Fill(box.Path())
+	c.StrokeLine2(t.line, c.Min.X, y, c.Max.X, y)
+}
+
+// captionAbove draws txt in lines of at most dc's width, centred, along
+// the top of dc, and returns the rest of dc. Lines break at spaces outside
+// TeX math.
+func captionAbove(dc draw.Canvas, sty text.Style, txt string) draw.Canvas {
+	lines := wrapText(sty, txt, dc.Size().X-vg.Points(4))
+	e := sty.FontExtents()
+	y := dc.Max.Y - vg.Points(2)
+	cs := sty
+	cs.XAlign, cs.YAlign = draw.XCenter, draw.YTop
+	for _, l := range lines {
+		dc.FillText(cs, vg.Point{X: (dc.Min.X + dc.Max.X) / 2, Y: y}, l)
+		y -= sty.Height(l) + (e.Height - e.Ascent - e.Descent)
+	}
+	return draw.Crop(dc, 0, 0, 0, y-dc.Max.Y)
+}
+
+// wrapText breaks txt into lines no wider than w (a word wider than w
+// gets a line of its own), breaking only at spaces outside dollar signs.
+func wrapText(sty text.Style, txt string, w vg.Length) []string {
+	var words []string
+	inMath, start := false, 0
+	for i := 0; i < len(txt); i++ {
+		switch txt[i] {
+		case '$':
+			inMath = !inMath
+		case ' ':
+			if !inMath {
+				words = append(words, txt[start:i])
+				start = i + 1
+			}
+		}
+	}
+	words = append(words, txt[start:])
+	var lines []string
+	cur := ""
+	for _, wd := range words {
+		if wd == "" {
+			continue
+		}
+		next := wd
+		if cur != "" {
+			next = cur + " " + wd
+		}
+		if cur != "" && sty.Width(next) > w {
+			lines = append(lines, cur)
+			next = wd
+		}
+		cur = next
+	}
+	if cur != "" {
+		lines = append(lines, cur)
+	}
+	return lines
 }

@@ -13,6 +13,8 @@ import (
 	"testing"
 
 	"gonum.org/v1/plot/vg"
+
+	"tautline/stats"
 )
 
 const testDPI = 72
@@ -112,11 +114,11 @@ func TestFigures(t *testing.T) {
 
 	// Corner: a railing parameter and a Gaussian one, all three formats.
 	x, y := correlated(src, 3000, 1, 0.5, 0.5, true)
-	ps := []Param{
+	ps := []stats.Param{
 		{Name: "log10_Gmu", Label: `\log_{10} G\mu`, Bounds: [2]float64{0, 6}, Samples: x},
 		{Name: "gamma", Label: `\gamma`, Bounds: [2]float64{math.Inf(-1), math.Inf(1)}, Samples: y},
 	}
-	post, err := Analyze(ps, Options{Two: Options2D{GridPoints: 40}}, nil)
+	post, err := stats.Analyze(ps, stats.Options{Two: stats.Options2D{GridPoints: 40}}, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -176,13 +178,13 @@ func TestFigures(t *testing.T) {
 	// Exclusion: a rising limit with one empty slice, two curves.
 	var ex []NamedExclusion
 	for m := range 2 {
-		var pts []ExclusionPoint
+		var pts []stats.ExclusionPoint
 		for k := range 8 {
 			lim := -10 + 0.4*float64(k) - 0.5*float64(m)
 			if k == 5 {
 				lim = math.NaN()
 			}
-			pts = append(pts, ExclusionPoint{X: float64(k) - 3.5, Lo: float64(k) - 4, Hi: float64(k) - 3, N: 500, Limit: lim})
+			pts = append(pts, stats.ExclusionPoint{X: float64(k) - 3.5, Lo: float64(k) - 4, Hi: float64(k) - 3, N: 500, Limit: lim})
 		}
 		ex = append(ex, NamedExclusion{Name: "model " + strconv.Itoa(m), Points: pts})
 	}
@@ -190,8 +192,8 @@ func TestFigures(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	checkPNG(t, files[0], ColumnWidth, 2.4*vg.Inch)
-	checkSVG(t, files[1], ColumnWidth, 2.4*vg.Inch)
+	checkPNG(t, files[0], ColumnWidth, 2.6*vg.Inch)
+	checkSVG(t, files[1], ColumnWidth, 2.6*vg.Inch)
 
 	// Traces: two parameters, eight walkers.
 	var tr []Trace
@@ -228,10 +230,10 @@ func TestFigureErrors(t *testing.T) {
 	if _, err := TraceFigure(filepath.Join(dir, "t"), nil, o, nil); err == nil {
 		t.Error("no traces did not fail")
 	}
-	if _, err := CornerFigure(filepath.Join(dir, "c"), &Posterior{}, nil, o, nil); err == nil {
+	if _, err := CornerFigure(filepath.Join(dir, "c"), &stats.Posterior{}, nil, o, nil); err == nil {
 		t.Error("empty posterior did not fail")
 	}
-	if _, err := saveFigures(filepath.Join(dir, "x"), vg.Inch, vg.Inch, FigureOptions{Formats: []string{"gif"}}, nil); err == nil {
+	if _, err := saveFigures(filepath.Join(dir, "x"), figure{vg.Inch, vg.Inch, nil}, FigureOptions{Formats: []string{"gif"}}); err == nil {
 		t.Error("unknown format did not fail")
 	}
 	ents, _ := os.ReadDir(dir)
@@ -260,14 +262,21 @@ func TestPlainLabel(t *testing.T) {
 			t.Errorf("PlainLabel(%q) = %q, want %q", c.in, got, c.want)
 		}
 	}
-	if got := AxisLabel(`\log_{10} \rho`, "s"); got != "log₁₀ ρ [s]" {
-		t.Errorf("AxisLabel = %q", got)
+	for _, c := range []struct{ label, unit, want string }{
+		{`\log_{10} \rho`, "s", `$\log_{10} \rho$ [s]`},
+		{`$\gamma$`, "", `$\gamma$`},
+		{"", "Hz", "[Hz]"},
+	} {
+		if got := AxisLabel(c.label, c.unit); got != c.want {
+			t.Errorf("AxisLabel(%q, %q) = %q, want %q", c.label, c.unit, got, c.want)
+		}
 	}
 }
 
 func TestLogTicks(t *testing.T) {
 	// Over 2e-9..3e-8 (1.2 decades) the labelled ticks are 3e-9, 1e-8 and
-	// 3e-8 by logTicks' rule; every tick lies in range.
+	// 3e-8 by logTicks' rule, written as TeX powers of ten; every tick
+	// lies in range.
 	var labels []string
 	for _, tk := range (logTicks{}).Ticks(2e-9, 3e-8) {
 		if tk.Value < 2e-9*(1-1e-9) || tk.Value > 3e-8*(1+1e-9) {
@@ -277,10 +286,25 @@ func TestLogTicks(t *testing.T) {
 			labels = append(labels, tk.Label)
 		}
 	}
-	if got := strings.Join(labels, ","); got != "3e-9,1e-8,3e-8" {
+	if got := strings.Join(labels, ","); got != `$3\times 10^{-9}$,$10^{-8}$,$3\times 10^{-8}$` {
 		t.Errorf("labels %s", got)
 	}
 	if (logTicks{}).Ticks(-1, 1) != nil {
 		t.Error("ticks for a non-positive range")
 	}
+}
+
+// correlated draws n pairs from a bivariate normal with zero mean, standard
+// deviations sx, sy and correlation rho; fold replaces x by |x|.
+func correlated(src *rand.Rand, n int, sx, sy, rho float64, fold bool) (x, y []float64) {
+	x, y = make([]float64, n), make([]float64, n)
+	for i := range x {
+		a, b := src.NormFloat64(), src.NormFloat64()
+		x[i] = sx * a
+		y[i] = sy * (rho*a + math.Sqrt(1-rho*rho)*b)
+		if fold {
+			x[i] = math.Abs(x[i])
+		}
+	}
+	return x, y
 }

@@ -6,6 +6,10 @@ import (
 	"strings"
 	"testing"
 	"unicode/utf8"
+
+	"gonum.org/v1/plot/font"
+	"gonum.org/v1/plot/vg"
+	"gonum.org/v1/plot/vg/draw"
 )
 
 // FuzzPlainLabel feeds arbitrary labels to the LaTeX-to-text converter: it
@@ -86,5 +90,30 @@ func FuzzFormatLimit(f *testing.F) {
 		if upper && got < v-tol || !upper && got > v+tol {
 			t.Fatalf("FormatLimit(%g, %g, %v, %d) = %q is tighter than the value", v, scale, upper, sig, s)
 		}
+	})
+}
+
+// FuzzTexText feeds arbitrary text to the figures' TeX handler: laying it
+// out and drawing it must not panic, and the box must hold every run.
+func FuzzTexText(f *testing.F) {
+	f.Add(`$\log_{10} f_\mathrm{bend}^{(2)}$ [Hz]`)
+	f.Add(`$x_a^b_c^^{$`)
+	h := texText{fonts: font.DefaultCache}
+	fnt := font.From(figureFont, 7)
+	f.Fuzz(func(t *testing.T, s string) {
+		runs, w := h.layout(s, fnt)
+		bw, ht, dp := h.Box(s, fnt)
+		if bw != w {
+			t.Fatalf("%q: box width %v, layout width %v", s, bw, w)
+		}
+		for _, r := range runs {
+			e := h.face(fnt, r).Extents()
+			if r.dy+e.Ascent > ht+1e-9 || e.Descent-r.dy > dp+1e-9 {
+				t.Fatalf("%q: run %q outside the box", s, r.s)
+			}
+		}
+		rec := newTextRecorder(vg.Inch, vg.Inch)
+		dc := draw.New(rec)
+		dc.FillText(textStyle(7), vg.Point{X: 10, Y: 10}, s)
 	})
 }

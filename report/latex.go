@@ -5,6 +5,8 @@ import (
 	"math"
 	"strconv"
 	"strings"
+
+	"tautline/stats"
 )
 
 // decimalsFor returns the number of decimal places (negative for tens,
@@ -188,7 +190,7 @@ func formatSigOutward(v float64, sig int, up bool) string {
 
 // FormatInterval formats [lo, hi] with the decimal places of the
 // intervals' width to sig significant figures.
-func FormatInterval(iv Interval, sig int) string {
+func FormatInterval(iv stats.Interval, sig int) string {
 	if sig < 1 {
 		sig = 2
 	}
@@ -213,7 +215,7 @@ func escapeText(s string) string {
 }
 
 // paramCell is the LaTeX label of a summary with its unit.
-func paramCell(s Summary) string {
+func paramCell(s stats.Summary) string {
 	lab := "$" + s.Label + "$"
 	if s.Label == "" {
 		lab = escapeText(s.Name)
@@ -229,7 +231,7 @@ func paramCell(s Summary) string {
 // interval or, for a posterior railing against a prior edge, the one-sided
 // limit (the median column is then a dash). sig is the number of
 // significant figures of the smaller error (2 when sig < 1).
-func SummaryTable(ss []Summary, sig int) string {
+func SummaryTable(ss []stats.Summary, sig int) string {
 	var b strings.Builder
 	b.WriteString("\\begin{tabular}{lcc}\n\\hline\n")
 	b.WriteString("Parameter & Median, 68\\,\\% interval & 95\\,\\% interval or limit \\\\\n\\hline\n")
@@ -237,11 +239,11 @@ func SummaryTable(ss []Summary, sig int) string {
 		mid, wide := "---", ""
 		pct := strconv.FormatFloat(100*s.LimitMass, 'f', -1, 64)
 		switch s.Rails {
-		case EdgeLower:
+		case stats.EdgeLower:
 			wide = "$" + FormatLimit(s.Limit, s.Std, true, sig) + "$ (" + pct + "\\,\\%)"
-		case EdgeUpper:
+		case stats.EdgeUpper:
 			wide = "$" + FormatLimit(s.Limit, s.Std, false, sig) + "$ (" + pct + "\\,\\%)"
-		case EdgeBoth:
+		case stats.EdgeBoth:
 			wide = "unconstrained"
 		default:
 			mid = "$" + FormatAsym(s.Median, s.ET68.Hi-s.Median, s.Median-s.ET68.Lo, sig) + "$"

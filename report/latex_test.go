@@ -5,6 +5,8 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"tautline/stats"
 )
 
 func TestFormatAsym(t *testing.T) {
@@ -83,12 +85,12 @@ func TestFormatLimitInterval(t *testing.T) {
 		}
 	}
 	ivs := []struct {
-		iv   Interval
+		iv   stats.Interval
 		want string
 	}{
-		{Interval{-8.123, -6.987}, `[-8.1, -7.0]`},
-		{Interval{0.0123, 0.0456}, `[0.012, 0.046]`},
-		{Interval{1.1e-9, 3.4e-9}, `[1.1, 3.4] \times 10^{-9}`},
+		{stats.Interval{Lo: -8.123, Hi: -6.987}, `[-8.1, -7.0]`},
+		{stats.Interval{Lo: 0.0123, Hi: 0.0456}, `[0.012, 0.046]`},
+		{stats.Interval{Lo: 1.1e-9, Hi: 3.4e-9}, `[1.1, 3.4] \times 10^{-9}`},
 	}
 	for _, c := range ivs {
 		if got := FormatInterval(c.iv, 2); got != c.want {
@@ -98,11 +100,11 @@ func TestFormatLimitInterval(t *testing.T) {
 }
 
 func TestSummaryTable(t *testing.T) {
-	ss := []Summary{
-		{Name: "log10_A", Label: `\log_{10} A`, Median: -14.62, ET68: Interval{-14.81, -14.50},
-			ET95: Interval{-15.02, -14.37}, Rails: EdgeNone, Limit: math.NaN(), LimitMass: 0.95},
-		{Name: "log10_Gmu", Label: `\log_{10} G\mu`, Rails: EdgeLower, Std: 0.8, Limit: -10.234, LimitMass: 0.95},
-		{Name: "f_bend", Unit: "Hz", Rails: EdgeBoth, LimitMass: 0.95},
+	ss := []stats.Summary{
+		{Name: "log10_A", Label: `\log_{10} A`, Median: -14.62, ET68: stats.Interval{Lo: -14.81, Hi: -14.50},
+			ET95: stats.Interval{Lo: -15.02, Hi: -14.37}, Rails: stats.EdgeNone, Limit: math.NaN(), LimitMass: 0.95},
+		{Name: "log10_Gmu", Label: `\log_{10} G\mu`, Rails: stats.EdgeLower, Std: 0.8, Limit: -10.234, LimitMass: 0.95},
+		{Name: "f_bend", Unit: "Hz", Rails: stats.EdgeBoth, LimitMass: 0.95},
 	}
 	tab := SummaryTable(ss, 2)
 	for _, want := range []string{
@@ -151,37 +153,43 @@ func TestComparisonTable(t *testing.T) {
 	if err := WriteComparison(dir, Metadata{Run: "r"}, rows, "smbhb", 2); err != nil {
 		t.Fatal(err)
 	}
-	var cj struct {
-		Models []map[string]any `json:"models"`
-	}
+	var cj comparisonRead
 	readJSON(t, filepath.Join(dir, "comparison.json"), &cj)
-	if len(cj.Models) != 3 || cj.Models[1]["ln_b"] != 3.0 || cj.Models[1]["ln_b_err"] != math.Hypot(0.2, 0.1) ||
-		cj.Models[0]["ln_b"] != 0.0 || cj.Models[0]["evidence"] != "reference" || cj.Models[2]["evidence"] != "caller's_words" {
-		t.Errorf("comparison.json models: %v", cj.Models)
+	if len(cj.Models) != 3 || !eqPtr(cj.Models[1].LnB, 3) || !eqPtr(cj.Models[1].LnBErr, math.Hypot(0.2, 0.1)) ||
+		!eqPtr(cj.Models[0].LnB, 0) || cj.Models[0].Evidence != "reference" || cj.Models[2].Evidence != "caller's_words" {
+		t.Errorf("comparison.json models: %+v", cj.Models)
 	}
 }
 
 // TestLimitTableAndCorner checks that the summary table and the corner
-// figure's panel title print the same outward-rounded limit: a 95 % upper
-// limit of -1.68 on a posterior of standard deviation 1 (the review's case,
-// worked by hand: ceil(-1.68) = -1) and a lower limit of 0.3684 with
-// standard deviation 0.02 (floor(36.84) / 100 = 0.36).
+// figure's summary table print the same outward-rounded limit: a 95 %
+// upper limit of -1.68 on a posterior of standard deviation 1 (the
+// review's case, worked by hand: ceil(-1.68) = -1) and a lower limit of
+// 0.3684 with standard deviation 0.02 (floor(36.84) / 100 = 0.36); and
+// that a two-sided summary shows the median and 68 % interval rounded as
+// FormatAsym rounds them.
 func TestLimitTableAndCorner(t *testing.T) {
 	cases := []struct {
-		s           Summary
-		table, plot string
+		s     stats.Summary
+		table string
+		cells [3]string
 	}{
-		{Summary{Name: "log10_alpha", Label: `\log_{10} \alpha`, Rails: EdgeLower, Std: 1, Limit: -1.68, LimitMass: 0.95},
-			`$< -1$ (95\,\%)`, "< −1"},
-		{Summary{Name: "x", Rails: EdgeUpper, Std: 0.02, Limit: 0.3684, LimitMass: 0.95},
-			`$> 0.36$ (95\,\%)`, "x > 0.36"},
+		{stats.Summary{Name: "log10_alpha", Label: `\log_{10} \alpha`, Rails: stats.EdgeLower, Std: 1, Limit: -1.68, LimitMass: 0.95},
+			`$< -1$ (95\,\%)`, [3]string{`$\log_{10} \alpha$`, `$< -1$`, "95 % upper limit"}},
+		{stats.Summary{Name: "x", Rails: stats.EdgeUpper, Std: 0.02, Limit: 0.3684, LimitMass: 0.95},
+			`$> 0.36$ (95\,\%)`, [3]string{"x", `$> 0.36$`, "95 % lower limit"}},
+		{stats.Summary{Name: "log10_A", Label: `\log_{10} A`, Median: -14.62, ET68: stats.Interval{Lo: -14.81, Hi: -14.50},
+			ET95: stats.Interval{Lo: -15.02, Hi: -14.37}, Limit: math.NaN(), LimitMass: 0.95},
+			`$-14.62^{+0.12}_{-0.19}$`, [3]string{`$\log_{10} A$`, `$-14.62$`, `$[-14.81, -14.50]$`}},
+		{stats.Summary{Name: "f", Unit: "Hz", Median: 2.5e-9, ET68: stats.Interval{Lo: 2.31e-9, Hi: 2.74e-9}, LimitMass: 0.95},
+			``, [3]string{"f [Hz]", `$2.50\times 10^{-9}$`, `$[2.31, 2.74]\times 10^{-9}$`}},
 	}
 	for _, c := range cases {
-		if tab := SummaryTable([]Summary{c.s}, 2); !strings.Contains(tab, c.table) {
+		if tab := SummaryTable([]stats.Summary{c.s}, 2); !strings.Contains(tab, c.table) {
 			t.Errorf("%s: table lacks %q:\n%s", c.s.Name, c.table, tab)
 		}
-		if got := summaryTitle(c.s); !strings.HasSuffix(got, c.plot) {
-			t.Errorf("%s: corner title %q, want suffix %q", c.s.Name, got, c.plot)
+		if got := summaryCells(c.s); got != c.cells {
+			t.Errorf("%s: corner cells %q, want %q", c.s.Name, got, c.cells)
 		}
 	}
 }

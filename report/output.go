@@ -7,11 +7,13 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"os"
 	"path/filepath"
 	"strconv"
 	"strings"
 
 	"tautline/chains"
+	"tautline/stats"
 )
 
 // Metadata identifies the run a product comes from; it is copied into every
@@ -59,6 +61,8 @@ func ffmt(v float64) string {
 	return strconv.FormatFloat(v, 'g', -1, 64)
 }
 
+func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
+
 // writeFileAtomic writes data to path through chains.WriteFileAtomic
 // (temporary file, fsync, rename), so that readers never see a partial file.
 func writeFileAtomic(path string, data []byte) error {
@@ -71,7 +75,13 @@ func writeFileAtomic(path string, data []byte) error {
 	return nil
 }
 
-func writeJSON(path string, v any) error {
+// jsonFile is the set of layouts writeJSON accepts: every JSON file of the
+// report is one of these typed structs.
+type jsonFile interface {
+	summaryFile | marginal1DFile | marginal2DFile | exclusionFile | comparisonFile
+}
+
+func writeJSON[T jsonFile](path string, v T) error {
 	b, err := json.MarshalIndent(v, "", "  ")
 	if err != nil {
 		return fmt.Errorf("report: encoding %s: %w", path, err)
@@ -111,7 +121,7 @@ type intervalJSON struct {
 	Hi Num `json:"hi"`
 }
 
-func ivj(iv Interval) intervalJSON { return intervalJSON{Num(iv.Lo), Num(iv.Hi)} }
+func ivj(iv stats.Interval) intervalJSON { return intervalJSON{Num(iv.Lo), Num(iv.Hi)} }
 
 type summaryJSON struct {
 	Name      string       `json:"name"`
@@ -133,19 +143,8 @@ type summaryJSON struct {
 	LimitMass Num          `json:"limit_mass"`
 }
 
-// LimitKind returns "upper", "lower" or "" for the one-sided limit of s.
-func (s Summary) LimitKind() string {
-	switch s.Rails {
-	case EdgeLower:
-		return "upper"
-	case EdgeUpper:
-		return "lower"
-	}
-	return ""
-}
-
 // WriteSummaries writes summary.csv and summary.json into dir.
-func WriteSummaries(dir string, meta Metadata, ss []Summary) error {
+func WriteSummaries(dir string, meta Metadata, ss []stats.Summary) error {
 	header := []string{"name", "n", "median", "mean", "std", "mode",
 		"et68_lo", "et68_hi", "et95_lo", "et95_hi", "hdi68_lo", "hdi68_hi", "hdi95_lo", "hdi95_hi",
 		"edge_ratio_lo", "edge_ratio_hi", "rails", "limit_kind", "limit", "limit_mass"}
@@ -164,15 +163,46 @@ func WriteSummaries(dir string, meta Metadata, ss []Summary) error {
 	if err := writeCSV(filepath.Join(dir, "summary.csv"), header, rows); err != nil {
 		return err
 	}
-	return writeJSON(filepath.Join(dir, "summary.json"), struct {
-		Meta       Metadata      `json:"metadata"`
-		Parameters []summaryJSON `json:"parameters"`
-	}{meta, js})
+	return writeJSON(filepath.Join(dir, "summary.json"), summaryFile{meta, js})
+}
+
+// WritePosterior writes the summaries of post and every 1-D and 2-D marginal as CSV and JSON
+// into dir, creating it if needed. progress, when not nil, is called after
+// each file pair.
+func WritePosterior(dir string, meta Metadata, p *stats.Posterior, progress func(done, total int)) error {
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return fmt.Errorf("report: %w", err)
+	}
+	total := 1 + len(p.Marginals) + len(p.Pairs)
+	done := 0
+	step := func() {
+		done++
+		if progress != nil {
+			progress(done, total)
+		}
+	}
+	if err := WriteSummaries(dir, meta, p.Summaries()); err != nil {
+		return err
+	}
+	step()
+	for i, m := range p.Marginals {
+		if err := WriteMarginal1D(dir, meta, p.Params[i].Name, m.Density); err != nil {
+			return err
+		}
+		step()
+	}
+	for _, q := range p.Pairs {
+		if err := WriteMarginal2D(dir, meta, p.Params[q.I].Name, p.Params[q.J].Name, q.Density, p.Masses, q.Levels); err != nil {
+			return err
+		}
+		step()
+	}
+	return nil
 }
 
 // WriteMarginal1D writes marginal1d_<name>.csv (columns x, density) and
 // marginal1d_<name>.json (grid, histogram, bandwidth) into dir.
-func WriteMarginal1D(dir string, meta Metadata, name string, d Density1D) error {
+func WriteMarginal1D(dir string, meta Metadata, name string, d stats.Density1D) error {
 	stem := "marginal1d_" + FileStem(name)
 	rows := make([][]string, len(d.X))
 	for i := range d.X {
@@ -181,25 +211,13 @@ func WriteMarginal1D(dir string, meta Metadata, name string, d Density1D) error 
 	if err := writeCSV(filepath.Join(dir, stem+".csv"), []string{"x", "density"}, rows); err != nil {
 		return err
 	}
-	return writeJSON(filepath.Join(dir, stem+".json"), struct {
-		Meta      Metadata `json:"metadata"`
-		Name      string   `json:"name"`
-		X         []Num    `json:"x"`
-		Density   []Num    `json:"density"`
-		Bandwidth Num      `json:"bandwidth"`
-		Rule      string   `json:"bandwidth_rule"`
-		Reflect   [2]bool  `json:"reflected_at_bounds"`
-		Edges     []Num    `json:"histogram_edges"`
-		Hist      []Num    `json:"histogram_density"`
-		N         int      `json:"n"`
-		Dropped   int      `json:"dropped"`
-	}{meta, name, nums(d.X), nums(d.P), Num(d.Bandwidth), d.Rule, d.Reflect, nums(d.Edges), nums(d.Hist), d.N, d.Dropped})
+	return writeJSON(filepath.Join(dir, stem+".json"), marginal1DFile{meta, name, nums(d.X), nums(d.P), Num(d.Bandwidth), d.Rule, d.Reflect, nums(d.Edges), nums(d.Hist), d.N, d.Dropped})
 }
 
 // WriteMarginal2D writes marginal2d_<x>__<y>.csv (long format: x, y,
 // density) and marginal2d_<x>__<y>.json (grid, density rows, credible
 // masses and their density levels) into dir.
-func WriteMarginal2D(dir string, meta Metadata, nameX, nameY string, d Density2D, masses, levels []float64) error {
+func WriteMarginal2D(dir string, meta Metadata, nameX, nameY string, d stats.Density2D, masses, levels []float64) error {
 	if len(masses) != len(levels) {
 		return fmt.Errorf("report: %d credible masses but %d levels", len(masses), len(levels))
 	}
@@ -216,7 +234,83 @@ func WriteMarginal2D(dir string, meta Metadata, nameX, nameY string, d Density2D
 	if err := writeCSV(filepath.Join(dir, stem+".csv"), []string{"x", "y", "density"}, rows); err != nil {
 		return err
 	}
-	return writeJSON(filepath.Join(dir, stem+".json"), struct {
+	return writeJSON(filepath.Join(dir, stem+".json"), marginal2DFile{Meta: meta, NameX: nameX, NameY: nameY, GX: nums(d.X), GY: nums(d.Y), Density: grid,
+		H: [3]Num{Num(d.H[0]), Num(d.H[1]), Num(d.H[2])}, Rule: d.Rule, Reflect: d.Reflect,
+		Masses: nums(masses), Levels: nums(levels), N: d.N})
+}
+
+// WriteExclusion writes exclusion_<y>_vs_<x>.csv and .json into dir.
+func WriteExclusion(dir string, meta Metadata, nameX, nameY string, mass float64, pts []stats.ExclusionPoint) error {
+	stem := "exclusion_" + FileStem(nameY) + "_vs_" + FileStem(nameX)
+	rows := make([][]string, len(pts))
+	js := make([]slicePointJSON, len(pts))
+	for i, p := range pts {
+		rows[i] = []string{ffmt(p.X), ffmt(p.Lo), ffmt(p.Hi), strconv.Itoa(p.N), ffmt(p.Limit)}
+		js[i] = slicePointJSON{Num(p.X), Num(p.Lo), Num(p.Hi), p.N, Num(p.Limit)}
+	}
+	if err := writeCSV(filepath.Join(dir, stem+".csv"), []string{"x", "slice_lo", "slice_hi", "n", "limit"}, rows); err != nil {
+		return err
+	}
+	return writeJSON(filepath.Join(dir, stem+".json"), exclusionFile{meta, nameX, nameY, Num(mass), js})
+}
+
+// WriteSummaryTable writes the LaTeX table of SummaryTable to
+// dir/summary.tex.
+func WriteSummaryTable(dir string, ss []stats.Summary, sig int) error {
+	return writeFileAtomic(filepath.Join(dir, "summary.tex"), []byte(SummaryTable(ss, sig)))
+}
+
+// WriteComparison writes the model comparison against the model named
+// reference as comparison.csv, comparison.json and comparison.tex into dir,
+// all three quoting the same ln B (see ComparisonTable).
+func WriteComparison(dir string, meta Metadata, rows []Evidence, reference string, sig int) error {
+	tex, err := ComparisonTable(rows, reference, sig)
+	if err != nil {
+		return err
+	}
+	js := make([]comparisonRowJSON, len(rows))
+	recs := make([][]string, len(rows))
+	for i, r := range rows {
+		b, e, v := r.LnB, r.LnBErr, r.Reading
+		if r.Model == reference {
+			b, e, v = 0, 0, "reference"
+		}
+		js[i] = comparisonRowJSON{r.Model, Num(r.LnZTI), Num(r.LnZTIErr), Num(r.LnZSS), Num(r.LnZSSErr), Num(b), Num(e), v}
+		recs[i] = []string{r.Model, ffmt(r.LnZTI), ffmt(r.LnZTIErr), ffmt(r.LnZSS), ffmt(r.LnZSSErr), ffmt(b), ffmt(e), v}
+	}
+	if err := writeCSV(filepath.Join(dir, "comparison.csv"),
+		[]string{"model", "ln_z_ti", "ln_z_ti_err", "ln_z_ss", "ln_z_ss_err", "ln_b", "ln_b_err", "evidence"}, recs); err != nil {
+		return err
+	}
+	if err := writeJSON(filepath.Join(dir, "comparison.json"), comparisonFile{meta, reference, js}); err != nil {
+		return err
+	}
+	return writeFileAtomic(filepath.Join(dir, "comparison.tex"), []byte(tex))
+}
+
+// The layouts of the JSON files. Field order is the order in the files.
+type (
+	// summaryFile is summary.json.
+	summaryFile struct {
+		Meta       Metadata      `json:"metadata"`
+		Parameters []summaryJSON `json:"parameters"`
+	}
+	// marginal1DFile is marginal1d_<name>.json.
+	marginal1DFile struct {
+		Meta      Metadata `json:"metadata"`
+		Name      string   `json:"name"`
+		X         []Num    `json:"x"`
+		Density   []Num    `json:"density"`
+		Bandwidth Num      `json:"bandwidth"`
+		Rule      string   `json:"bandwidth_rule"`
+		Reflect   [2]bool  `json:"reflected_at_bounds"`
+		Edges     []Num    `json:"histogram_edges"`
+		Hist      []Num    `json:"histogram_density"`
+		N         int      `json:"n"`
+		Dropped   int      `json:"dropped"`
+	}
+	// marginal2DFile is marginal2d_<x>__<y>.json.
+	marginal2DFile struct {
 		Meta    Metadata   `json:"metadata"`
 		NameX   string     `json:"x_name"`
 		NameY   string     `json:"y_name"`
@@ -229,54 +323,25 @@ func WriteMarginal2D(dir string, meta Metadata, nameX, nameY string, d Density2D
 		Masses  []Num      `json:"credible_masses"`
 		Levels  []Num      `json:"density_levels"`
 		N       int        `json:"n"`
-	}{Meta: meta, NameX: nameX, NameY: nameY, GX: nums(d.X), GY: nums(d.Y), Density: grid,
-		H: [3]Num{Num(d.H[0]), Num(d.H[1]), Num(d.H[2])}, Rule: d.Rule, Reflect: d.Reflect,
-		Masses: nums(masses), Levels: nums(levels), N: d.N})
-}
-
-// WriteExclusion writes exclusion_<y>_vs_<x>.csv and .json into dir.
-func WriteExclusion(dir string, meta Metadata, nameX, nameY string, mass float64, pts []ExclusionPoint) error {
-	stem := "exclusion_" + FileStem(nameY) + "_vs_" + FileStem(nameX)
-	rows := make([][]string, len(pts))
-	type ptJSON struct {
+	}
+	// slicePointJSON is one slice of an exclusion curve.
+	slicePointJSON struct {
 		X     Num `json:"x"`
 		Lo    Num `json:"slice_lo"`
 		Hi    Num `json:"slice_hi"`
 		N     int `json:"n"`
 		Limit Num `json:"limit"`
 	}
-	js := make([]ptJSON, len(pts))
-	for i, p := range pts {
-		rows[i] = []string{ffmt(p.X), ffmt(p.Lo), ffmt(p.Hi), strconv.Itoa(p.N), ffmt(p.Limit)}
-		js[i] = ptJSON{Num(p.X), Num(p.Lo), Num(p.Hi), p.N, Num(p.Limit)}
+	// exclusionFile is exclusion_<y>_vs_<x>.json.
+	exclusionFile struct {
+		Meta   Metadata         `json:"metadata"`
+		NameX  string           `json:"x_name"`
+		NameY  string           `json:"y_name"`
+		Mass   Num              `json:"limit_mass"`
+		Points []slicePointJSON `json:"slices"`
 	}
-	if err := writeCSV(filepath.Join(dir, stem+".csv"), []string{"x", "slice_lo", "slice_hi", "n", "limit"}, rows); err != nil {
-		return err
-	}
-	return writeJSON(filepath.Join(dir, stem+".json"), struct {
-		Meta   Metadata `json:"metadata"`
-		NameX  string   `json:"x_name"`
-		NameY  string   `json:"y_name"`
-		Mass   Num      `json:"limit_mass"`
-		Points []ptJSON `json:"slices"`
-	}{meta, nameX, nameY, Num(mass), js})
-}
-
-// WriteSummaryTable writes the LaTeX table of SummaryTable to
-// dir/summary.tex.
-func WriteSummaryTable(dir string, ss []Summary, sig int) error {
-	return writeFileAtomic(filepath.Join(dir, "summary.tex"), []byte(SummaryTable(ss, sig)))
-}
-
-// WriteComparison writes the model comparison against the model named
-// reference as comparison.csv, comparison.json and comparison.tex into dir,
-// all three quoting the same ln B (see ComparisonTable).
-func WriteComparison(dir string, meta Metadata, rows []Evidence, reference string, sig int) error {
-	tex, err := ComparisonTable(rows, reference, sig)
-	if err != nil {
-		return err
-	}
-	type rowJSON struct {
+	// comparisonRowJSON is one model of comparison.json.
+	comparisonRowJSON struct {
 		Model    string `json:"model"`
 		LnZTI    Num    `json:"ln_z_ti"`
 		LnZTIErr Num    `json:"ln_z_ti_err"`
@@ -286,26 +351,10 @@ func WriteComparison(dir string, meta Metadata, rows []Evidence, reference strin
 		LnBErr   Num    `json:"ln_b_err"`
 		Verdict  string `json:"evidence"`
 	}
-	js := make([]rowJSON, len(rows))
-	recs := make([][]string, len(rows))
-	for i, r := range rows {
-		b, e, v := r.LnB, r.LnBErr, r.Reading
-		if r.Model == reference {
-			b, e, v = 0, 0, "reference"
-		}
-		js[i] = rowJSON{r.Model, Num(r.LnZTI), Num(r.LnZTIErr), Num(r.LnZSS), Num(r.LnZSSErr), Num(b), Num(e), v}
-		recs[i] = []string{r.Model, ffmt(r.LnZTI), ffmt(r.LnZTIErr), ffmt(r.LnZSS), ffmt(r.LnZSSErr), ffmt(b), ffmt(e), v}
+	// comparisonFile is comparison.json.
+	comparisonFile struct {
+		Meta      Metadata            `json:"metadata"`
+		Reference string              `json:"reference"`
+		Models    []comparisonRowJSON `json:"models"`
 	}
-	if err := writeCSV(filepath.Join(dir, "comparison.csv"),
-		[]string{"model", "ln_z_ti", "ln_z_ti_err", "ln_z_ss", "ln_z_ss_err", "ln_b", "ln_b_err", "evidence"}, recs); err != nil {
-		return err
-	}
-	if err := writeJSON(filepath.Join(dir, "comparison.json"), struct {
-		Meta      Metadata  `json:"metadata"`
-		Reference string    `json:"reference"`
-		Models    []rowJSON `json:"models"`
-	}{meta, reference, js}); err != nil {
-		return err
-	}
-	return writeFileAtomic(filepath.Join(dir, "comparison.tex"), []byte(tex))
-}
+)

@@ -9,6 +9,8 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"tautline/stats"
 )
 
 func TestPosteriorWrite(t *testing.T) {
@@ -20,13 +22,13 @@ func TestPosteriorWrite(t *testing.T) {
 		c[i] = 3 + src.NormFloat64()
 	}
 	inf := math.Inf(1)
-	ps := []Param{
+	ps := []stats.Param{
 		{Name: "log10_Gmu", Label: `\log_{10} G\mu`, Bounds: [2]float64{0, 5}, Samples: a},
 		{Name: "beta", Bounds: [2]float64{-inf, inf}, Samples: b},
 		{Name: "odd name/x", Unit: "Hz", Bounds: [2]float64{-inf, inf}, Samples: c},
 	}
 	var calls, last int
-	post, err := Analyze(ps, Options{Two: Options2D{GridPoints: 32}}, func(done, total int) {
+	post, err := stats.Analyze(ps, stats.Options{Two: stats.Options2D{GridPoints: 32}}, func(done, total int) {
 		calls++
 		if done != calls || total != 6 {
 			t.Errorf("progress(%d, %d) at call %d, want (%d, 6)", done, total, calls, calls)
@@ -41,21 +43,24 @@ func TestPosteriorWrite(t *testing.T) {
 	}
 	dir := t.TempDir()
 	meta := Metadata{Run: "sim-1", Model: "strings", Dataset: "simulated", Version: "test"}
-	if err := post.Write(dir, meta, nil); err != nil {
+	if err := WritePosterior(dir, meta, post, nil); err != nil {
 		t.Fatal(err)
 	}
 	// The first parameter rails at 0: its JSON limit is a number and the
 	// second one's (no rail) is null, as NaN cannot be encoded in JSON.
 	var sj struct {
-		Meta       Metadata         `json:"metadata"`
-		Parameters []map[string]any `json:"parameters"`
+		Meta       Metadata `json:"metadata"`
+		Parameters []struct {
+			LimitKind string   `json:"limit_kind"`
+			Limit     *float64 `json:"limit"`
+		} `json:"parameters"`
 	}
 	readJSON(t, filepath.Join(dir, "summary.json"), &sj)
 	if sj.Meta.Run != meta.Run || sj.Meta.Version != meta.Version || sj.Meta.Dataset != meta.Dataset {
 		t.Errorf("metadata %+v, want %+v", sj.Meta, meta)
 	}
-	if len(sj.Parameters) != 3 || sj.Parameters[0]["limit_kind"] != "upper" || sj.Parameters[1]["limit"] != nil {
-		t.Errorf("summary.json parameters: %v", sj.Parameters)
+	if len(sj.Parameters) != 3 || sj.Parameters[0].LimitKind != "upper" || sj.Parameters[0].Limit == nil || sj.Parameters[1].Limit != nil {
+		t.Errorf("summary.json parameters: %+v", sj.Parameters)
 	}
 	var mj struct {
 		Levels []float64   `json:"density_levels"`
@@ -84,7 +89,7 @@ func TestPosteriorWrite(t *testing.T) {
 	if len(ents) != 2+2*3+2*3 {
 		t.Errorf("%d files written, want 14", len(ents))
 	}
-	pts, err := ExclusionCurve(b, a, LinearEdges(-1.5, 1.5, 6), 0.95, 0)
+	pts, err := stats.ExclusionCurve(b, a, stats.LinearEdges(-1.5, 1.5, 6), 0.95, 0)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -102,13 +107,11 @@ func TestPosteriorWrite(t *testing.T) {
 	if err := WriteComparison(dir, meta, rows, "a", 2); err != nil {
 		t.Fatal(err)
 	}
-	var cj struct {
-		Models []map[string]any `json:"models"`
-	}
+	var cj comparisonRead
 	readJSON(t, filepath.Join(dir, "comparison.json"), &cj)
 	// The row's given ln B and reading are written; the missing SS is null.
-	if len(cj.Models) != 2 || cj.Models[1]["ln_b"] != 2.0 || cj.Models[1]["evidence"] != "positive" || cj.Models[0]["ln_z_ss"] != nil {
-		t.Errorf("comparison.json models: %v", cj.Models)
+	if len(cj.Models) != 2 || !eqPtr(cj.Models[1].LnB, 2) || cj.Models[1].Evidence != "positive" || cj.Models[0].LnZSS != nil {
+		t.Errorf("comparison.json models: %+v", cj.Models)
 	}
 	if err := WriteSummaries(filepath.Join(dir, "missing", "deeper"), meta, nil); err == nil {
 		t.Error("writing into a missing directory did not fail")
@@ -130,16 +133,30 @@ func TestAnalyzeErrors(t *testing.T) {
 	inf := [2]float64{math.Inf(-1), math.Inf(1)}
 	for _, c := range []struct {
 		name string
-		ps   []Param
-		o    Options
+		ps   []stats.Param
+		o    stats.Options
 	}{
-		{"no parameters", nil, Options{}},
-		{"length mismatch", []Param{{Name: "a", Bounds: inf, Samples: []float64{1, 2, 3}}, {Name: "b", Bounds: inf, Samples: []float64{1}}}, Options{}},
-		{"unnamed", []Param{{Bounds: inf, Samples: []float64{1, 2, 3}}}, Options{}},
-		{"bad mass", []Param{{Name: "a", Bounds: inf, Samples: []float64{1, 2, 3}}}, Options{Masses: []float64{1.5}}},
+		{"no parameters", nil, stats.Options{}},
+		{"length mismatch", []stats.Param{{Name: "a", Bounds: inf, Samples: []float64{1, 2, 3}}, {Name: "b", Bounds: inf, Samples: []float64{1}}}, stats.Options{}},
+		{"unnamed", []stats.Param{{Bounds: inf, Samples: []float64{1, 2, 3}}}, stats.Options{}},
+		{"bad mass", []stats.Param{{Name: "a", Bounds: inf, Samples: []float64{1, 2, 3}}}, stats.Options{Masses: []float64{1.5}}},
 	} {
-		if _, err := Analyze(c.ps, c.o, nil); err == nil {
+		if _, err := stats.Analyze(c.ps, c.o, nil); err == nil {
 			t.Errorf("%s: no error", c.name)
 		}
 	}
 }
+
+// comparisonRead reads comparison.json back; pointers tell null from 0.
+type comparisonRead struct {
+	Models []struct {
+		LnB      *float64 `json:"ln_b"`
+		LnBErr   *float64 `json:"ln_b_err"`
+		LnZSS    *float64 `json:"ln_z_ss"`
+		Evidence string   `json:"evidence"`
+	} `json:"models"`
+}
+
+// eqPtr reports whether p holds exactly v (a value written by
+// strconv.FormatFloat(v, 'g', -1) reads back exactly).
+func eqPtr(p *float64, v float64) bool { return p != nil && *p == v }

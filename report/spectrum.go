@@ -9,6 +9,8 @@ import (
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
+
+	"tautline/stats"
 )
 
 // A ModelBand is a model's posterior-predictive spectrum: Curves[d][k] is
@@ -53,7 +55,7 @@ func bandQuantiles(m ModelBand) ([5][]float64, error) {
 		}
 		slices.Sort(col)
 		for i, p := range []float64{0.025, 0.16, 0.5, 0.84, 0.975} {
-			q[i][k] = Quantile(col, p)
+			q[i][k] = stats.Quantile(col, p)
 		}
 	}
 	return q, nil
@@ -81,13 +83,21 @@ func band(f, lo, hi []float64) plotter.XYs {
 // predictive bands and median line. It writes stem.png and stem.svg (and
 // stem.pdf when asked), one column wide.
 func SpectrumFigure(stem string, sd SpectrumData, o FigureOptions) ([]string, error) {
+	fig, err := spectrumFigure(sd)
+	if err != nil {
+		return nil, err
+	}
+	return saveFigures(stem, fig, o)
+}
+
+func spectrumFigure(sd SpectrumData) (figure, error) {
 	nb := len(sd.Freq)
 	if nb == 0 || len(sd.BinSamples) != nb {
-		return nil, fmt.Errorf("report: spectrum: %d frequencies but %d bins of samples", nb, len(sd.BinSamples))
+		return figure{}, fmt.Errorf("report: spectrum: %d frequencies but %d bins of samples", nb, len(sd.BinSamples))
 	}
 	for k, f := range sd.Freq {
 		if !(f > 0) || (k > 0 && !(f > sd.Freq[k-1])) {
-			return nil, fmt.Errorf("report: spectrum: frequency[%d] = %g: must be > 0 and increasing", k, f)
+			return figure{}, fmt.Errorf("report: spectrum: frequency[%d] = %g: must be > 0 and increasing", k, f)
 		}
 	}
 	p := newPlot()
@@ -103,9 +113,9 @@ func SpectrumFigure(stem string, sd SpectrumData, o FigureOptions) ([]string, er
 	}
 	ink := palette(0)
 	for k, s := range sd.BinSamples {
-		d, err := KDE1D(s, sd.BinBounds, Options1D{GridPoints: 96})
+		d, err := stats.KDE1D(s, sd.BinBounds, stats.Options1D{GridPoints: 96})
 		if err != nil {
-			return nil, fmt.Errorf("report: spectrum: bin %d: %w", k, err)
+			return figure{}, fmt.Errorf("report: spectrum: bin %d: %w", k, err)
 		}
 		_, pk := d.Peak()
 		lf := math.Log10(sd.Freq[k])
@@ -122,7 +132,7 @@ func SpectrumFigure(stem string, sd SpectrumData, o FigureOptions) ([]string, er
 		}
 		pg, err := plotter.NewPolygon(xy)
 		if err != nil {
-			return nil, fmt.Errorf("report: spectrum: bin %d: %w", k, err)
+			return figure{}, fmt.Errorf("report: spectrum: bin %d: %w", k, err)
 		}
 		pg.Color = gridColour
 		pg.LineStyle = draw.LineStyle{Color: ink.line, Width: vg.Points(0.4)}
@@ -132,17 +142,17 @@ func SpectrumFigure(stem string, sd SpectrumData, o FigureOptions) ([]string, er
 	var lines []plot.Plotter
 	for i, m := range sd.Models {
 		if len(m.Curves) == 0 || len(m.Freq) == 0 {
-			return nil, fmt.Errorf("report: spectrum: model %q has no curves", m.Name)
+			return figure{}, fmt.Errorf("report: spectrum: model %q has no curves", m.Name)
 		}
 		q, err := bandQuantiles(m)
 		if err != nil {
-			return nil, err
+			return figure{}, err
 		}
 		s := palette(i + 1)
 		for j, pair := range [][2]int{{0, 4}, {1, 3}} {
 			pg, err := plotter.NewPolygon(band(m.Freq, q[pair[0]], q[pair[1]]))
 			if err != nil {
-				return nil, fmt.Errorf("report: spectrum: model %q: %w", m.Name, err)
+				return figure{}, fmt.Errorf("report: spectrum: model %q: %w", m.Name, err)
 			}
 			pg.LineStyle.Width = 0
 			pg.Color = s.fillLight
@@ -159,7 +169,7 @@ func SpectrumFigure(stem string, sd SpectrumData, o FigureOptions) ([]string, er
 		}
 		ln, err := plotter.NewLine(med)
 		if err != nil {
-			return nil, fmt.Errorf("report: spectrum: model %q: %w", m.Name, err)
+			return figure{}, fmt.Errorf("report: spectrum: model %q: %w", m.Name, err)
 		}
 		ln.LineStyle = draw.LineStyle{Color: s.line, Width: vg.Points(1.1), Dashes: s.dash}
 		lines = append(lines, ln)
@@ -182,5 +192,6 @@ func SpectrumFigure(stem string, sd SpectrumData, o FigureOptions) ([]string, er
 	p.Legend.XOffs = vg.Points(4)
 	p.Legend.YOffs = vg.Points(4)
 	p.Legend.ThumbnailWidth = vg.Points(16)
-	return saveFigures(stem, ColumnWidth, 2.6*vg.Inch, o, func(dc draw.Canvas) { p.Draw(dc) })
+	factorPowers(p)
+	return figure{ColumnWidth, 2.6 * vg.Inch, func(dc draw.Canvas) { p.Draw(dc) }}, nil
 }

@@ -16,6 +16,7 @@ import (
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/font"
 	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/text"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
 	"gonum.org/v1/plot/vg/vgimg"
@@ -91,16 +92,23 @@ const (
 	tickSize  = 7
 )
 
-// newPlot returns a plot in tautline's style: sans-serif type, thin axes,
-// short inward-looking ticks on a light dotted grid, no title.
+// figureFont is the typeface of every figure text.
+var figureFont = font.Font{Typeface: "Liberation", Variant: "Sans"}
+
+// newPlot returns a plot in tautline's style: sans-serif type set by
+// texText (TeX math between dollar signs), thin axes, short ticks labelled
+// by linearTicks on a light dotted grid, no title.
 func newPlot() *plot.Plot {
 	p := plot.New()
-	sans := font.Font{Typeface: "Liberation", Variant: "Sans"}
+	h := texText{fonts: font.DefaultCache}
 	for _, ax := range []*plot.Axis{&p.X, &p.Y} {
-		ax.Label.TextStyle.Font = font.From(sans, labelSize)
+		ax.Label.TextStyle.Font = font.From(figureFont, labelSize)
 		ax.Label.TextStyle.Color = inkColour
-		ax.Tick.Label.Font = font.From(sans, tickSize)
+		ax.Label.TextStyle.Handler = h
+		ax.Tick.Label.Font = font.From(figureFont, tickSize)
 		ax.Tick.Label.Color = inkColour
+		ax.Tick.Label.Handler = h
+		ax.Tick.Marker = linearTicks{}
 		ax.LineStyle.Width = vg.Points(0.6)
 		ax.LineStyle.Color = inkColour
 		ax.Tick.LineStyle.Width = vg.Points(0.5)
@@ -110,9 +118,17 @@ func newPlot() *plot.Plot {
 	}
 	p.X.Label.Padding = vg.Points(2)
 	p.Y.Label.Padding = vg.Points(2)
-	p.Legend.TextStyle.Font = font.From(sans, tickSize)
-	p.Legend.TextStyle.Color = inkColour
+	p.Title.TextStyle = textStyle(tickSize)
+	p.Legend.TextStyle = textStyle(tickSize)
+	// The library spaces legend entries by the text's height above the
+	// baseline; the padding keeps descenders clear of the entry below.
+	p.Legend.Padding = vg.Length(0.3 * tickSize)
 	return p
+}
+
+// textStyle returns the figures' text style at size pt.
+func textStyle(pt float64) text.Style {
+	return text.Style{Font: font.From(figureFont, vg.Length(pt)), Color: inkColour, Handler: texText{fonts: font.DefaultCache}}
 }
 
 // addGrid puts a light dotted grid behind later plotters.
@@ -138,12 +154,18 @@ func (b blankTicks) Ticks(min, max float64) []plot.Tick {
 	return t
 }
 
-// AxisLabel turns a LaTeX label and a unit into text for a figure axis,
-// e.g. `\log_{10} \rho` and "s" into "log₁₀ ρ [s]" (see PlainLabel).
+// AxisLabel turns a LaTeX label and a unit into text for a figure axis:
+// the label as TeX math, then the unit in brackets, e.g. `\log_{10} \rho`
+// and "s" into "$\log_{10} \rho$ [s]", which the figures typeset with
+// subscripts and Greek letters. Dollar signs in the label are dropped
+// first, so a label may or may not carry them.
 func AxisLabel(label, unit string) string {
-	s := PlainLabel(label)
+	s := ""
+	if l := strings.TrimSpace(strings.ReplaceAll(label, "$", "")); l != "" {
+		s = "$" + l + "$"
+	}
 	if unit != "" {
-		s += " [" + unit + "]"
+		s = strings.TrimSpace(s + " [" + strings.ReplaceAll(unit, "$", "") + "]")
 	}
 	return s
 }
@@ -282,9 +304,38 @@ var (
 		"mathbf": true, "text": true, "textrm": true, "it": true, "bf": true, "left": true, "right": true}
 )
 
-// saveFigures draws a figure of size w × h into every requested format,
-// naming the files stem + "." + format, each written atomically.
-func saveFigures(stem string, w, h vg.Length, o FigureOptions, drawFig func(dc draw.Canvas)) ([]string, error) {
+// A figure is a drawing of a given size, ready to be written in any format.
+type figure struct {
+	w, h vg.Length
+	draw func(dc draw.Canvas)
+}
+
+// figureMargin is kept free along every edge: the plotting library lets
+// the descent of a bottom axis label reach a fraction of a point below its
+// canvas.
+const figureMargin = vg.Length(1.5)
+
+// render draws the figure inside its margin.
+func (f figure) render(dc draw.Canvas) {
+	f.draw(draw.Crop(dc, figureMargin, -figureMargin, figureMargin, -figureMargin))
+}
+
+// pdfItalic works around vgpdf (gonum/plot v0.17), which registers every
+// font under the plain style but asks for italic ones under style "I":
+// an italic face is passed on as a regular font of its own name.
+type pdfItalic struct{ *vgpdf.Canvas }
+
+func (c pdfItalic) FillString(f font.Face, pt vg.Point, s string) {
+	if f.Font.Style != 0 {
+		f.Font.Variant += "Italic"
+		f.Font.Style = 0
+	}
+	c.Canvas.FillString(f, pt, s)
+}
+
+// saveFigures draws fig into every requested format, naming the files
+// stem + "." + format, each written atomically.
+func saveFigures(stem string, fig figure, o FigureOptions) ([]string, error) {
 	o, err := o.withDefaults()
 	if err != nil {
 		return nil, err
@@ -294,6 +345,7 @@ func saveFigures(stem string, w, h vg.Length, o FigureOptions, drawFig func(dc d
 			return nil, fmt.Errorf("report: %w", err)
 		}
 	}
+	w, h := fig.w, fig.h
 	var files []string
 	for _, f := range o.Formats {
 		var c interface {
@@ -307,14 +359,14 @@ func saveFigures(stem string, w, h vg.Length, o FigureOptions, drawFig func(dc d
 		case "svg":
 			c = vgsvg.New(w, h)
 		case "pdf":
-			c = vgpdf.New(w, h)
+			c = pdfItalic{vgpdf.New(w, h)}
 		}
 		dc := draw.New(c)
 		if f != "png" {
 			dc.SetColor(color.White)
 			dc.Fill(dc.Rectangle.Path())
 		}
-		drawFig(dc)
+		fig.render(dc)
 		var buf bytes.Buffer
 		if _, err := c.WriteTo(&buf); err != nil {
 			return files, fmt.Errorf("report: encoding %s.%s: %w", stem, f, err)
@@ -328,24 +380,111 @@ func saveFigures(stem string, w, h vg.Length, o FigureOptions, drawFig func(dc d
 	return files, nil
 }
 
-// plainTicks relabels another ticker's major ticks in the shortest form
-// that keeps six significant figures (so 2500 reads "2500", not "2500.00").
-type plainTicks struct{ plot.Ticker }
+// linearTicks places ticks as plot.DefaultTicks does and labels the major
+// ones by tickLabels, the one number format of every linear axis.
+type linearTicks struct{}
 
-func (p plainTicks) Ticks(min, max float64) []plot.Tick {
-	t := p.Ticker.Ticks(min, max)
+func (linearTicks) Ticks(min, max float64) []plot.Tick {
+	t := plot.DefaultTicks{}.Ticks(min, max)
+	var vals []float64
+	for _, tk := range t {
+		if tk.Label != "" {
+			vals = append(vals, tk.Value)
+		}
+	}
+	labels, _ := tickLabels(vals)
+	k := 0
 	for i := range t {
 		if t[i].Label != "" {
-			t[i].Label = minusSign(strconv.FormatFloat(t[i].Value, 'g', 6, 64))
+			t[i].Label = labels[k]
+			k++
 		}
 	}
 	return t
 }
 
+// tickLabels formats the labelled values of one axis alike: every value
+// with the same number of decimals, the fewest that show each of them to
+// six significant figures (so 3.8, 4.2, 4.6 and 0.0, 0.5, 1.0, never
+// "2500.00"), with a true minus sign. When the values reach 1e5, or all
+// lie below 0.01 in size, the power of ten e of the largest is factored
+// out: the labels are the mantissas and e is returned (0 otherwise) for
+// the axis label to state (see factorPowers).
+func tickLabels(vals []float64) ([]string, int) {
+	out := make([]string, len(vals))
+	var big float64
+	for _, v := range vals {
+		big = math.Max(big, math.Abs(v))
+	}
+	if len(vals) == 0 || !finite(big) {
+		return out, 0
+	}
+	e := 0
+	if big >= 1e5 || (big > 0 && big < 1e-2) {
+		e = int(math.Floor(math.Log10(big)))
+	}
+	sc := math.Pow(10, float64(-e))
+	d := 0
+	for _, v := range vals {
+		s := strconv.FormatFloat(v*sc, 'f', -1, 64)
+		if g := strconv.FormatFloat(v*sc, 'g', 6, 64); !strings.ContainsAny(g, "eE") {
+			s = g
+		}
+		if i := strings.IndexByte(s, '.'); i >= 0 {
+			d = max(d, len(s)-i-1)
+		}
+	}
+	d = min(d, 6)
+	for i, v := range vals {
+		out[i] = minusSign(fixed(v*sc, d))
+	}
+	return out, e
+}
+
+// factorPowers completes the labels of p's linear axes whose tick labels
+// have a power of ten factored out (see tickLabels): the power goes into
+// the unit's brackets, "[$10^{-9}$ Hz]", or into brackets of its own. Call
+// it once the axis ranges are final.
+func factorPowers(p *plot.Plot) {
+	for _, ax := range []*plot.Axis{&p.X, &p.Y} {
+		if _, ok := ax.Tick.Marker.(linearTicks); !ok {
+			continue
+		}
+		var vals []float64
+		for _, t := range (plot.DefaultTicks{}).Ticks(ax.Min, ax.Max) {
+			if t.Label != "" {
+				vals = append(vals, t.Value)
+			}
+		}
+		if _, e := tickLabels(vals); e != 0 {
+			ax.Label.Text = withPower(ax.Label.Text, e)
+		}
+	}
+}
+
+// withPower puts the factor 10^e into an axis label's unit brackets.
+func withPower(label string, e int) string {
+	pow := "$10^{" + strconv.Itoa(e) + "}$"
+	if strings.HasSuffix(label, "]") {
+		if i := strings.LastIndex(label, "["); i >= 0 {
+			return label[:i+1] + pow + " " + label[i+1:]
+		}
+	}
+	return strings.TrimSpace(label + " [" + pow + "]")
+}
+
+// minusSign replaces a leading hyphen by a true minus sign.
+func minusSign(s string) string {
+	if len(s) > 0 && s[0] == '-' {
+		return "−" + s[1:]
+	}
+	return s
+}
+
 // logTicks marks a logarithmic axis with labelled ticks at 1 (and, over
-// shorter ranges, 2, 3 or 5) times powers of ten, written "3e-9" (the
-// figure font has no superscript minus), and unlabelled ticks at the other
-// integer mantissas.
+// shorter ranges, 2, 3 or 5) times powers of ten, written as TeX math
+// ("$3\times 10^{-9}$", "$10^{-8}$"; plain integers from 1 to 1000), and
+// unlabelled ticks at the other integer mantissas.
 type logTicks struct{}
 
 func (logTicks) Ticks(min, max float64) []plot.Tick {
@@ -390,7 +529,10 @@ func powerLabel(m, e int) string {
 	if e >= 0 && e < 4 {
 		return strconv.Itoa(m * int(math.Pow10(e)))
 	}
-	return strconv.Itoa(m) + "e" + strconv.Itoa(e)
+	if m == 1 {
+		return "$10^{" + strconv.Itoa(e) + "}$"
+	}
+	return "$" + strconv.Itoa(m) + `\times 10^{` + strconv.Itoa(e) + "}$"
 }
 
 // legendAbove draws a legend in a strip along the top of dc, outside the

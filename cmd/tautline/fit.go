@@ -18,8 +18,8 @@ import (
 	"github.com/sirupsen/logrus"
 
 	"tautline/chains"
-	"tautline/report"
 	"tautline/sampler"
+	"tautline/stats"
 )
 
 const fitHelp = `
@@ -289,11 +289,11 @@ func summarise(names []string, post []float64, n, dim int) []paramSummary {
 		for _, v := range col {
 			m2 += (v - m) * (v - m)
 		}
-		slices.Sort(col) // report.Quantile takes sorted samples
+		slices.Sort(col) // stats.Quantile takes sorted samples
 		out[k] = paramSummary{
-			Name: names[k], Median: report.Quantile(col, 0.5),
-			Lo68: report.Quantile(col, 0.16), Hi68: report.Quantile(col, 0.84),
-			Lo95: report.Quantile(col, 0.025), Hi95: report.Quantile(col, 0.975),
+			Name: names[k], Median: stats.Quantile(col, 0.5),
+			Lo68: stats.Quantile(col, 0.16), Hi68: stats.Quantile(col, 0.84),
+			Lo95: stats.Quantile(col, 0.025), Hi95: stats.Quantile(col, 0.975),
 			Mean: m, Std: math.Sqrt(m2 / float64(max(n-1, 1))),
 		}
 	}

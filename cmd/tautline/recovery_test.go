@@ -13,8 +13,8 @@ import (
 	"tautline/models/binaries"
 	"tautline/models/gw"
 	"tautline/priors"
-	"tautline/report"
 	"tautline/sampler"
+	"tautline/stats"
 )
 
 // fitSimulated simulates a 15-bin data set from the SMBHB power law with
@@ -88,11 +88,11 @@ func TestRecoveryAndCoverage(t *testing.T) {
 	for s := uint64(1); s <= seeds; s++ {
 		post := fitSimulated(t, 100+s)
 		for k, name := range names {
-			lo, hi := report.Quantile(post[k], 0.025), report.Quantile(post[k], 0.975)
+			lo, hi := stats.Quantile(post[k], 0.025), stats.Quantile(post[k], 0.975)
 			if s == 1 && !(truth[k] > lo && truth[k] < hi) {
 				t.Errorf("seed %d: %s = %g outside the 95 %% interval [%g, %g]", s, name, truth[k], lo, hi)
 			}
-			if lo, hi := report.Quantile(post[k], 0.16), report.Quantile(post[k], 0.84); truth[k] > lo && truth[k] < hi {
+			if lo, hi := stats.Quantile(post[k], 0.16), stats.Quantile(post[k], 0.84); truth[k] > lo && truth[k] < hi {
 				covered[k]++
 			}
 		}

@@ -22,6 +22,7 @@ import (
 	"tautline/priors"
 	"tautline/report"
 	"tautline/sampler/evidence"
+	"tautline/stats"
 )
 
 const reportHelp = `
@@ -130,7 +131,7 @@ func runReport(_ context.Context, e *env, args []string) error {
 		if masses != "" {
 			return fmt.Errorf("%w: --sigma2d and --masses both set the contour masses; give one", errUsage)
 		}
-		o.masses = []float64{report.Mass1Sigma2D, report.Mass2Sigma2D}
+		o.masses = []float64{stats.Mass1Sigma2D, stats.Mass2Sigma2D}
 	}
 	if o.truths, err = reportParseTruths(truths); err != nil {
 		return err
@@ -536,7 +537,7 @@ func (w *reportWriter) writeModel(m *reportModel) error {
 			}
 		}
 	}
-	ps := make([]report.Param, m.cols)
+	ps := make([]stats.Param, m.cols)
 	for k := range ps {
 		pr, err := priors.Parse(m.priors[k])
 		if err != nil {
@@ -547,13 +548,13 @@ func (w *reportWriter) writeModel(m *reportModel) error {
 		for i := range col {
 			col[i] = m.samples[i*m.cols+k]
 		}
-		ps[k] = report.Param{Name: m.names[k], Label: m.labels[k], Unit: m.units[k], Bounds: [2]float64{lo, hi}, Samples: col}
+		ps[k] = stats.Param{Name: m.names[k], Label: m.labels[k], Unit: m.units[k], Bounds: [2]float64{lo, hi}, Samples: col}
 	}
-	post, err := report.Analyze(ps, report.Options{Masses: w.o.masses, SmoothedMass: w.smoothed}, w.stepLog(m.name, "marginals"))
+	post, err := stats.Analyze(ps, stats.Options{Masses: w.o.masses, SmoothedMass: w.smoothed}, w.stepLog(m.name, "marginals"))
 	if err != nil {
 		return err
 	}
-	if err := post.Write(dir, meta, nil); err != nil {
+	if err := report.WritePosterior(dir, meta, post, nil); err != nil {
 		return err
 	}
 	w.add(filepath.Join(dir, "summary.csv"), filepath.Join(dir, "summary.json"))
@@ -639,7 +640,7 @@ func (w *reportWriter) writeSamples(dir string, meta report.Metadata, m *reportM
 
 // writeExclusion writes the conditional upper limit on log10_Gmu in slices
 // of log10_alpha when the model has both.
-func (w *reportWriter) writeExclusion(dir string, meta report.Metadata, m *reportModel, ps []report.Param) error {
+func (w *reportWriter) writeExclusion(dir string, meta report.Metadata, m *reportModel, ps []stats.Param) error {
 	ix, iy := slices.Index(m.names, reportExclX), slices.Index(m.names, reportExclY)
 	if ix < 0 || iy < 0 {
 		return nil
@@ -652,7 +653,7 @@ func (w *reportWriter) writeExclusion(dir string, meta report.Metadata, m *repor
 	if !(hi > lo) {
 		return fmt.Errorf("exclusion curve: %s has no spread", reportExclX)
 	}
-	pts, err := report.ExclusionCurve(x.Samples, y.Samples, report.LinearEdges(lo, hi, w.o.slices), w.o.limitMass, 0)
+	pts, err := stats.ExclusionCurve(x.Samples, y.Samples, stats.LinearEdges(lo, hi, w.o.slices), w.o.limitMass, 0)
 	if err != nil {
 		return err
 	}
@@ -671,7 +672,7 @@ func (w *reportWriter) writeExclusion(dir string, meta report.Metadata, m *repor
 		w.lg.WithField("model", m.name).Warnf("exclusion curve: no slice of %s holds enough samples for a limit; no figure", reportExclX)
 		return nil
 	}
-	w.excl = append(w.excl, report.NamedExclusion{Name: m.name, Points: pts})
+	w.excl = append(w.excl, report.NamedExclusion{Name: m.name, Points: pts, Mass: w.o.limitMass, Prior: m.priors[iy]})
 	w.exclTop = y.Bounds[1]
 	w.exclLbl = [2]string{report.AxisLabel(reportLabel(x.Label, x.Name), x.Unit), report.AxisLabel(reportLabel(y.Label, y.Name), y.Unit)}
 	return nil
@@ -920,7 +921,7 @@ func (w *reportWriter) writeSpectrum() error {
 		for i, p := range reportProbs {
 			q[i] = report.Num(math.NaN())
 			if len(v) > 0 {
-				q[i] = report.Num(report.Quantile(v, p))
+				q[i] = report.Num(stats.Quantile(v, p))
 			}
 		}
 		rows = append(rows, rowJSON{src, ds.Freqs[k], q})

@@ -1,4 +1,4 @@
-package report
+package stats
 
 import (
 	"fmt"
@@ -186,7 +186,7 @@ func linearBin(c []float64, x []float64, a, dx float64) {
 func KDE1D(x []float64, bounds [2]float64, o Options1D) (Density1D, error) {
 	o = o.withDefaults()
 	if bounds[0] > bounds[1] {
-		return Density1D{}, fmt.Errorf("report: prior bounds [%g, %g] are reversed", bounds[0], bounds[1])
+		return Density1D{}, fmt.Errorf("stats: prior bounds [%g, %g] are reversed", bounds[0], bounds[1])
 	}
 	in, dropped := inBounds(x, bounds)
 	if len(in) < 2 {

@@ -1,9 +1,7 @@
-package report
+package stats
 
 import (
 	"fmt"
-	"math"
-	"os"
 )
 
 // Credible masses of the 2-D "1 sigma" and "2 sigma" regions of a bivariate
@@ -86,15 +84,15 @@ func (p *Posterior) Summaries() []Summary {
 // done and the total, n + n(n-1)/2.
 func Analyze(ps []Param, o Options, progress func(done, total int)) (*Posterior, error) {
 	if len(ps) == 0 {
-		return nil, fmt.Errorf("report: no parameters")
+		return nil, fmt.Errorf("stats: no parameters")
 	}
 	n := len(ps[0].Samples)
 	for i, q := range ps {
 		if len(q.Samples) != n {
-			return nil, fmt.Errorf("report: parameter %q has %d samples, %q has %d", q.Name, len(q.Samples), ps[0].Name, n)
+			return nil, fmt.Errorf("stats: parameter %q has %d samples, %q has %d", q.Name, len(q.Samples), ps[0].Name, n)
 		}
 		if q.Name == "" {
-			return nil, fmt.Errorf("report: parameter %d has no name", i)
+			return nil, fmt.Errorf("stats: parameter %d has no name", i)
 		}
 	}
 	masses := o.Masses
@@ -103,7 +101,7 @@ func Analyze(ps []Param, o Options, progress func(done, total int)) (*Posterior,
 	}
 	for _, m := range masses {
 		if !(m > 0 && m < 1) {
-			return nil, fmt.Errorf("report: credible %w, got %g", errMass, m)
+			return nil, fmt.Errorf("stats: credible %w, got %g", errMass, m)
 		}
 	}
 	total := len(ps) + len(ps)*(len(ps)-1)/2
@@ -118,7 +116,7 @@ func Analyze(ps []Param, o Options, progress func(done, total int)) (*Posterior,
 	for _, q := range ps {
 		m, err := Marginalize(q.Name, q.Samples, q.Bounds, o.One)
 		if err != nil {
-			return nil, fmt.Errorf("report: parameter %q: %w", q.Name, err)
+			return nil, fmt.Errorf("stats: parameter %q: %w", q.Name, err)
 		}
 		m.Summary.Label, m.Summary.Unit = q.Label, q.Unit
 		post.Marginals = append(post.Marginals, m)
@@ -128,7 +126,7 @@ func Analyze(ps []Param, o Options, progress func(done, total int)) (*Posterior,
 		for i := 0; i < j; i++ {
 			d, err := KDE2D(ps[i].Samples, ps[j].Samples, ps[i].Bounds, ps[j].Bounds, o.Two)
 			if err != nil {
-				return nil, fmt.Errorf("report: parameters %q, %q: %w", ps[i].Name, ps[j].Name, err)
+				return nil, fmt.Errorf("stats: parameters %q, %q: %w", ps[i].Name, ps[j].Name, err)
 			}
 			levels := d.SampleLevels
 			if o.SmoothedMass {
@@ -144,39 +142,3 @@ func Analyze(ps []Param, o Options, progress func(done, total int)) (*Posterior,
 	}
 	return post, nil
 }
-
-// Write writes the summaries and every 1-D and 2-D marginal as CSV and JSON
-// into dir, creating it if needed. progress, when not nil, is called after
-// each file pair.
-func (p *Posterior) Write(dir string, meta Metadata, progress func(done, total int)) error {
-	if err := os.MkdirAll(dir, 0o755); err != nil {
-		return fmt.Errorf("report: %w", err)
-	}
-	total := 1 + len(p.Marginals) + len(p.Pairs)
-	done := 0
-	step := func() {
-		done++
-		if progress != nil {
-			progress(done, total)
-		}
-	}
-	if err := WriteSummaries(dir, meta, p.Summaries()); err != nil {
-		return err
-	}
-	step()
-	for i, m := range p.Marginals {
-		if err := WriteMarginal1D(dir, meta, p.Params[i].Name, m.Density); err != nil {
-			return err
-		}
-		step()
-	}
-	for _, q := range p.Pairs {
-		if err := WriteMarginal2D(dir, meta, p.Params[q.I].Name, p.Params[q.J].Name, q.Density, p.Masses, q.Levels); err != nil {
-			return err
-		}
-		step()
-	}
-	return nil
-}
-
-func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }

@@ -1,4 +1,4 @@
-package report
+package stats
 
 import (
 	"math"
@@ -214,5 +214,34 @@ func TestRails(t *testing.T) {
 	}
 	if _, err := Marginalize("bad", []float64{1, 2}, [2]float64{4, 3}, Options1D{}); err == nil {
 		t.Error("reversed bounds did not fail")
+	}
+}
+
+func TestKDE1DAgainstNormal(t *testing.T) {
+	// Reference: the normal density (gonum distuv). At n = 1e5 Silverman's
+	// bandwidth is h = 0.09, so the smoothing bias h^2 f''/2 is below
+	// 0.002 and the standard deviation sqrt(f R(K)/(n h)) below 0.004
+	// (Silverman 1986, eqs. 3.18-3.19): 0.02 is a 5 sigma bound.
+	const n = 100000
+	d := distuv.Normal{Mu: 1, Sigma: 1, Src: rand.New(rand.NewPCG(71, 72))}
+	k, err := KDE1D(drawN(d, n), [2]float64{math.Inf(-1), math.Inf(1)}, Options1D{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if k.Rule != RuleSilverman || k.Reflect != [2]bool{} {
+		t.Errorf("rule %q, reflect %v", k.Rule, k.Reflect)
+	}
+	for x := -2.0; x <= 4; x += 0.25 {
+		if got, want := k.At(x), d.Prob(x); math.Abs(got-want) > 0.02 {
+			t.Errorf("density at %g = %.4f, want %.4f", x, got, want)
+		}
+	}
+	// The histogram, normalised as a density, integrates to 1.
+	var s float64
+	for i, h := range k.Hist {
+		s += h * (k.Edges[i+1] - k.Edges[i])
+	}
+	if math.Abs(s-1) > 1e-12 {
+		t.Errorf("histogram integrates to %g", s)
 	}
 }

@@ -1,4 +1,4 @@
-package report
+package stats
 
 import (
 	"fmt"
@@ -68,7 +68,7 @@ type Marginal1D struct {
 func Marginalize(name string, x []float64, bounds [2]float64, o Options1D) (Marginal1D, error) {
 	o = o.withDefaults()
 	if bounds[0] > bounds[1] {
-		return Marginal1D{}, fmt.Errorf("report: prior bounds [%g, %g] are reversed", bounds[0], bounds[1])
+		return Marginal1D{}, fmt.Errorf("stats: prior bounds [%g, %g] are reversed", bounds[0], bounds[1])
 	}
 	in, dropped := inBounds(x, bounds)
 	if len(in) < 2 {
@@ -104,4 +104,15 @@ func Marginalize(name string, x []float64, bounds [2]float64, o Options1D) (Marg
 		sm.Limit = Quantile(s, 1-o.LimitMass)
 	}
 	return Marginal1D{Density: d, Summary: sm}, nil
+}
+
+// LimitKind returns "upper", "lower" or "" for the one-sided limit of s.
+func (s Summary) LimitKind() string {
+	switch s.Rails {
+	case EdgeLower:
+		return "upper"
+	case EdgeUpper:
+		return "lower"
+	}
+	return ""
 }

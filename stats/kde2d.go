@@ -1,4 +1,4 @@
-package report
+package stats
 
 import (
 	"fmt"
@@ -102,7 +102,7 @@ func (d *Density2D) Levels(masses []float64) ([]float64, error) {
 // whatever the bandwidth.
 func (d *Density2D) SampleLevels(masses []float64) ([]float64, error) {
 	if len(d.Counts) != len(d.P) {
-		return nil, fmt.Errorf("report: density has no sample counts")
+		return nil, fmt.Errorf("stats: density has no sample counts")
 	}
 	return d.levels(masses, d.Counts)
 }
@@ -165,10 +165,10 @@ func (d *Density2D) levels(masses, mass []float64) ([]float64, error) {
 func KDE2D(x, y []float64, bx, by [2]float64, o Options2D) (Density2D, error) {
 	o = o.withDefaults()
 	if len(x) != len(y) {
-		return Density2D{}, fmt.Errorf("report: %d x samples but %d y samples", len(x), len(y))
+		return Density2D{}, fmt.Errorf("stats: %d x samples but %d y samples", len(x), len(y))
 	}
 	if bx[0] > bx[1] || by[0] > by[1] {
-		return Density2D{}, fmt.Errorf("report: prior bounds %v or %v are reversed", bx, by)
+		return Density2D{}, fmt.Errorf("stats: prior bounds %v or %v are reversed", bx, by)
 	}
 	xs, ys := make([]float64, 0, len(x)), make([]float64, 0, len(y))
 	for i := range x {

@@ -1,4 +1,4 @@
-package report
+package stats
 
 import (
 	"errors"
@@ -8,8 +8,8 @@ import (
 )
 
 var (
-	errNoSamples = errors.New("report: no finite samples")
-	errMass      = errors.New("report: probability mass must lie in (0, 1)")
+	errNoSamples = errors.New("stats: no finite samples")
+	errMass      = errors.New("stats: probability mass must lie in (0, 1)")
 )
 
 // An Interval is a closed interval [Lo, Hi].
