@@ -22,6 +22,7 @@ import (
 	"tautline/chains"
 	"tautline/likelihood"
 	"tautline/models"
+	"tautline/models/registry"
 	"tautline/sampler"
 	"tautline/sampler/evidence"
 )
@@ -172,8 +173,8 @@ func compare(ctx context.Context, e *env, lg *logrus.Logger, cfg Config, co comp
 		return fmt.Errorf("%w: --evidence-error needs the whole ladder in one block (--rung-blocks 1)", errUsage)
 	}
 	for _, m := range models {
-		if !slices.Contains(modelNames, m) {
-			return fmt.Errorf("%w: --models: unknown model %q; want some of %s", errUsage, m, strings.Join(modelNames, ", "))
+		if !slices.Contains(registry.Names(), m) {
+			return fmt.Errorf("%w: --models: unknown model %q; want some of %s", errUsage, m, strings.Join(registry.Names(), ", "))
 		}
 	}
 	if err := checkSampler(cfg); err != nil {

@@ -19,6 +19,7 @@ import (
 
 	"tautline/chains"
 	"tautline/likelihood"
+	"tautline/models/registry"
 	"tautline/priors"
 	"tautline/report"
 	"tautline/sampler/evidence"
@@ -195,7 +196,7 @@ func reportParseTruths(list []string) (map[string]float64, error) {
 		if !ok || name == "" || val == "" {
 			return nil, fmt.Errorf("%w: --truth %q: want NAME=VALUE", errUsage, s)
 		}
-		v, err := parseNumber(val)
+		v, err := registry.ParseNumber(val)
 		if err != nil {
 			return nil, fmt.Errorf("%w: --truth %s: %v", errUsage, name, err)
 		}
