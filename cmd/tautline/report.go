@@ -22,6 +22,7 @@ import (
 	"tautline/models/registry"
 	"tautline/priors"
 	"tautline/report"
+	"tautline/rundir"
 	"tautline/sampler/evidence"
 )
 
@@ -229,7 +230,7 @@ type reportRun struct {
 	kind   string // "fit" or "compare"
 	dir    string
 	models []*reportModel
-	cmp    *compareResult
+	cmp    *rundir.Comparison
 }
 
 // loadReportRun reads a run folder: meta.json for a fit, compare.json for
@@ -336,7 +337,7 @@ func loadCompareRun(dir, cmpPath string) (*reportRun, error) {
 	if err != nil {
 		return nil, err
 	}
-	var res compareResult
+	var res rundir.Comparison
 	if err := json.Unmarshal(raw, &res); err != nil {
 		return nil, fmt.Errorf("%s: %w", cmpPath, err)
 	}
@@ -351,7 +352,11 @@ func loadCompareRun(dir, cmpPath string) (*reportRun, error) {
 			return nil, err
 		}
 		md := filepath.Join(dir, "models", stem)
-		rm := &reportModel{name: row.Model, stem: stem, cfg: pm.Config, data: res.Data, dataSHA: res.DataSHA256,
+		cfg := defaultConfig()
+		if err := json.Unmarshal(pm.Config, &cfg); err != nil {
+			return nil, fmt.Errorf("%s: part.json of model %s: config: %w", dir, row.Model, err)
+		}
+		rm := &reportModel{name: row.Model, stem: stem, cfg: cfg, data: res.Data, dataSHA: res.DataSHA256,
 			names: pm.Params, priors: pm.Priors, npyPath: filepath.Join(md, "posterior.npy")}
 		rm.labels, rm.units = make([]string, len(rm.names)), make([]string, len(rm.names))
 		if len(rm.priors) != len(rm.names) {
@@ -376,14 +381,14 @@ func loadCompareRun(dir, cmpPath string) (*reportRun, error) {
 
 // reportFindPart returns the part.json of any rung block of model (they share
 // parameters, priors and configuration).
-func reportFindPart(dir, model string) (*partMeta, error) {
+func reportFindPart(dir, model string) (*rundir.Part, error) {
 	matches, _ := filepath.Glob(filepath.Join(dir, "parts", "*", "part.json"))
 	for _, m := range matches {
 		raw, err := os.ReadFile(m)
 		if err != nil {
 			return nil, err
 		}
-		var pm partMeta
+		var pm rundir.Part
 		if err := json.Unmarshal(raw, &pm); err != nil {
 			return nil, fmt.Errorf("%s: %w", m, err)
 		}

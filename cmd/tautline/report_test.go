@@ -18,6 +18,7 @@ import (
 
 	"tautline/chains"
 	"tautline/report"
+	"tautline/rundir"
 )
 
 // reportFiles lists every regular file under dir, relative to it, with
@@ -304,7 +305,7 @@ func TestReportCompare(t *testing.T) {
 		t.Fatalf("compare exit %d: %s", code, errs)
 	}
 	cmpPath := filepath.Join(run, "compare.json")
-	var res compareResult
+	var res rundir.Comparison
 	readJSONFile(t, cmpPath, &res)
 	if len(res.Rows) != 1 {
 		t.Fatalf("compare.json has %d rows", len(res.Rows))
