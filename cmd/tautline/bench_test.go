@@ -2,6 +2,7 @@ package main
 
 import (
 	"math/rand/v2"
+	"tautline/models/registry"
 	"testing"
 )
 
@@ -29,7 +30,7 @@ func benchPosterior(b *testing.B, model string) (*problem, [][]float64) {
 // spectrum, conversion to log10 rho, free-spectrum lookup) across models on
 // the same 30-bin data set; the issue target is strings <= 3 x smbhb.
 func BenchmarkLogLike(b *testing.B) {
-	for _, model := range modelNames {
+	for _, model := range registry.Names() {
 		b.Run(model, func(b *testing.B) {
 			pb, pts := benchPosterior(b, model)
 			b.ReportAllocs()

@@ -6,13 +6,12 @@ import (
 	"io/fs"
 	"os"
 	"path/filepath"
-	"sort"
 	"strings"
 
 	"tautline/likelihood"
 	"tautline/models"
-	"tautline/models/binaries"
 	"tautline/models/gw"
+	"tautline/models/registry"
 	"tautline/priors"
 )
 
@@ -49,97 +48,45 @@ func loadData(spec string) (*likelihood.Dataset, error) {
 	return likelihood.Load(spec)
 }
 
-// defaultData is the demo that suits a model when no data set is named.
-func defaultData(model string) string {
-	if strings.Contains(model, "strings") {
-		return "demo:strings"
+// modelSettings turns the configuration into the registry's settings of
+// the model cfg names.
+func modelSettings(cfg Config) registry.Settings {
+	m, sc, c := cfg.Model, cfg.Model.Strings, cfg.Cosmology
+	return registry.Settings{
+		Name:      m.Name,
+		Binaries:  registry.Binaries{FixGamma: m.FixGamma, Turnover: m.Turnover, FBend: m.FBend, TurnoverKappa: m.TurnoverKappa},
+		Strings:   registry.Strings{Q: sc.Q, Gamma: sc.Gamma, F: sc.F, CEff: sc.CEff, Kappa: sc.Kappa, Modes: sc.Modes, DOF: sc.DOF, Direct: sc.Direct},
+		Cosmology: registry.Cosmology{H0: c.H0, OmegaM: c.OmegaM, TCMB: c.TCMB, Neff: c.Neff},
 	}
-	return "demo:smbhb"
 }
 
-// modelNames lists the models the command line knows.
-var modelNames = []string{"smbhb", "strings", "strings+smbhb"}
-
-// buildModel constructs the model cfg names. progress, if not nil, receives
+// buildModel constructs the model cfg names. logf, if not nil, receives
 // log lines while a string-spectrum table is built.
 func buildModel(cfg Config, logf func(format string, args ...any)) (models.Model, error) {
-	c := cfg.Cosmology
-	if !(c.H0 > 0 && c.H0 < 1000) || !(c.OmegaM > 0 && c.OmegaM < 1) || !(c.TCMB > 0) || !(c.Neff >= 0) {
-		return nil, fmt.Errorf("%w: cosmology: want 0 < --h0 < 1000 km/s/Mpc, 0 < --omega-m < 1, --t-cmb > 0 K and --n-eff >= 0; got %g, %g, %g, %g",
-			errUsage, c.H0, c.OmegaM, c.TCMB, c.Neff)
-	}
-	h0 := gw.H0SI(cfg.Cosmology.H0)
-	smbhb := func() (models.Model, error) {
-		o := binaries.Options{FixGamma: cfg.Model.FixGamma, H0: h0}
-		switch cfg.Model.Turnover {
-		case "", "none":
-		case "fixed":
-			if !(cfg.Model.FBend > 0) {
-				return nil, fmt.Errorf("%w: --turnover fixed needs --f-bend > 0 (Hz), got %g", errUsage, cfg.Model.FBend)
-			}
-			o.Turnover, o.FBend, o.Kappa = true, cfg.Model.FBend, cfg.Model.TurnoverKappa
-		case "fit":
-			o.Turnover, o.FitTurnover = true, true
-		default:
-			return nil, fmt.Errorf("%w: --turnover %q: want none, fixed or fit", errUsage, cfg.Model.Turnover)
-		}
-		return binaries.New(o)
-	}
-	str := func() (models.Model, error) {
-		return buildStrings(cfg, logf)
-	}
-	switch cfg.Model.Name {
-	case "smbhb":
-		return smbhb()
-	case "strings":
-		return str()
-	case "strings+smbhb":
-		s, err := str()
-		if err != nil {
-			return nil, err
-		}
-		b, err := smbhb()
-		if err != nil {
-			return nil, err
-		}
-		return models.Sum("strings+smbhb", s, b)
-	}
-	return nil, fmt.Errorf("%w: model %q: unknown; want one of %s", errUsage, cfg.Model.Name, strings.Join(modelNames, ", "))
+	return registry.Build(modelSettings(cfg), logf)
 }
 
-// resolvePriors returns one prior per model parameter: the model's default
-// unless the configuration names another.
-func resolvePriors(m models.Model, given map[string]string) ([]priors.Prior, error) {
-	ps := m.Params()
-	out := make([]priors.Prior, len(ps))
-	known := map[string]bool{}
-	for i, p := range ps {
-		known[p.Name] = true
-		out[i] = p.Prior
-		if s, ok := given[p.Name]; ok {
-			pr, err := priors.Parse(s)
-			if err != nil {
-				return nil, fmt.Errorf("model.priors.%s: %w", p.Name, err)
-			}
-			out[i] = pr
-		}
+// modelAt builds the configured model and evaluates ln Omega_GW at freqs
+// for the parameters given as NAME=VALUE (the rest from the registry's
+// injection defaults).
+func modelAt(cfg Config, given []string, freqs []float64, logf func(string, ...any)) (models.Model, []float64, []float64, error) {
+	m, err := buildModel(cfg, logf)
+	if err != nil {
+		return nil, nil, nil, err
 	}
-	var unknown []string
-	for k := range given {
-		if !known[k] {
-			unknown = append(unknown, k)
-		}
+	theta, err := registry.ParamValues(m, given)
+	if err != nil {
+		return nil, nil, nil, err
 	}
-	if len(unknown) > 0 {
-		sort.Strings(unknown)
-		names := make([]string, len(ps))
-		for i, p := range ps {
-			names[i] = p.Name
-		}
-		return nil, fmt.Errorf("%w: model.priors: %q is not a parameter of model %s; its parameters are %s",
-			errUsage, unknown[0], m.Name(), strings.Join(names, ", "))
+	sp, err := m.At(freqs)
+	if err != nil {
+		return nil, nil, nil, err
 	}
-	return out, nil
+	ln := make([]float64, len(freqs))
+	if err := sp.LnOmega(theta, ln); err != nil {
+		return nil, nil, nil, fmt.Errorf("model %s at %s: %w", m.Name(), registry.DescribeTheta(m.Params(), theta), err)
+	}
+	return m, theta, ln, nil
 }
 
 // problem is a data set, a model with its priors, and the posterior that
@@ -175,7 +122,7 @@ func buildProblem(cfg Config, logf func(string, ...any)) (*problem, error) {
 func newProblem(cfg Config, ds *likelihood.Dataset, like *likelihood.FreeSpectrum, m models.Model) (*problem, error) {
 	p := problem{data: ds, like: like, model: m}
 	var err error
-	if p.priors, err = resolvePriors(m, cfg.Model.Priors); err != nil {
+	if p.priors, err = registry.ResolvePriors(m, cfg.Model.Priors); err != nil {
 		return nil, err
 	}
 	if p.post, err = likelihood.NewPosterior(m, p.priors, ds, like, gw.H0SI(cfg.Cosmology.H0)); err != nil {

@@ -67,24 +67,3 @@ func TestParseMoves(t *testing.T) {
 		}
 	}
 }
-
-// FuzzDecodePart feeds arbitrary bytes to the reader of compare's part.json
-// files (merge reads them from users' folders): an error naming the file or
-// a part that passes its own checks, never a panic.
-func FuzzDecodePart(f *testing.F) {
-	f.Add([]byte(`{"schema":1,"unit":{"model":"smbhb","model_index":0,"block":0,"blocks":1,"betas":[1,0.5,0]},"walkers":8,"recorded_steps":10,"params":["a"],"priors":["uniform(0, 1)"]}`))
-	f.Add([]byte(`{"schema":1,"unit":{"model":"x","blocks":0}}`))
-	f.Add([]byte(`[]`))
-	f.Fuzz(func(t *testing.T, raw []byte) {
-		pm, err := decodePart("part.json", raw)
-		if err != nil {
-			if !strings.HasPrefix(err.Error(), "part.json") {
-				t.Errorf("error does not name the file: %v", err)
-			}
-			return
-		}
-		if pm.Unit.Block >= pm.Unit.Blocks || len(pm.Unit.Betas) == 0 {
-			t.Errorf("accepted a malformed part: %+v", pm.Unit)
-		}
-	})
-}

@@ -23,6 +23,7 @@ import (
 	"time"
 
 	"gonum.org/v1/gonum/integrate/quad"
+	"tautline/rundir"
 )
 
 // evQuad is one nested Gauss-Legendre quadrature setup: every axis of the
@@ -110,7 +111,7 @@ func evProblem(t *testing.T, data, model string, pri map[string]string) *problem
 
 // evCompare runs `tautline compare` with args and returns compare.json and
 // the output folder.
-func evCompare(t *testing.T, args ...string) (compareResult, string) {
+func evCompare(t *testing.T, args ...string) (rundir.Comparison, string) {
 	t.Helper()
 	dir := t.TempDir()
 	all := append([]string{"compare", "--out", dir, "--log-level", "warn"}, args...)
@@ -120,12 +121,12 @@ func evCompare(t *testing.T, args ...string) (compareResult, string) {
 		t.Fatalf("tautline %s: exit %d: %s", strings.Join(all, " "), code, errs)
 	}
 	t.Logf("tautline %s: %.1f s", strings.Join(args, " "), time.Since(start).Seconds())
-	var res compareResult
+	var res rundir.Comparison
 	readJSONFile(t, filepath.Join(dir, "compare.json"), &res)
 	return res, dir
 }
 
-func evRow(t *testing.T, res compareResult, model string) compareRow {
+func evRow(t *testing.T, res rundir.Comparison, model string) rundir.Row {
 	t.Helper()
 	for _, r := range res.Rows {
 		if r.Model == model {
@@ -133,7 +134,7 @@ func evRow(t *testing.T, res compareResult, model string) compareRow {
 		}
 	}
 	t.Fatalf("compare.json has no row for model %s", model)
-	return compareRow{}
+	return rundir.Row{}
 }
 
 // priorFlags turns NAME -> SPEC into --prior NAME=SPEC arguments.

@@ -2,15 +2,11 @@ package main
 
 import (
 	"context"
-	"crypto/sha256"
-	"encoding/hex"
 	"errors"
 	"flag"
 	"fmt"
-	"math"
 	"os"
 	"path/filepath"
-	"slices"
 	"strings"
 	"text/tabwriter"
 	"time"
@@ -18,8 +14,9 @@ import (
 	"github.com/sirupsen/logrus"
 
 	"tautline/chains"
+	"tautline/report"
+	"tautline/rundir"
 	"tautline/sampler"
-	"tautline/stats"
 )
 
 const fitHelp = `
@@ -64,8 +61,7 @@ func fingerprint(cfg Config, dataSHA string) string {
 	c := cfg
 	c.Sampler.Steps, c.Sampler.Until, c.Sampler.Workers = 0, "", 0
 	c.Sampler.CheckpointEvery, c.Output.FlushEvery, c.Output.Dir = 0, 0, ""
-	h := sha256.Sum256([]byte(dataSHA + "\n" + marshalConfig(c)))
-	return hex.EncodeToString(h[:])
+	return rundir.Fingerprint(dataSHA, marshalConfig(c))
 }
 
 // untilDefaultCap is the step cap of an --until run that names no --steps.
@@ -108,31 +104,31 @@ func fit(ctx context.Context, e *env, lg *logrus.Logger, cfg Config, resume bool
 	if err := os.MkdirAll(cfg.Output.Dir, 0o755); err != nil {
 		return fmt.Errorf("output folder: %w", err)
 	}
-	paths := runPaths(cfg.Output.Dir)
+	paths := rundir.FitPaths(cfg.Output.Dir)
 	columns := append([]string{"step", "walker", "ln_post", "ln_like"}, names...)
 
 	var ens *sampler.Ensemble
 	var w *chains.Writer
 	if resume {
-		ck, err := readCheckpoint(paths.checkpoint)
+		ck, err := rundir.ReadCheckpoint(paths.Checkpoint)
 		if err != nil {
 			return err
 		}
-		if ens, err = sampler.Restore(pb.post, scfg, ck.state); err != nil {
-			return fmt.Errorf("%s: %w (was the configuration or data changed since the run started?)", paths.checkpoint, err)
+		if ens, err = sampler.Restore(pb.post, scfg, ck.State); err != nil {
+			return fmt.Errorf("%s: %w (was the configuration or data changed since the run started?)", paths.Checkpoint, err)
 		}
-		if w, err = chains.Resume(paths.chain, columns, ck.chainOffset); err != nil {
+		if w, err = chains.Resume(paths.Chain, columns, ck.ChainOffset); err != nil {
 			return err
 		}
-		lg.Infof("resuming from step %d (%s)", ens.Steps(), paths.checkpoint)
+		lg.Infof("resuming from step %d (%s)", ens.Steps(), paths.Checkpoint)
 	} else {
-		if _, err := os.Stat(paths.checkpoint); err == nil {
-			return fmt.Errorf("%s exists: this folder holds a run already; continue it with --resume or choose another --out", paths.checkpoint)
+		if _, err := os.Stat(paths.Checkpoint); err == nil {
+			return fmt.Errorf("%s exists: this folder holds a run already; continue it with --resume or choose another --out", paths.Checkpoint)
 		}
 		if ens, err = sampler.New(pb.post, scfg); err != nil {
 			return err
 		}
-		if w, err = chains.Create(paths.chain, columns); err != nil {
+		if w, err = chains.Create(paths.Chain, columns); err != nil {
 			return err
 		}
 	}
@@ -141,7 +137,7 @@ func fit(ctx context.Context, e *env, lg *logrus.Logger, cfg Config, resume bool
 
 	meta := newMeta(cfg, pb, started)
 	meta.Status = "running"
-	if err := writeMeta(paths.meta, meta); err != nil {
+	if err := rundir.WriteMeta(paths.Meta, meta); err != nil {
 		return err
 	}
 
@@ -156,7 +152,7 @@ func fit(ctx context.Context, e *env, lg *logrus.Logger, cfg Config, resume bool
 		if err != nil {
 			return err
 		}
-		return saveCheckpoint(paths.checkpoint, checkpoint{chainOffset: off, state: state})
+		return rundir.WriteCheckpoint(paths.Checkpoint, rundir.Checkpoint{ChainOffset: off, State: state})
 	}
 	prog := newProgress(e, lg, cfg.Sampler.Steps)
 	onStep := func(en *sampler.Ensemble) error {
@@ -206,16 +202,16 @@ func fit(ctx context.Context, e *env, lg *logrus.Logger, cfg Config, resume bool
 	if runErr != nil {
 		meta.Status = "interrupted"
 		meta.End = time.Now()
-		_ = writeMeta(paths.meta, meta)
+		_ = rundir.WriteMeta(paths.Meta, meta)
 		return fmt.Errorf("interrupted at step %d; the checkpoint is saved: continue with the same command and --resume", ens.Steps())
 	}
 
-	post, n := posteriorSamples(res, dim)
-	if err := chains.WriteNPY(paths.posterior, n, dim, post); err != nil {
+	post, n := rundir.PosteriorSamples(res, dim)
+	if err := chains.WriteNPY(paths.Posterior, n, dim, post); err != nil {
 		return err
 	}
-	sum := summarise(names, post, n, dim)
-	if err := writeJSON(paths.summary, map[string]any{"params": sum, "samples": n, "burn": res.Burn, "thin": res.Thin}); err != nil {
+	sum := report.FitSummary(names, post, n, dim)
+	if err := rundir.WriteJSON(paths.Summary, rundir.Summary{Params: sum, Samples: n, Burn: res.Burn, Thin: res.Thin}); err != nil {
 		return err
 	}
 	meta.Status = res.Status.String()
@@ -223,84 +219,17 @@ func fit(ctx context.Context, e *env, lg *logrus.Logger, cfg Config, resume bool
 	meta.Diagnostics = res.Report
 	meta.Timings = append(meta.Timings, chains.Timing{Phase: "sampling", Seconds: sampled.Sub(sampleStart).Seconds()},
 		chains.Timing{Phase: "total", Seconds: time.Since(started).Seconds()})
-	meta.Sampling = map[string]any{"steps": res.Steps, "burn": res.Burn, "thin": res.Thin, "posterior_samples": n,
-		"acceptance": ens.AcceptanceFractions(0), "bandwidth_rule": pb.like.BandwidthRule(), "bandwidths": pb.like.Bandwidths(),
-		"above_range_penalty": pb.like.Penalty(), "until": cfg.Sampler.Until}
-	if err := writeMeta(paths.meta, meta); err != nil {
+	meta.Sampling = &rundir.Sampling{Steps: res.Steps, Burn: res.Burn, Thin: res.Thin, PosteriorSamples: n,
+		Acceptance: ens.AcceptanceFractions(0), BandwidthRule: pb.like.BandwidthRule(), Bandwidths: pb.like.Bandwidths(),
+		Penalty: pb.like.Penalty(), Until: cfg.Sampler.Until}
+	if err := rundir.WriteMeta(paths.Meta, meta); err != nil {
 		return err
 	}
-	printFitSummary(e, cfg, pb, res, sum, n, paths)
+	printFitSummary(e, cfg, pb, res, sum, n)
 	return nil
 }
 
-// runFiles names the files of a run folder.
-type runFiles struct {
-	chain, posterior, summary, meta, checkpoint string
-}
-
-func runPaths(dir string) runFiles {
-	return runFiles{
-		chain:      filepath.Join(dir, "chain.csv"),
-		posterior:  filepath.Join(dir, "posterior.npy"),
-		summary:    filepath.Join(dir, "summary.json"),
-		meta:       filepath.Join(dir, "meta.json"),
-		checkpoint: filepath.Join(dir, "checkpoint.bin"),
-	}
-}
-
-// posteriorSamples returns the burned-in, thinned cold-rung samples as a
-// row-major n x dim matrix.
-func posteriorSamples(res sampler.Result, dim int) ([]float64, int) {
-	h := res.History
-	pos := h.Positions(res.BurnIndex)
-	steps := len(pos) / (h.Walkers() * dim)
-	thin := max(res.Thin, 1)
-	var out []float64
-	n := 0
-	for s := 0; s < steps; s += thin {
-		out = append(out, pos[s*h.Walkers()*dim:(s+1)*h.Walkers()*dim]...)
-		n += h.Walkers()
-	}
-	return out, n
-}
-
-// paramSummary is one parameter's posterior summary.
-type paramSummary struct {
-	Name   string  `json:"name"`
-	Median float64 `json:"median"`
-	Lo68   float64 `json:"lo68"`
-	Hi68   float64 `json:"hi68"`
-	Lo95   float64 `json:"lo95"`
-	Hi95   float64 `json:"hi95"`
-	Mean   float64 `json:"mean"`
-	Std    float64 `json:"std"`
-}
-
-func summarise(names []string, post []float64, n, dim int) []paramSummary {
-	out := make([]paramSummary, dim)
-	col := make([]float64, n)
-	for k := range dim {
-		var m, m2 float64
-		for i := range n {
-			col[i] = post[i*dim+k]
-			m += col[i]
-		}
-		m /= float64(n)
-		for _, v := range col {
-			m2 += (v - m) * (v - m)
-		}
-		slices.Sort(col) // stats.Quantile takes sorted samples
-		out[k] = paramSummary{
-			Name: names[k], Median: stats.Quantile(col, 0.5),
-			Lo68: stats.Quantile(col, 0.16), Hi68: stats.Quantile(col, 0.84),
-			Lo95: stats.Quantile(col, 0.025), Hi95: stats.Quantile(col, 0.975),
-			Mean: m, Std: math.Sqrt(m2 / float64(max(n-1, 1))),
-		}
-	}
-	return out
-}
-
-func printFitSummary(e *env, cfg Config, pb *problem, res sampler.Result, sum []paramSummary, n int, paths runFiles) {
+func printFitSummary(e *env, cfg Config, pb *problem, res sampler.Result, sum []rundir.ParamSummary, n int) {
 	status := res.Status.String()
 	if cfg.Sampler.Until == "" && res.Status == sampler.MaxStepsReached {
 		status = "finished" // no criteria were asked for; the diagnostics below say how well it mixed
@@ -324,5 +253,4 @@ func printFitSummary(e *env, cfg Config, pb *problem, res sampler.Result, sum []
 	}
 	fmt.Fprintf(e.stdout, "\nfiles in %s: chain.csv (all steps), posterior.npy (%d x %d samples), summary.json, meta.json, checkpoint.bin\n",
 		cfg.Output.Dir, n, len(sum))
-	_ = paths
 }

@@ -23,6 +23,8 @@ import (
 	"os/signal"
 	"strings"
 	"syscall"
+
+	"tautline/models/registry"
 )
 
 // command is one subcommand of tautline.
@@ -99,7 +101,7 @@ func run(ctx context.Context, e *env, args []string) int {
 			return 0
 		case errors.Is(err, errSilent):
 			return 2
-		case errors.Is(err, errUsage):
+		case errors.Is(err, errUsage), errors.Is(err, registry.ErrUsage):
 			msg := strings.TrimPrefix(err.Error(), errUsage.Error()+": ")
 			fmt.Fprintf(e.stderr, "tautline %s: %s\nRun 'tautline %s --help' for the options.\n", c.name, msg, c.name)
 			return 2

@@ -9,6 +9,7 @@ import (
 	"path/filepath"
 	"strconv"
 	"strings"
+	"tautline/rundir"
 	"testing"
 )
 
@@ -224,7 +225,7 @@ func TestCompareAdaptLadder(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	var pm partMeta
+	var pm rundir.Part
 	if err := json.Unmarshal(raw, &pm); err != nil {
 		t.Fatal(err)
 	}

@@ -13,6 +13,7 @@ import (
 	"tautline/models/binaries"
 	"tautline/models/gw"
 	"tautline/priors"
+	"tautline/rundir"
 	"tautline/sampler"
 	"tautline/stats"
 )
@@ -65,7 +66,7 @@ func fitSimulated(t *testing.T, seed uint64) [][]float64 {
 	if err != nil {
 		t.Fatal(err)
 	}
-	flat, n := posteriorSamples(res, 2)
+	flat, n := rundir.PosteriorSamples(res, 2)
 	out := [][]float64{make([]float64, n), make([]float64, n)}
 	for i := range n {
 		out[0][i], out[1][i] = flat[2*i], flat[2*i+1]

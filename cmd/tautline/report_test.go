@@ -18,6 +18,7 @@ import (
 
 	"tautline/chains"
 	"tautline/report"
+	"tautline/rundir"
 )
 
 // reportFiles lists every regular file under dir, relative to it, with
@@ -304,7 +305,7 @@ func TestReportCompare(t *testing.T) {
 		t.Fatalf("compare exit %d: %s", code, errs)
 	}
 	cmpPath := filepath.Join(run, "compare.json")
-	var res compareResult
+	var res rundir.Comparison
 	readJSONFile(t, cmpPath, &res)
 	if len(res.Rows) != 1 {
 		t.Fatalf("compare.json has %d rows", len(res.Rows))
@@ -316,7 +317,7 @@ func TestReportCompare(t *testing.T) {
 	alt.LnB, alt.LnBErr = 2.5, math.Hypot(res.Rows[0].TI.Total, alt.TI.Total)
 	alt.Reading = "positive support for alt_model"
 	res.Rows = append(res.Rows, alt)
-	if err := writeJSON(cmpPath, res); err != nil {
+	if err := rundir.WriteJSON(cmpPath, res); err != nil {
 		t.Fatal(err)
 	}
 	if err := os.CopyFS(filepath.Join(run, "models", "alt"), os.DirFS(filepath.Join(run, "models", "smbhb"))); err != nil {
@@ -328,7 +329,7 @@ func TestReportCompare(t *testing.T) {
 	if err := os.MkdirAll(filepath.Join(run, "parts", "alt.block0"), 0o755); err != nil {
 		t.Fatal(err)
 	}
-	if err := writeJSON(filepath.Join(run, "parts", "alt.block0", "part.json"), pm); err != nil {
+	if err := rundir.WriteJSON(filepath.Join(run, "parts", "alt.block0", "part.json"), pm); err != nil {
 		t.Fatal(err)
 	}
 
@@ -463,51 +464,6 @@ func FuzzReportTruths(f *testing.F) {
 			if k == "" || math.IsNaN(v) || math.IsInf(v, 0) {
 				t.Fatalf("%q gave %q = %v", s, k, v)
 			}
-		}
-	})
-}
-
-// FuzzReportCurve checks that the lnl_beta.csv reader never panics and
-// returns columns of equal length.
-func FuzzReportCurve(f *testing.F) {
-	for _, s := range []string{
-		"beta,mean_ln_like,mean_err,var_ln_like,tau_steps,ess\n0,-900,30,1e6,5,97\n1,-60,0.1,2,7,80\n",
-		"beta,mean_ln_like,mean_err\n0.5,-1,0.1\n",
-		"beta,mean_ln_like\n0,1\n",
-		"beta,mean_ln_like,mean_err\n0,x,1\n",
-		"", "\n\n", "beta,mean_ln_like,mean_err\n0,1\n",
-	} {
-		f.Add([]byte(s))
-	}
-	f.Fuzz(func(t *testing.T, raw []byte) {
-		b, m, e, err := reportParseCurve("lnl_beta.csv", raw)
-		if err == nil && (len(b) != len(m) || len(b) != len(e) || len(b) == 0) {
-			t.Fatalf("%d beta, %d means, %d errors", len(b), len(m), len(e))
-		}
-	})
-}
-
-// FuzzReportTraces checks that the thinning chain reader never panics and
-// keeps, per parameter, the same walkers with the same number of steps.
-func FuzzReportTraces(f *testing.F) {
-	for _, s := range []string{
-		"# step,walker,ln_post,ln_like,a,b\n1,0,-1,-1,0.5,2\n1,1,-1,-1,0.6,2\n2,0,-1,-1,0.5,2\n2,1,-1,-1,0.7,3\n",
-		"# step,walker,a\n1,0,1\n", "# step,walker,a\n", "step,walker,a\n1,0,1\n", "# step,walker,a\n1,0\n",
-		"# step,walker,a\n0,0,1\n", "# step,walker,a\n1,-1,1\n", "# step,walker,a\n1,3,x\n", "",
-	} {
-		f.Add([]byte(s), uint8(1))
-	}
-	f.Fuzz(func(t *testing.T, raw []byte, every uint8) {
-		path := filepath.Join(t.TempDir(), "chain.csv")
-		if err := os.WriteFile(path, raw, 0o644); err != nil {
-			t.Fatal(err)
-		}
-		tr, err := reportReadTraces(path, []string{"a"}, max(1, int(every)))
-		if err != nil {
-			return
-		}
-		if len(tr) != 1 || len(tr[0].Walkers) == 0 {
-			t.Fatalf("accepted a chain with no rows: %+v", tr)
 		}
 	})
 }

@@ -6,6 +6,7 @@ import (
 	"strconv"
 	"strings"
 
+	"tautline/models/registry"
 	"tautline/sampler"
 )
 
@@ -149,7 +150,7 @@ func resolveConfig(e *env, name, synopsis, description string, args []string, de
 		cfg.Model.Priors[strings.TrimSpace(k)] = strings.TrimSpace(v)
 	}
 	if cfg.Data == "" {
-		cfg.Data = defaultData(cfg.Model.Name)
+		cfg.Data = registry.DefaultData(cfg.Model.Name)
 	}
 	return cfg, &rf2, fs2, nil
 }

@@ -8,6 +8,7 @@ import (
 	"tautline/likelihood"
 	"tautline/likelihood/simulate"
 	"tautline/models/gw"
+	"tautline/models/registry"
 )
 
 const simulateHelp = `
@@ -62,7 +63,7 @@ func runSimulate(_ context.Context, e *env, args []string) error {
 		return err
 	}
 	ds.Name = *name
-	ds.Provenance = fmt.Sprintf("%s; model %s with %s", ds.Provenance, m.Name(), describeTheta(m.Params(), theta))
+	ds.Provenance = fmt.Sprintf("%s; model %s with %s", ds.Provenance, m.Name(), registry.DescribeTheta(m.Params(), theta))
 	if err := os.MkdirAll(*out, 0o755); err != nil {
 		return fmt.Errorf("output folder: %w", err)
 	}

@@ -12,6 +12,7 @@ import (
 
 	"tautline/models"
 	"tautline/models/gw"
+	"tautline/models/registry"
 )
 
 const spectrumHelp = `
@@ -89,7 +90,7 @@ func runSpectrum(_ context.Context, e *env, args []string) error {
 		w.Flush()
 		return w.Error()
 	case "table":
-		fmt.Fprintf(e.stdout, "# model %s: %s; span %g yr; H0 %g km/s/Mpc\n", m.Name(), describeTheta(m.Params(), theta), *spanYr, cfg.Cosmology.H0)
+		fmt.Fprintf(e.stdout, "# model %s: %s; span %g yr; H0 %g km/s/Mpc\n", m.Name(), registry.DescribeTheta(m.Params(), theta), *spanYr, cfg.Cosmology.H0)
 		tw := tabwriter.NewWriter(e.stdout, 0, 0, 2, ' ', tabwriter.AlignRight)
 		fmt.Fprintln(tw, "f [Hz]\tOmega_GW\th_c\tS(f) [s^3]\tlog10 rho [s]\t")
 		for _, r := range rows {
@@ -115,7 +116,7 @@ func spectrumFreqs(list string, fmin, fmax float64, n int) ([]float64, error) {
 	if strings.TrimSpace(list) != "" {
 		var fs []float64
 		for _, s := range strings.Split(list, ",") {
-			f, err := parseNumber(s)
+			f, err := registry.ParseNumber(s)
 			if err != nil || f <= 0 {
 				return nil, fmt.Errorf("%w: --freqs: %q is not a positive frequency in Hz", errUsage, s)
 			}

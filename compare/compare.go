@@ -1,0 +1,424 @@
+// Package compare computes the evidence of several models on one data set
+// by thermodynamic integration over a ladder of power posteriors (each rung
+// samples prior x likelihood^beta; Lartillot & Philippe 2006, Gelman & Meng
+// 1998), cross-checked by the stepping-stone estimator (Xie et al. 2011),
+// and the Bayes factors against a reference model read on the Kass &
+// Raftery (1995) scale. The estimators themselves live in
+// sampler/evidence; this package plans the work, runs it and merges it.
+//
+// The work is split into units, one model on one block of its ladder, each
+// with its own seed (UnitSeed), so that a comparison gives the same bytes
+// in one process, with any number of workers, or split into tasks whose
+// parts are combined later by Merge. Run folders follow package rundir.
+package compare
+
+import (
+	"context"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"os"
+	"path/filepath"
+	"runtime"
+	"slices"
+	"strings"
+	"sync"
+
+	"tautline/chains"
+	"tautline/rundir"
+	"tautline/sampler"
+	"tautline/sampler/evidence"
+)
+
+// Model is what a comparison needs of one model.
+type Model struct {
+	// Name identifies the model.
+	Name string
+	// Target is the model's posterior over its free parameters.
+	Target sampler.Target
+	// Params and Priors name the free parameters and their priors (in the
+	// syntax of priors.Parse), in Target's order.
+	Params, Priors []string
+	// Fingerprint identifies the model's sampling setup (data and
+	// configuration); it is stored in every checkpoint-able state and in
+	// part.json.
+	Fingerprint string
+	// Config returns the model's configuration as the caller records it in
+	// part.json, given the sampler goroutines a unit ran with (1 when
+	// units run side by side, else Settings.Workers); it must encode as a
+	// JSON object whose member Sampler.Seed is the seed.
+	Config func(samplerWorkers int) any
+}
+
+// Problem is a comparison: several models on one data set.
+type Problem struct {
+	// DataName and DataSHA256 name the data set and its checksum.
+	DataName, DataSHA256 string
+	// Models are the models compared, in the order of the results.
+	Models []Model
+	// Reference is the model the Bayes factors are computed against.
+	Reference string
+	// ID identifies the whole comparison (data, every setting that changes
+	// the result, the seed) but not the task split or the output folder:
+	// parts merge only with parts of the same ID.
+	ID string
+}
+
+// Settings say how a comparison runs.
+type Settings struct {
+	// Rungs and Exponent set the ladder beta_k = (k/(Rungs-1))^Exponent.
+	Rungs    int
+	Exponent float64
+	// Blocks splits every ladder into independent blocks (no swaps across
+	// a block boundary), the units that tasks run apart.
+	Blocks int
+	// Walkers, Steps, Burn (-1: a quarter of Steps) and Thin (0: chosen
+	// from the autocorrelation time) configure every rung.
+	Walkers, Steps, Burn, Thin int
+	// Seed is the comparison's seed; each unit derives its own.
+	Seed uint64
+	// SwapEvery is the number of steps between swap rounds.
+	SwapEvery int
+	// AdaptLadder adapts the inner rungs during burn-in.
+	AdaptLadder bool
+	// ErrorTarget, when > 0, keeps running each model until the total
+	// error of its ln Z is below it, or MaxSteps steps or MaxRungs rungs
+	// are reached. It needs Blocks == 1.
+	ErrorTarget        float64
+	MaxSteps, MaxRungs int
+	// Task and Tasks: Task >= 0 runs only the units i with i % Tasks ==
+	// Task and leaves the results in Out/parts for Merge; Task < 0 runs
+	// every unit and merges.
+	Task, Tasks int
+	// Workers is the number of units run side by side (0: GOMAXPROCS);
+	// with one unit at a time, it is passed to the sampler instead.
+	Workers int
+	// Out is the comparison folder.
+	Out string
+	// Version is the program version recorded in the files.
+	Version string
+	// Reporter receives progress; its nil fields are skipped.
+	Reporter Reporter
+}
+
+// Reporter receives a comparison's progress.
+type Reporter struct {
+	// Sampling is called when a unit starts sampling steps steps; shared
+	// says that other units run at the same time. It returns the function
+	// called after every step and the one called when the pass ends.
+	Sampling func(u rundir.Unit, steps int, shared bool) (step func(done int), end func())
+	// Warnf receives warnings.
+	Warnf func(format string, args ...any)
+	// Pass receives each pass of the ErrorTarget loop.
+	Pass func(u rundir.Unit, p rundir.Pass)
+}
+
+// Plan lists the units of a comparison of models in a fixed order.
+func Plan(models []string, rungs int, exponent float64, blocks int) ([]rundir.Unit, error) {
+	ladder, err := sampler.PowerLadder(rungs, exponent)
+	if err != nil {
+		return nil, err
+	}
+	if blocks < 1 || blocks > rungs {
+		return nil, fmt.Errorf("compare: blocks must be between 1 and the rungs (%d), got %d", rungs, blocks)
+	}
+	var units []rundir.Unit
+	for i, m := range models {
+		for b := range blocks {
+			lo, hi := b*rungs/blocks, (b+1)*rungs/blocks
+			units = append(units, rundir.Unit{Model: m, Index: i, Block: b, Blocks: blocks, Betas: slices.Clone(ladder[lo:hi])})
+		}
+	}
+	return units, nil
+}
+
+// UnitSeed derives a unit's seed from the run seed (a SplitMix64-style
+// finaliser of the mixed indices), so that units are independent and a
+// unit's result does not depend on which task ran it.
+func UnitSeed(seed uint64, model, block int) uint64 {
+	x := seed ^ (uint64(model+1) * 0x9e3779b97f4a7c15) ^ (uint64(block+1) * 0xbf58476d1ce4e5b9)
+	x ^= x >> 31
+	x *= 0x94d049bb133111eb
+	return x ^ (x >> 29)
+}
+
+// CheckOut refuses an output folder that holds parts of another
+// comparison than id: finishing would mix them in (or refuse them) and
+// leave the folder half old, half new. Parts of this same comparison
+// (other tasks, or an earlier identical run) are fine.
+func CheckOut(out, id string) error {
+	matches, _ := rundir.PartFiles(out)
+	for _, m := range matches {
+		raw, err := os.ReadFile(m)
+		if err != nil {
+			return err
+		}
+		pm, err := rundir.DecodePart(m, raw)
+		if err != nil || pm.Comparison != id {
+			return fmt.Errorf("%s holds the results of another comparison (%s); choose another --out, or remove that folder first", out, m)
+		}
+	}
+	return nil
+}
+
+// Run runs the units of p that s.Task selects into s.Out/parts. With
+// s.Task < 0 it then merges them (see Merge) and returns the result;
+// otherwise it returns nil.
+func Run(ctx context.Context, p Problem, s Settings) (*rundir.Comparison, error) {
+	var names []string
+	for _, m := range p.Models {
+		names = append(names, m.Name)
+	}
+	if !slices.Contains(names, p.Reference) {
+		return nil, fmt.Errorf("compare: reference %q is not among the models %s", p.Reference, strings.Join(names, ", "))
+	}
+	if s.ErrorTarget > 0 && s.Blocks > 1 {
+		return nil, errors.New("compare: an error target needs the whole ladder in one block")
+	}
+	units, err := Plan(names, s.Rungs, s.Exponent, s.Blocks)
+	if err != nil {
+		return nil, err
+	}
+	if err := os.MkdirAll(s.Out, 0o755); err != nil {
+		return nil, fmt.Errorf("output folder: %w", err)
+	}
+	var mine []rundir.Unit
+	for i, u := range units {
+		if s.Task < 0 || i%max(s.Tasks, 1) == s.Task {
+			mine = append(mine, u)
+		}
+	}
+	if err := runUnits(ctx, p, s, mine); err != nil {
+		return nil, err
+	}
+	if s.Task >= 0 {
+		return nil, nil
+	}
+	return Merge(s.Out, []string{s.Out}, s.Version)
+}
+
+// runUnits runs independent units side by side, one goroutine each and as
+// many at once as s.Workers allows (default: every CPU), each unit's
+// ensemble then stepping serially: a tempered ensemble's step is too little
+// work to split across goroutines with profit, while independent units
+// scale. Results do not depend on the order or the concurrency, since
+// every unit has its own seed and its own files.
+func runUnits(ctx context.Context, p Problem, s Settings, units []rundir.Unit) error {
+	par := s.Workers
+	if par <= 0 {
+		par = runtime.GOMAXPROCS(0)
+	}
+	par = max(1, min(par, len(units)))
+	samplerWorkers := s.Workers
+	if par > 1 {
+		samplerWorkers = 1
+	}
+	ctx, cancel := context.WithCancel(ctx)
+	defer cancel()
+	errs := make([]error, len(units))
+	sem := make(chan struct{}, par)
+	var wg sync.WaitGroup
+	for i, u := range units {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			sem <- struct{}{}
+			defer func() { <-sem }()
+			if ctx.Err() != nil {
+				return
+			}
+			if err := runUnit(ctx, p, s, u, samplerWorkers, par > 1); err != nil {
+				errs[i] = fmt.Errorf("model %s, rung block %d: %w", u.Model, u.Block, err)
+				cancel()
+			}
+		}()
+	}
+	wg.Wait()
+	for _, err := range errs {
+		if err != nil && !errors.Is(err, context.Canceled) {
+			return err
+		}
+	}
+	for _, err := range errs {
+		if err != nil {
+			return err
+		}
+	}
+	return ctx.Err()
+}
+
+// runUnit samples one unit, with more steps or rungs until the error
+// target is met when there is one, and writes its part folder.
+func runUnit(ctx context.Context, p Problem, s Settings, u rundir.Unit, workers int, shared bool) error {
+	m := p.Models[u.Index]
+	rep := s.Reporter
+	betas := u.Betas
+	steps := s.Steps
+	var passes []rundir.Pass
+	for pass := 0; ; pass++ {
+		burn := s.Burn
+		if burn < 0 {
+			// Every block of a ladder must keep the same steps, so the
+			// burn-in is a fixed share rather than chosen per block.
+			burn = steps / 4
+		}
+		scfg := sampler.Config{
+			Walkers: s.Walkers, Seed: UnitSeed(s.Seed, u.Index, u.Block), Betas: betas,
+			SwapEvery: s.SwapEvery, Workers: workers, Fingerprint: m.Fingerprint,
+		}
+		if s.AdaptLadder && len(betas) > 2 && burn > 0 {
+			scfg.AdaptLadder, scfg.AdaptSteps = true, burn
+		}
+		ens, err := sampler.New(m.Target, scfg)
+		if err != nil {
+			return err
+		}
+		step, end := func(int) {}, func() {}
+		if rep.Sampling != nil {
+			step, end = rep.Sampling(u, steps, shared)
+		}
+		res, err := sampler.Run(ctx, ens, sampler.RunOptions{
+			MaxSteps: steps, Burn: burn, Thin: s.Thin, CheckEvery: max(100, steps/10),
+			OnStep: func(en *sampler.Ensemble) error { step(en.Steps()); return nil },
+		})
+		end()
+		ens.Close()
+		if err != nil {
+			return err
+		}
+		if t := res.Report.MaxTau; 5*t > float64(burn) && rep.Warnf != nil {
+			rep.Warnf("model %s, rung block %d: burn-in of %d steps is under 5 autocorrelation times (tau %.0f); give more --steps", u.Model, u.Block, burn, t)
+		}
+		betas = res.Betas // the frozen ladder, when it adapted
+		ev, evErr := integrate(rungsOf(res, betas))
+		if s.ErrorTarget > 0 && evErr == nil {
+			grown := false
+			betas, steps, grown, passes = advance(s, ev, pass, steps, betas, passes)
+			if rep.Pass != nil {
+				rep.Pass(u, passes[len(passes)-1])
+			}
+			if grown {
+				continue
+			}
+		}
+		return writePart(p, s, u, workers, betas, steps, res, passes)
+	}
+}
+
+// advance records one pass of the error-target loop and, unless the
+// target is met or the caps are reached, grows the steps or the ladder as
+// evidence.Advise suggests.
+func advance(s Settings, ev evidence.Result, pass, steps int, betas []float64, passes []rundir.Pass) ([]float64, int, bool, []rundir.Pass) {
+	adv := evidence.Advise(ev, s.ErrorTarget)
+	cur := rundir.Pass{Pass: pass, Steps: steps, Rungs: len(betas), TotalError: ev.TIHigher.Total, Advice: adv.Reason}
+	if adv.Done {
+		cur.Status = fmt.Sprintf("target %g met: total error %.3g", s.ErrorTarget, ev.TIHigher.Total)
+		return betas, steps, false, append(passes, cur)
+	}
+	grown := false
+	var capped []string
+	if adv.StepsFactor > 1 {
+		if steps < s.MaxSteps {
+			steps = min(s.MaxSteps, int(float64(steps)*adv.StepsFactor+0.5))
+			grown = true
+		} else {
+			capped = append(capped, fmt.Sprintf("--max-steps %d", s.MaxSteps))
+		}
+	}
+	if len(adv.Insert) > 0 {
+		if len(betas) < s.MaxRungs {
+			betas = MergeLadder(betas, adv.Insert, s.MaxRungs)
+			grown = true
+		} else {
+			capped = append(capped, fmt.Sprintf("--max-rungs %d", s.MaxRungs))
+		}
+	}
+	if !grown {
+		cur.Stopped = fmt.Sprintf("cap reached (%s) before the target %g: total error %.3g", strings.Join(capped, ", "), s.ErrorTarget, ev.TIHigher.Total)
+		cur.Status = cur.Stopped
+	}
+	return betas, steps, grown, append(passes, cur)
+}
+
+// MergeLadder adds the betas in extra to the decreasing ladder betas,
+// keeping it decreasing, within (0, 1) for the new ones, and at most maxN
+// long.
+func MergeLadder(betas, extra []float64, maxN int) []float64 {
+	out := slices.Clone(betas)
+	for _, b := range extra {
+		if len(out) >= maxN {
+			break
+		}
+		if !slices.Contains(out, b) && b > 0 && b < 1 {
+			out = append(out, b)
+		}
+	}
+	slices.Sort(out)
+	slices.Reverse(out)
+	return out
+}
+
+// rungsOf turns a run's history into evidence rungs, sorted by increasing
+// beta.
+func rungsOf(res sampler.Result, betas []float64) []evidence.Rung {
+	h := res.History
+	from := res.BurnIndex
+	var rungs []evidence.Rung
+	for r := len(betas) - 1; r >= 0; r-- {
+		ll := h.LnLike(r, from)
+		rungs = append(rungs, evidence.Rung{Beta: betas[r], LnL: ll, Steps: len(ll) / h.Walkers(), Walkers: h.Walkers()})
+	}
+	return rungs
+}
+
+func integrate(rungs []evidence.Rung) (evidence.Result, error) {
+	return evidence.Integrate(rungs, evidence.Options{Synchronous: true})
+}
+
+// writePart writes a unit's part folder: part.json, lnl.npy and, for the
+// block holding beta = 1, posterior.npy.
+func writePart(p Problem, s Settings, u rundir.Unit, workers int, betas []float64, steps int, res sampler.Result, passes []rundir.Pass) error {
+	m := p.Models[u.Index]
+	var cfg json.RawMessage
+	if m.Config != nil {
+		raw, err := json.Marshal(m.Config(workers))
+		if err != nil {
+			return err
+		}
+		cfg = raw
+	}
+	dir := u.Dir(s.Out)
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return err
+	}
+	h := res.History
+	rec := h.Len() - res.BurnIndex
+	var lnl []float64
+	for r := range betas {
+		lnl = append(lnl, h.LnLike(r, res.BurnIndex)...)
+	}
+	if err := chains.WriteNPY(filepath.Join(dir, rundir.LnLFile), len(betas)*rec, h.Walkers(), lnl); err != nil {
+		return err
+	}
+	var models []string
+	for _, mm := range p.Models {
+		models = append(models, mm.Name)
+	}
+	u.Betas = betas
+	pm := rundir.Part{
+		Schema: rundir.PartSchema, Version: s.Version, Unit: u, Reference: p.Reference, Models: models, Fingerprint: m.Fingerprint,
+		Comparison: p.ID, Config: cfg, DataName: p.DataName, DataSHA256: p.DataSHA256, Params: m.Params, Priors: m.Priors,
+		Steps: steps, Walkers: h.Walkers(), BurnIndex: res.BurnIndex, Recorded: rec, Swap: res.SwapAcceptance,
+		Passes: passes,
+	}
+	if betas[0] == 1 {
+		dim := len(pm.Params)
+		post, n := rundir.PosteriorSamples(res, dim)
+		if err := chains.WriteNPY(filepath.Join(dir, rundir.PosteriorFile), n, dim, post); err != nil {
+			return err
+		}
+		rep := res.Report
+		pm.Diagnostics = &rep
+	}
+	return rundir.WriteJSON(filepath.Join(dir, rundir.PartFile), pm)
+}
