@@ -13,6 +13,7 @@ import (
 	"slices"
 	"sync"
 
+	"tautline/internal/atomicfile"
 	"tautline/internal/numeric"
 )
 
@@ -457,7 +458,8 @@ func ReadTable(path string, s Settings) (*Table, error) {
 	return decodeTable(path, b, s)
 }
 
-// WriteFile writes the table to path atomically (temporary file + rename).
+// WriteFile writes the table to path atomically (temporary file, fsync,
+// rename), creating its folder if needed.
 func (t *Table) WriteFile(path string) error {
 	b, err := t.MarshalBinary()
 	if err != nil {
@@ -466,21 +468,7 @@ func (t *Table) WriteFile(path string) error {
 	if err := os.MkdirAll(filepath.Dir(path), 0o755); err != nil {
 		return fmt.Errorf("strings: %w", err)
 	}
-	tmp, err := os.CreateTemp(filepath.Dir(path), filepath.Base(path)+".tmp*")
-	if err != nil {
-		return fmt.Errorf("strings: %w", err)
-	}
-	if _, err := tmp.Write(b); err != nil {
-		tmp.Close()
-		os.Remove(tmp.Name())
-		return fmt.Errorf("strings: %s: %w", path, err)
-	}
-	if err := tmp.Close(); err != nil {
-		os.Remove(tmp.Name())
-		return fmt.Errorf("strings: %s: %w", path, err)
-	}
-	if err := os.Rename(tmp.Name(), path); err != nil {
-		os.Remove(tmp.Name())
+	if err := atomicfile.WriteFile(path, b); err != nil {
 		return fmt.Errorf("strings: %w", err)
 	}
 	return nil
