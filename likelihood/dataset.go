@@ -14,10 +14,6 @@ import (
 // representation may have: fewer cannot support a density estimate.
 const MinSamples = 50
 
-// YearSeconds is the Julian year in seconds (365.25 d), the year used by the
-// span_years key.
-const YearSeconds = 365.25 * 86400
-
 // FreqTolerance is the relative tolerance within which listed frequencies must
 // equal i/T unless the data set declares them irregular.
 const FreqTolerance = 1e-6

@@ -52,7 +52,7 @@
 // DensityFloor (1e-12) times the bin's peak so that zero densities stay
 // finite.
 //
-// Outside the prior range (PHYSICS.md section 5): below lo the per-bin
+// Outside the prior range (docs/physics.md section 5): below lo the per-bin
 // posterior is flat, the noise floor, so ln p_i is clamped to its value at
 // lo; above hi the model is excluded, but samplers need a finite number, so
 // ln p_i(x) = ln p_i(hi) - Penalty (1 + (x - hi)) with Penalty 1000 per bin

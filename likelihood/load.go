@@ -19,6 +19,7 @@ import (
 	"gopkg.in/yaml.v3"
 
 	"tautline/internal/numeric"
+	"tautline/models/gw"
 )
 
 // rawDesc mirrors the description file. Leaves are kept as nodes so that
@@ -287,7 +288,7 @@ func (p *parser) span(raw *rawDesc, ds *Dataset) error {
 	}
 	key, n, unit := "span_seconds", s, 1.0
 	if y.Kind != 0 {
-		key, n, unit = "span_years", y, YearSeconds
+		key, n, unit = "span_years", y, gw.JulianYear
 	}
 	v, err := p.float(n, key)
 	if err != nil {

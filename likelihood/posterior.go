@@ -8,6 +8,7 @@ import (
 	"sync"
 
 	"tautline/models"
+	"tautline/models/gw"
 	"tautline/priors"
 )
 
@@ -109,7 +110,7 @@ func NewPosterior(m models.Model, pri []priors.Prior, ds *Dataset, fs *FreeSpect
 		}
 	}
 	for i, f := range ds.Freqs {
-		p.c[i] = 0.5 * math.Log10(h0*h0/(8*math.Pow(math.Pi, 4)*math.Pow(f, 5)*ds.Span))
+		p.c[i] = gw.Log10RhoOffset(f, h0, ds.Span)
 	}
 	first, err := p.newScratch()
 	if err != nil {

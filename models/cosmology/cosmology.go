@@ -30,20 +30,18 @@ import (
 	"math"
 
 	"tautline/internal/numeric"
+	"tautline/models/gw"
 )
 
 // Physical constants (CODATA 2018 exact or recommended values).
 const (
-	speedOfLight = 299792458.0           // m/s
-	gravitation  = 6.67430e-11           // m^3 kg^-1 s^-2
-	boltzmann    = 1.380649e-23          // J/K
-	hbar         = 1.054571817e-34       // J s
-	electronVolt = 1.602176634e-19       // J
-	megaparsec   = 3.0856775814913673e22 // m
-	// JulianYear is 365.25 days in seconds.
-	JulianYear = 365.25 * 86400.0
+	speedOfLight = 299792458.0     // m/s
+	gravitation  = 6.67430e-11     // m^3 kg^-1 s^-2
+	boltzmann    = 1.380649e-23    // J/K
+	hbar         = 1.054571817e-34 // J s
+	electronVolt = 1.602176634e-19 // J
 	// Gyr is 1e9 Julian years in seconds.
-	Gyr = 1e9 * JulianYear
+	Gyr = 1e9 * gw.JulianYear
 	// kelvinGeV converts a temperature in K to k_B T in GeV.
 	kelvinGeV = boltzmann / electronVolt * 1e-9
 )
@@ -139,7 +137,7 @@ func New(p Params) (*Background, error) {
 		return nil, fmt.Errorf("%w, got %q", errDOF, p.DOF)
 	}
 	b := &Background{p: p}
-	b.h0 = p.H0 * 1e3 / megaparsec
+	b.h0 = gw.H0SI(p.H0)
 	rhoC := 3 * b.h0 * b.h0 / (8 * math.Pi * gravitation) * speedOfLight * speedOfLight // J/m^3
 	aRad := math.Pi * math.Pi * math.Pow(boltzmann, 4) / (15 * math.Pow(hbar, 3) * math.Pow(speedOfLight, 3))
 	b.omegaG = aRad * math.Pow(p.TCMB, 4) / rhoC
