@@ -61,7 +61,8 @@
 // # Posterior
 //
 // Posterior is the sampler's target: priors of the free parameters (point
-// masses, recognised by a FixedValue method, are held fixed and not sampled)
+// masses, priors implementing priors.PointMass, are held fixed and not
+// sampled)
 // times the free-spectrum likelihood of the model, with
 // log10 rho_i = ln Omega_i / (2 ln 10) + 0.5 log10(H0^2 / (8 pi^4 f_i^5 T)).
 // A parameter vector outside the model's domain has LogLike = -Inf, which

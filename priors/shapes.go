@@ -153,7 +153,7 @@ func (t TruncNormal) String() string {
 }
 
 // Fixed is a point mass at Value. It takes no sampled dimension: callers
-// detect it through its FixedValue method.
+// detect it as a PointMass.
 type Fixed struct{ Value float64 }
 
 // LogProb returns 0 at Value and -Inf elsewhere (the log "density" of a

@@ -124,7 +124,7 @@ func TestParams(t *testing.T) {
 	if len(ps) != 2 || ps[0].Name != "log10_A" || ps[1].Name != "gamma" || m.Name() != "smbhb" {
 		t.Fatalf("params %v, name %q", ps, m.Name())
 	}
-	if fx, ok := ps[1].Prior.(interface{ FixedValue() float64 }); !ok || fx.FixedValue() != 13.0/3 {
+	if fx, ok := ps[1].Prior.(priors.PointMass); !ok || fx.FixedValue() != 13.0/3 {
 		t.Errorf("FixGamma: gamma prior %v, want fixed(13/3)", ps[1].Prior)
 	}
 	if ps[0].Prior != (priors.Uniform{Min: -18, Max: -11}) {
