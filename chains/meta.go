@@ -44,6 +44,39 @@ type Meta struct {
 	Diagnostics any `json:"diagnostics"`
 	// Outputs lists the files the run wrote.
 	Outputs []Output `json:"outputs"`
+	// Status is the run's state when the file was written, e.g. running,
+	// interrupted, converged or max-steps; omitted when empty.
+	Status string `json:"status,omitempty"`
+	// Sampling records how the samples were made, filled at the end of a
+	// run; omitted when nil.
+	Sampling *Sampling `json:"sampling,omitempty"`
+}
+
+// Sampling records how a run's posterior samples were drawn and the
+// likelihood settings it used. Every member is always written; the members
+// are in alphabetical order of their JSON names.
+type Sampling struct {
+	// AboveRangePenalty is the likelihood's per-bin log-likelihood cost
+	// above the data's prior range (per dex beyond its top).
+	AboveRangePenalty float64 `json:"above_range_penalty"`
+	// Acceptance is each walker's fraction of accepted proposals on the
+	// untempered rung.
+	Acceptance []float64 `json:"acceptance"`
+	// BandwidthRule names the rule that chose the density bandwidths.
+	BandwidthRule string `json:"bandwidth_rule"`
+	// Bandwidths are the per-bin density bandwidths in log10 rho.
+	Bandwidths []float64 `json:"bandwidths"`
+	// Burn is the number of ensemble steps discarded as burn-in.
+	Burn int `json:"burn"`
+	// PosteriorSamples is the number of samples kept after burn-in and
+	// thinning.
+	PosteriorSamples int `json:"posterior_samples"`
+	// Steps is the number of ensemble steps run.
+	Steps int `json:"steps"`
+	// Thin is the thinning applied after burn-in.
+	Thin int `json:"thin"`
+	// Until is the stopping rule given, empty for a fixed number of steps.
+	Until string `json:"until"`
 }
 
 // DataSet identifies a data file.

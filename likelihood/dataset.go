@@ -6,15 +6,13 @@ import (
 	"math"
 	"slices"
 	"sort"
+
+	"tautline/internal/numeric"
 )
 
 // MinSamples is the fewest posterior samples a bin in the samples
 // representation may have: fewer cannot support a density estimate.
 const MinSamples = 50
-
-// YearSeconds is the Julian year in seconds (365.25 d), the year used by the
-// span_years key.
-const YearSeconds = 365.25 * 86400
 
 // FreqTolerance is the relative tolerance within which listed frequencies must
 // equal i/T unless the data set declares them irregular.
@@ -141,7 +139,7 @@ func (b *Bin) Quantiles(lo, hi float64, ps, dst []float64) []float64 {
 		s := slices.Clone(b.Samples)
 		sort.Float64s(s)
 		for k, p := range ps {
-			dst[k] = empiricalQuantile(s, p)
+			dst[k] = numeric.Quantile(s, p)
 		}
 	case Grid:
 		cdf := gridCDF(b.Grid, b.Density)
@@ -149,10 +147,10 @@ func (b *Bin) Quantiles(lo, hi float64, ps, dst []float64) []float64 {
 			dst[k] = gridQuantile(b.Grid, b.Density, cdf, p)
 		}
 	case Gaussian:
-		a := normCDF((lo - b.Mean) / b.SD)
-		c := normCDF((hi - b.Mean) / b.SD)
+		a := numeric.NormCDF((lo - b.Mean) / b.SD)
+		c := numeric.NormCDF((hi - b.Mean) / b.SD)
 		for k, p := range ps {
-			dst[k] = b.Mean + b.SD*normQuantile(a+p*(c-a))
+			dst[k] = b.Mean + b.SD*numeric.NormQuantile(a+p*(c-a))
 		}
 	default:
 		for k := range ps {
@@ -160,28 +158,6 @@ func (b *Bin) Quantiles(lo, hi float64, ps, dst []float64) []float64 {
 		}
 	}
 	return dst
-}
-
-// empiricalQuantile interpolates linearly between order statistics of the
-// sorted s, placing s[k] at probability k/(n-1).
-func empiricalQuantile(s []float64, p float64) float64 {
-	n := len(s)
-	if n == 0 || math.IsNaN(p) {
-		return math.NaN()
-	}
-	if n == 1 {
-		return s[0]
-	}
-	u := p * float64(n-1)
-	if u <= 0 {
-		return s[0]
-	}
-	if u >= float64(n-1) {
-		return s[n-1]
-	}
-	k := int(u)
-	t := u - float64(k)
-	return s[k] + t*(s[k+1]-s[k])
 }
 
 // gridCDF returns the cumulative mass of the piecewise-linear density d on
@@ -246,9 +222,8 @@ func gridQuantile(x, d, cdf []float64, p float64) float64 {
 	return x[k-1] + t*(x[k]-x[k-1])
 }
 
-func normCDF(z float64) float64 { return 0.5 * math.Erfc(-z/math.Sqrt2) }
-
-func normQuantile(p float64) float64 { return -math.Sqrt2 * math.Erfcinv(2*p) }
+// normCDF is the name freespectrum.go calls numeric.NormCDF by.
+func normCDF(z float64) float64 { return numeric.NormCDF(z) }
 
 // Validate checks a data set built in memory (Load performs the same checks
 // with file and line information). It returns the first problem found.
@@ -257,10 +232,10 @@ func (ds *Dataset) Validate() error {
 	fail := func(format string, a ...any) error {
 		return fmt.Errorf("likelihood: data set %q: "+format, append([]any{name}, a...)...)
 	}
-	if !finite(ds.Span) || ds.Span <= 0 {
+	if !numeric.Finite(ds.Span) || ds.Span <= 0 {
 		return fail("span: must be a finite number of seconds > 0, got %g", ds.Span)
 	}
-	if !finite(ds.PriorMin) || !finite(ds.PriorMax) || ds.PriorMin >= ds.PriorMax {
+	if !numeric.Finite(ds.PriorMin) || !numeric.Finite(ds.PriorMax) || ds.PriorMin >= ds.PriorMax {
 		return fail("prior range: need finite lo < hi, got [%g, %g]", ds.PriorMin, ds.PriorMax)
 	}
 	if len(ds.Freqs) == 0 {
@@ -286,7 +261,7 @@ func (ds *Dataset) Validate() error {
 func checkFreq(f []float64, i int, span float64, irregular bool) string {
 	v := f[i]
 	switch {
-	case !finite(v):
+	case !numeric.Finite(v):
 		return fmt.Sprintf("must be finite, got %g", v)
 	case v <= 0:
 		return fmt.Sprintf("must be > 0, got %g", v)
@@ -313,7 +288,7 @@ func (b *Bin) check(lo, hi float64) error {
 			return fmt.Errorf("%d samples, need at least %d", len(b.Samples), MinSamples)
 		}
 		for k, x := range b.Samples {
-			if !finite(x) {
+			if !numeric.Finite(x) {
 				return fmt.Errorf("sample %d: must be finite, got %g", k, x)
 			}
 			if !in(x) {
@@ -328,7 +303,7 @@ func (b *Bin) check(lo, hi float64) error {
 			return fmt.Errorf("need at least 2 grid points with one density each, got %d points and %d densities", len(b.Grid), len(b.Density))
 		}
 		for k, x := range b.Grid {
-			if !finite(x) {
+			if !numeric.Finite(x) {
 				return fmt.Errorf("grid point %d: must be finite, got %g", k, x)
 			}
 			if !in(x) {
@@ -338,7 +313,7 @@ func (b *Bin) check(lo, hi float64) error {
 				return fmt.Errorf("grid point %d: grid must be strictly increasing, got %g after %g", k, x, b.Grid[k-1])
 			}
 			d := b.Density[k]
-			if !finite(d) {
+			if !numeric.Finite(d) {
 				return fmt.Errorf("density %d: must be finite, got %g", k, d)
 			}
 			if d < 0 {
@@ -349,10 +324,10 @@ func (b *Bin) check(lo, hi float64) error {
 			return fmt.Errorf("density has no positive mass")
 		}
 	case Gaussian:
-		if !finite(b.Mean) || !in(b.Mean) {
+		if !numeric.Finite(b.Mean) || !in(b.Mean) {
 			return fmt.Errorf("mean: must be finite and inside the prior range [%g, %g], got %g", lo, hi, b.Mean)
 		}
-		if !finite(b.SD) || b.SD <= 0 {
+		if !numeric.Finite(b.SD) || b.SD <= 0 {
 			return fmt.Errorf("sd: must be finite and > 0, got %g", b.SD)
 		}
 	default:
@@ -369,5 +344,3 @@ func spread(s []float64) float64 {
 	}
 	return hi - lo
 }
-
-func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }

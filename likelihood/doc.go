@@ -52,7 +52,7 @@
 // DensityFloor (1e-12) times the bin's peak so that zero densities stay
 // finite.
 //
-// Outside the prior range (PHYSICS.md section 5): below lo the per-bin
+// Outside the prior range (docs/physics.md section 5): below lo the per-bin
 // posterior is flat, the noise floor, so ln p_i is clamped to its value at
 // lo; above hi the model is excluded, but samplers need a finite number, so
 // ln p_i(x) = ln p_i(hi) - Penalty (1 + (x - hi)) with Penalty 1000 per bin
@@ -61,7 +61,8 @@
 // # Posterior
 //
 // Posterior is the sampler's target: priors of the free parameters (point
-// masses, recognised by a FixedValue method, are held fixed and not sampled)
+// masses, priors implementing priors.PointMass, are held fixed and not
+// sampled)
 // times the free-spectrum likelihood of the model, with
 // log10 rho_i = ln Omega_i / (2 ln 10) + 0.5 log10(H0^2 / (8 pi^4 f_i^5 T)).
 // A parameter vector outside the model's domain has LogLike = -Inf, which

@@ -4,7 +4,18 @@ import (
 	"strings"
 	"testing"
 
+	"tautline/models"
+	"tautline/models/cosmicstrings"
 	"tautline/priors"
+)
+
+// The optional interfaces NewPosterior looks for are the exported ones, and
+// the project's bounded model and point-mass prior implement them.
+var (
+	_ models.Bounded   = boxedPowerLaw{}
+	_ models.Bounded   = (*cosmicstrings.Model)(nil)
+	_ priors.PointMass = fixed(0)
+	_ priors.PointMass = priors.Fixed{}
 )
 
 // boxedPowerLaw is the test power law with a declared domain, gamma in

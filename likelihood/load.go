@@ -17,6 +17,9 @@ import (
 	"strings"
 
 	"gopkg.in/yaml.v3"
+
+	"tautline/internal/numeric"
+	"tautline/models/gw"
 )
 
 // rawDesc mirrors the description file. Leaves are kept as nodes so that
@@ -269,7 +272,7 @@ func (p *parser) float(n *yaml.Node, key string) (float64, error) {
 			return 0, p.errf(n.Line, key, "must be a number, got %q", n.Value)
 		}
 	}
-	if !finite(v) {
+	if !numeric.Finite(v) {
 		return 0, p.errf(n.Line, key, "must be finite, got %g", v)
 	}
 	return v, nil
@@ -285,7 +288,7 @@ func (p *parser) span(raw *rawDesc, ds *Dataset) error {
 	}
 	key, n, unit := "span_seconds", s, 1.0
 	if y.Kind != 0 {
-		key, n, unit = "span_years", y, YearSeconds
+		key, n, unit = "span_years", y, gw.JulianYear
 	}
 	v, err := p.float(n, key)
 	if err != nil {
@@ -433,7 +436,7 @@ func (p *parser) table(file string, data []byte, kind Representation, header []s
 			if err != nil {
 				return errf(line, "%s: must be a number, got %q", header[k], rec[k])
 			}
-			if !finite(v) {
+			if !numeric.Finite(v) {
 				return errf(line, "%s: must be finite, got %g", header[k], v)
 			}
 			vals[k-1] = v

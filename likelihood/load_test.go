@@ -11,6 +11,8 @@ import (
 	"testing"
 
 	"gonum.org/v1/gonum/stat/distuv"
+
+	"tautline/models/gw"
 )
 
 const dataDir = "../testdata/data"
@@ -162,7 +164,7 @@ func TestWriteRoundTrip(t *testing.T) {
 	irr.Irregular = true
 	irr.Freqs = []float64{1e-8, 2.5e-8, 3e-8}
 	yr := *ds
-	yr.Span = 3 * YearSeconds
+	yr.Span = 3 * gw.JulianYear
 	yr.Freqs = []float64{1 / yr.Span, 2 / yr.Span, 3 / yr.Span}
 	yr.Provenance = "quotes \" and unicode µ: invented"
 	for _, tc := range []struct {

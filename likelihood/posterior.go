@@ -8,18 +8,9 @@ import (
 	"sync"
 
 	"tautline/models"
+	"tautline/models/gw"
 	"tautline/priors"
 )
-
-// fixer is implemented by point-mass priors; such parameters are held at
-// FixedValue and not sampled.
-type fixer interface{ FixedValue() float64 }
-
-// A domainer is a model valid only inside a box of parameter values (a
-// tabulated spectrum, say): Domain gives [lo, hi] per parameter. NewPosterior
-// refuses priors that reach outside it, since the posterior would otherwise
-// be cut off at the box without a word and its evidence normalised wrongly.
-type domainer interface{ Domain() [][2]float64 }
 
 // Posterior is a model's posterior given a free spectrum: the priors of its
 // free parameters times the free-spectrum likelihood. It has the method set
@@ -51,6 +42,9 @@ type scratch struct {
 // NewPosterior builds the target for model m with pri[j] the prior of
 // m.Params()[j] (a nil pri, or a nil entry, selects the parameter's default
 // prior), data ds tabulated as fs, and Hubble constant h0 in s^-1.
+// Parameters whose prior is a priors.PointMass are held at its value and
+// not sampled. When m is models.Bounded, every prior's Bounds must lie
+// inside the model's Domain.
 func NewPosterior(m models.Model, pri []priors.Prior, ds *Dataset, fs *FreeSpectrum, h0 float64) (*Posterior, error) {
 	if m == nil || ds == nil || fs == nil {
 		return nil, errors.New("likelihood: NewPosterior needs a model, a data set and its free spectrum")
@@ -88,14 +82,14 @@ func NewPosterior(m models.Model, pri []priors.Prior, ds *Dataset, fs *FreeSpect
 		par.Prior = pr
 		p.params[j] = par
 		p.pri[j] = pr
-		if fx, ok := pr.(fixer); ok {
+		if fx, ok := pr.(priors.PointMass); ok {
 			p.fixed[j] = fx.FixedValue()
 		} else {
 			p.fixed[j] = math.NaN()
 			p.free = append(p.free, j)
 		}
 	}
-	if d, ok := m.(domainer); ok {
+	if d, ok := m.(models.Bounded); ok {
 		dom := d.Domain()
 		for j, par := range p.params {
 			if j >= len(dom) {
@@ -109,7 +103,7 @@ func NewPosterior(m models.Model, pri []priors.Prior, ds *Dataset, fs *FreeSpect
 		}
 	}
 	for i, f := range ds.Freqs {
-		p.c[i] = 0.5 * math.Log10(h0*h0/(8*math.Pow(math.Pi, 4)*math.Pow(f, 5)*ds.Span))
+		p.c[i] = gw.Log10RhoOffset(f, h0, ds.Span)
 	}
 	first, err := p.newScratch()
 	if err != nil {

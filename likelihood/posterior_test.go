@@ -11,10 +11,12 @@ import (
 	"gonum.org/v1/gonum/stat/distuv"
 	"tautline/models"
 	"tautline/priors"
+
+	"tautline/models/gw"
 )
 
 const (
-	testH0 = 2.1843e-18 // 67.4 km/s/Mpc in s^-1 (PHYSICS.md section 1)
+	testH0 = 2.1843e-18 // 67.4 km/s/Mpc in s^-1 (docs/physics.md section 1)
 	fYr    = 1 / (365.25 * 86400)
 )
 
@@ -37,7 +39,7 @@ func (m powerLaw) At(f []float64) (models.Spectrum, error) {
 
 type plSpec struct{ f []float64 }
 
-// LnOmega uses Omega = (2 pi^2 / (3 H0^2)) f^2 h_c^2 (PHYSICS.md section 5).
+// LnOmega uses Omega = (2 pi^2 / (3 H0^2)) f^2 h_c^2 (docs/physics.md section 5).
 func (s plSpec) LnOmega(theta, out []float64) error {
 	if theta[1] < 0 || theta[1] > 7 {
 		return errDomain
@@ -77,7 +79,7 @@ func (c fixed) FixedValue() float64        { return float64(c) }
 
 // gaussData has n Gaussian bins of sd 0.3 around -7 + 0.1 i.
 func gaussData(n int) *Dataset {
-	ds := &Dataset{Name: "g", Span: 15 * YearSeconds, PriorMin: -10, PriorMax: -4}
+	ds := &Dataset{Name: "g", Span: 15 * gw.JulianYear, PriorMin: -10, PriorMax: -4}
 	for i := range n {
 		ds.Freqs = append(ds.Freqs, float64(i+1)/ds.Span)
 		ds.Bins = append(ds.Bins, Bin{Kind: Gaussian, Mean: -7 + 0.1*float64(i), SD: 0.3})
@@ -105,7 +107,7 @@ func TestPosteriorLogLike(t *testing.T) {
 	tol := float64(len(ds.Bins)) * step * step / (8 * 0.09)
 	for _, x := range [][]float64{{-14.6, 13.0 / 3}, {-14.2, 3}, {-15, 5.5}, {-12.5, 0.5}} {
 		// Independent route: S = h_c^2/(12 pi^2 f^3), rho^2 = S/T
-		// (PHYSICS.md section 5), scored with distuv.Normal truncated to the
+		// (docs/physics.md section 5), scored with distuv.Normal truncated to the
 		// prior range.
 		want := 0.0
 		for i, f := range ds.Freqs {

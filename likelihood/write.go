@@ -3,14 +3,16 @@ package likelihood
 import (
 	"bytes"
 	"fmt"
-	"os"
 	"path/filepath"
 	"strconv"
+
+	"tautline/internal/atomicfile"
 )
 
 // Write stores ds in dir as name.yaml plus one table per representation in
 // use (name-samples.csv, name-grid.csv, name-gaussian.csv). Each file is
-// written to a temporary file in dir and renamed into place, tables first,
+// written to a temporary file in dir, synced and renamed into place (keeping
+// the mode of a file it replaces, else 0644), tables first,
 // so a description never names a missing table. Numbers are written with
 // the shortest representation that reads back exactly, so Load(Write(ds))
 // reproduces ds. Frequencies are written as the harmonics rule when they are
@@ -88,26 +90,10 @@ func Write(dir, name string, ds *Dataset) error {
 	return writeAtomic(filepath.Join(dir, name+".yaml"), y.Bytes())
 }
 
-// writeAtomic writes data to a temporary file beside path and renames it.
+// writeAtomic writes data to path through a temporary file and a rename.
 func writeAtomic(path string, data []byte) error {
-	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".tmp*")
-	if err != nil {
-		return fmt.Errorf("likelihood: %w", err)
-	}
-	tmp := f.Name()
-	_, err = f.Write(data)
-	if err == nil {
-		err = f.Chmod(0o644)
-	}
-	if cerr := f.Close(); err == nil {
-		err = cerr
-	}
-	if err == nil {
-		err = os.Rename(tmp, path)
-	}
-	if err != nil {
-		os.Remove(tmp)
-		return fmt.Errorf("likelihood: write %s: %w", path, err)
+	if err := atomicfile.WriteFile(path, data); err != nil {
+		return fmt.Errorf("likelihood: write %w", err)
 	}
 	return nil
 }

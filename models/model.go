@@ -4,7 +4,9 @@
 //
 // The concrete models live in sub-packages: binaries (the SMBHB power law),
 // strings (the cosmic-string loop network) and their sum (Sum, in this
-// package). Nothing here knows about sampling.
+// package). Optional behaviour is an interface a model may also implement:
+// Bounded for a model valid inside a box of parameters. Nothing here knows
+// about sampling.
 package models
 
 import "tautline/priors"
@@ -34,6 +36,18 @@ type Model interface {
 	// Each call returns an independent Spectrum, so that concurrent users
 	// call At once each.
 	At(f []float64) (Spectrum, error)
+}
+
+// Bounded is implemented by a model that is valid only inside a box of
+// parameter values, a tabulated spectrum say. Domain returns [lo, hi] for
+// each parameter in Params order (infinite ends where unbounded). Its
+// consumers: Sum concatenates the parts' domains, and the likelihood's
+// posterior refuses priors reaching outside it, since the posterior would
+// otherwise be cut off at the box without a word and its evidence
+// normalised wrongly. A model without the method accepts every value (its
+// Spectrum may still reject a point with an error).
+type Bounded interface {
+	Domain() [][2]float64
 }
 
 // A Spectrum evaluates one model at fixed frequencies. It is used by one

@@ -56,14 +56,17 @@ func (s *sum) Name() string { return s.name }
 
 func (s *sum) Params() []Param { return append([]Param(nil), s.params...) }
 
-// Domain concatenates the parts' domains (see likelihood.NewPosterior);
-// a part without one accepts every value.
+// Domain implements Bounded: it concatenates the parts' domains; a part
+// that is not Bounded (or whose Domain has the wrong length) accepts every
+// value.
 func (s *sum) Domain() [][2]float64 {
 	var out [][2]float64
 	for k, m := range s.parts {
-		if d, ok := m.(interface{ Domain() [][2]float64 }); ok && len(d.Domain()) == s.sizes[k] {
-			out = append(out, d.Domain()...)
-			continue
+		if d, ok := m.(Bounded); ok {
+			if dom := d.Domain(); len(dom) == s.sizes[k] {
+				out = append(out, dom...)
+				continue
+			}
 		}
 		for range s.sizes[k] {
 			out = append(out, [2]float64{math.Inf(-1), math.Inf(1)})

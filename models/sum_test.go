@@ -142,3 +142,53 @@ func BenchmarkSumLnOmega30(b *testing.B) {
 		}
 	}
 }
+
+// boxed is toy with a declared domain: c in [-30, 0], slope in [-3, 3].
+type boxed struct{ toy }
+
+func (boxed) Domain() [][2]float64 { return [][2]float64{{-30, 0}, {-3, 3}} }
+
+// badBox declares a domain of the wrong length, which Sum must ignore.
+type badBox struct{ toy }
+
+func (badBox) Domain() [][2]float64 { return [][2]float64{{0, 1}} }
+
+// TestSumBounded: a sum is Bounded, with the Bounded parts' domains in
+// parameter order and unbounded entries for the other parts.
+func TestSumBounded(t *testing.T) {
+	inf := math.Inf(1)
+	cases := []struct {
+		name  string
+		parts []Model
+		want  [][2]float64
+	}{
+		{"bounded then plain", []Model{boxed{toy{"a_"}}, toy{"b_"}},
+			[][2]float64{{-30, 0}, {-3, 3}, {-inf, inf}, {-inf, inf}}},
+		{"plain then bounded", []Model{toy{"a_"}, boxed{toy{"b_"}}},
+			[][2]float64{{-inf, inf}, {-inf, inf}, {-30, 0}, {-3, 3}}},
+		{"wrong length ignored", []Model{badBox{toy{"a_"}}, boxed{toy{"b_"}}},
+			[][2]float64{{-inf, inf}, {-inf, inf}, {-30, 0}, {-3, 3}}},
+	}
+	for _, c := range cases {
+		m, err := Sum("", c.parts...)
+		if err != nil {
+			t.Fatal(err)
+		}
+		b, ok := m.(Bounded)
+		if !ok {
+			t.Fatalf("%s: Sum is not Bounded", c.name)
+		}
+		got := b.Domain()
+		if len(got) != len(c.want) {
+			t.Fatalf("%s: domain %v, want %v", c.name, got, c.want)
+		}
+		for j := range got {
+			if got[j] != c.want[j] {
+				t.Errorf("%s: domain[%d] = %v, want %v", c.name, j, got[j], c.want[j])
+			}
+		}
+	}
+	if _, ok := Model(toy{}).(Bounded); ok {
+		t.Error("toy, which has no Domain method, is Bounded")
+	}
+}

@@ -6,6 +6,8 @@ import (
 	"math"
 	"strconv"
 	"strings"
+
+	"tautline/internal/numeric"
 )
 
 // shapes lists the prior shapes Parse knows, in the order error messages
@@ -126,17 +128,16 @@ func parse(s string) (Prior, error) {
 // accepted as they are. Parse calls Validate; code that builds priors as
 // struct literals should too.
 func Validate(p Prior) error {
-	finite := func(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
 	switch p := p.(type) {
 	case Uniform:
-		if !finite(p.Min) || !finite(p.Max) {
+		if !numeric.Finite(p.Min) || !numeric.Finite(p.Max) {
 			return fmt.Errorf("uniform: bounds must be finite, got min %s, max %s", fmtNum(p.Min), fmtNum(p.Max))
 		}
 		if !(p.Min < p.Max) || math.IsInf(p.Max-p.Min, 0) {
 			return fmt.Errorf("uniform: need min < max, got min %s, max %s", fmtNum(p.Min), fmtNum(p.Max))
 		}
 	case LogUniform:
-		if !finite(p.Min) || !finite(p.Max) {
+		if !numeric.Finite(p.Min) || !numeric.Finite(p.Max) {
 			return fmt.Errorf("log-uniform: bounds must be finite, got min %s, max %s", fmtNum(p.Min), fmtNum(p.Max))
 		}
 		if !(p.Min > 0) {
@@ -146,14 +147,14 @@ func Validate(p Prior) error {
 			return fmt.Errorf("log-uniform: need min < max, got min %s, max %s", fmtNum(p.Min), fmtNum(p.Max))
 		}
 	case Normal:
-		if !finite(p.Mu) || !finite(p.Sigma) {
+		if !numeric.Finite(p.Mu) || !numeric.Finite(p.Sigma) {
 			return fmt.Errorf("normal: mu and sigma must be finite, got mu %s, sigma %s", fmtNum(p.Mu), fmtNum(p.Sigma))
 		}
 		if !(p.Sigma > 0) {
 			return fmt.Errorf("normal: need sigma > 0, got %s", fmtNum(p.Sigma))
 		}
 	case TruncNormal:
-		if !finite(p.Mu) || !finite(p.Sigma) {
+		if !numeric.Finite(p.Mu) || !numeric.Finite(p.Sigma) {
 			return fmt.Errorf("truncnormal: mu and sigma must be finite, got mu %s, sigma %s", fmtNum(p.Mu), fmtNum(p.Sigma))
 		}
 		if !(p.Sigma > 0) {
@@ -167,7 +168,7 @@ func Validate(p Prior) error {
 			return fmt.Errorf("truncnormal: [min, max] = [%s, %s] is too narrow for sigma %s", fmtNum(p.Min), fmtNum(p.Max), fmtNum(p.Sigma))
 		}
 	case Fixed:
-		if !finite(p.Value) {
+		if !numeric.Finite(p.Value) {
 			return fmt.Errorf("fixed: value must be finite, got %s", fmtNum(p.Value))
 		}
 	}

@@ -21,3 +21,10 @@ type Prior interface {
 	// "uniform(-18, -11)".
 	String() string
 }
+
+// PointMass is implemented by a prior that puts all its mass on one value,
+// such as Fixed. A consumer that samples parameters holds such a parameter
+// at FixedValue and gives it no sampled dimension.
+type PointMass interface {
+	FixedValue() float64
+}

@@ -185,9 +185,15 @@ func TestFixed(t *testing.T) {
 		t.Errorf("Fixed.Rand = %g", v)
 	}
 	var q Prior = p
-	f, ok := q.(interface{ FixedValue() float64 })
+	f, ok := q.(PointMass)
 	if !ok || f.FixedValue() != 13.0/3 {
-		t.Errorf("Fixed does not expose FixedValue")
+		t.Errorf("Fixed is not a PointMass at its value")
+	}
+	// The spread-out shapes are not point masses.
+	for _, q := range []Prior{Uniform{0, 1}, LogUniform{1, 2}, Normal{0, 1}, TruncNormal{0, 1, -1, 1}} {
+		if _, ok := q.(PointMass); ok {
+			t.Errorf("%v is a PointMass", q)
+		}
 	}
 	if lo, hi := p.Bounds(); lo != hi || lo != 13.0/3 {
 		t.Errorf("Fixed.Bounds = %g, %g", lo, hi)

@@ -6,6 +6,8 @@ import (
 	"strconv"
 
 	"gonum.org/v1/gonum/mathext"
+
+	"tautline/internal/numeric"
 )
 
 // fmtNum formats v in the shortest form that parses back to the same
@@ -72,8 +74,6 @@ func (u LogUniform) String() string {
 	return "log-uniform(" + fmtNum(u.Min) + ", " + fmtNum(u.Max) + ")"
 }
 
-const lnSqrt2Pi = 0.91893853320467274178032973640561763986139747 // ln sqrt(2 pi)
-
 // Normal is the normal distribution with mean Mu and standard deviation
 // Sigma > 0,
 //
@@ -83,7 +83,7 @@ type Normal struct{ Mu, Sigma float64 }
 // LogProb returns the log density at x.
 func (n Normal) LogProb(x float64) float64 {
 	z := (x - n.Mu) / n.Sigma
-	return -0.5*z*z - math.Log(n.Sigma) - lnSqrt2Pi
+	return -0.5*z*z - math.Log(n.Sigma) - numeric.LnSqrt2Pi
 }
 
 // Rand draws a normal variate.
@@ -115,7 +115,7 @@ func (t TruncNormal) LogProb(x float64) float64 {
 	}
 	z := (x - t.Mu) / t.Sigma
 	a, b := (t.Min-t.Mu)/t.Sigma, (t.Max-t.Mu)/t.Sigma
-	return -0.5*z*z - math.Log(t.Sigma) - lnSqrt2Pi - lnNormMass(a, b)
+	return -0.5*z*z - math.Log(t.Sigma) - numeric.LnSqrt2Pi - lnNormMass(a, b)
 }
 
 // Rand draws from the truncated normal by inverting the distribution
@@ -132,7 +132,7 @@ func (t TruncNormal) Rand(r *rand.Rand) float64 {
 	}
 	var z float64
 	if b > -30 {
-		pa, pb := stdNormCDF(a), stdNormCDF(b)
+		pa, pb := numeric.NormCDF(a), numeric.NormCDF(b)
 		z = mathext.NormalQuantile(pa + (pb-pa)*r.Float64())
 	} else {
 		// Far lower tail: sample |z| from [-b, -a] with Robert's method.
@@ -153,7 +153,7 @@ func (t TruncNormal) String() string {
 }
 
 // Fixed is a point mass at Value. It takes no sampled dimension: callers
-// detect it through its FixedValue method.
+// detect it as a PointMass.
 type Fixed struct{ Value float64 }
 
 // LogProb returns 0 at Value and -Inf elsewhere (the log "density" of a
@@ -177,20 +177,17 @@ func (p Fixed) FixedValue() float64 { return p.Value }
 // String returns "fixed(Value)".
 func (p Fixed) String() string { return "fixed(" + fmtNum(p.Value) + ")" }
 
-// stdNormCDF is Phi(z), accurate in relative terms for z < 0.
-func stdNormCDF(z float64) float64 { return 0.5 * math.Erfc(-z/math.Sqrt2) }
-
 // lnStdNormCDF is ln Phi(z) for any z, using the asymptotic Mills-ratio
 // series (Abramowitz & Stegun 26.2.12) where Phi underflows.
 func lnStdNormCDF(z float64) float64 {
 	if z > -30 {
-		return math.Log(stdNormCDF(z))
+		return math.Log(numeric.NormCDF(z))
 	}
 	// Phi(z) = phi(z)/(-z) (1 - 1/z^2 + 3/z^4 - 15/z^6 + ...); at |z| >= 30
 	// the terms kept are below 1e-11 relative.
 	z2 := 1 / (z * z)
 	s := 1 - z2*(1-3*z2*(1-5*z2*(1-7*z2)))
-	return -0.5*z*z - lnSqrt2Pi - math.Log(-z) + math.Log(s)
+	return -0.5*z*z - numeric.LnSqrt2Pi - math.Log(-z) + math.Log(s)
 }
 
 // lnNormMass returns ln(Phi(b) - Phi(a)) for a <= b.
@@ -201,7 +198,7 @@ func lnNormMass(a, b float64) float64 {
 	// Now a < 0 or the interval straddles 0 with a <= 0.
 	if b > 0 {
 		// Both tails are moderate: direct difference is accurate.
-		return math.Log(1 - stdNormCDF(a) - stdNormCDF(-b))
+		return math.Log(1 - numeric.NormCDF(a) - numeric.NormCDF(-b))
 	}
 	la, lb := lnStdNormCDF(a), lnStdNormCDF(b)
 	return lb + math.Log1p(-math.Exp(la-lb))

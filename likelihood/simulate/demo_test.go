@@ -10,6 +10,8 @@ import (
 	"testing"
 
 	"tautline/likelihood"
+
+	"tautline/models/gw"
 )
 
 var update = flag.Bool("update", false, "rewrite the demo data sets under testdata/data")
@@ -19,7 +21,7 @@ var update = flag.Bool("update", false, "rewrite the demo data sets under testda
 // h_c = 2.4e-15 (f/f_yr)^(-2/3): demo (14 bins, all three representations)
 // and demo30 (30 bins of 400 posterior samples each).
 func demoSets(t *testing.T) map[string]*likelihood.Dataset {
-	arr := Array{Pulsars: 25, Span: 15 * likelihood.YearSeconds, Cadence: 14 * 86400, Sigma: 1e-7, Bins: 30}
+	arr := Array{Pulsars: 25, Span: 15 * gw.JulianYear, Cadence: 14 * 86400, Sigma: 1e-7, Bins: 30}
 	lnO := powerLaw(harmonics(arr), math.Log10(2.4e-15), 13.0/3)
 	grid, err := Run(lnO, arr, h0, 2026, GridOptions{Min: -10, Max: -4, Points: 200})
 	if err != nil {

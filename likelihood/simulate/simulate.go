@@ -38,6 +38,7 @@ import (
 	"math/rand/v2"
 
 	"tautline/likelihood"
+	"tautline/models/gw"
 )
 
 // An Array is an invented timing array.
@@ -95,7 +96,7 @@ func Run(lnOmega []float64, arr Array, h0 float64, seed uint64, grid GridOptions
 	for i := range ds.Freqs {
 		f := float64(i+1) / arr.Span
 		ds.Freqs[i] = f
-		rho2 := h0 * h0 * math.Exp(lnOmega[i]) / (8 * math.Pow(math.Pi, 4) * math.Pow(f, 5) * arr.Span)
+		rho2 := gw.Rho2FromOmega(f, math.Exp(lnOmega[i]), h0, arr.Span)
 		q := (rho2 + sn2) * chi2(r, 2*arr.Pulsars)
 		g, d := GridPosterior(q, arr.Pulsars, sn2, grid.Min, grid.Max, grid.Points)
 		b := likelihood.Bin{Kind: likelihood.Grid, Grid: g, Density: d}

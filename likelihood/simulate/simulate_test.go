@@ -11,10 +11,12 @@ import (
 	"gonum.org/v1/gonum/integrate"
 	"gonum.org/v1/gonum/stat/distuv"
 	"tautline/likelihood"
+
+	"tautline/models/gw"
 )
 
 const (
-	h0  = 2.1843e-18 // 67.4 km/s/Mpc in s^-1 (PHYSICS.md section 1)
+	h0  = 2.1843e-18 // 67.4 km/s/Mpc in s^-1 (docs/physics.md section 1)
 	fYr = 1 / (365.25 * 86400)
 )
 
@@ -114,7 +116,7 @@ func TestCoverage(t *testing.T) {
 	// and central credible intervals are exact confidence intervals (Lindley
 	// 1958 for scale families; from memory). So the injected log10 rho must
 	// fall inside the central 68 % interval in 68.27 % of simulations.
-	arr := Array{Pulsars: 20, Span: 15 * likelihood.YearSeconds, Cadence: 14 * 86400, Sigma: 0, Bins: 10}
+	arr := Array{Pulsars: 20, Span: 15 * gw.JulianYear, Cadence: 14 * 86400, Sigma: 0, Bins: 10}
 	lnO := powerLaw(harmonics(arr), -14.6, 13.0/3)
 	truth := make([]float64, arr.Bins)
 	for i, f := range harmonics(arr) {

@@ -23,13 +23,14 @@ import (
 	"fmt"
 	"math"
 
+	"tautline/internal/numeric"
 	"tautline/models"
 	"tautline/models/gw"
 	"tautline/priors"
 )
 
 // DefaultH0 is the Hubble constant, in km/s/Mpc, used when Options.H0 is
-// zero (Planck 2018 value, as in PHYSICS.md section 2).
+// zero (Planck 2018 value, as in docs/physics.md section 2).
 const DefaultH0 = 67.4
 
 // Gamma0 is the spectral index of GW-driven circular binaries, 13/3.
@@ -98,7 +99,7 @@ func New(o Options) (*PowerLaw, error) {
 			if k == 0 {
 				k = 10.0 / 3
 			}
-			if math.IsNaN(k) || math.IsInf(k, 0) {
+			if !numeric.Finite(k) {
 				return nil, fmt.Errorf("binaries: Kappa must be finite, got %g", o.Kappa)
 			}
 			fb, kappa = priors.Fixed{Value: math.Log10(o.FBend)}, priors.Fixed{Value: k}
@@ -173,7 +174,7 @@ func (s *spectrum) LnOmega(theta, out []float64) error {
 		return errOut
 	}
 	for _, v := range theta {
-		if math.IsNaN(v) || math.IsInf(v, 0) {
+		if !numeric.Finite(v) {
 			return errDomain
 		}
 	}

@@ -9,7 +9,7 @@ import (
 	"tautline/priors"
 )
 
-const fyr = 1 / (365.25 * 86400.0) // f_yr = 1/(Julian year), PHYSICS.md section 1
+const fyr = 1 / (365.25 * 86400.0) // f_yr = 1/(Julian year), docs/physics.md section 1
 
 func spec(t testing.TB, o Options, f []float64) models.Spectrum {
 	t.Helper()
@@ -25,7 +25,7 @@ func spec(t testing.TB, o Options, f []float64) models.Spectrum {
 }
 
 // TestClosedForm evaluates Omega_GW = (2 pi^2/(3 H0^2)) f^2 h_c^2 with h_c
-// from the power law (Phinney 2001; PHYSICS.md sections 4 and 5) at points
+// from the power law (Phinney 2001; docs/physics.md sections 4 and 5) at points
 // worked out by hand; the intermediate factors are written beside each case.
 // Tolerance 1e-9 relative: the hand values keep 11 significant digits.
 func TestClosedForm(t *testing.T) {
@@ -124,7 +124,7 @@ func TestParams(t *testing.T) {
 	if len(ps) != 2 || ps[0].Name != "log10_A" || ps[1].Name != "gamma" || m.Name() != "smbhb" {
 		t.Fatalf("params %v, name %q", ps, m.Name())
 	}
-	if fx, ok := ps[1].Prior.(interface{ FixedValue() float64 }); !ok || fx.FixedValue() != 13.0/3 {
+	if fx, ok := ps[1].Prior.(priors.PointMass); !ok || fx.FixedValue() != 13.0/3 {
 		t.Errorf("FixGamma: gamma prior %v, want fixed(13/3)", ps[1].Prior)
 	}
 	if ps[0].Prior != (priors.Uniform{Min: -18, Max: -11}) {

@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 
+	"tautline/internal/numeric"
 	"tautline/models/cosmology"
 )
 
@@ -73,7 +74,7 @@ func (n *network) cEff(lnti float64) float64 {
 		}
 		return CEffMatter
 	}
-	return lagrange4(n.cTab, (lnti-n.lnTLo)/vosStep)
+	return numeric.Lagrange4(n.cTab, (lnti-n.lnTLo)/vosStep)
 }
 
 // A Direct computes Omega_GW(f) by quadrature, following PHYSICS.md
@@ -219,9 +220,9 @@ func (d *Direct) omega1At(lnf float64) (float64, float64) {
 	if g(lo) < 0 {
 		// Loops born before formation would radiate here: the lower limit
 		// is where t_i reaches the start of the tables.
-		lo = bisect(func(u float64) float64 { v, _ := d.lnTi(u); return v - d.n.lnTLo - formationPad }, lo, hi)
+		lo = numeric.Bisect(func(u float64) float64 { v, _ := d.lnTi(u); return v - d.n.lnTLo - formationPad }, lo, hi, bisectTol, bisectMaxIter)
 	} else {
-		lo = bisect(func(u float64) float64 { return -g(u) }, lo, hi)
+		lo = numeric.Bisect(func(u float64) float64 { return -g(u) }, lo, hi, bisectTol, bisectMaxIter)
 	}
 	d.edges = d.edges[:0]
 	np := int(math.Ceil((hi - lo) / d.panel))
@@ -231,7 +232,7 @@ func (d *Direct) omega1At(lnf float64) (float64, float64) {
 		// C_eff jumps where t_i = t_eq: never integrate across it.
 		if a, _ := d.lnTi(lo); a < d.n.lnTeq {
 			if b, _ := d.lnTi(hi); b > d.n.lnTeq {
-				split = bisect(func(u float64) float64 { v, _ := d.lnTi(u); return v - d.n.lnTeq }, lo, hi)
+				split = numeric.Bisect(func(u float64) float64 { v, _ := d.lnTi(u); return v - d.n.lnTeq }, lo, hi, bisectTol, bisectMaxIter)
 			}
 		}
 	}
@@ -249,21 +250,12 @@ func (d *Direct) omega1At(lnf float64) (float64, float64) {
 	return v, e
 }
 
-// bisect finds the root of an increasing function on [lo, hi].
-func bisect(f func(float64) float64, lo, hi float64) float64 {
-	for range 100 {
-		m := 0.5 * (lo + hi)
-		if f(m) < 0 {
-			lo = m
-		} else {
-			hi = m
-		}
-		if hi-lo < 1e-13 {
-			break
-		}
-	}
-	return 0.5 * (lo + hi)
-}
+// The root searches of the integration limits halve their bracket (in ln t)
+// until it is narrower than bisectTol, at most bisectMaxIter times.
+const (
+	bisectTol     = 1e-13
+	bisectMaxIter = 100
+)
 
 // edgeDepth is how close to the cutoff f_low = 2/(alpha t0) the Omega^(1)
 // grid starts, as a fraction of f_low: Omega^(1) rises linearly from zero
@@ -408,20 +400,4 @@ func (d *Direct) modeSum(f float64) float64 {
 		integral = 0.5*(sa-sLo)*(W(sLo)+wa) + (d.cum[jb] - d.cum[ja]) + 0.5*(sHi-sb)*(wb+W(sHi))
 	}
 	return sum + math.Exp(lnf*(1-q))*integral
-}
-
-// lagrange4 interpolates tab (uniform nodes 0, 1, ...) at fractional index s
-// with the 4-point Lagrange cubic, clamped at the ends.
-func lagrange4(tab []float64, s float64) float64 {
-	n := len(tab)
-	if s <= 0 {
-		return tab[0]
-	}
-	if s >= float64(n-1) {
-		return tab[n-1]
-	}
-	i := min(max(int(s)-1, 0), n-4)
-	u := s - float64(i)
-	p0, p1, p2, p3 := tab[i], tab[i+1], tab[i+2], tab[i+3]
-	return -p0*(u-1)*(u-2)*(u-3)/6 + p1*u*(u-2)*(u-3)/2 - p2*u*(u-1)*(u-3)/2 + p3*u*(u-1)*(u-2)/6
 }

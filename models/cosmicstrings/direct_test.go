@@ -7,6 +7,7 @@ import (
 	"gonum.org/v1/gonum/integrate/quad"
 
 	"tautline/models/cosmology"
+	"tautline/models/gw"
 )
 
 // plateauPairs span eps = alpha/(Gamma Gmu) from 1e-2 to 1e4.
@@ -354,7 +355,7 @@ func BenchmarkDirect30(b *testing.B) {
 	}
 	f := make([]float64, 30)
 	for i := range f {
-		f[i] = float64(i+1) / (15 * cosmology.JulianYear)
+		f[i] = float64(i+1) / (15 * gw.JulianYear)
 	}
 	out := make([]float64, len(f))
 	for b.Loop() {

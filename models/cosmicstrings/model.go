@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 
+	"tautline/internal/numeric"
 	"tautline/models"
 	"tautline/priors"
 )
@@ -95,7 +96,7 @@ func (m *Model) At(f []float64) (models.Spectrum, error) {
 		if !(v >= tableFLo && v <= tableFHi) {
 			return nil, frequencyError{v}
 		}
-		i0, w := lagrangeWeights((math.Log(v)-t.f0)/tableLnFStep, t.nF)
+		i0, w := numeric.Lagrange4Weights((math.Log(v)-t.f0)/tableLnFStep, t.nF)
 		for node := range t.nG * t.nA {
 			row := t.data[node*t.nF+i0:]
 			sp.slice[node*nf+j] = w[0]*float64(row[0]) + w[1]*float64(row[1]) + w[2]*float64(row[2]) + w[3]*float64(row[3])
@@ -127,8 +128,8 @@ func (s *tableSpectrum) LnOmega(theta, out []float64) error {
 		return ErrOutsideTable
 	}
 	t := s.t
-	ig, wg := lagrangeWeights((lg-t.g0)/tableGStep, t.nG)
-	ia, wa := lagrangeWeights((la-t.a0)/tableAStep, t.nA)
+	ig, wg := numeric.Lagrange4Weights((lg-t.g0)/tableGStep, t.nG)
+	ia, wa := numeric.Lagrange4Weights((la-t.a0)/tableAStep, t.nA)
 	shift := -s.kappa * math.Ln10 * lp
 	for j := range out {
 		out[j] = shift

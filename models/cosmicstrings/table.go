@@ -12,6 +12,9 @@ import (
 	"path/filepath"
 	"slices"
 	"sync"
+
+	"tautline/internal/atomicfile"
+	"tautline/internal/numeric"
 )
 
 // Table layout: nodes every 0.2 in log10 Gmu and log10 alpha and every 0.1
@@ -329,18 +332,6 @@ func (t *Table) certifyCells(proto *Direct, opt BuildOptions, maxCells int) (Cer
 	return c, nil
 }
 
-// lagrangeWeights returns the first node index and the 4-point Lagrange
-// weights for fractional index s (node spacing 1).
-func lagrangeWeights(s float64, n int) (i int, w [4]float64) {
-	i = min(max(int(math.Floor(s))-1, 0), n-4)
-	u := s - float64(i)
-	w[0] = -(u - 1) * (u - 2) * (u - 3) / 6
-	w[1] = u * (u - 2) * (u - 3) / 2
-	w[2] = -u * (u - 1) * (u - 3) / 2
-	w[3] = u * (u - 1) * (u - 2) / 6
-	return i, w
-}
-
 // inDomain reports whether the point is inside the table's domain.
 func inDomain(lg, la, lp float64) bool {
 	return lg >= tableGLo && lg <= tableGHi && la >= tableALo && la <= tableAHi && lp <= 0 && lp > -math.MaxFloat64
@@ -356,9 +347,9 @@ func (t *Table) LnOmega(log10Gmu, log10Alpha, log10P, f float64) (float64, error
 	if !(f >= tableFLo && f <= tableFHi) {
 		return 0, frequencyError{f}
 	}
-	ig, wg := lagrangeWeights((log10Gmu-t.g0)/tableGStep, t.nG)
-	ia, wa := lagrangeWeights((log10Alpha-t.a0)/tableAStep, t.nA)
-	iff, wf := lagrangeWeights((lf-t.f0)/tableLnFStep, t.nF)
+	ig, wg := numeric.Lagrange4Weights((log10Gmu-t.g0)/tableGStep, t.nG)
+	ia, wa := numeric.Lagrange4Weights((log10Alpha-t.a0)/tableAStep, t.nA)
+	iff, wf := numeric.Lagrange4Weights((lf-t.f0)/tableLnFStep, t.nF)
 	var v float64
 	for a := range 4 {
 		for b := range 4 {
@@ -467,7 +458,8 @@ func ReadTable(path string, s Settings) (*Table, error) {
 	return decodeTable(path, b, s)
 }
 
-// WriteFile writes the table to path atomically (temporary file + rename).
+// WriteFile writes the table to path atomically (temporary file, fsync,
+// rename), creating its folder if needed.
 func (t *Table) WriteFile(path string) error {
 	b, err := t.MarshalBinary()
 	if err != nil {
@@ -476,21 +468,7 @@ func (t *Table) WriteFile(path string) error {
 	if err := os.MkdirAll(filepath.Dir(path), 0o755); err != nil {
 		return fmt.Errorf("strings: %w", err)
 	}
-	tmp, err := os.CreateTemp(filepath.Dir(path), filepath.Base(path)+".tmp*")
-	if err != nil {
-		return fmt.Errorf("strings: %w", err)
-	}
-	if _, err := tmp.Write(b); err != nil {
-		tmp.Close()
-		os.Remove(tmp.Name())
-		return fmt.Errorf("strings: %s: %w", path, err)
-	}
-	if err := tmp.Close(); err != nil {
-		os.Remove(tmp.Name())
-		return fmt.Errorf("strings: %s: %w", path, err)
-	}
-	if err := os.Rename(tmp.Name(), path); err != nil {
-		os.Remove(tmp.Name())
+	if err := atomicfile.WriteFile(path, b); err != nil {
 		return fmt.Errorf("strings: %w", err)
 	}
 	return nil

@@ -28,20 +28,20 @@ import (
 	"errors"
 	"fmt"
 	"math"
+
+	"tautline/internal/numeric"
+	"tautline/models/gw"
 )
 
 // Physical constants (CODATA 2018 exact or recommended values).
 const (
-	speedOfLight = 299792458.0           // m/s
-	gravitation  = 6.67430e-11           // m^3 kg^-1 s^-2
-	boltzmann    = 1.380649e-23          // J/K
-	hbar         = 1.054571817e-34       // J s
-	electronVolt = 1.602176634e-19       // J
-	megaparsec   = 3.0856775814913673e22 // m
-	// JulianYear is 365.25 days in seconds.
-	JulianYear = 365.25 * 86400.0
+	speedOfLight = 299792458.0     // m/s
+	gravitation  = 6.67430e-11     // m^3 kg^-1 s^-2
+	boltzmann    = 1.380649e-23    // J/K
+	hbar         = 1.054571817e-34 // J s
+	electronVolt = 1.602176634e-19 // J
 	// Gyr is 1e9 Julian years in seconds.
-	Gyr = 1e9 * JulianYear
+	Gyr = 1e9 * gw.JulianYear
 	// kelvinGeV converts a temperature in K to k_B T in GeV.
 	kelvinGeV = boltzmann / electronVolt * 1e-9
 )
@@ -137,7 +137,7 @@ func New(p Params) (*Background, error) {
 		return nil, fmt.Errorf("%w, got %q", errDOF, p.DOF)
 	}
 	b := &Background{p: p}
-	b.h0 = p.H0 * 1e3 / megaparsec
+	b.h0 = gw.H0SI(p.H0)
 	rhoC := 3 * b.h0 * b.h0 / (8 * math.Pi * gravitation) * speedOfLight * speedOfLight // J/m^3
 	aRad := math.Pi * math.Pi * math.Pow(boltzmann, 4) / (15 * math.Pow(hbar, 3) * math.Pow(speedOfLight, 3))
 	b.omegaG = aRad * math.Pow(p.TCMB, 4) / rhoC
@@ -194,7 +194,7 @@ func (b *Background) dofInterp(tab []float64, T float64) float64 {
 	if b.p.DOF == DOFConstant {
 		return tab[0]
 	}
-	return lagrange4(tab, (math.Log(T)-lnTGMin)/lnTGStep)
+	return numeric.Lagrange4(tab, (math.Log(T)-lnTGMin)/lnTGStep)
 }
 
 // lnEntropyT returns ln(T g*s(T)^(1/3)) for ln T (GeV).
@@ -224,19 +224,8 @@ func (b *Background) solveLnTemp(x float64) float64 {
 			return lt
 		}
 	}
-	lo, hi := target-math.Log(200.0)/3, target
-	for range bisectMax {
-		mid := 0.5 * (lo + hi)
-		if b.lnEntropyT(mid) < target {
-			lo = mid
-		} else {
-			hi = mid
-		}
-		if hi-lo < 1e-13 {
-			break
-		}
-	}
-	return 0.5 * (lo + hi)
+	f := func(lt float64) float64 { return b.lnEntropyT(lt) - target }
+	return numeric.Bisect(f, target-math.Log(200.0)/3, target, 1e-13, bisectMax)
 }
 
 func (b *Background) gdofAtLnTemp(lt float64) float64 {
@@ -328,17 +317,12 @@ func (b *Background) tabulateExpansion() error {
 	}
 
 	// Matter-radiation equality: Omega_m (1+z)^3 = Omega_r Gdof (1+z)^4.
-	lo, hi := -20.0, 0.0
-	for range bisectMax {
-		mid := 0.5 * (lo + hi)
-		g := math.Exp(b.interpLnA(b.lnGdof, mid))
-		if b.omegaR*g*math.Exp(-mid) > b.p.OmegaM {
-			lo = mid
-		} else {
-			hi = mid
-		}
+	// Omega_m - Omega_r Gdof e^(-ln a) rises through zero at equality; run
+	// all bisectMax halvings (tolerance 0).
+	eq := func(x float64) float64 {
+		return b.p.OmegaM - b.omegaR*math.Exp(b.interpLnA(b.lnGdof, x))*math.Exp(-x)
 	}
-	b.zeq = math.Exp(-0.5*(lo+hi)) - 1
+	b.zeq = math.Exp(-numeric.Bisect(eq, -20, 0, 0, bisectMax)) - 1
 	for i := 1; i < m; i++ {
 		if !(b.lnAOfT[i] > b.lnAOfT[i-1]) {
 			return errors.New("cosmology: internal error: a(t) table not increasing")
@@ -396,28 +380,6 @@ func hermite(p0, p1, m0, m1, u, h float64) (v, d float64) {
 	v = (2*u3-3*u2+1)*p0 + (u3-2*u2+u)*m0 + (-2*u3+3*u2)*p1 + (u3-u2)*m1
 	d = ((6*u2-6*u)*p0 + (3*u2-4*u+1)*m0 + (-6*u2+6*u)*p1 + (3*u2-2*u)*m1) / h
 	return v, d
-}
-
-// lagrange4 interpolates tab (uniform nodes 0, 1, ...) at fractional index s
-// with the 4-point Lagrange cubic, clamped at the ends.
-func lagrange4(tab []float64, s float64) float64 {
-	n := len(tab)
-	if s <= 0 {
-		return tab[0]
-	}
-	if s >= float64(n-1) {
-		return tab[n-1]
-	}
-	i := int(s) - 1
-	if i < 0 {
-		i = 0
-	}
-	if i > n-4 {
-		i = n - 4
-	}
-	u := s - float64(i)
-	p0, p1, p2, p3 := tab[i], tab[i+1], tab[i+2], tab[i+3]
-	return -p0*(u-1)*(u-2)*(u-3)/6 + p1*u*(u-2)*(u-3)/2 - p2*u*(u-1)*(u-3)/2 + p3*u*(u-1)*(u-2)/6
 }
 
 // H0SI returns H0 in s^-1.

@@ -16,7 +16,7 @@ func planck(t testing.TB, dof string) *Background {
 	return b
 }
 
-// TestAgeAndEquality compares with Planck 2018 results VI (PHYSICS.md
+// TestAgeAndEquality compares with Planck 2018 results VI (docs/physics.md
 // section 2): t0 = 13.787 +- 0.020 Gyr, z_eq = 3387 +- 21.
 func TestAgeAndEquality(t *testing.T) {
 	b := planck(t, DOFStandardModel)
@@ -26,15 +26,15 @@ func TestAgeAndEquality(t *testing.T) {
 		tol       float64
 	}{
 		// 0.5 %: our background omits massive neutrinos and the full fit's
-		// parameter correlations (PHYSICS.md section 2 expects this level).
+		// parameter correlations (docs/physics.md section 2 expects this level).
 		{"age t0 [Gyr]", b.Age() / Gyr, 13.787, 0.005},
 		// 2 %: z_eq depends on Omega_m h^2 / Omega_r h^2, which the
 		// simplified default parameters reproduce to about 1 %.
 		{"z_eq", b.Zeq(), 3387, 0.02},
-		// H0 = 67.4 km/s/Mpc = 2.1843e-18 s^-1 (PHYSICS.md section 1);
+		// H0 = 67.4 km/s/Mpc = 2.1843e-18 s^-1 (docs/physics.md section 1);
 		// 1e-4 is the rounding of the quoted value.
 		{"H0 [s^-1]", b.H0SI(), 2.1843e-18, 1e-4},
-		// Omega_r about 9.21e-5 (PHYSICS.md section 2); 0.5 % covers the
+		// Omega_r about 9.21e-5 (docs/physics.md section 2); 0.5 % covers the
 		// rounding of the quoted value and of the constants.
 		{"Omega_r", b.OmegaR(), 9.21e-5, 0.005},
 	}
@@ -109,7 +109,7 @@ func TestPowerLaws(t *testing.T) {
 	}
 }
 
-// TestGStarLimits checks the Standard Model limits of PHYSICS.md section 2
+// TestGStarLimits checks the Standard Model limits of docs/physics.md section 2
 // (standard textbook values, e.g. Kolb & Turner 1990, ch. 3).
 func TestGStarLimits(t *testing.T) {
 	b := planck(t, DOFStandardModel)
@@ -126,7 +126,7 @@ func TestGStarLimits(t *testing.T) {
 		{"g* below muons", b.GStar(5e-3), 10.75, 3e-3},
 		{"g*s below muons", b.GStarS(5e-3), 10.75, 3e-3},
 		// Today: 2 + (7/4) Neff (4/11)^(4/3) = 3.38 for Neff = 3.046
-		// (PHYSICS.md); 0.3 % is the rounding of the quoted value.
+		// (docs/physics.md); 0.3 % is the rounding of the quoted value.
 		{"g*0", b.GStar(1e-9), 3.38, 3e-3},
 		// 3.91 is the Neff = 3 entropy value; we attribute the excess
 		// 0.046 to a neutrino temperature shift, giving 3.93: 1 %.
@@ -138,7 +138,7 @@ func TestGStarLimits(t *testing.T) {
 		}
 	}
 	// Gdof at the highest temperatures: (106.75/3.38)(3.91/106.75)^(4/3)
-	// about 0.39 (PHYSICS.md section 3); 2 % covers the g*s0 convention.
+	// about 0.39 (docs/physics.md section 3); 2 % covers the g*s0 convention.
 	if g := b.Gdof(1e17); math.Abs(g/0.39-1) > 0.02 {
 		t.Errorf("Gdof(high T) = %.4f, want about 0.39", g)
 	}
@@ -151,7 +151,7 @@ func TestGStarLimits(t *testing.T) {
 	if g := b.Gdof(0); math.Abs(g-1) > 1e-6 {
 		t.Errorf("Gdof(0) = %.8f, want 1", g)
 	}
-	// Entropy conservation: T a g*s^(1/3) is constant (PHYSICS.md section 2).
+	// Entropy conservation: T a g*s^(1/3) is constant (docs/physics.md section 2).
 	for _, z := range []float64{0, 1e5, 1e9, 1e11, 1e12, 1e13, 1e15} {
 		T := b.T(z)
 		c := T / (1 + z) * math.Cbrt(b.GStarS(T))

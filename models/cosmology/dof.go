@@ -4,6 +4,7 @@ import (
 	"math"
 
 	"gonum.org/v1/gonum/integrate/quad"
+	"tautline/internal/numeric"
 )
 
 // A species is one Standard Model particle (with its antiparticle where it
@@ -159,7 +160,7 @@ func (t thermoTable) integrals(x float64, fermion bool) (jrho, js float64) {
 		return t.rho[k][0], t.s[k][0]
 	}
 	u := (math.Log(x) - thermoLnX0) / thermoLnXStp
-	return lagrange4(t.rho[k], u), lagrange4(t.s[k], u)
+	return numeric.Lagrange4(t.rho[k], u), numeric.Lagrange4(t.s[k], u)
 }
 
 // dofAt returns g*(T) and g*s(T) at temperature T (GeV) for the Standard

@@ -24,10 +24,13 @@ func TestHandWorked(t *testing.T) {
 		name      string
 		got, want float64
 	}{
+		// Julian year: 365.25 d * 86400 s/d = 31557600 s exactly (IAU
+		// definition of the Julian year).
+		{"JulianYear", JulianYear, 31557600},
 		// 1/(365.25 * 86400) = 1/31557600 = 3.1688087814e-8 Hz.
 		{"FYear", FYear, 3.1688087814e-8},
 		// 67.4 km/s/Mpc = 67400 m/s / 3.0856775814913673e22 m
-		// = 2.1842852411e-18 s^-1 (PHYSICS.md section 1 quotes 2.1843e-18).
+		// = 2.1842852411e-18 s^-1 (docs/physics.md section 1 quotes 2.1843e-18).
 		{"H0SI", H0SI(67.4), 2.1842852411e-18},
 		// f = f_yr, h_c = 1e-15: 2 pi^2/3 = 6.5797362674, f/H0 =
 		// 3.1688087814e-8 / 2.1842852411e-18 = 1.4507302992e10, squared
@@ -55,11 +58,14 @@ func TestHandWorked(t *testing.T) {
 		{"OmegaFromRho2", OmegaFromRho2(2e-9, 4.0418856293e-13, h0, span), 1e-9},
 		// log10 rho = log10(4.0418856293e-13)/2 = -12.3934159796/2 = -6.1967079898.
 		{"Log10RhoFromLnOmega", Log10RhoFromLnOmega(2e-9, math.Log(1e-9), h0, span), -6.1967079898},
+		// Offset = log10 rho at Omega = 1: rho^2 = 4.0418856293e-13 / 1e-9
+		// = 4.0418856293e-4, half its log10 = -3.3934159796/2 = -1.6967079898.
+		{"Log10RhoOffset", Log10RhoOffset(2e-9, h0, span), -1.6967079898},
 		{"LnOmegaFromLog10Rho", LnOmegaFromLog10Rho(2e-9, -6.1967079898, h0, span), math.Log(1e-9)},
 	}
 	for _, c := range cases {
 		rel := relTol
-		if c.name == "Log10RhoFromLnOmega" || c.name == "LnOmegaFromLog10Rho" {
+		if c.name == "Log10RhoFromLnOmega" || c.name == "LnOmegaFromLog10Rho" || c.name == "Log10RhoOffset" {
 			// Logarithms: ten written digits of a number of order 10 are an
 			// absolute 1e-10, i.e. about 1e-11 relative.
 			rel = 1e-10
@@ -70,7 +76,7 @@ func TestHandWorked(t *testing.T) {
 	}
 }
 
-// TestIdentities checks the relations of PHYSICS.md section 5: every
+// TestIdentities checks the relations of docs/physics.md section 5: every
 // conversion undone by its inverse, and the chained route
 // Omega -> h_c -> S -> rho^2 equal to the direct formula. Tolerance 1e-13
 // relative: each side is a handful of float64 operations (a few ulp each).
@@ -101,6 +107,12 @@ func TestIdentities(t *testing.T) {
 			lr := Log10RhoFromLnOmega(f, math.Log(omega), h0, span)
 			if want := 0.5 * math.Log10(direct); math.Abs(lr-want) > 1e-12 {
 				t.Errorf("f=%g Omega=%g: log10 rho %g, direct %g", f, omega, lr, want)
+			}
+			// The precomputed offset of a likelihood plus ln Omega/(2 ln 10)
+			// is the log route (same absolute 1e-12).
+			c := Log10RhoOffset(f, h0, span)
+			if got := c + math.Log(omega)/(2*math.Ln10); math.Abs(got-lr) > 1e-12 {
+				t.Errorf("f=%g Omega=%g: offset route %g, log route %g", f, omega, got, lr)
 			}
 			if got := LnOmegaFromLog10Rho(f, lr, h0, span); math.Abs(got-math.Log(omega)) > 1e-12 {
 				t.Errorf("f=%g: log route inverse: %g, want %g", f, got, math.Log(omega))

@@ -4,6 +4,8 @@ import (
 	"errors"
 	"fmt"
 	"math"
+
+	"tautline/internal/numeric"
 )
 
 // A Rung holds the ln L values recorded on one power posterior after
@@ -124,7 +126,7 @@ func validate(rungs []Rung, opt Options) error {
 			return fmt.Errorf("evidence: rung %d (beta %g): len(LnL) = %d, want steps*walkers = %d*%d", k, r.Beta, len(r.LnL), r.Steps, r.Walkers)
 		}
 		for i, v := range r.LnL {
-			if math.IsNaN(v) || math.IsInf(v, 0) {
+			if !numeric.Finite(v) {
 				return fmt.Errorf("evidence: rung %d (beta %g): LnL[%d] (step %d, walker %d) is %g", k, r.Beta, i, i/r.Walkers, i%r.Walkers, v)
 			}
 		}
@@ -209,7 +211,7 @@ func Integrate(rungs []Rung, opt Options) (Result, error) {
 			delta = betas[k+1] - r.Beta
 		}
 		st := ws.fill(r, delta)
-		if !finite(st.mean) || !finite(st.variance) || !finite(st.lnRatio) {
+		if !numeric.Finite(st.mean) || !numeric.Finite(st.variance) || !numeric.Finite(st.lnRatio) {
 			return Result{}, fmt.Errorf("evidence: rung %d (beta %g): ln L values too large to average (mean %g, variance %g)", k, r.Beta, st.mean, st.variance)
 		}
 		E[k], V[k] = st.mean, st.variance
@@ -310,7 +312,7 @@ func Integrate(rungs []Rung, opt Options) (Result, error) {
 	discShares(res.Intervals, sub, betas, E, V, res.TIHigher.DiscErr)
 
 	for _, e := range []Estimate{res.TI, res.TIHigher, res.SS} {
-		if !finite(e.LnZ) || !finite(e.Total) || !finite(e.DiscNoise) {
+		if !numeric.Finite(e.LnZ) || !numeric.Finite(e.Total) || !numeric.Finite(e.DiscNoise) {
 			return Result{}, fmt.Errorf("evidence: ln Z or its error overflowed (%g +- %g); are the ln L values sane?", e.LnZ, e.Total)
 		}
 	}
@@ -343,8 +345,6 @@ func subLadder(n int) []int {
 	}
 	return append(idx, n-1)
 }
-
-func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
 
 // discShares splits disc, the corrected trapezoid's discretisation error,
 // among the ladder intervals. Each sub-ladder interval [beta_i, beta_j]

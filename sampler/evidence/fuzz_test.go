@@ -4,6 +4,8 @@ import (
 	"encoding/binary"
 	"math"
 	"testing"
+
+	"tautline/internal/numeric"
 )
 
 // rungsFromBytes turns fuzz input into a ladder: byte 0 sets the number of
@@ -62,7 +64,7 @@ func FuzzIntegrate(f *testing.F) {
 			return
 		}
 		for _, e := range []Estimate{res.TI, res.TIHigher, res.SS} {
-			if !finite(e.LnZ) || !(e.MCErr >= 0) || !(e.DiscErr >= 0) || !finite(e.Total) {
+			if !numeric.Finite(e.LnZ) || !(e.MCErr >= 0) || !(e.DiscErr >= 0) || !numeric.Finite(e.Total) {
 				t.Fatalf("non-finite or negative estimate %+v", e)
 			}
 		}
