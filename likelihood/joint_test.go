@@ -6,6 +6,7 @@ import (
 	"strings"
 	"testing"
 
+	"tautline/models/gw"
 	"tautline/priors"
 )
 
@@ -15,7 +16,7 @@ func jointParts(t testing.TB) []Part {
 	t.Helper()
 	a := gaussData(6) // 15 yr, 6 Gaussian bins, prior [-10, -4]
 	a.Name = "a"
-	b := &Dataset{Name: "b", Provenance: "invented for tests", Span: 11 * YearSeconds, PriorMin: -9, PriorMax: -3}
+	b := &Dataset{Name: "b", Provenance: "invented for tests", Span: 11 * gw.JulianYear, PriorMin: -9, PriorMax: -3}
 	r := rand.New(rand.NewPCG(7, 8))
 	for i := range 9 {
 		b.Freqs = append(b.Freqs, float64(i+1)/b.Span)

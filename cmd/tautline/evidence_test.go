@@ -22,8 +22,9 @@ import (
 	"testing"
 	"time"
 
-	"gonum.org/v1/gonum/integrate/quad"
 	"tautline/rundir"
+
+	"gonum.org/v1/gonum/integrate/quad"
 )
 
 // evQuad is one nested Gauss-Legendre quadrature setup: every axis of the

@@ -4,6 +4,7 @@ import (
 	"context"
 	"encoding/json"
 	"fmt"
+	"tautline/models/gw"
 	"text/tabwriter"
 )
 
@@ -51,7 +52,7 @@ func runInspect(_ context.Context, e *env, args []string) error {
 		return err
 	}
 	out := inspectOut{
-		Name: ds.Name, Provenance: ds.Provenance, SpanSeconds: ds.Span, SpanYears: ds.Span / secondsPerYear,
+		Name: ds.Name, Provenance: ds.Provenance, SpanSeconds: ds.Span, SpanYears: ds.Span / gw.JulianYear,
 		PriorLog10Rho: [2]float64{ds.PriorMin, ds.PriorMax}, SHA256: ds.SHA256,
 	}
 	for _, b := range ds.Summary() {
@@ -78,9 +79,6 @@ func runInspect(_ context.Context, e *env, args []string) error {
 	fmt.Fprintf(e.stdout, "\ntotal: %d bins\n", out.Total)
 	return nil
 }
-
-// secondsPerYear is the Julian year, as in f_yr = 1/(365.25 days).
-const secondsPerYear = 365.25 * 86400
 
 func short(h string) string {
 	if len(h) > 12 {

@@ -9,6 +9,7 @@ import (
 	"path/filepath"
 	"strconv"
 	"strings"
+	"tautline/models/gw"
 	"tautline/rundir"
 	"testing"
 )
@@ -174,7 +175,7 @@ func TestConvert(t *testing.T) {
 // law (PHYSICS.md section 4): at f = f_yr, h_c = A, and log10 rho follows
 // from S = h_c^2/(12 pi^2 f^3), rho^2 = S/T (section 5), computed here by hand.
 func TestSpectrumSMBHB(t *testing.T) {
-	fyr := 1 / secondsPerYear
+	fyr := 1 / gw.JulianYear
 	code, out, errs := runCLI(t, "spectrum", "--model", "smbhb", "--param", "log10_A=-15", "--param", "gamma=13/3",
 		"--freqs", strconv.FormatFloat(fyr, 'g', -1, 64), "--span-yr", "10", "--format", "json")
 	if code != 0 {
@@ -188,7 +189,7 @@ func TestSpectrumSMBHB(t *testing.T) {
 	}
 	r := doc.Rows[0]
 	wantPSD := 1e-30 / (12 * math.Pi * math.Pi * fyr * fyr * fyr)
-	wantRho := 0.5 * math.Log10(wantPSD/(10*secondsPerYear))
+	wantRho := 0.5 * math.Log10(wantPSD/(10*gw.JulianYear))
 	// Tolerance: the conversions are exact, so only rounding (1e-12) remains.
 	if math.Abs(r.Hc-1e-15)/1e-15 > 1e-12 || math.Abs(r.PSD-wantPSD)/wantPSD > 1e-12 || math.Abs(r.Log10Rho-wantRho) > 1e-12 {
 		t.Errorf("got h_c %g, S %g, log10 rho %g; want 1e-15, %g, %g", r.Hc, r.PSD, r.Log10Rho, wantPSD, wantRho)

@@ -28,7 +28,7 @@ func fitSimulated(t *testing.T, seed uint64) [][]float64 {
 	if err != nil {
 		t.Fatal(err)
 	}
-	arr := simulate.Array{Pulsars: 40, Span: 15 * secondsPerYear, Cadence: 14 * 86400, Sigma: 300e-9, Bins: 15}
+	arr := simulate.Array{Pulsars: 40, Span: 15 * gw.JulianYear, Cadence: 14 * 86400, Sigma: 300e-9, Bins: 15}
 	freqs := make([]float64, arr.Bins)
 	for i := range freqs {
 		freqs[i] = float64(i+1) / arr.Span

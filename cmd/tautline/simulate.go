@@ -47,7 +47,7 @@ func runSimulate(_ context.Context, e *env, args []string) error {
 		return fmt.Errorf("%w: unexpected argument %q", errUsage, fs.Arg(0))
 	}
 	arr := simulate.Array{
-		Pulsars: *pulsars, Span: *spanYr * secondsPerYear, Cadence: *cadenceDays * 86400,
+		Pulsars: *pulsars, Span: *spanYr * gw.JulianYear, Cadence: *cadenceDays * 86400,
 		Sigma: *sigmaNs * 1e-9, Bins: *bins,
 	}
 	freqs := make([]float64, arr.Bins)

@@ -63,7 +63,7 @@ func runSpectrum(_ context.Context, e *env, args []string) error {
 		return err
 	}
 	h0 := gw.H0SI(cfg.Cosmology.H0)
-	span := *spanYr * secondsPerYear
+	span := *spanYr * gw.JulianYear
 	rows := make([]spectrumRow, len(freqs))
 	for i, f := range freqs {
 		om := math.Exp(ln[i])

@@ -102,7 +102,7 @@ type Meta struct {
 	// data must say so. The importer appends what it did.
 	Provenance string
 	// Span is the time span T of the observations in s (see
-	// likelihood.YearSeconds for years).
+	// gw.JulianYear for years).
 	Span float64
 	// Harmonics, when > 0, sets n bins at f_i = i/T, i = 1..n; otherwise
 	// Freqs lists the bin frequencies in Hz (strictly increasing), which
