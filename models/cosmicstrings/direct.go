@@ -4,8 +4,8 @@ import (
 	"errors"
 	"fmt"
 	"math"
-
 	"tautline/internal/numeric"
+
 	"tautline/models/cosmology"
 )
 
@@ -99,16 +99,13 @@ type Direct struct {
 	n     *network
 	gk    *adaptiveGK
 	panel float64 // initial panel width in ln t
-	step  float64 // ln f spacing of the Omega^(1) grid
 
 	// current parameters
 	gg, alpha, ln2f, lnPref float64
 	edges                   []float64
 
-	// Omega^(1) grid: om1[j] at y = ln(f - fLow) = y0 + j step, that is
-	// at ln f = sNode[j]; cum is the running integral used by modeSum.
-	lnFLow, fLow, y0 float64
-	om1, sNode, cum  []float64
+	// the Omega^(1) grid and the mode sum over it
+	modeSummer
 }
 
 // NewDirect builds the background and the C_eff table for s (about half
@@ -133,7 +130,9 @@ func newDirectOn(s Settings, bg expansion) (*Direct, error) {
 }
 
 func (n *network) direct() *Direct {
-	return &Direct{n: n, gk: newAdaptiveGK(quadRel, quadMaxIvls), panel: panelWidth, step: omega1Step, edges: make([]float64, 0, 64)}
+	d := &Direct{n: n, gk: newAdaptiveGK(quadRel, quadMaxIvls), panel: panelWidth, edges: make([]float64, 0, 64)}
+	d.modeSummer = modeSummer{q: n.s.Q, modes: n.s.Modes, step: omega1Step}
+	return d
 }
 
 // Clone returns an independent Direct sharing d's immutable tables.
@@ -168,7 +167,7 @@ func (d *Direct) Omega(f []float64, gmu, alpha, p float64, out []float64) error 
 		fmin, fmax = math.Min(fmin, v), math.Max(fmax, v)
 	}
 	d.setParams(gmu, alpha)
-	d.fillOmega1(fmin, fmax)
+	d.fill(fmin, fmax, math.Ln2-math.Log(d.alpha)-d.n.lnTHi, d.omega1Val)
 	pf := math.Pow(p, -d.n.s.Kappa)
 	for i, v := range f {
 		out[i] = pf * d.modeSum(v)
@@ -208,6 +207,9 @@ func (d *Direct) integrand(u float64) float64 {
 	return d.n.cEff(lnti) * math.Exp(d.lnPref+d.ln2f+u+3*lnAi+2*lnA-4*lnti)
 }
 
+// omega1Val is omega1At without the error estimate.
+func (d *Direct) omega1Val(lnf float64) float64 { v, _ := d.omega1At(lnf); return v }
+
 // omega1At integrates the fundamental mode at ln f.
 func (d *Direct) omega1At(lnf float64) (float64, float64) {
 	d.ln2f = math.Ln2 - lnf
@@ -220,9 +222,9 @@ func (d *Direct) omega1At(lnf float64) (float64, float64) {
 	if g(lo) < 0 {
 		// Loops born before formation would radiate here: the lower limit
 		// is where t_i reaches the start of the tables.
-		lo = numeric.Bisect(func(u float64) float64 { v, _ := d.lnTi(u); return v - d.n.lnTLo - formationPad }, lo, hi, bisectTol, bisectMaxIter)
+		lo = bisect(func(u float64) float64 { v, _ := d.lnTi(u); return v - d.n.lnTLo - formationPad }, lo, hi)
 	} else {
-		lo = numeric.Bisect(func(u float64) float64 { return -g(u) }, lo, hi, bisectTol, bisectMaxIter)
+		lo = bisect(func(u float64) float64 { return -g(u) }, lo, hi)
 	}
 	d.edges = d.edges[:0]
 	np := int(math.Ceil((hi - lo) / d.panel))
@@ -232,7 +234,7 @@ func (d *Direct) omega1At(lnf float64) (float64, float64) {
 		// C_eff jumps where t_i = t_eq: never integrate across it.
 		if a, _ := d.lnTi(lo); a < d.n.lnTeq {
 			if b, _ := d.lnTi(hi); b > d.n.lnTeq {
-				split = numeric.Bisect(func(u float64) float64 { v, _ := d.lnTi(u); return v - d.n.lnTeq }, lo, hi, bisectTol, bisectMaxIter)
+				split = bisect(func(u float64) float64 { v, _ := d.lnTi(u); return v - d.n.lnTeq }, lo, hi)
 			}
 		}
 	}
@@ -257,147 +259,7 @@ const (
 	bisectMaxIter = 100
 )
 
-// edgeDepth is how close to the cutoff f_low = 2/(alpha t0) the Omega^(1)
-// grid starts, as a fraction of f_low: Omega^(1) rises linearly from zero
-// there, so the neglected sliver contributes below 1e-8 of any sum.
-const edgeDepth = 1e-4
-
-// fillOmega1 tabulates Omega^(1) on a grid uniform in y = ln(f - f_low)
-// covering the arguments f/k needed by the mode sum for frequencies in
-// [fmin, fmax]. The variable y resolves the steep rise of Omega^(1) just
-// above its cutoff (over about 0.05 in ln f, because H0 t0 = 0.95 makes the
-// lower time limit move fast) and is ln f far above it. It also stores the
-// running trapezoidal integral of W = e^(s (q-1)) Omega^(1) over s = ln f
-// for the Euler-Maclaurin tail.
-func (d *Direct) fillOmega1(fmin, fmax float64) {
-	d.lnFLow = math.Ln2 - math.Log(d.alpha) - d.n.lnTHi
-	fLow := math.Exp(d.lnFLow)
-	d.fLow = fLow
-	y0 := d.lnFLow + math.Log(edgeDepth)
-	if d.n.s.Modes > 0 {
-		if need := fmin / float64(d.n.s.Modes); need-fLow > edgeDepth*fLow {
-			y0 = math.Log(need-fLow) - 2*d.step
-		}
-	}
-	y1 := math.Log(fmax-fLow) + 3*d.step
-	if !(fmax > fLow) || y1 < y0 {
-		y1 = y0 + 4*d.step
-	}
-	d.y0 = y0
-	n := int(math.Ceil((y1-y0)/d.step)) + 1
-	if cap(d.om1) < n {
-		d.om1 = make([]float64, n)
-		d.sNode = make([]float64, n)
-		d.cum = make([]float64, n)
-	}
-	d.om1, d.sNode, d.cum = d.om1[:n], d.sNode[:n], d.cum[:n]
-	q := d.n.s.Q
-	for j := range d.om1 {
-		lnf := math.Log(fLow + math.Exp(y0+float64(j)*d.step))
-		d.sNode[j] = lnf
-		d.om1[j], _ = d.omega1At(lnf)
-		if j == 0 {
-			d.cum[0] = 0
-			continue
-		}
-		wa := math.Exp(d.sNode[j-1]*(q-1)) * d.om1[j-1]
-		wb := math.Exp(lnf*(q-1)) * d.om1[j]
-		d.cum[j] = d.cum[j-1] + 0.5*(lnf-d.sNode[j-1])*(wa+wb)
-	}
-}
-
-// yIndex returns the fractional grid index of ln f = lnx (-Inf at and below
-// the cutoff) and d y / d ln f.
-func (d *Direct) yIndex(lnx float64) (s, dydlnx float64) {
-	x := math.Exp(lnx)
-	if !(x > d.fLow) {
-		return math.Inf(-1), 0
-	}
-	return (math.Log(x-d.fLow) - d.y0) / d.step, x / (x - d.fLow)
-}
-
-// om1Interp returns Omega^(1) and its derivative with respect to ln f at
-// ln f = lnx by 4-point Lagrange interpolation in y; zero below the grid.
-func (d *Direct) om1Interp(lnx float64) (v, dv float64) {
-	s, jac := d.yIndex(lnx)
-	if s < -1 {
-		return 0, 0
-	}
-	i := int(math.Floor(s)) - 1
-	u := s - float64(i)
-	var p [4]float64
-	for m := range 4 {
-		k := i + m
-		if k >= 0 && k < len(d.om1) {
-			p[m] = d.om1[k]
-		}
-	}
-	v = -p[0]*(u-1)*(u-2)*(u-3)/6 + p[1]*u*(u-2)*(u-3)/2 - p[2]*u*(u-1)*(u-3)/2 + p[3]*u*(u-1)*(u-2)/6
-	dv = (-p[0]*(3*u*u-12*u+11)/6 + p[1]*(3*u*u-10*u+6)/2 - p[2]*(3*u*u-8*u+3)/2 + p[3]*(3*u*u-6*u+2)/6) / d.step * jac
-	return v, dv
-}
-
-// modeSum returns sum_k k^(-q) Omega^(1)(f/k) for k = 1..Modes (or to
-// infinity), using Euler-Maclaurin beyond exactModes:
-//
-//	sum_{k=K+1}^{N} g(k) = integral_K^N g dk + (g(N) - g(K))/2 + (g'(N) - g'(K))/12 + O(g'''),
-//
-// where integral_K^N g dk = f^(1-q) integral ds e^(s(q-1)) Omega^(1)(e^s)
-// over s = ln(f/k), done by the trapezoidal rule on the grid nodes.
-func (d *Direct) modeSum(f float64) float64 {
-	q := d.n.s.Q
-	lnf := math.Log(f)
-	N := d.n.s.Modes
-	kmax := exactModes
-	if N > 0 && N < kmax {
-		kmax = N
-	}
-	var sum float64
-	for k := 1; k <= kmax; k++ {
-		lk := math.Log(float64(k))
-		v, _ := d.om1Interp(lnf - lk)
-		sum += math.Exp(-q*lk) * v
-	}
-	if N > 0 && N <= exactModes {
-		return sum
-	}
-	// g(k) and g'(k) at k = e^lk.
-	gAt := func(lk float64) (g, gp float64) {
-		v, dv := d.om1Interp(lnf - lk)
-		g = math.Exp(-q*lk) * v
-		gp = -math.Exp(-(q+1)*lk) * (q*v + dv)
-		return g, gp
-	}
-	lnK := math.Log(exactModes)
-	gK, gpK := gAt(lnK)
-	sum += -gK/2 - gpK/12
-	sHi := lnf - lnK  // ln of the argument f/k at k = K
-	sLo := d.sNode[0] // Omega^(1) is negligible below the grid
-	if N > 0 {
-		lnN := math.Log(float64(N))
-		if lnf-lnN > sLo {
-			sLo = lnf - lnN
-			gN, gpN := gAt(lnN)
-			sum += gN/2 + gpN/12
-		}
-	}
-	if sHi <= sLo {
-		return sum
-	}
-	W := func(s float64) float64 { v, _ := d.om1Interp(s); return math.Exp(s*(q-1)) * v }
-	// Nodes strictly inside (sLo, sHi).
-	a, _ := d.yIndex(sLo)
-	b, _ := d.yIndex(sHi)
-	ja := max(int(math.Floor(a))+1, 0)
-	jb := min(int(math.Ceil(b))-1, len(d.om1)-1)
-	var integral float64
-	if ja > jb {
-		integral = 0.5 * (sHi - sLo) * (W(sLo) + W(sHi))
-	} else {
-		sa, sb := d.sNode[ja], d.sNode[jb]
-		wa := math.Exp(sa*(q-1)) * d.om1[ja]
-		wb := math.Exp(sb*(q-1)) * d.om1[jb]
-		integral = 0.5*(sa-sLo)*(W(sLo)+wa) + (d.cum[jb] - d.cum[ja]) + 0.5*(sHi-sb)*(wb+W(sHi))
-	}
-	return sum + math.Exp(lnf*(1-q))*integral
+// bisect finds the root of an increasing function on [lo, hi].
+func bisect(f func(float64) float64, lo, hi float64) float64 {
+	return numeric.Bisect(f, lo, hi, bisectTol, bisectMaxIter)
 }

@@ -10,3 +10,19 @@ import _ "embed"
 //
 //go:embed defaulttable.bin
 var embeddedTable []byte
+
+// embeddedBOSTable is the certified BOS table for DefaultBOSSettings,
+// regenerated with
+//
+//	go run ./models/cosmicstrings/internal/gentable -model bos -o models/cosmicstrings/bostable.bin
+//
+//go:embed bostable.bin
+var embeddedBOSTable []byte
+
+// embeddedMetaTable is the certified metastable table for
+// DefaultMetastableSettings, regenerated with
+//
+//	go run ./models/cosmicstrings/internal/gentable -model metastable -o models/cosmicstrings/metatable.bin
+//
+//go:embed metatable.bin
+var embeddedMetaTable []byte

@@ -13,7 +13,6 @@ import (
 	"slices"
 	"sync"
 
-	"tautline/internal/atomicfile"
 	"tautline/internal/numeric"
 )
 
@@ -465,13 +464,7 @@ func (t *Table) WriteFile(path string) error {
 	if err != nil {
 		return fmt.Errorf("strings: %s: %w", path, err)
 	}
-	if err := os.MkdirAll(filepath.Dir(path), 0o755); err != nil {
-		return fmt.Errorf("strings: %w", err)
-	}
-	if err := atomicfile.WriteFile(path, b); err != nil {
-		return fmt.Errorf("strings: %w", err)
-	}
-	return nil
+	return writeFileAtomic(path, b)
 }
 
 // CachePath returns where LoadTable caches the table for s under cacheDir

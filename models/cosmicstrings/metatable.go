@@ -1,0 +1,349 @@
+package cosmicstrings
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"slices"
+
+	"tautline/models/cosmology"
+)
+
+// Metastable table layout. The spectrum depends on sqrt(kappa) only through
+// t_s, so the table's axes are log10 Gmu, y = log10(t_s/s) and
+// v = ln(f/f_*), f_* = 2 a(t_s)/(alpha t_s) being the frequency below which
+// Omega vanishes. In these coordinates the edge and the onsets of the
+// harmonics (at v = ln k) stay put as t_s moves. The table stores
+// R = ln Omega - ln(1 - e^-v), which removes the logarithmic singularity
+// of the linear onset of the fundamental mode at v = 0.
+const (
+	metaGStep   = 0.5
+	metaYLo     = -7.0 // log10 t_s: f_* is above 1e-5 Hz below it
+	metaYStep   = 0.25
+	metaVStep   = 0.2
+	metaVMax    = 26.5 // ln(1e-5 Hz / f_*) for t_s = t0 is 26.1
+	metaFMargin = 3.0  // rows are computed for f within e^3 of the band
+	// DefaultSqrtKappaLo and DefaultSqrtKappaHi bound the default prior of
+	// sqrt(kappa): below 7 the cutoff lies above the timing band for most
+	// tensions, above 9.5 t_s is later than today for every Gmu >= 1e-14.
+	DefaultSqrtKappaLo = 7.0
+	DefaultSqrtKappaHi = 9.5
+)
+
+var metaMagic = [8]byte{'T', 'L', 'S', 'M', 'E', 'T', 'A', '1'}
+
+func metaAxes(lnT0 float64) []gridAxis {
+	yHi := lnT0 / math.Ln10
+	return []gridAxis{
+		{Lo: tableGLo - metaGStep, Step: metaGStep, N: uint32(math.Round((tableGHi-tableGLo)/metaGStep)) + 3},
+		{Lo: metaYLo - metaYStep, Step: metaYStep, N: uint32(math.Ceil((yHi-metaYLo)/metaYStep)) + 3},
+		{Lo: metaVStep / 2, Step: metaVStep, N: uint32(math.Ceil(metaVMax / metaVStep))},
+	}
+}
+
+// A MetastableTable holds the metastable spectrum on the grid above for
+// fixed MetastableSettings. It is immutable and safe for concurrent use.
+type MetastableTable struct {
+	s            MetastableSettings
+	bg           *cosmology.Background
+	lnTLo, lnTHi float64
+	g            *grid
+	cert         GridCertificate
+}
+
+// Settings returns the settings the table was built or loaded for.
+func (t *MetastableTable) Settings() MetastableSettings { return t.s }
+
+// Certificate returns the table's certification record.
+func (t *MetastableTable) Certificate() GridCertificate { return t.cert }
+
+func newMetaTable(s MetastableSettings) (*MetastableTable, error) {
+	if err := s.Validate(); err != nil {
+		return nil, err
+	}
+	if s.CEff == CEffStep {
+		return nil, errStepTable
+	}
+	bg, err := cosmology.New(s.Cosmology)
+	if err != nil {
+		return nil, fmt.Errorf("strings: %w", err)
+	}
+	t := &MetastableTable{s: s, bg: bg}
+	t.lnTLo, t.lnTHi = bg.LnTimeRange()
+	t.g = newGrid(metaAxes(t.lnTHi)...)
+	return t, nil
+}
+
+// lnCutoff returns ln f_* at ln t_s (clamped to today).
+func (t *MetastableTable) lnCutoff(lts float64) float64 {
+	lts = math.Min(lts, t.lnTHi)
+	lnA, _ := t.bg.LnAHT(lts)
+	return math.Ln2 + lnA - lts - math.Log(t.s.Alpha)
+}
+
+// edgeTerm is ln(1 - e^-v), the onset of the fundamental mode.
+func edgeTerm(v float64) float64 {
+	if v > 12 { // below 6e-6 in magnitude
+		return -math.Exp(-v)
+	}
+	return math.Log(-math.Expm1(-v))
+}
+
+// BuildMetastableTable computes and certifies the table for s (see
+// BuildTable for the options).
+func BuildMetastableTable(s MetastableSettings, opt BuildOptions) (*MetastableTable, error) {
+	t, err := newMetaTable(s)
+	if err != nil {
+		return nil, err
+	}
+	proto, err := NewMetastableDirect(s)
+	if err != nil {
+		return nil, err
+	}
+	ax := t.g.axes
+	nrow, m := t.g.rows()
+	nY := int(ax[1].N)
+	err = parallel(opt.Workers, nrow, proto.Clone, func(d *MetastableDirect, r int) error {
+		lg := ax[0].Lo + float64(r/nY)*ax[0].Step
+		lts := (ax[1].Lo + float64(r%nY)*ax[1].Step) * math.Ln10
+		lfs := t.lnCutoff(lts)
+		// Only nodes whose frequency lies within e^3 of the table's band
+		// can enter an interpolation stencil there; the others copy the
+		// nearest computed node.
+		var idx []int
+		var f []float64
+		for j := range m {
+			v := ax[2].Lo + float64(j)*ax[2].Step
+			if lf := lfs + v; lf > math.Log(tableFLo)-metaFMargin && lf < math.Log(tableFHi)+metaFMargin {
+				idx = append(idx, j)
+				f = append(f, math.Exp(lf))
+			}
+		}
+		row := t.g.data[r*m : (r+1)*m]
+		if len(idx) == 0 {
+			return nil // never used
+		}
+		out := make([]float64, len(f))
+		if err := d.OmegaTs(f, math.Pow(10, lg), math.Exp(lts), out); err != nil {
+			return err
+		}
+		for k, j := range idx {
+			if !(out[k] > 0) {
+				return fmt.Errorf("strings: metastable table: Omega = %g at log10 Gmu = %g, t_s = %g s, f = %g", out[k], lg, math.Exp(lts), f[k])
+			}
+			row[j] = float32(math.Log(out[k]) - edgeTerm(ax[2].Lo+float64(j)*ax[2].Step))
+		}
+		for j := range idx[0] {
+			row[j] = row[idx[0]]
+		}
+		for j := idx[len(idx)-1] + 1; j < m; j++ {
+			row[j] = row[idx[len(idx)-1]]
+		}
+		return nil
+	}, opt.Progress)
+	if err != nil {
+		return nil, err
+	}
+	if opt.CertPoints < 0 {
+		return t, nil // uncertified, for tests of the layout
+	}
+	t.cert, err = t.certify(proto, opt)
+	if err != nil {
+		return nil, err
+	}
+	return t, nil
+}
+
+// sqrtKappaOf inverts lnDecayTime.
+func sqrtKappaOf(gmu, lts float64) float64 {
+	k := (lts - 0.5*math.Log(2*math.Pi/gmu) - math.Log(PlanckTime)) / (0.5 * math.Pi)
+	return math.Sqrt(math.Max(k, 0))
+}
+
+func (t *MetastableTable) certify(proto *MetastableDirect, opt BuildOptions) (GridCertificate, error) {
+	n := opt.CertPoints
+	if n <= 0 {
+		n = 300
+	}
+	rng := rand.New(rand.NewPCG(opt.Seed, 0x6d65746163657274))
+	type point struct{ lg, sk float64 }
+	var pts []point
+	for range n {
+		pts = append(pts, point{tableGLo + (tableGHi-tableGLo)*rng.Float64(), DefaultSqrtKappaLo + (DefaultSqrtKappaHi-DefaultSqrtKappaLo)*rng.Float64()})
+	}
+	// Cell centres in (log10 Gmu, log10 t_s) inside the box.
+	ax := t.g.axes
+	for i := range int(ax[0].N) - 1 {
+		for j := range int(ax[1].N) - 1 {
+			lg := ax[0].Lo + (float64(i)+0.5)*ax[0].Step
+			y := ax[1].Lo + (float64(j)+0.5)*ax[1].Step
+			sk := sqrtKappaOf(math.Pow(10, lg), y*math.Ln10)
+			if lg >= tableGLo && lg <= tableGHi && sk >= DefaultSqrtKappaLo && sk <= DefaultSqrtKappaHi && y*math.Ln10 < t.lnTHi {
+				pts = append(pts, point{lg, sk})
+			}
+		}
+	}
+	freqs := make([][]float64, len(pts))
+	for i := range freqs {
+		f := make([]float64, certFreqsPerPoint)
+		for j := range f {
+			f[j] = certBandLo * math.Pow(certBandHi/certBandLo, rng.Float64())
+		}
+		slices.Sort(f)
+		freqs[i] = f
+	}
+	errs := make([]float64, len(pts)*certFreqsPerPoint)
+	err := parallel(opt.Workers, len(pts), proto.Clone, func(d *MetastableDirect, i int) error {
+		p := pts[i]
+		out := make([]float64, certFreqsPerPoint)
+		if err := d.Omega(freqs[i], math.Pow(10, p.lg), p.sk, out); err != nil {
+			return err
+		}
+		for j, f := range freqs[i] {
+			v, err := t.LnOmega(p.lg, p.sk, f)
+			if err != nil {
+				return err
+			}
+			e := math.Abs(v - math.Log(out[j]))
+			if math.IsInf(v, -1) && out[j] == 0 {
+				e = 0
+			}
+			errs[i*certFreqsPerPoint+j] = e
+		}
+		return nil
+	}, nil)
+	c := GridCertificate{BandLo: certBandLo, BandHi: certBandHi, Seed: opt.Seed}
+	if err != nil {
+		return c, err
+	}
+	err = certStats(&c, errs, func(i int) [3]float64 {
+		p := pts[i/certFreqsPerPoint]
+		return [3]float64{p.lg, p.sk, freqs[i/certFreqsPerPoint][i%certFreqsPerPoint]}
+	})
+	return c, err
+}
+
+// ErrOutsideMetastableTable is returned when log10 Gmu is outside
+// [-14, -6] or sqrt(kappa) is negative or not finite.
+var ErrOutsideMetastableTable = errors.New("strings: metastable: parameters outside the tabulated domain (log10_Gmu in [-14, -6], sqrt_kappa_m >= 0)")
+
+// position returns the row coordinates of (log10 Gmu, sqrt(kappa)) and
+// ln f_*, and whether t_s precedes the network (Omega = 0 everywhere).
+func (t *MetastableTable) position(lg, sk float64) (y, lfs float64, none bool, err error) {
+	if !(lg >= tableGLo && lg <= tableGHi && sk >= 0 && sk < math.Inf(1)) {
+		return 0, 0, false, ErrOutsideMetastableTable
+	}
+	lts := lnDecayTime(math.Pow(10, lg), sk)
+	if lts <= t.lnTLo {
+		return 0, 0, true, nil
+	}
+	lts = math.Min(lts, t.lnTHi)
+	return lts / math.Ln10, t.lnCutoff(lts), false, nil
+}
+
+// LnOmega interpolates ln Omega_GW at one point (-Inf where Omega
+// vanishes); MetastableModel uses the same arithmetic for many frequencies.
+func (t *MetastableTable) LnOmega(log10Gmu, sqrtKappa, f float64) (float64, error) {
+	if !(f >= tableFLo && f <= tableFHi) {
+		return 0, frequencyError{f}
+	}
+	var out [1]float64
+	lf := [1]float64{math.Log(f)}
+	if err := t.lnOmega(log10Gmu, sqrtKappa, lf[:], out[:]); err != nil {
+		return 0, err
+	}
+	return out[0], nil
+}
+
+// lnOmega writes ln Omega at ln f = lnf[i] into out; it does not
+// allocate.
+func (t *MetastableTable) lnOmega(lg, sk float64, lnf, out []float64) error {
+	y, lfs, none, err := t.position(lg, sk)
+	if err != nil {
+		return err
+	}
+	shift := -t.s.Kappa * math.Log(t.s.P)
+	ax := t.g.axes
+	if none || y < metaYLo {
+		for i, l := range lnf {
+			if l-lfs > 0 && !none {
+				return ErrOutsideMetastableTable
+			}
+			out[i] = math.Inf(-1)
+		}
+		return nil
+	}
+	ig, wg := ax[0].index(lg)
+	iy, wy := ax[1].index(y)
+	nY, m := int(ax[1].N), int(ax[2].N)
+	var w [16]float64
+	var base [16]int
+	for a := range 4 {
+		for b := range 4 {
+			w[4*a+b] = wg[a] * wy[b]
+			base[4*a+b] = ((ig+a)*nY + iy + b) * m
+		}
+	}
+	for i, l := range lnf {
+		v := l - lfs
+		if !(v > 0) {
+			out[i] = math.Inf(-1)
+			continue
+		}
+		iv, wv := ax[2].index(v)
+		var s float64
+		for k := range 16 {
+			r := t.g.data[base[k]+iv : base[k]+iv+4]
+			s += w[k] * (wv[0]*float64(r[0]) + wv[1]*float64(r[1]) + wv[2]*float64(r[2]) + wv[3]*float64(r[3]))
+		}
+		out[i] = s + edgeTerm(v) + shift
+	}
+	return nil
+}
+
+// MarshalBinary encodes the table in its on-disk format.
+func (t *MetastableTable) MarshalBinary() ([]byte, error) {
+	return encodeGrid(metaMagic, t.s.Hash(), t.g, t.cert)
+}
+
+func decodeMetaTable(name string, b []byte, s MetastableSettings) (*MetastableTable, error) {
+	t, err := newMetaTable(s)
+	if err != nil {
+		return nil, err
+	}
+	g, c, err := decodeGrid(name, b, metaMagic, s.Hash(), t.g)
+	if err != nil {
+		return nil, err
+	}
+	t.g, t.cert = g, c
+	return t, nil
+}
+
+// WriteFile writes the table to path atomically.
+func (t *MetastableTable) WriteFile(path string) error {
+	b, err := t.MarshalBinary()
+	if err != nil {
+		return fmt.Errorf("strings: %s: %w", path, err)
+	}
+	return writeFileAtomic(path, b)
+}
+
+// MetastableCachePath returns where LoadMetastableTable caches the table.
+func MetastableCachePath(s MetastableSettings, cacheDir string) (string, error) {
+	return cacheFile(cacheDir, "strings-metastable-"+s.Hash()[:16]+".tbl")
+}
+
+// LoadMetastableTable returns the table for s: the compiled-in one for
+// DefaultMetastableSettings, else the cached file, else a freshly built and
+// certified one, which it caches (see LoadTable for the error rules).
+func LoadMetastableTable(s MetastableSettings, cacheDir string, opt BuildOptions) (*MetastableTable, error) {
+	if _, err := newMetaTable(s); err != nil {
+		return nil, err
+	}
+	path, pathErr := MetastableCachePath(s, cacheDir)
+	return loadOrBuild(embeddedMetaTable, opt.NoEmbedded, path, pathErr,
+		func(name string, b []byte) (*MetastableTable, error) { return decodeMetaTable(name, b, s) },
+		func() (*MetastableTable, error) { return BuildMetastableTable(s, opt) },
+		(*MetastableTable).MarshalBinary)
+}
