@@ -200,11 +200,14 @@ type RunOptions struct {
 	Thin     int      // thinning for the products; 0 chooses max(1, floor(tau/2))
 	Until    Criteria // convergence conditions
 	// CheckEvery is the interval between convergence checks, 0 meaning
-	// 500. A check costs time proportional to the history, so from the
-	// 8th check on the interval doubles whenever the step count doubles
-	// (4 checks per doubling; see isCheckStep), which keeps the checks a
-	// bounded fraction of a long run; a run stops at most a quarter past
-	// the step where it converged.
+	// 500. From the 8th check on the interval doubles whenever the step
+	// count doubles (4 checks per doubling; see isCheckStep), and a check
+	// thins the history to a fixed size (see checkThinning), which keeps
+	// the checks a small fraction of a long run; a run stops at most a
+	// quarter past the step where it converged. The check at MaxSteps is
+	// the final report itself. Without criteria the checks only feed
+	// OnCheck, and one is skipped while the checks so far took more than
+	// progressShare of the run's time; the results do not depend on it.
 	CheckEvery int
 	// OnStep, if not nil, is called after every step (to write chains); an
 	// error stops the run and is returned.
@@ -224,6 +227,10 @@ type Progress struct {
 	Converged bool          // all criteria hold
 	ETA       time.Duration // estimated time to convergence; -1 if unknown
 }
+
+// progressShare is the largest fraction of a run's time spent on checks
+// that decide nothing (a run without criteria).
+const progressShare = 0.05
 
 // Status says why Run returned.
 type Status int
@@ -299,8 +306,16 @@ func Run(ctx context.Context, e *Ensemble, opt RunOptions) (Result, error) {
 	t0 := time.Now()
 	s0 := e.steps
 	var ev evaluation
+	c := opt.Until
+	decides := c.ESS > 0 || c.TauMultiple > 0 || c.Rhat > 0
+	var spent time.Duration
 	check := func() bool {
+		if !decides && spent > time.Duration(float64(time.Since(t0))*progressShare) {
+			return false
+		}
+		t := time.Now()
 		ev = evaluate(e, opt, false)
+		spent += time.Since(t)
 		if opt.OnCheck != nil {
 			opt.OnCheck(ev.progress(e, opt, t0, s0))
 		}
@@ -327,12 +342,21 @@ func Run(ctx context.Context, e *Ensemble, opt RunOptions) (Result, error) {
 				return Result{}, fmt.Errorf("sampler: step %d: %w", e.steps, err)
 			}
 		}
-		if (isCheckStep(e.steps, opt.CheckEvery) || e.steps == opt.MaxSteps) && check() {
+		if e.steps < opt.MaxSteps && isCheckStep(e.steps, opt.CheckEvery) && check() {
 			status = Converged
 		}
 	}
-	// The final report adds bulk and tail ESS, which no decision uses.
+	// The final report adds bulk and tail ESS, which no decision uses. At
+	// MaxSteps it is also the last check.
 	ev = evaluate(e, opt, true)
+	if status == MaxStepsReached {
+		if ev.converged {
+			status = Converged
+		}
+		if opt.OnCheck != nil {
+			opt.OnCheck(ev.progress(e, opt, t0, s0))
+		}
+	}
 	return Result{
 		Status: status, Steps: e.steps, Burn: ev.burn, Thin: ev.thin,
 		Report: ev.report, History: e.hist, BurnIndex: ev.burnIndex,
