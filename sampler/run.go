@@ -279,6 +279,9 @@ type Result struct {
 	LadderFrozenAt int
 	Betas          []float64
 	SwapAcceptance []float64
+	// DiagnosticsTime is the wall time this Run spent on convergence
+	// checks and the final report (for timings; it changes no result).
+	DiagnosticsTime time.Duration
 }
 
 // Run steps e until the criteria hold at a check, MaxSteps is reached or
@@ -348,7 +351,9 @@ func Run(ctx context.Context, e *Ensemble, opt RunOptions) (Result, error) {
 	}
 	// The final report adds bulk and tail ESS, which no decision uses. At
 	// MaxSteps it is also the last check.
+	tf := time.Now()
 	ev = evaluate(e, opt, true)
+	spent += time.Since(tf)
 	if status == MaxStepsReached {
 		if ev.converged {
 			status = Converged
@@ -361,6 +366,7 @@ func Run(ctx context.Context, e *Ensemble, opt RunOptions) (Result, error) {
 		Status: status, Steps: e.steps, Burn: ev.burn, Thin: ev.thin,
 		Report: ev.report, History: e.hist, BurnIndex: ev.burnIndex,
 		LadderFrozenAt: e.frozenAt, Betas: e.Betas(), SwapAcceptance: e.SwapAcceptance(),
+		DiagnosticsTime: spent,
 	}, runErr
 }
 
