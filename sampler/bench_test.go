@@ -105,3 +105,32 @@ func BenchmarkHalfStep(b *testing.B) {
 		}
 	}
 }
+
+// BenchmarkEvaluate measures one convergence check and the final report
+// on the history of a 20000-step, 32-walker run of a 2-D Gaussian (the
+// size of the demo fits), with the thinning each uses.
+func BenchmarkEvaluate(b *testing.B) {
+	tg := newGaussTarget(b, []float64{0, 0}, [][]float64{{1, 0.5}, {0.5, 1}})
+	e, err := New(tg, Config{Walkers: 32, Seed: 1, Workers: 1})
+	if err != nil {
+		b.Fatal(err)
+	}
+	defer e.Close()
+	e.hist = newHistory(e)
+	for range 20000 {
+		e.Step()
+	}
+	opt := RunOptions{MaxSteps: 20000, Burn: -1}
+	for _, final := range []bool{false, true} {
+		name := "check"
+		if final {
+			name = "final"
+		}
+		b.Run(name, func(b *testing.B) {
+			b.ReportAllocs()
+			for b.Loop() {
+				evaluate(e, opt, final)
+			}
+		})
+	}
+}

@@ -8,6 +8,7 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"slices"
 )
 
 // Checkpoint layout (little-endian):
@@ -42,8 +43,9 @@ func (w *enc) bytes(p []byte) {
 func (w *enc) str(s string) { w.bytes([]byte(s)) }
 func (w *enc) floats(v []float64) {
 	w.int(len(v))
+	w.b = slices.Grow(w.b, 8*len(v))
 	for _, f := range v {
-		w.f64(f)
+		w.b = binary.LittleEndian.AppendUint64(w.b, math.Float64bits(f))
 	}
 }
 func (w *enc) ints(v []int64) {
@@ -154,7 +156,14 @@ func (e *Ensemble) configKey(w *enc) {
 // header with a format version, the configuration's Fingerprint and a
 // SHA-256 checksum. Restore continues from it bit-identically.
 func (e *Ensemble) MarshalBinary() ([]byte, error) {
-	w := &enc{b: make([]byte, 0, 1024)}
+	size := 1024
+	for r := range e.rungs {
+		size += 8 * (len(e.rungs[r].pos) + 4*e.nw)
+	}
+	if h := e.hist; h != nil {
+		size += 8 * (len(h.pos) + len(h.ll))
+	}
+	w := &enc{b: make([]byte, 0, size+64*e.nw*len(e.rungs))}
 	w.b = append(w.b, ckMagic...)
 	w.b = binary.LittleEndian.AppendUint32(w.b, ckVersion)
 	w.u64(0) // total length, filled in below

@@ -1,14 +1,12 @@
 package sampler
 
 import (
-	"cmp"
 	"encoding/json"
 	"errors"
 	"fmt"
 	"math"
+	"math/bits"
 	"slices"
-
-	"gonum.org/v1/gonum/stat/distuv"
 
 	"tautline/sampler/internal/acf"
 )
@@ -57,6 +55,52 @@ func AutocorrTime(x []float64, steps, walkers int) (float64, error) {
 	if steps < 2 {
 		return math.NaN(), fmt.Errorf("%w: %d step", ErrShortChain, steps)
 	}
+	if steps >= directMinLen {
+		if tau, err, ok := autocorrDirect(x, steps, walkers); ok {
+			return tau, err
+		}
+	}
+	return autocorrFFT(x, steps, walkers)
+}
+
+// directMinLen is the series length from which the autocorrelation sums
+// are first tried lag by lag (acf.Lags) rather than by FFT: shorter series
+// cost less than a millisecond either way.
+const directMinLen = 1024
+
+// lagBudget is the number of lags the direct sums may compute for series
+// of n values before giving way to the FFT. One lag of one series costs
+// about n multiply-adds, the FFT route about 10 L log2 L flops for its
+// padded length L >= 2n, so the budget of 8 log2 L lags keeps the direct
+// sums below the FFT's cost, and a fallback below twice it.
+func lagBudget(n int) int {
+	return 8 * bits.Len(uint(4*n))
+}
+
+// sokalTau applies Sokal's window to the walker-averaged autocorrelation
+// rhoSum(m)/used, m = 1, 2, ...; ok is false when rhoSum gives up.
+func sokalTau(steps, used int, rhoSum func(m int) (float64, bool)) (tau float64, err error, ok bool) {
+	tau = 1.0
+	for m := 1; m < steps; m++ {
+		r, fine := rhoSum(m)
+		if !fine {
+			return 0, nil, false
+		}
+		tau += 2 * r / float64(used)
+		if float64(m) >= SokalWindow*tau {
+			if float64(steps) < MinTauMultiple*tau {
+				return tau, fmt.Errorf("%w: %d steps < %v x tau = %.4g", ErrShortChain, steps, MinTauMultiple, tau), true
+			}
+			return tau, nil, true
+		}
+	}
+	return tau, fmt.Errorf("%w: Sokal window not reached in %d steps (tau > %.4g)", ErrShortChain, steps, tau), true
+}
+
+var errConstant = errors.New("sampler: autocorrelation time of a constant chain is undefined")
+
+// autocorrFFT is AutocorrTime with every walker's autocovariance by FFT.
+func autocorrFFT(x []float64, steps, walkers int) (float64, error) {
 	w := acf.New(steps)
 	series := make([]float64, steps)
 	ac := make([]float64, steps)
@@ -76,19 +120,56 @@ func AutocorrTime(x []float64, steps, walkers int) (float64, error) {
 		used++
 	}
 	if used == 0 {
-		return math.NaN(), errors.New("sampler: autocorrelation time of a constant chain is undefined")
+		return math.NaN(), errConstant
 	}
-	tau := 1.0
-	for m := 1; m < steps; m++ {
-		tau += 2 * rho[m] / float64(used)
-		if float64(m) >= SokalWindow*tau {
-			if float64(steps) < MinTauMultiple*tau {
-				return tau, fmt.Errorf("%w: %d steps < %v x tau = %.4g", ErrShortChain, steps, MinTauMultiple, tau)
-			}
-			return tau, nil
+	tau, err, _ := sokalTau(steps, used, func(m int) (float64, bool) { return rho[m], true })
+	return tau, err
+}
+
+// autocorrDirect is AutocorrTime with the autocovariances summed lag by
+// lag up to the window; ok is false if that would take more than
+// lagBudget lags.
+func autocorrDirect(x []float64, steps, walkers int) (tau float64, err error, ok bool) {
+	var lg acf.Lags
+	lg.LoadInterleaved(x, steps, walkers)
+	const B = acf.LagBlock
+	buf := make([]float64, walkers*B)
+	c0 := make([]float64, walkers)
+	lg.Block(0, buf)
+	used := 0
+	for w := range walkers {
+		c0[w] = buf[w*B]
+		if c0[w] > 0 {
+			used++
 		}
 	}
-	return tau, fmt.Errorf("%w: Sokal window not reached in %d steps (tau > %.4g)", ErrShortChain, steps, tau)
+	if used == 0 {
+		return math.NaN(), errConstant, true
+	}
+	var rho [B]float64
+	k0 := -B
+	budget := lagBudget(steps)
+	return sokalTau(steps, used, func(m int) (float64, bool) {
+		if m >= k0+B {
+			k0 = m - m%B
+			if k0 > budget {
+				return 0, false
+			}
+			if k0 > 0 {
+				lg.Block(k0, buf)
+			}
+			rho = [B]float64{}
+			for w := range walkers {
+				if !(c0[w] > 0) {
+					continue
+				}
+				for i := range B {
+					rho[i] += buf[w*B+i] / c0[w]
+				}
+			}
+		}
+		return rho[m-k0], true
+	})
 }
 
 // ESS returns the effective sample size steps x walkers / tau of one
@@ -118,30 +199,8 @@ func splitChains(x []float64, steps, walkers int) (out []float64, n, m int) {
 // z = Phi^-1((r - 3/8)/(S + 1/4)), with average ranks for ties
 // (Vehtari et al. 2021, eq. 14).
 func rankNormalize(v []float64) []float64 {
-	S := len(v)
-	type vi struct {
-		v float64
-		i int
-	}
-	idx := make([]vi, S)
-	for i, x := range v {
-		idx[i] = vi{x, i}
-	}
-	slices.SortFunc(idx, func(a, b vi) int { return cmp.Compare(a.v, b.v) })
-	z := make([]float64, S)
-	for i := 0; i < S; {
-		j := i
-		for j+1 < S && idx[j+1].v == idx[i].v {
-			j++
-		}
-		r := float64(i+j)/2 + 1
-		q := distuv.UnitNormal.Quantile((r - 0.375) / (float64(S) + 0.25))
-		for k := i; k <= j; k++ {
-			z[idx[k].i] = q
-		}
-		i = j + 1
-	}
-	return z
+	var r ranker
+	return r.normalize(v, nil)
 }
 
 // rhat is the potential scale reduction sqrt(var+/W) of Gelman & Rubin
@@ -192,19 +251,33 @@ func SplitRhat(x []float64, steps, walkers int) float64 {
 	if checkLayout(x, steps, walkers) != nil || steps < 4 {
 		return math.NaN()
 	}
+	var r ranker
+	return splitRhatOf(&r, x, steps, walkers)
+}
+
+// splitRhatOf is SplitRhat (for at least 4 steps) ranking with r.
+func splitRhatOf(r *ranker, x []float64, steps, walkers int) float64 {
+	if steps < 4 {
+		return math.NaN()
+	}
 	c, n, m := splitChains(x, steps, walkers)
-	z := rankNormalize(c)
-	return splitRhat(c, z, median(c), n, m)
+	return splitRhatRanked(r, c, n, m)
+}
+
+// splitRhatRanked is SplitRhat of the split chains c, ranked with r.
+func splitRhatRanked(r *ranker, c []float64, n, m int) float64 {
+	z := r.normalize(c, nil)
+	return splitRhat(r, c, z, medianSorted(r.sorted), n, m)
 }
 
 // splitRhat combines the bulk R-hat of the rank-normalised split chains z
 // with the R-hat of the rank-normalised folded chains |c - med|.
-func splitRhat(c, z []float64, med float64, n, m int) float64 {
+func splitRhat(r *ranker, c, z []float64, med float64, n, m int) float64 {
 	f := make([]float64, len(c))
 	for i, v := range c {
 		f[i] = math.Abs(v - med)
 	}
-	return math.Max(rhat(z, n, m), rhat(rankNormalize(f), n, m))
+	return math.Max(rhat(z, n, m), rhat(r.normalize(f, f), n, m))
 }
 
 func median(v []float64) float64 {
@@ -234,15 +307,80 @@ func multiESS(c []float64, n, m int) float64 {
 	if n < 4 || m < 1 {
 		return math.NaN()
 	}
+	if n >= directMinLen {
+		if v, ok := multiESSDirect(c, n, m); ok {
+			return v
+		}
+	}
+	return multiESSFFT(c, n, m)
+}
+
+// multiESSFFT is multiESS with every chain's autocovariance by FFT.
+func multiESSFFT(c []float64, n, m int) float64 {
 	w := acf.New(n)
 	acov := make([]float64, m*n)
 	means := make([]float64, m)
+	c0 := make([]float64, m)
 	for j := range m {
 		means[j] = w.Autocov(c[j*n:(j+1)*n], acov[j*n:(j+1)*n])
+		c0[j] = acov[j*n]
 	}
+	v, _ := geyerESS(n, m, c0, means, func(t int) (float64, bool) {
+		s := 0.0
+		for j := range m {
+			s += acov[j*n+t]
+		}
+		return s, true
+	})
+	return v
+}
+
+// multiESSDirect is multiESS with the autocovariances summed lag by lag
+// until the truncation; ok is false if that would take more than
+// lagBudget lags.
+func multiESSDirect(c []float64, n, m int) (float64, bool) {
+	var lg acf.Lags
+	lg.LoadChains(c, n, m)
+	const B = acf.LagBlock
+	buf := make([]float64, m*B)
+	lg.Block(0, buf)
+	means := make([]float64, m)
+	c0 := make([]float64, m)
+	for j := range m {
+		means[j] = lg.Mean(j)
+		c0[j] = buf[j*B]
+	}
+	var sums [B]float64
+	k0 := -B
+	budget := lagBudget(n)
+	return geyerESS(n, m, c0, means, func(t int) (float64, bool) {
+		if t >= k0+B {
+			k0 = t - t%B
+			if k0 > budget {
+				return 0, false
+			}
+			if k0 > 0 {
+				lg.Block(k0, buf)
+			}
+			for i := range B {
+				s := 0.0
+				for j := range m {
+					s += buf[j*B+i]
+				}
+				sums[i] = s
+			}
+		}
+		return sums[t-k0], true
+	})
+}
+
+// geyerESS is the body of multiESS given each chain's lag-0
+// autocovariance c0 and mean, and acovSum(t), the sum over chains of the
+// lag-t autocovariances; ok is false when acovSum gives up.
+func geyerESS(n, m int, c0, means []float64, acovSum func(t int) (float64, bool)) (float64, bool) {
 	W := 0.0
 	for j := range m {
-		W += acov[j*n] * float64(n) / float64(n-1)
+		W += c0[j] * float64(n) / float64(n-1)
 	}
 	W /= float64(m)
 	vp := W * float64(n-1) / float64(n)
@@ -259,23 +397,27 @@ func multiESS(c []float64, n, m int) float64 {
 		vp += mv / float64(m-1)
 	}
 	if !(vp > 0) {
-		return math.NaN()
+		return math.NaN(), true
 	}
-	rho := func(t int) float64 {
-		s := 0.0
-		for j := range m {
-			s += acov[j*n+t]
-		}
-		return 1 - (W-s/float64(m))/vp
+	rho := func(t int) (float64, bool) {
+		s, ok := acovSum(t)
+		return 1 - (W-s/float64(m))/vp, ok
 	}
 	sum := 0.0
 	prev := math.Inf(1)
 	for t := 0; t+1 < n; t += 2 {
-		p := rho(t)
+		p, ok := rho(t)
+		if !ok {
+			return 0, false
+		}
 		if t == 0 {
 			p = 1
 		}
-		p += rho(t + 1)
+		q, ok := rho(t + 1)
+		if !ok {
+			return 0, false
+		}
+		p += q
 		if p < 0 {
 			break
 		}
@@ -289,7 +431,7 @@ func multiESS(c []float64, n, m int) float64 {
 	if tau < 1/math.Log10(float64(n*m)) {
 		tau = 1 / math.Log10(float64(n*m))
 	}
-	return float64(n*m) / tau
+	return float64(n*m) / tau, true
 }
 
 // BulkESS returns the bulk effective sample size of Vehtari et al. (2021):
@@ -335,15 +477,14 @@ func tailESS(c, s []float64, n, m int) float64 {
 
 // vehtari returns split R-hat, bulk ESS and tail ESS of one parameter,
 // sharing the split, sort and rank normalisation between them.
-func vehtari(x []float64, steps, walkers int) (rh, bulk, tail float64) {
+func vehtari(r *ranker, x []float64, steps, walkers int) (rh, bulk, tail float64) {
 	if steps < 8 {
-		return SplitRhat(x, steps, walkers), math.NaN(), math.NaN()
+		return splitRhatOf(r, x, steps, walkers), math.NaN(), math.NaN()
 	}
 	c, n, m := splitChains(x, steps, walkers)
-	s := slices.Clone(c)
-	slices.Sort(s)
-	z := rankNormalize(c)
-	return splitRhat(c, z, quantile(s, 0.5), n, m), multiESS(z, n, m), tailESS(c, s, n, m)
+	z := r.normalize(c, nil)
+	s := slices.Clone(r.sorted)
+	return splitRhat(r, c, z, quantile(s, 0.5), n, m), multiESS(z, n, m), tailESS(c, s, n, m)
 }
 
 // StuckWalkers returns the indices of walkers whose acceptance fraction,
@@ -409,6 +550,7 @@ func diagnose(pos []float64, steps, walkers, dim int, acc []float64, names []str
 	}
 	rep := Report{Steps: steps, Walkers: walkers, MaxTau: math.Inf(-1), MinESS: math.Inf(1), MaxRhat: math.Inf(-1)}
 	x := make([]float64, steps*walkers)
+	var rk ranker
 	for k := range dim {
 		for i := range x {
 			x[i] = pos[i*dim+k]
@@ -416,9 +558,9 @@ func diagnose(pos []float64, steps, walkers, dim int, acc []float64, names []str
 		tau, err := AutocorrTime(x, steps, walkers)
 		p := ParamReport{Index: k, Tau: tau, TauReliable: err == nil, ESS: float64(steps*walkers) / tau}
 		if tails {
-			p.Rhat, p.BulkESS, p.TailESS = vehtari(x, steps, walkers)
+			p.Rhat, p.BulkESS, p.TailESS = vehtari(&rk, x, steps, walkers)
 		} else {
-			p.Rhat, p.BulkESS, p.TailESS = SplitRhat(x, steps, walkers), math.NaN(), math.NaN()
+			p.Rhat, p.BulkESS, p.TailESS = splitRhatOf(&rk, x, steps, walkers), math.NaN(), math.NaN()
 		}
 		if names != nil {
 			p.Name = names[k]

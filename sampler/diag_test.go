@@ -1,12 +1,16 @@
 package sampler
 
 import (
+	"cmp"
 	"encoding/json"
 	"errors"
 	"math"
 	"math/rand/v2"
+	"slices"
 	"strings"
 	"testing"
+
+	"gonum.org/v1/gonum/stat/distuv"
 )
 
 // ar1 returns walkers independent AR(1) series x_t = phi x_{t-1} + e_t,
@@ -171,5 +175,88 @@ func TestDiagnoseJSON(t *testing.T) {
 	}
 	if _, err := Diagnose(pos[:10], steps, walkers, dim, nil, nil); err == nil {
 		t.Error("Diagnose accepted a short chain")
+	}
+}
+
+// TestRankerMatchesComparisonSort checks the radix-sorted ranks against
+// the definition computed with a comparison sort (Vehtari et al. 2021,
+// eq. 14), to the bit, with ties, signed zeros and infinities.
+func TestRankerMatchesComparisonSort(t *testing.T) {
+	r := rand.New(rand.NewPCG(7, 8))
+	v := make([]float64, 3001)
+	for i := range v {
+		switch i % 7 {
+		case 0:
+			v[i] = float64(r.IntN(5)) // ties
+		case 1:
+			v[i] = -r.ExpFloat64()
+		default:
+			v[i] = r.NormFloat64() * 1e3
+		}
+	}
+	v[10], v[11], v[12], v[13] = math.Copysign(0, -1), 0, math.Inf(1), math.Inf(-1)
+	type vi struct {
+		v float64
+		i int
+	}
+	idx := make([]vi, len(v))
+	for i, x := range v {
+		idx[i] = vi{x, i}
+	}
+	slices.SortFunc(idx, func(a, b vi) int { return cmp.Compare(a.v, b.v) })
+	want := make([]float64, len(v))
+	S := len(v)
+	for i := 0; i < S; {
+		j := i
+		for j+1 < S && idx[j+1].v == idx[i].v {
+			j++
+		}
+		q := distuv.UnitNormal.Quantile((float64(i+j)/2 + 1 - 0.375) / (float64(S) + 0.25))
+		for k := i; k <= j; k++ {
+			want[idx[k].i] = q
+		}
+		i = j + 1
+	}
+	var rk ranker
+	for range 2 { // the second call reuses the cached scores
+		got := rk.normalize(v, nil)
+		for i := range v {
+			if got[i] != want[i] {
+				t.Fatalf("score of v[%d] = %g: %g, want %g", i, v[i], got[i], want[i])
+			}
+		}
+	}
+	sorted := slices.Clone(v)
+	slices.Sort(sorted)
+	for i := range sorted {
+		if rk.sorted[i] != sorted[i] {
+			t.Fatalf("sorted[%d] = %g, want %g", i, rk.sorted[i], sorted[i])
+		}
+	}
+}
+
+// TestDirectSumsMatchFFT checks that the lag-by-lag autocorrelation time
+// and multi-chain ESS agree with the FFT versions (the same estimators,
+// Sokal 1997 and Vehtari et al. 2021) to rounding, on AR(1) chains long
+// enough for the direct route.
+func TestDirectSumsMatchFFT(t *testing.T) {
+	const steps, walkers = 4000, 6
+	x := ar1(0.9, steps, walkers, 11)
+	direct, derr, ok := autocorrDirect(x, steps, walkers)
+	if !ok {
+		t.Fatal("direct sums gave up within their lag budget")
+	}
+	fft, ferr := autocorrFFT(x, steps, walkers)
+	// Tolerance: two summation orders of ~steps terms, 1e-12 relative.
+	if math.Abs(direct-fft) > 1e-12*fft || (derr == nil) != (ferr == nil) {
+		t.Errorf("tau direct %.15g (%v), FFT %.15g (%v)", direct, derr, fft, ferr)
+	}
+	c, n, m := splitChains(x, steps, walkers)
+	de, ok := multiESSDirect(c, n, m)
+	if !ok {
+		t.Fatal("direct ESS gave up within its lag budget")
+	}
+	if fe := multiESSFFT(c, n, m); math.Abs(de-fe) > 1e-10*fe {
+		t.Errorf("ESS direct %.15g, FFT %.15g", de, fe)
 	}
 }

@@ -187,8 +187,8 @@ func build(t Target, cfg Config) (*Ensemble, error) {
 		if !(m.Weight > 0) || math.IsInf(m.Weight, 0) {
 			return nil, fmt.Errorf("sampler: Moves[%d].Weight must be finite and > 0, got %v", i, m.Weight)
 		}
-		if v, ok := m.Move.(interface{ validate() error }); ok {
-			if err := v.validate(); err != nil {
+		if v, ok := m.Move.(Validator); ok {
+			if err := v.Validate(); err != nil {
 				return nil, fmt.Errorf("sampler: Moves[%d]: %w", i, err)
 			}
 		}

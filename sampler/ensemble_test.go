@@ -1,6 +1,7 @@
 package sampler
 
 import (
+	"errors"
 	"math"
 	"math/rand/v2"
 	"runtime"
@@ -341,5 +342,43 @@ func TestStepAllocs(t *testing.T) {
 			t.Errorf("workers = %d: %v allocations per Step, want 0", workers, n)
 		}
 		e.Close()
+	}
+}
+
+// pickyMove is a user-defined move that checks its settings and needs
+// three partners.
+type pickyMove struct {
+	Stretch
+	bad bool
+}
+
+func (m pickyMove) Validate() error {
+	if m.bad {
+		return errors.New("picky: bad settings")
+	}
+	return nil
+}
+func (pickyMove) Partners() int { return 3 }
+
+// TestOptionalMoveInterfaces checks that New honours Validator and
+// Partnered on moves defined outside the package.
+func TestOptionalMoveInterfaces(t *testing.T) {
+	tg := newGaussTarget(t, []float64{0}, [][]float64{{1}})
+	for _, tc := range []struct {
+		move    Move
+		walkers int
+		want    string
+	}{
+		{pickyMove{Stretch: Stretch{A: 2}, bad: true}, 8, "picky: bad settings"},
+		{pickyMove{Stretch: Stretch{A: 2}}, 4, "needs 3 walkers in each half"},
+		{pickyMove{Stretch: Stretch{A: 2}}, 6, ""},
+	} {
+		_, err := New(tg, Config{Walkers: tc.walkers, Seed: 1, Moves: []WeightedMove{{Move: tc.move, Weight: 1}}})
+		switch {
+		case tc.want == "" && err != nil:
+			t.Errorf("%d walkers: %v", tc.walkers, err)
+		case tc.want != "" && (err == nil || !strings.Contains(err.Error(), tc.want)):
+			t.Errorf("%d walkers: error %v, want one containing %q", tc.walkers, err, tc.want)
+		}
 	}
 }

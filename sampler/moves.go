@@ -21,6 +21,21 @@ type Move interface {
 	Propose(r *rand.Rand, x, others []float64, n int, y []float64) (lnFactor float64)
 }
 
+// A Validator is a Move that can check its own settings. New and Restore
+// call Validate on every move of Config.Moves that implements it and
+// refuse the configuration if it returns an error.
+type Validator interface {
+	Validate() error
+}
+
+// A Partnered move draws more than one walker of the complementary half
+// per proposal: Partners is how many distinct ones it needs. New refuses
+// ensembles whose halves have fewer walkers; a Move that does not
+// implement Partnered is taken to need one.
+type Partnered interface {
+	Partners() int
+}
+
 // A WeightedMove is one entry of a move mixture: at each update a walker
 // chooses Move with probability Weight / (sum of weights).
 type WeightedMove struct {
@@ -55,7 +70,8 @@ func (m Stretch) Propose(r *rand.Rand, x, others []float64, n int, y []float64) 
 	return float64(d-1) * math.Log(z)
 }
 
-func (m Stretch) validate() error {
+// Validate implements Validator: A must be finite and > 1.
+func (m Stretch) Validate() error {
 	if !(m.A > 1) || math.IsInf(m.A, 0) {
 		return fmt.Errorf("stretch move scale A must be finite and > 1, got %v", m.A)
 	}
@@ -111,7 +127,13 @@ func (m DiffEvolution) Propose(r *rand.Rand, x, others []float64, n int, y []flo
 	return 0
 }
 
-func (m DiffEvolution) validate() error {
+// Partners implements Partnered: the move takes the difference of two
+// distinct walkers.
+func (DiffEvolution) Partners() int { return 2 }
+
+// Validate implements Validator: Gamma finite and > 0, JumpProb in [0, 1],
+// Noise finite and >= 0.
+func (m DiffEvolution) Validate() error {
 	switch {
 	case !(m.Gamma > 0) || math.IsInf(m.Gamma, 0):
 		return fmt.Errorf("differential-evolution Gamma must be finite and > 0, got %v", m.Gamma)
@@ -125,8 +147,8 @@ func (m DiffEvolution) validate() error {
 
 // minOthers is the number of complementary walkers a move needs.
 func minOthers(m Move) int {
-	if _, ok := m.(DiffEvolution); ok {
-		return 2
+	if p, ok := m.(Partnered); ok {
+		return max(p.Partners(), 1)
 	}
 	return 1
 }

@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"slices"
 	"time"
 )
 
@@ -31,6 +32,21 @@ func (h *History) record(e *Ensemble) {
 		h.ll = append(h.ll, e.rungs[r].ll...)
 	}
 	h.n++
+}
+
+// maxReserve bounds the memory, in bytes, Run sets aside for the history
+// up front; a longer history grows as it is recorded.
+const maxReserve = 64 << 20
+
+// reserve makes room for steps more recorded steps (within maxReserve), so
+// that recording does not copy the history as it grows.
+func (h *History) reserve(steps int) {
+	per := h.walkers * (h.dim + h.rungs)
+	steps = min(steps, maxReserve/(8*max(per, 1)))
+	if steps > 0 {
+		h.pos = slices.Grow(h.pos, steps*h.walkers*h.dim)
+		h.ll = slices.Grow(h.ll, steps*h.walkers*h.rungs)
+	}
 }
 
 // Start returns the ensemble step count before the first recorded step.
@@ -85,18 +101,56 @@ func (h *History) LnLike(r, from int) []float64 {
 // thinning is at most a tenth of tau, where thinning changes the estimate
 // by less than 0.5 % (see evaluate). The result depends only on the history.
 func (h *History) maxTau(from int) float64 {
-	const coarseSteps = 4096
+	return h.maxTauThinned(from, finalThinning)
+}
+
+// A thinning sets how far evaluate thins the history: the chain is first
+// thinned to about Coarse steps, then by floor(tau/Divisor) of the slowest
+// parameter, and never to fewer than about Steps steps unless that would
+// thin by more than floor(tau/Divisor).
+type thinning struct {
+	Coarse  int     // steps of the first, coarse estimate of tau
+	Divisor float64 // the thinning interval is at most tau/Divisor
+	Steps   int     // least thinned steps the diagnostics use (0: no cap on the thinning)
+}
+
+// finalThinning is that of the diagnostics Run returns: by tau/10, where
+// k tau(thinned) differs from tau by less than 0.5 % for an exponentially
+// decaying autocorrelation.
+var finalThinning = thinning{Coarse: 4096, Divisor: 10}
+
+// checkThinning is that of the convergence checks during a run: the chain
+// is thinned to about 2048 steps but by no more than tau/4. For an
+// exponentially decaying autocorrelation, k tau(thinned) then overstates
+// tau by at most (k/tau)^2/3 = 2 % (so ESS is understated, the
+// conservative side for a stopping rule), while a check costs a fixed
+// amount of work instead of one growing with the run.
+var checkThinning = thinning{Coarse: 1024, Divisor: 4, Steps: 2048}
+
+// interval returns the thinning interval for n steps and tau, at least 1.
+func (th thinning) interval(n int, tau float64) int {
+	k := 1
+	if tau >= 2*th.Divisor {
+		k = int(tau / th.Divisor)
+	}
+	if th.Steps > 0 && tau >= 2*th.Divisor {
+		// Cap the steps used at about th.Steps, thinning by at least the
+		// final rule's tau/10 and at most tau/Divisor.
+		k = min(k, max(int(tau/finalThinning.Divisor), (n+th.Steps-1)/th.Steps))
+	}
+	return max(k, 1)
+}
+
+// maxTauThinned is maxTau with the thinning th.
+func (h *History) maxTauThinned(from int, th thinning) float64 {
 	n := h.n - from
 	if n < 4 {
 		return math.NaN()
 	}
-	k := max(1, n/coarseSteps)
+	k := max(1, n/th.Coarse)
 	for range 8 {
 		tau := h.thinnedTau(from, k)
-		next := 1
-		if tau >= 20 {
-			next = int(tau / 10)
-		}
+		next := th.interval(n, tau)
 		if next >= k || math.IsNaN(tau) {
 			return tau
 		}
@@ -146,11 +200,14 @@ type RunOptions struct {
 	Thin     int      // thinning for the products; 0 chooses max(1, floor(tau/2))
 	Until    Criteria // convergence conditions
 	// CheckEvery is the interval between convergence checks, 0 meaning
-	// 500. A check costs time proportional to the history, so from the
-	// 8th check on the interval doubles whenever the step count doubles
-	// (4 checks per doubling; see isCheckStep), which keeps the checks a
-	// bounded fraction of a long run; a run stops at most a quarter past
-	// the step where it converged.
+	// 500. From the 8th check on the interval doubles whenever the step
+	// count doubles (4 checks per doubling; see isCheckStep), and a check
+	// thins the history to a fixed size (see checkThinning), which keeps
+	// the checks a small fraction of a long run; a run stops at most a
+	// quarter past the step where it converged. The check at MaxSteps is
+	// the final report itself. Without criteria the checks only feed
+	// OnCheck, and one is skipped while the checks so far took more than
+	// progressShare of the run's time; the results do not depend on it.
 	CheckEvery int
 	// OnStep, if not nil, is called after every step (to write chains); an
 	// error stops the run and is returned.
@@ -170,6 +227,10 @@ type Progress struct {
 	Converged bool          // all criteria hold
 	ETA       time.Duration // estimated time to convergence; -1 if unknown
 }
+
+// progressShare is the largest fraction of a run's time spent on checks
+// that decide nothing (a run without criteria).
+const progressShare = 0.05
 
 // Status says why Run returned.
 type Status int
@@ -218,6 +279,9 @@ type Result struct {
 	LadderFrozenAt int
 	Betas          []float64
 	SwapAcceptance []float64
+	// DiagnosticsTime is the wall time this Run spent on convergence
+	// checks and the final report (for timings; it changes no result).
+	DiagnosticsTime time.Duration
 }
 
 // Run steps e until the criteria hold at a check, MaxSteps is reached or
@@ -241,11 +305,20 @@ func Run(ctx context.Context, e *Ensemble, opt RunOptions) (Result, error) {
 	if e.hist == nil {
 		e.hist = newHistory(e)
 	}
+	e.hist.reserve(opt.MaxSteps - e.steps)
 	t0 := time.Now()
 	s0 := e.steps
 	var ev evaluation
+	c := opt.Until
+	decides := c.ESS > 0 || c.TauMultiple > 0 || c.Rhat > 0
+	var spent time.Duration
 	check := func() bool {
+		if !decides && spent > time.Duration(float64(time.Since(t0))*progressShare) {
+			return false
+		}
+		t := time.Now()
 		ev = evaluate(e, opt, false)
+		spent += time.Since(t)
 		if opt.OnCheck != nil {
 			opt.OnCheck(ev.progress(e, opt, t0, s0))
 		}
@@ -272,16 +345,28 @@ func Run(ctx context.Context, e *Ensemble, opt RunOptions) (Result, error) {
 				return Result{}, fmt.Errorf("sampler: step %d: %w", e.steps, err)
 			}
 		}
-		if (isCheckStep(e.steps, opt.CheckEvery) || e.steps == opt.MaxSteps) && check() {
+		if e.steps < opt.MaxSteps && isCheckStep(e.steps, opt.CheckEvery) && check() {
 			status = Converged
 		}
 	}
-	// The final report adds bulk and tail ESS, which no decision uses.
+	// The final report adds bulk and tail ESS, which no decision uses. At
+	// MaxSteps it is also the last check.
+	tf := time.Now()
 	ev = evaluate(e, opt, true)
+	spent += time.Since(tf)
+	if status == MaxStepsReached {
+		if ev.converged {
+			status = Converged
+		}
+		if opt.OnCheck != nil {
+			opt.OnCheck(ev.progress(e, opt, t0, s0))
+		}
+	}
 	return Result{
 		Status: status, Steps: e.steps, Burn: ev.burn, Thin: ev.thin,
 		Report: ev.report, History: e.hist, BurnIndex: ev.burnIndex,
 		LadderFrozenAt: e.frozenAt, Betas: e.Betas(), SwapAcceptance: e.SwapAcceptance(),
+		DiagnosticsTime: spent,
 	}, runErr
 }
 
@@ -316,7 +401,11 @@ func evaluate(e *Ensemble, opt RunOptions, final bool) evaluation {
 	ev := evaluation{thin: max(opt.Thin, 1), needSteps: math.NaN()}
 	first := max(e.frozenAt, h.start) // ensemble step after which samples are usable
 	u0 := min(first-h.start, h.n)
-	tau0 := h.maxTau(u0)
+	th := checkThinning
+	if final {
+		th = finalThinning
+	}
+	tau0 := h.maxTauThinned(u0, th)
 	burn := first
 	if opt.Burn >= 0 {
 		burn = max(opt.Burn, first)
@@ -330,13 +419,11 @@ func evaluate(e *Ensemble, opt RunOptions, final bool) evaluation {
 	ev.burnIndex = min(burn-h.start, h.n)
 	n := h.n - ev.burnIndex
 	// The diagnostics are computed on the post-burn-in chain thinned by
-	// k = floor(tau0/10): for an exponentially decaying autocorrelation
-	// k tau(thinned) differs from tau by less than 0.5 %, and the ESS is
-	// unchanged, while the work drops k-fold.
-	k := 1
-	if tau0 >= 20 {
-		k = int(tau0 / 10)
-	}
+	// k = floor(tau0/10) for the final report (checks: see checkThinning):
+	// for an exponentially decaying autocorrelation k tau(thinned) differs
+	// from tau by less than 0.5 %, and the ESS is unchanged, while the work
+	// drops k-fold.
+	k := th.interval(n, tau0)
 	ns := (n + k - 1) / k
 	if ns < 8 {
 		return ev

@@ -53,3 +53,53 @@ func TestAllocs(t *testing.T) {
 		t.Errorf("Autocov allocates %v times per call", a)
 	}
 }
+
+// TestLagsAgainstDirectSum compares Lags, in both layouts, with the
+// defining lag-by-lag sum, to rounding.
+func TestLagsAgainstDirectSum(t *testing.T) {
+	r := rand.New(rand.NewPCG(3, 4))
+	const m = 3
+	for _, n := range []int{1, 5, 8, 9, 40} {
+		c := make([]float64, n*m)
+		for i := range c {
+			c[i] = r.NormFloat64() + 2
+		}
+		inter := make([]float64, n*m)
+		for j := range m {
+			for s := range n {
+				inter[s*m+j] = c[j*n+s]
+			}
+		}
+		var a, b Lags
+		a.LoadChains(c, n, m)
+		b.LoadInterleaved(inter, n, m)
+		ga, gb := make([]float64, m*LagBlock), make([]float64, m*LagBlock)
+		for k0 := 0; k0 < n+LagBlock; k0 += LagBlock {
+			a.Block(k0, ga)
+			b.Block(k0, gb)
+			for j := range m {
+				x := c[j*n : (j+1)*n]
+				mean := 0.0
+				for _, v := range x {
+					mean += v
+				}
+				mean /= float64(n)
+				if a.Mean(j) != mean {
+					t.Errorf("n=%d: mean %g, want %g", n, a.Mean(j), mean)
+				}
+				for i := range LagBlock {
+					k := k0 + i
+					want := 0.0
+					for s := 0; s+k < n; s++ {
+						want += (x[s] - mean) * (x[s+k] - mean)
+					}
+					want /= float64(n)
+					// The same sum in the same order: equal to the bit.
+					if ga[j*LagBlock+i] != want || gb[j*LagBlock+i] != want {
+						t.Errorf("n=%d series %d lag %d: %g and %g, want %g", n, j, k, ga[j*LagBlock+i], gb[j*LagBlock+i], want)
+					}
+				}
+			}
+		}
+	}
+}

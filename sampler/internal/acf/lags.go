@@ -1,0 +1,116 @@
+package acf
+
+// LagBlock is the number of lags Lags.Block computes in one pass over the
+// series.
+const LagBlock = 8
+
+// Lags computes the same autocovariances as Work, lag by lag from the
+// defining sum,
+//
+//	C_j(k) = (1/n) sum_{t=0}^{n-1-k} (x_jt - m_j)(x_j,t+k - m_j),
+//
+// for m series of n values. A lag costs O(n m), so it beats the FFT, which
+// yields all n lags for O(n log n) per series, when only the first few
+// dozen lags are needed: the windowed autocorrelation times of a chain that
+// is long against its correlation time. Each C_j(k) is accumulated in t
+// order, so the values do not depend on how lags are grouped into blocks.
+// A Lags reuses its buffers between loads and is not safe for concurrent
+// use.
+type Lags struct {
+	n, m int
+	dev  []float64 // series j centred at dev[j*n:(j+1)*n]
+	mean []float64
+}
+
+// LoadChains loads m series of n values, series j at c[j*n:(j+1)*n].
+func (l *Lags) LoadChains(c []float64, n, m int) {
+	l.resize(n, m)
+	for j := range m {
+		l.centre(j, c[j*n:(j+1)*n])
+	}
+}
+
+// LoadInterleaved loads m series of n values stored step-major, value t of
+// series j at x[t*m+j].
+func (l *Lags) LoadInterleaved(x []float64, n, m int) {
+	l.resize(n, m)
+	for j := range m {
+		d := l.dev[j*n : (j+1)*n]
+		for t := range d {
+			d[t] = x[t*m+j]
+		}
+		l.centre(j, d)
+	}
+}
+
+func (l *Lags) resize(n, m int) {
+	l.n, l.m = n, m
+	if cap(l.dev) < n*m {
+		l.dev = make([]float64, n*m)
+	}
+	l.dev = l.dev[:n*m]
+	if cap(l.mean) < m {
+		l.mean = make([]float64, m)
+	}
+	l.mean = l.mean[:m]
+}
+
+// centre stores series (which may alias its slot) minus its mean as
+// series j; the mean is summed in order as Work.Autocov does.
+func (l *Lags) centre(j int, series []float64) {
+	mean := 0.0
+	for _, v := range series {
+		mean += v
+	}
+	mean /= float64(l.n)
+	d := l.dev[j*l.n : (j+1)*l.n]
+	for t, v := range series {
+		d[t] = v - mean
+	}
+	l.mean[j] = mean
+}
+
+// Mean returns the mean of series j.
+func (l *Lags) Mean(j int) float64 { return l.mean[j] }
+
+// Block writes C_j(k0+i) into out[j*LagBlock+i] for i < LagBlock and every
+// series j; lags at or beyond n are written as 0. out must hold
+// m x LagBlock values.
+func (l *Lags) Block(k0 int, out []float64) {
+	n := l.n
+	nf := float64(n)
+	for j := range l.m {
+		d := l.dev[j*n : (j+1)*n]
+		var s [LagBlock]float64
+		// t below full has every lag of the block inside the series.
+		full := max(n-(k0+LagBlock-1), 0)
+		if full > 0 {
+			a := d[:full]
+			b0, b1, b2, b3 := d[k0:k0+full], d[k0+1:k0+1+full], d[k0+2:k0+2+full], d[k0+3:k0+3+full]
+			b4, b5, b6, b7 := d[k0+4:k0+4+full], d[k0+5:k0+5+full], d[k0+6:k0+6+full], d[k0+7:k0+7+full]
+			var s0, s1, s2, s3, s4, s5, s6, s7 float64
+			for t, v := range a {
+				s0 += v * b0[t]
+				s1 += v * b1[t]
+				s2 += v * b2[t]
+				s3 += v * b3[t]
+				s4 += v * b4[t]
+				s5 += v * b5[t]
+				s6 += v * b6[t]
+				s7 += v * b7[t]
+			}
+			s = [LagBlock]float64{s0, s1, s2, s3, s4, s5, s6, s7}
+		}
+		for t := full; t < n-k0; t++ {
+			for i := range LagBlock {
+				if t+k0+i < n {
+					s[i] += d[t] * d[t+k0+i]
+				}
+			}
+		}
+		o := out[j*LagBlock : (j+1)*LagBlock]
+		for i := range o {
+			o[i] = s[i] / nf
+		}
+	}
+}

@@ -1,0 +1,479 @@
+// Command bench measures tautline's performance ratios on this machine in
+// one run and prints them: the share of a fit's wall time spent on
+// convergence diagnostics and on writing chain.csv, the KDE table build,
+// the likelihood against hand-written lookups, the sampler's overhead per
+// walker-step, and (with -e2e) the end-to-end effective samples per second
+// of the command against a vectorized NumPy stretch-move fit
+// (scripts/bench/numpy_fit.py). It is not part of `go test ./...`.
+//
+// Usage, from the repository root:
+//
+//	go run ./scripts/bench [-steps 20000] [-e2e] [-python python3]
+package main
+
+import (
+	"context"
+	"encoding/json"
+	"flag"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"os"
+	"os/exec"
+	"path/filepath"
+	"runtime"
+	"strings"
+	"time"
+
+	"tautline/chains"
+	"tautline/likelihood"
+	"tautline/models"
+	"tautline/models/binaries"
+	"tautline/models/cosmicstrings"
+	"tautline/models/gw"
+	"tautline/sampler"
+)
+
+func main() {
+	steps := flag.Int("steps", 20000, "steps of the fits timed")
+	e2e := flag.Bool("e2e", true, "also time the command and the NumPy fit end to end")
+	py := flag.String("python", "python3", "Python interpreter with NumPy for the end-to-end comparison")
+	flag.Parse()
+	if err := run(*steps, *e2e, *py); err != nil {
+		fmt.Fprintln(os.Stderr, "bench:", err)
+		os.Exit(1)
+	}
+}
+
+const h0kms = 67.4
+
+func run(steps int, e2e bool, py string) error {
+	fmt.Printf("tautline benchmarks on %s/%s, %d CPUs, GOMAXPROCS %d\n\n", runtime.GOOS, runtime.GOARCH, runtime.NumCPU(), runtime.GOMAXPROCS(0))
+	smbhb, err := likelihood.Load("cmd/tautline/demo/smbhb/smbhb.yaml")
+	if err != nil {
+		return fmt.Errorf("%w (run from the repository root)", err)
+	}
+	strData, err := likelihood.Load("cmd/tautline/demo/strings/strings.yaml")
+	if err != nil {
+		return err
+	}
+
+	// KDE tables: 30 bins x 2000 samples.
+	kdeMs := timeKDE()
+	fmt.Printf("KDE table build, 30 bins x 2000 samples:      %7.1f ms   (goal <= 50 ms)\n", kdeMs)
+
+	// Likelihoods against hand-written lookups.
+	h0 := gw.H0SI(h0kms)
+	bm, _ := binaries.New(binaries.Options{H0: h0})
+	pS, fsS, err := posterior(smbhb, bm, h0)
+	if err != nil {
+		return err
+	}
+	xs := []float64{-14.6, 13.0 / 3}
+	full := nsPer(func() { pS.LogLike(xs) })
+	hand := handPowerLaw(smbhb, fsS, h0)
+	hv := nsPer(func() { hand.logLike(xs) })
+	fmt.Printf("SMBHB likelihood, 30 bins:                    %7.1f ns   hand-written lookup %5.1f ns: ratio %.2f (goal <= 3)\n", full, hv, full/hv)
+
+	tab, err := cosmicstrings.LoadTable(cosmicstrings.DefaultSettings(), "", cosmicstrings.BuildOptions{Workers: runtime.NumCPU(), Seed: 1})
+	if err != nil {
+		return err
+	}
+	sm := cosmicstrings.NewModel(tab)
+	pT, _, err := posterior(strData, sm, h0)
+	if err != nil {
+		return err
+	}
+	xt := midPrior(pT)
+	strNs := nsPer(func() { pT.LogLike(xt) })
+	over := samplerOverhead(pT.Dim())
+	fmt.Printf("string likelihood, 30 bins:                   %7.1f ns\n", strNs)
+	fmt.Printf("sampler overhead per walker-step:             %7.1f ns   %.1f %% of a string likelihood (goal <= 10 %%)\n", over, 100*over/strNs)
+
+	// In-process replica of `fit --workers 1` on both demos: shares of time.
+	for _, c := range []struct {
+		name string
+		post *likelihood.Posterior
+	}{{"smbhb", pS}, {"strings", pT}} {
+		sh, err := fitShares(c.post, steps)
+		if err != nil {
+			return err
+		}
+		fmt.Printf("fit %-8s %d steps x 32 walkers: %.2f s; diagnostics %.1f %% (goal <= 10 %%), chain.csv %.1f %% (goal <= 10 %%), steps %.1f %%\n",
+			c.name, steps, sh.total, 100*sh.diag/sh.total, 100*sh.csv/sh.total, 100*sh.step/sh.total)
+	}
+	if !e2e {
+		return nil
+	}
+	fmt.Println()
+	return endToEnd(steps, py, smbhb, sm, strData, h0)
+}
+
+func posterior(ds *likelihood.Dataset, m models.Model, h0 float64) (*likelihood.Posterior, *likelihood.FreeSpectrum, error) {
+	fs, err := likelihood.NewFreeSpectrum(ds, likelihood.Options{})
+	if err != nil {
+		return nil, nil, err
+	}
+	p, err := likelihood.NewPosterior(m, nil, ds, fs, h0)
+	return p, fs, err
+}
+
+func midPrior(p *likelihood.Posterior) []float64 {
+	var x []float64
+	for _, par := range p.FreeParams() {
+		lo, hi := par.Prior.Bounds()
+		x = append(x, 0.5*(lo+hi))
+	}
+	return x
+}
+
+// nsPer returns the mean time of f over about 0.2 s, in ns.
+func nsPer(f func()) float64 {
+	n := 1000
+	for {
+		t := time.Now()
+		for range n {
+			f()
+		}
+		if d := time.Since(t); d > 200*time.Millisecond {
+			return float64(d.Nanoseconds()) / float64(n)
+		}
+		n *= 4
+	}
+}
+
+func timeKDE() float64 {
+	const lo, hi = -10.0, -4.0
+	ds := &likelihood.Dataset{Name: "b", Span: 5e8, PriorMin: lo, PriorMax: hi}
+	r := rand.New(rand.NewPCG(1, 2))
+	for i := range 30 {
+		ds.Freqs = append(ds.Freqs, float64(i+1)/ds.Span)
+		mu, sd := -6.5-0.12*float64(i), 0.05+0.03*float64(i)
+		var s []float64
+		for len(s) < 2000 {
+			if v := mu + sd*r.NormFloat64(); v >= lo && v <= hi {
+				s = append(s, v)
+			}
+		}
+		ds.Bins = append(ds.Bins, likelihood.Bin{Kind: likelihood.Samples, Samples: s})
+	}
+	best := math.Inf(1)
+	for range 5 {
+		t := time.Now()
+		if _, err := likelihood.NewFreeSpectrum(ds, likelihood.Options{}); err != nil {
+			panic(err)
+		}
+		best = math.Min(best, float64(time.Since(t).Microseconds())/1e3)
+	}
+	return best
+}
+
+// handLookup is the SMBHB likelihood written out by hand: log10 rho_i is
+// linear in (log10 A, gamma), and the tables (the same values as the
+// FreeSpectrum's, read at its nodes) are interpolated inline.
+type handLookup struct {
+	a, b, c []float64 // log10 rho_i = a_i + b_i log10A + c_i gamma
+	lo, inv float64
+	m       int
+	table   []float64
+}
+
+func handPowerLaw(ds *likelihood.Dataset, fs *likelihood.FreeSpectrum, h0 float64) *handLookup {
+	const m = likelihood.DefaultTableSize
+	lo, hi := fs.Range()
+	h := &handLookup{lo: lo, inv: float64(m-1) / (hi - lo), m: m}
+	for i, f := range ds.Freqs {
+		off := 0.5 * math.Log10(h0*h0/(8*math.Pow(math.Pi, 4)*math.Pow(f, 5)*ds.Span))
+		lnC := math.Log(2 * math.Pi * math.Pi / (3 * h0 * h0))
+		lnx := math.Log(f / gw.FYear)
+		// log10 rho = off + (lnC + 2 ln f + 2 ln10 log10A + (3-gamma) lnx) / (2 ln10)
+		h.a = append(h.a, off+(lnC+2*math.Log(f)+3*lnx)/(2*math.Ln10))
+		h.b = append(h.b, 1)
+		h.c = append(h.c, -lnx/(2*math.Ln10))
+		for k := range m {
+			x := lo + float64(k)*(hi-lo)/float64(m-1)
+			h.table = append(h.table, fs.LnDensity(i, math.Min(x, hi)))
+		}
+	}
+	return h
+}
+
+func (h *handLookup) logLike(x []float64) float64 {
+	s := 0.0
+	for i := range h.a {
+		v := h.a[i] + h.b[i]*x[0] + h.c[i]*x[1]
+		u := (v - h.lo) * h.inv
+		k := min(max(int(u), 0), h.m-2)
+		w := u - float64(k)
+		r := h.table[i*h.m+k : i*h.m+k+2]
+		s += r[0] + w*(r[1]-r[0])
+	}
+	return s
+}
+
+// noop is a target whose density costs nothing.
+type noop struct{ d int }
+
+func (n noop) Dim() int { return n.d }
+func (n noop) Draw(r *rand.Rand, x []float64) {
+	for i := range x {
+		x[i] = r.Float64()
+	}
+}
+func (noop) LogPrior([]float64) float64 { return 0 }
+func (noop) LogLike([]float64) float64  { return 0 }
+
+func samplerOverhead(dim int) float64 {
+	e, err := sampler.New(noop{dim}, sampler.Config{Walkers: 32, Seed: 1, Workers: 1})
+	if err != nil {
+		panic(err)
+	}
+	defer e.Close()
+	return nsPer(func() { e.Step() }) / 32
+}
+
+type shares struct{ total, diag, csv, step float64 }
+
+// fitShares runs what `fit --workers 1 --checkpoint-every 0` runs for the
+// sampling phase: Run with a chain.csv writer on every step.
+func fitShares(p *likelihood.Posterior, steps int) (shares, error) {
+	dir, err := os.MkdirTemp("", "tautline-bench")
+	if err != nil {
+		return shares{}, err
+	}
+	defer os.RemoveAll(dir)
+	t0 := time.Now()
+	e, err := sampler.New(p, sampler.Config{Walkers: 32, Seed: 1, Workers: 1})
+	if err != nil {
+		return shares{}, err
+	}
+	defer e.Close()
+	names := p.FreeNames()
+	w, err := chains.Create(filepath.Join(dir, "chain.csv"), append([]string{"step", "walker", "ln_post", "ln_like"}, names...))
+	if err != nil {
+		return shares{}, err
+	}
+	dim := len(names)
+	row := make([]float64, 4+dim)
+	var csv time.Duration
+	res, err := sampler.Run(context.Background(), e, sampler.RunOptions{
+		MaxSteps: steps, Burn: -1, CheckEvery: max(100, min(500, steps/10)),
+		OnStep: func(en *sampler.Ensemble) error {
+			t := time.Now()
+			pos, lpost, ll := en.Positions(0), en.LnPost(0), en.LnLike(0)
+			row[0] = float64(en.Steps())
+			for k := range en.Walkers() {
+				row[1], row[2], row[3] = float64(k), lpost[k], ll[k]
+				copy(row[4:], pos[k*dim:(k+1)*dim])
+				if err := w.Append(row); err != nil {
+					return err
+				}
+			}
+			csv += time.Since(t)
+			return nil
+		},
+	})
+	if err != nil {
+		return shares{}, err
+	}
+	t := time.Now()
+	if err := w.Close(); err != nil {
+		return shares{}, err
+	}
+	csv += time.Since(t)
+	total := time.Since(t0).Seconds()
+	d := res.DiagnosticsTime.Seconds()
+	return shares{total: total, diag: d, csv: csv.Seconds(), step: total - d - csv.Seconds()}, nil
+}
+
+// endToEnd times the command (process start to summary printed) and the
+// NumPy fit on both demos and compares their effective samples per second
+// (the smallest ESS over the parameters, each program's own estimate).
+func endToEnd(steps int, py string, smbhbData *likelihood.Dataset, sm *cosmicstrings.Model, strData *likelihood.Dataset, h0 float64) error {
+	tmp, err := os.MkdirTemp("", "tautline-bench")
+	if err != nil {
+		return err
+	}
+	defer os.RemoveAll(tmp)
+	bin := filepath.Join(tmp, "tautline")
+	if out, err := exec.Command("go", "build", "-o", bin, "./cmd/tautline").CombinedOutput(); err != nil {
+		return fmt.Errorf("go build: %v\n%s", err, out)
+	}
+	hasNumPy := exec.Command(py, "-c", "import numpy").Run() == nil
+	if !hasNumPy && py == "python3" && exec.Command("/usr/bin/python3", "-c", "import numpy").Run() == nil {
+		py, hasNumPy = "/usr/bin/python3", true // the system interpreter, where apt installs NumPy
+	}
+	if !hasNumPy {
+		fmt.Println("end to end: NumPy not available to", py, "- skipping the NumPy comparison (apt-get install -y python3-numpy)")
+	}
+	exported := map[string]string{"smbhb": filepath.Join(tmp, "np-smbhb"), "strings": filepath.Join(tmp, "np-strings")}
+	if hasNumPy {
+		if err := exportSMBHB(exported["smbhb"], smbhbData, h0); err != nil {
+			return err
+		}
+		if err := exportStringGrid(exported["strings"], sm, strData, h0); err != nil {
+			return err
+		}
+	}
+	for _, demo := range []string{"smbhb", "strings"} {
+		out := filepath.Join(tmp, "fit-"+demo)
+		args := []string{"fit", "--data", "demo:" + demo, "--model", demo, "--steps", fmt.Sprint(steps), "--workers", "1", "--checkpoint-every", "0", "--out", out}
+		t := time.Now()
+		if b, err := exec.Command(bin, args...).CombinedOutput(); err != nil {
+			return fmt.Errorf("tautline %s: %v\n%s", strings.Join(args, " "), err, b)
+		}
+		wall := time.Since(t).Seconds()
+		ess, err := minESS(filepath.Join(out, "meta.json"))
+		if err != nil {
+			return err
+		}
+		fmt.Printf("tautline fit %-8s %d steps: %.2f s, min ESS %.0f: %.0f ESS/s\n", demo, steps, wall, ess, ess/wall)
+		if !hasNumPy {
+			continue
+		}
+		pargs := []string{"scripts/bench/numpy_fit.py", "--steps", fmt.Sprint(steps), "--problem", exported[demo]}
+		t = time.Now()
+		b, err := exec.Command(py, pargs...).CombinedOutput()
+		if err != nil {
+			return fmt.Errorf("%s %s: %v\n%s", py, strings.Join(pargs, " "), err, b)
+		}
+		pwall := time.Since(t).Seconds()
+		var pess float64
+		for _, line := range strings.Split(string(b), "\n") {
+			if v, ok := strings.CutPrefix(line, "min_ess "); ok {
+				fmt.Sscan(v, &pess)
+			}
+		}
+		fmt.Printf("numpy    fit %-8s %d steps: %.2f s, min ESS %.0f: %.0f ESS/s; tautline/NumPy = %.1fx (goal >= 20x)\n",
+			demo, steps, pwall, pess, pess/pwall, (ess/wall)/(pess/pwall))
+	}
+	return nil
+}
+
+func minESS(meta string) (float64, error) {
+	raw, err := os.ReadFile(meta)
+	if err != nil {
+		return 0, err
+	}
+	var m struct {
+		Diagnostics struct {
+			MinESS float64 `json:"min_ess"`
+		} `json:"diagnostics"`
+	}
+	if err := json.Unmarshal(raw, &m); err != nil {
+		return 0, fmt.Errorf("%s: %w", meta, err)
+	}
+	return m.Diagnostics.MinESS, nil
+}
+
+// exportStringGrid writes what scripts/bench/numpy_fit.py needs for the
+// string demo into dir (an .npz-like folder of .npy files and a JSON
+// header): log10 rho_i on a regular (log10 Gmu, log10 alpha) grid at
+// P = 1, the per-bin slope of log10 rho in log10 P (it enters as a power
+// law, checked here), the free-spectrum tables at their nodes and the
+// priors.
+func exportStringGrid(dir string, sm *cosmicstrings.Model, ds *likelihood.Dataset, h0 float64) error {
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return err
+	}
+	p, fs, err := posterior(ds, sm, h0)
+	if err != nil {
+		return err
+	}
+	fp := p.FreeParams()
+	if len(fp) != 3 {
+		return fmt.Errorf("string model has %d free parameters, want 3", len(fp))
+	}
+	var lo, hi [3]float64
+	for k, par := range fp {
+		lo[k], hi[k] = par.Prior.Bounds()
+	}
+	nb := len(ds.Freqs)
+	rho := make([]float64, nb)
+	at := func(x []float64) ([]float64, error) { return p.Log10Rho(x, rho) }
+	// log10 P slope per bin, and a check that it is a power law.
+	mid := []float64{0.5 * (lo[0] + hi[0]), 0.5 * (lo[1] + hi[1]), 0}
+	r0, err := at(mid)
+	if err != nil {
+		return err
+	}
+	r0 = append([]float64(nil), r0...)
+	slope := make([]float64, nb)
+	mid[2] = lo[2]
+	r1, err := at(mid)
+	if err != nil {
+		return err
+	}
+	for i := range slope {
+		slope[i] = (r1[i] - r0[i]) / lo[2]
+	}
+	mid[2] = 0.5 * lo[2]
+	r2, _ := at(mid)
+	for i := range slope {
+		if d := r2[i] - (r0[i] + slope[i]*mid[2]); math.Abs(d) > 1e-9 {
+			return fmt.Errorf("log10 rho is not linear in log10 P at bin %d (off by %g)", i, d)
+		}
+	}
+	const ng, na = 321, 201
+	grid := make([]float64, 0, ng*na*nb)
+	for a := range ng {
+		for b := range na {
+			x := []float64{lo[0] + (hi[0]-lo[0])*float64(a)/(ng-1), lo[1] + (hi[1]-lo[1])*float64(b)/(na-1), 0}
+			r, err := at(x)
+			if err != nil {
+				return err
+			}
+			grid = append(grid, r...)
+		}
+	}
+	if err := chains.WriteNPY(filepath.Join(dir, "grid.npy"), ng*na, nb, grid); err != nil {
+		return err
+	}
+	return writeHeader(dir, fs, map[string]any{"model": "strings", "lo": lo, "hi": hi, "ng": ng, "na": na, "slope_log10P": slope})
+}
+
+// writeHeader writes the free-spectrum tables of fs at their nodes and a
+// JSON header with the table range, the penalty and the entries of h.
+func writeHeader(dir string, fs *likelihood.FreeSpectrum, h map[string]any) error {
+	tlo, thi := fs.Range()
+	const m = likelihood.DefaultTableSize
+	nb := fs.NumBins()
+	tab := make([]float64, 0, nb*m)
+	for i := range nb {
+		for k := range m {
+			tab = append(tab, fs.LnDensity(i, math.Min(tlo+float64(k)*(thi-tlo)/(m-1), thi)))
+		}
+	}
+	if err := chains.WriteNPY(filepath.Join(dir, "tables.npy"), nb, m, tab); err != nil {
+		return err
+	}
+	h["table_lo"], h["table_hi"], h["penalty"] = tlo, thi, fs.Penalty()
+	hdr, err := json.Marshal(h)
+	if err != nil {
+		return err
+	}
+	return os.WriteFile(filepath.Join(dir, "header.json"), hdr, 0o644)
+}
+
+// exportSMBHB writes the SMBHB demo's tables and what the power law needs:
+// per bin log10 rho_i = a_i + log10 A + c_i gamma.
+func exportSMBHB(dir string, ds *likelihood.Dataset, h0 float64) error {
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return err
+	}
+	bm, err := binaries.New(binaries.Options{H0: h0})
+	if err != nil {
+		return err
+	}
+	_, fs, err := posterior(ds, bm, h0)
+	if err != nil {
+		return err
+	}
+	hand := handPowerLaw(ds, fs, h0)
+	var lo, hi []float64
+	for _, par := range bm.Params() {
+		l, u := par.Prior.Bounds()
+		lo, hi = append(lo, l), append(hi, u)
+	}
+	return writeHeader(dir, fs, map[string]any{"model": "smbhb", "a": hand.a, "c": hand.c, "lo": lo, "hi": hi})
+}
