@@ -295,6 +295,9 @@ func TestImportRefused(t *testing.T) {
 			t.Errorf("tautline %s: want a one-line error, got\n%s", strings.Join(c.args, " "), stderr)
 		}
 	}
+	if code, stdout, _ := runCLI(t, "import", "--help"); code != 0 || !strings.Contains(stdout, "--span-years float") {
+		t.Errorf("import --help: exit %d, want 0 and the options:\n%s", code, stdout)
+	}
 	if _, err := os.Stat(out); !os.IsNotExist(err) {
 		t.Errorf("refused imports left %s behind (err %v)", out, err)
 	}
