@@ -26,6 +26,8 @@ var demoFS embed.FS
 var demoNames = map[string]string{
 	"smbhb":   "demo/smbhb/smbhb.yaml",
 	"strings": "demo/strings/strings.yaml",
+	"pair-a":  "demo/pair-a/pair-a.yaml",
+	"pair-b":  "demo/pair-b/pair-b.yaml",
 }
 
 // loadData reads a data set from a path or from an embedded demo
