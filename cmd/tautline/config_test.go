@@ -1,30 +1,9 @@
 package main
 
 import (
-	"os"
-	"path/filepath"
 	"strings"
 	"testing"
 )
-
-// FuzzDecodeConfig feeds arbitrary bytes to the configuration reader: it
-// must return a configuration or an error naming the file, never panic.
-func FuzzDecodeConfig(f *testing.F) {
-	files, _ := filepath.Glob(filepath.Join("..", "..", "testdata", "config", "*.yaml"))
-	for _, p := range files {
-		if b, err := os.ReadFile(p); err == nil {
-			f.Add(b)
-		}
-	}
-	f.Add([]byte("sampler: {walkers: [1, 2]}\n"))
-	f.Add([]byte("model:\n  priors:\n    x: 3\n"))
-	f.Fuzz(func(t *testing.T, raw []byte) {
-		cfg := defaultConfig()
-		if err := decodeConfig("fuzz.yaml", raw, &cfg); err != nil && !strings.HasPrefix(err.Error(), "fuzz.yaml") {
-			t.Errorf("error does not name the file: %v", err)
-		}
-	})
-}
 
 // TestParseUntil covers the --until syntax.
 func TestParseUntil(t *testing.T) {

@@ -15,6 +15,7 @@ import (
 
 	"tautline/chains"
 	"tautline/report"
+	"tautline/runconfig"
 	"tautline/rundir"
 	"tautline/sampler"
 )
@@ -34,14 +35,14 @@ chain bytes as a run that never stopped.`
 
 func runFit(ctx context.Context, e *env, args []string) error {
 	var resume bool
-	cfg, rf, _, err := resolveConfig(e, "fit", "[options]", fitHelp, args, defaultConfig, bindConfig, func(fs *flag.FlagSet) {
+	cfg, rf, _, err := resolveConfig(e, "fit", "[options]", fitHelp, args, runconfig.Default, bindConfig, func(fs *flag.FlagSet) {
 		fs.BoolVar(&resume, "resume", false, "continue the run in --out from its checkpoint (same configuration required)")
 	})
 	if err != nil {
 		return err
 	}
 	if rf.printConfig {
-		fmt.Fprint(e.stdout, marshalConfig(cfg))
+		fmt.Fprint(e.stdout, runconfig.Marshal(cfg))
 		return nil
 	}
 	lg, err := newLogger(e.stderr, rf.logLevel, rf.logFormat)
@@ -54,26 +55,16 @@ func runFit(ctx context.Context, e *env, args []string) error {
 	return fit(ctx, e, lg, cfg, resume)
 }
 
-// fingerprint identifies everything that decides a run's chain: the data
-// and the configuration except the keys that only say how long to run, how
-// often to write, or how many goroutines to use.
-func fingerprint(cfg Config, dataSHA string) string {
-	c := cfg
-	c.Sampler.Steps, c.Sampler.Until, c.Sampler.Workers = 0, "", 0
-	c.Sampler.CheckpointEvery, c.Output.FlushEvery, c.Output.Dir = 0, 0, ""
-	return rundir.Fingerprint(dataSHA, marshalConfig(c))
-}
-
 // untilDefaultCap is the step cap of an --until run that names no --steps.
 const untilDefaultCap = 100000
 
-func fit(ctx context.Context, e *env, lg *logrus.Logger, cfg Config, resume bool) error {
+func fit(ctx context.Context, e *env, lg *logrus.Logger, cfg runconfig.Config, resume bool) error {
 	started := time.Now()
 	until, err := parseUntil(cfg.Sampler.Until)
 	if err != nil {
 		return err
 	}
-	if cfg.Sampler.Until != "" && cfg.Sampler.Steps == defaultConfig().Sampler.Steps {
+	if cfg.Sampler.Until != "" && cfg.Sampler.Steps == runconfig.Default().Sampler.Steps {
 		cfg.Sampler.Steps = untilDefaultCap
 		lg.Infof("--until without --steps: capping the run at %d steps", untilDefaultCap)
 	}
@@ -92,7 +83,7 @@ func fit(ctx context.Context, e *env, lg *logrus.Logger, cfg Config, resume bool
 	lg.WithFields(logrus.Fields{"data": pb.data.Name, "bins": len(pb.data.Freqs), "model": pb.model.Name(), "params": strings.Join(names, ",")}).Info("fit")
 	scfg := sampler.Config{
 		Walkers: cfg.Sampler.Walkers, Seed: cfg.Sampler.Seed, Moves: moves, Workers: cfg.Sampler.Workers,
-		Fingerprint: fingerprint(cfg, pb.data.SHA256),
+		Fingerprint: cfg.Fingerprint(pb.data.SHA256),
 	}
 	if n := cfg.Sampler.Temperatures; n > 1 {
 		if scfg.Betas, err = sampler.GeometricLadder(n, cfg.Sampler.BetaMin); err != nil {
@@ -229,7 +220,7 @@ func fit(ctx context.Context, e *env, lg *logrus.Logger, cfg Config, resume bool
 	return nil
 }
 
-func printFitSummary(e *env, cfg Config, pb *problem, res sampler.Result, sum []rundir.ParamSummary, n int) {
+func printFitSummary(e *env, cfg runconfig.Config, pb *problem, res sampler.Result, sum []rundir.ParamSummary, n int) {
 	status := res.Status.String()
 	if cfg.Sampler.Until == "" && res.Status == sampler.MaxStepsReached {
 		status = "finished" // no criteria were asked for; the diagnostics below say how well it mixed

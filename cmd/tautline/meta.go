@@ -5,11 +5,12 @@ import (
 	"time"
 
 	"tautline/chains"
+	"tautline/runconfig"
 	"tautline/rundir"
 )
 
 // newMeta starts a run's metadata: everything needed to reproduce it.
-func newMeta(cfg Config, pb *problem, started time.Time) *rundir.Meta {
+func newMeta(cfg runconfig.Config, pb *problem, started time.Time) *rundir.Meta {
 	var params []chains.ParamInfo
 	fixed := map[string]bool{}
 	for _, n := range pb.post.FreeNames() {

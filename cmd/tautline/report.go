@@ -14,6 +14,7 @@ import (
 	"tautline/models"
 	"tautline/models/registry"
 	"tautline/report"
+	"tautline/runconfig"
 	"tautline/rundir"
 	"tautline/stats"
 )
@@ -230,7 +231,7 @@ func reportParseTruths(list []string) (map[string]float64, error) {
 // reportRebuild rebuilds a run's models from the configurations the run
 // recorded.
 type reportRebuild struct {
-	cfgs map[*rundir.Model]Config
+	cfgs map[*rundir.Model]runconfig.Config
 	logf func(string, ...any)
 }
 
@@ -245,10 +246,10 @@ func (r reportRebuild) Problem(m *rundir.Model) (*likelihood.Dataset, *likelihoo
 }
 
 // reportConfigs decodes the configuration each model of run recorded.
-func reportConfigs(run *rundir.Run) (map[*rundir.Model]Config, error) {
-	out := map[*rundir.Model]Config{}
+func reportConfigs(run *rundir.Run) (map[*rundir.Model]runconfig.Config, error) {
+	out := map[*rundir.Model]runconfig.Config{}
 	for _, m := range run.Models {
-		cfg := defaultConfig()
+		cfg := runconfig.Default()
 		if err := json.Unmarshal(m.Config, &cfg); err != nil {
 			if run.Kind == rundir.KindFit {
 				return nil, fmt.Errorf("%s: config: %w", filepath.Join(run.Dir, rundir.MetaFile), err)

@@ -18,6 +18,7 @@ import (
 
 	"tautline/chains"
 	"tautline/report"
+	"tautline/runconfig"
 	"tautline/rundir"
 )
 
@@ -381,7 +382,7 @@ func TestReportCompare(t *testing.T) {
 // uniform quantile -12 + 0.95 * 4 = -8.2.
 func TestReportExclusion(t *testing.T) {
 	run := t.TempDir()
-	cfg := defaultConfig()
+	cfg := runconfig.Default()
 	cfg.Model.Name = "strings"
 	m := &chains.Meta{Version: version, Config: cfg, Data: chains.DataSet{Name: "invented", SHA256: "0"},
 		Model: chains.ModelInfo{Name: "strings", Params: []chains.ParamInfo{

@@ -7,6 +7,7 @@ import (
 	"strings"
 
 	"tautline/models/registry"
+	"tautline/runconfig"
 	"tautline/sampler"
 )
 
@@ -23,7 +24,7 @@ type runFlags struct {
 
 // bindConfig registers a flag for every key of cfg that fit uses, writing
 // into cfg.
-func bindConfig(fs *flag.FlagSet, cfg *Config) {
+func bindConfig(fs *flag.FlagSet, cfg *runconfig.Config) {
 	fs.StringVar(&cfg.Data, "data", cfg.Data, "free-spectrum data set: path to its YAML description, or demo:smbhb / demo:strings (embedded, simulated); empty picks the demo that suits --model")
 	fs.StringVar(&cfg.Model.Name, "model", cfg.Model.Name, "model: smbhb, strings, or strings+smbhb")
 	bindModelSettings(fs, cfg)
@@ -41,7 +42,7 @@ func bindConfig(fs *flag.FlagSet, cfg *Config) {
 // bindCompareConfig registers the configuration keys compare uses: not
 // the model (compare takes --models), nor --until, the moves, checkpoints
 // or flushing, which compare does not use.
-func bindCompareConfig(fs *flag.FlagSet, cfg *Config) {
+func bindCompareConfig(fs *flag.FlagSet, cfg *runconfig.Config) {
 	fs.StringVar(&cfg.Data, "data", cfg.Data, "free-spectrum data set: path to its YAML description, or demo:smbhb / demo:strings (embedded, simulated)")
 	bindModelSettings(fs, cfg)
 	fs.StringVar(&cfg.Likelihood.Bandwidth, "bandwidth", cfg.Likelihood.Bandwidth, "KDE bandwidth rule for bins given as samples: scott or silverman")
@@ -51,14 +52,14 @@ func bindCompareConfig(fs *flag.FlagSet, cfg *Config) {
 
 // bindModel registers the flags that choose the model and configure it
 // and the background cosmology (simulate, spectrum).
-func bindModel(fs *flag.FlagSet, cfg *Config) {
+func bindModel(fs *flag.FlagSet, cfg *runconfig.Config) {
 	fs.StringVar(&cfg.Model.Name, "model", cfg.Model.Name, "model: smbhb, strings, or strings+smbhb")
 	bindModelSettings(fs, cfg)
 }
 
 // bindModelSettings registers the models' fixed settings and the
 // background cosmology.
-func bindModelSettings(fs *flag.FlagSet, cfg *Config) {
+func bindModelSettings(fs *flag.FlagSet, cfg *runconfig.Config) {
 	fs.BoolVar(&cfg.Model.FixGamma, "fix-gamma", cfg.Model.FixGamma, "fix the SMBHB spectral index gamma to 13/3 (circular GW-driven binaries)")
 	fs.StringVar(&cfg.Model.Turnover, "turnover", cfg.Model.Turnover, "SMBHB low-frequency turnover (environmental hardening), h_c x (1 + (f_bend/f)^kappa)^(-1/2): none, fixed (at --f-bend and --turnover-kappa) or fit (log10_fbend and kappa sampled)")
 	fs.Float64Var(&cfg.Model.FBend, "f-bend", cfg.Model.FBend, "fixed turnover bend frequency in Hz (with --turnover fixed)")
@@ -79,7 +80,7 @@ func bindModelSettings(fs *flag.FlagSet, cfg *Config) {
 
 // bindSampler registers the sampler flags fit and compare share; compare's
 // steps count per rung and its burn-in is a fixed share.
-func bindSampler(fs *flag.FlagSet, cfg *Config, compare bool) {
+func bindSampler(fs *flag.FlagSet, cfg *runconfig.Config, compare bool) {
 	if compare {
 		fs.IntVar(&cfg.Sampler.Walkers, "walkers", cfg.Sampler.Walkers, "walkers per rung (at least 2 x the number of sampled parameters, even)")
 		fs.IntVar(&cfg.Sampler.Steps, "steps", cfg.Sampler.Steps, "ensemble steps of every rung")
@@ -109,8 +110,8 @@ func bindCommon(fs *flag.FlagSet, rf *runFlags) {
 // resolveConfig parses args twice: first to find --config (and to serve
 // --help with the built-in defaults), then over the file's values so that
 // flags override the file.
-func resolveConfig(e *env, name, synopsis, description string, args []string, defaults func() Config,
-	bind func(*flag.FlagSet, *Config), extra func(*flag.FlagSet)) (Config, *runFlags, *flag.FlagSet, error) {
+func resolveConfig(e *env, name, synopsis, description string, args []string, defaults func() runconfig.Config,
+	bind func(*flag.FlagSet, *runconfig.Config), extra func(*flag.FlagSet)) (runconfig.Config, *runFlags, *flag.FlagSet, error) {
 	def := defaults()
 	var rf runFlags
 	fs := newFlagSet(e, name, synopsis, description)
@@ -120,12 +121,12 @@ func resolveConfig(e *env, name, synopsis, description string, args []string, de
 		extra(fs)
 	}
 	if err := parseFlags(fs, args); err != nil {
-		return Config{}, nil, nil, err
+		return runconfig.Config{}, nil, nil, err
 	}
 	cfg := defaults()
 	if rf.configPath != "" {
-		if err := loadConfig(rf.configPath, &cfg); err != nil {
-			return Config{}, nil, nil, err
+		if err := runconfig.Load(rf.configPath, &cfg); err != nil {
+			return runconfig.Config{}, nil, nil, err
 		}
 	}
 	var rf2 runFlags
@@ -137,12 +138,12 @@ func resolveConfig(e *env, name, synopsis, description string, args []string, de
 		extra(fs2)
 	}
 	if err := parseFlags(fs2, args); err != nil {
-		return Config{}, nil, nil, err
+		return runconfig.Config{}, nil, nil, err
 	}
 	for _, p := range rf2.priors {
 		k, v, ok := strings.Cut(p, "=")
 		if !ok || strings.TrimSpace(k) == "" {
-			return Config{}, nil, nil, fmt.Errorf("%w: --prior %q: want NAME=SPEC, e.g. log10_A=uniform(-18,-11)", errUsage, p)
+			return runconfig.Config{}, nil, nil, fmt.Errorf("%w: --prior %q: want NAME=SPEC, e.g. log10_A=uniform(-18,-11)", errUsage, p)
 		}
 		if cfg.Model.Priors == nil {
 			cfg.Model.Priors = map[string]string{}
@@ -157,7 +158,7 @@ func resolveConfig(e *env, name, synopsis, description string, args []string, de
 
 // checkSampler refuses sampler settings that could only fail after the
 // sampling: no steps, a burn-in that keeps nothing, a negative thinning.
-func checkSampler(cfg Config) error {
+func checkSampler(cfg runconfig.Config) error {
 	sc := cfg.Sampler
 	switch {
 	case sc.Steps <= 0:

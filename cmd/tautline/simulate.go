@@ -9,6 +9,7 @@ import (
 	"tautline/likelihood/simulate"
 	"tautline/models/gw"
 	"tautline/models/registry"
+	"tautline/runconfig"
 )
 
 const simulateHelp = `
@@ -23,7 +24,7 @@ defaults log10_A=-14.6, gamma=13/3, log10_Gmu=log10(2e-11), log10_alpha=-1,
 log10_P=0.`
 
 func runSimulate(_ context.Context, e *env, args []string) error {
-	cfg := defaultConfig()
+	cfg := runconfig.Default()
 	fs := newFlagSet(e, "simulate", "[options] --out DIR", simulateHelp)
 	bindModel(fs, &cfg)
 	var params multiFlag

@@ -13,6 +13,7 @@ import (
 	"tautline/models"
 	"tautline/models/gw"
 	"tautline/models/registry"
+	"tautline/runconfig"
 )
 
 const spectrumHelp = `
@@ -34,7 +35,7 @@ type spectrumRow struct {
 }
 
 func runSpectrum(_ context.Context, e *env, args []string) error {
-	cfg := defaultConfig()
+	cfg := runconfig.Default()
 	fs := newFlagSet(e, "spectrum", "[options]", spectrumHelp)
 	bindModel(fs, &cfg)
 	var params multiFlag
