@@ -8,6 +8,7 @@ import (
 	"math"
 	"text/tabwriter"
 
+	"tautline/internal/numeric"
 	"tautline/models/cosmicstrings"
 )
 
@@ -61,7 +62,7 @@ func runConvert(_ context.Context, e *env, args []string) error {
 	case "separation":
 		g = cosmicstrings.GmuFromImageSeparationMas(*sep)
 	}
-	if !(g > 0) || math.IsInf(g, 0) {
+	if !(g > 0) || !numeric.Finite(g) {
 		return fmt.Errorf("%w: --%s must be a positive finite number", errUsage, given[0])
 	}
 	c := conversion{

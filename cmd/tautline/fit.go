@@ -58,9 +58,9 @@ const untilDefaultCap = 100000
 
 func fit(ctx context.Context, e *env, lg *logrus.Logger, cfg runconfig.Config, resume bool) error {
 	started := time.Now()
-	until, err := parseUntil(cfg.Sampler.Until)
+	until, err := sampler.ParseCriteria(cfg.Sampler.Until)
 	if err != nil {
-		return err
+		return fmt.Errorf("%w: --until %q: %v", errUsage, cfg.Sampler.Until, err)
 	}
 	if cfg.Sampler.Until != "" && cfg.Sampler.Steps == runconfig.Default().Sampler.Steps {
 		cfg.Sampler.Steps = untilDefaultCap
@@ -74,9 +74,9 @@ func fit(ctx context.Context, e *env, lg *logrus.Logger, cfg runconfig.Config, r
 		return err
 	}
 	names := pb.post.FreeNames()
-	moves, err := parseMoves(cfg.Sampler.Moves, len(names))
+	moves, err := sampler.ParseMoves(cfg.Sampler.Moves, len(names))
 	if err != nil {
-		return err
+		return fmt.Errorf("%w: --moves %q: %v", errUsage, cfg.Sampler.Moves, err)
 	}
 	lg.WithFields(logrus.Fields{"data": pb.data.Name, "bins": len(pb.data.Freqs), "model": pb.model.Name(), "params": strings.Join(names, ",")}).Info("fit")
 	scfg := sampler.Config{

@@ -4,8 +4,9 @@ import (
 	"context"
 	"encoding/json"
 	"fmt"
-	"tautline/models/gw"
 	"text/tabwriter"
+
+	"tautline/models/gw"
 )
 
 const inspectHelp = `

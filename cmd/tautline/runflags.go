@@ -3,12 +3,10 @@ package main
 import (
 	"flag"
 	"fmt"
-	"strconv"
 	"strings"
 
 	"tautline/models/registry"
 	"tautline/runconfig"
-	"tautline/sampler"
 )
 
 // runFlags are the options shared by the commands that sample (fit,
@@ -175,70 +173,4 @@ func checkSampler(cfg runconfig.Config) error {
 		return fmt.Errorf("%w: --checkpoint-every and --flush-every must be >= 0", errUsage)
 	}
 	return nil
-}
-
-// untilCriteria is the parsed form of --until.
-type untilCriteria struct {
-	ESS, TauMultiple, Rhat float64
-}
-
-func parseUntil(s string) (untilCriteria, error) {
-	var u untilCriteria
-	if strings.TrimSpace(s) == "" {
-		return u, nil
-	}
-	for _, part := range strings.Split(s, ",") {
-		k, v, ok := strings.Cut(strings.TrimSpace(part), "=")
-		if !ok {
-			return u, fmt.Errorf("%w: --until %q: %q is not KEY=VALUE (keys: ess, tau, rhat)", errUsage, s, part)
-		}
-		x, err := strconv.ParseFloat(strings.TrimSpace(v), 64)
-		if err != nil || x <= 0 {
-			return u, fmt.Errorf("%w: --until %q: %s must be a positive number, got %q", errUsage, s, k, v)
-		}
-		switch strings.TrimSpace(k) {
-		case "ess":
-			u.ESS = x
-		case "tau":
-			u.TauMultiple = x
-		case "rhat":
-			if x <= 1 {
-				return u, fmt.Errorf("%w: --until %q: rhat must be above 1, got %g", errUsage, s, x)
-			}
-			u.Rhat = x
-		default:
-			return u, fmt.Errorf("%w: --until %q: unknown criterion %q (keys: ess, tau, rhat)", errUsage, s, k)
-		}
-	}
-	return u, nil
-}
-
-// parseMoves reads --moves: "stretch", "de", or "stretch:0.8,de:0.2".
-func parseMoves(s string, dim int) ([]sampler.WeightedMove, error) {
-	if strings.TrimSpace(s) == "" || strings.TrimSpace(s) == "stretch" {
-		return nil, nil
-	}
-	var out []sampler.WeightedMove
-	for _, part := range strings.Split(s, ",") {
-		name, ws, hasW := strings.Cut(strings.TrimSpace(part), ":")
-		w := 1.0
-		if hasW {
-			x, err := strconv.ParseFloat(ws, 64)
-			if err != nil || !(x > 0) {
-				return nil, fmt.Errorf("%w: --moves %q: weight of %s must be a positive number, got %q", errUsage, s, name, ws)
-			}
-			w = x
-		}
-		var m sampler.Move
-		switch name {
-		case "stretch":
-			m = sampler.Stretch{A: 2}
-		case "de":
-			m = sampler.DefaultDiffEvolution(dim)
-		default:
-			return nil, fmt.Errorf("%w: --moves %q: unknown move %q; want stretch or de", errUsage, s, name)
-		}
-		out = append(out, sampler.WeightedMove{Move: m, Weight: w})
-	}
-	return out, nil
 }

@@ -51,11 +51,7 @@ func runSimulate(_ context.Context, e *env, args []string) error {
 		Pulsars: *pulsars, Span: *spanYr * gw.JulianYear, Cadence: *cadenceDays * 86400,
 		Sigma: *sigmaNs * 1e-9, Bins: *bins,
 	}
-	freqs := make([]float64, arr.Bins)
-	for i := range freqs {
-		freqs[i] = float64(i+1) / arr.Span
-	}
-	m, theta, lnOmega, err := modelAt(cfg, params, freqs, stderrLog(e))
+	m, theta, lnOmega, err := modelAt(cfg, params, gw.BinFrequencies(arr.Bins, arr.Span), stderrLog(e))
 	if err != nil {
 		return err
 	}

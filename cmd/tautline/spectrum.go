@@ -5,7 +5,6 @@ import (
 	"encoding/csv"
 	"encoding/json"
 	"fmt"
-	"math"
 	"strconv"
 	"strings"
 	"text/tabwriter"
@@ -67,9 +66,9 @@ func runSpectrum(_ context.Context, e *env, args []string) error {
 	span := *spanYr * gw.JulianYear
 	rows := make([]spectrumRow, len(freqs))
 	for i, f := range freqs {
-		om := math.Exp(ln[i])
-		hc := gw.HcFromOmega(f, om, h0)
-		rows[i] = spectrumRow{F: f, Omega: om, Hc: hc, PSD: gw.PSDFromHc(f, hc), Log10Rho: gw.Log10RhoFromLnOmega(f, ln[i], h0, span)}
+		r := &rows[i]
+		r.F = f
+		r.Omega, r.Hc, r.PSD, r.Log10Rho = gw.Forms(f, ln[i], h0, span)
 	}
 	switch *format {
 	case "json":
@@ -131,13 +130,5 @@ func spectrumFreqs(list string, fmin, fmax float64, n int) ([]float64, error) {
 	if !(fmin > 0) || !(fmax > fmin) || n < 1 {
 		return nil, fmt.Errorf("%w: want 0 < --fmin < --fmax and --n >= 1, got %g, %g, %d", errUsage, fmin, fmax, n)
 	}
-	fs := make([]float64, n)
-	for i := range fs {
-		if n == 1 {
-			fs[i] = fmin
-			break
-		}
-		fs[i] = fmin * math.Pow(fmax/fmin, float64(i)/float64(n-1))
-	}
-	return fs, nil
+	return gw.LogFrequencies(fmin, fmax, n), nil
 }
