@@ -2,7 +2,8 @@
 // (Config and its sections), the defaults of fit and compare, decoding that
 // refuses unknown keys with their line number and the keys accepted there,
 // the YAML rendering stored in every run's metadata and printed by
-// --print-config, and the fingerprint that identifies a chain.
+// --print-config, the fingerprint that identifies a chain, and the
+// command-line flags that override the keys.
 package runconfig
 
 import (

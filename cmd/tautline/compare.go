@@ -80,7 +80,7 @@ func runCompare(ctx context.Context, e *env, args []string) error {
 		fs.IntVar(&co.swapEvery, "swap-every", 1, "steps between swap rounds of neighbouring rungs")
 		fs.BoolVar(&co.adapt, "adapt-ladder", false, "adapt the inner rungs' temperatures during burn-in to even out swap acceptance (Vousden, Farr & Mandel 2016); the ladder is frozen after burn-in and only later samples enter ln Z")
 	}
-	cfg, rf, fs, err := resolveConfig(e, "compare", "[options]", compareHelp, args, runconfig.CompareDefault, bindCompareConfig, extra)
+	cfg, rf, fs, err := resolveConfig(e, "compare", "[options]", compareHelp, args, runconfig.CompareDefault, runconfig.BindCompare, extra)
 	if err != nil {
 		return err
 	}

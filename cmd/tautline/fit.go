@@ -33,7 +33,7 @@ chain bytes as a run that never stopped.`
 
 func runFit(ctx context.Context, e *env, args []string) error {
 	var resume bool
-	cfg, rf, _, err := resolveConfig(e, "fit", "[options]", fitHelp, args, runconfig.Default, bindConfig, func(fs *flag.FlagSet) {
+	cfg, rf, _, err := resolveConfig(e, "fit", "[options]", fitHelp, args, runconfig.Default, runconfig.BindFit, func(fs *flag.FlagSet) {
 		fs.BoolVar(&resume, "resume", false, "continue the run in --out from its checkpoint (same configuration required)")
 	})
 	if err != nil {

@@ -26,7 +26,7 @@ log10_P=0.`
 func runSimulate(_ context.Context, e *env, args []string) error {
 	cfg := runconfig.Default()
 	fs := newFlagSet(e, "simulate", "[options] --out DIR", simulateHelp)
-	bindModel(fs, &cfg)
+	runconfig.BindModel(fs, &cfg)
 	var params multiFlag
 	fs.Var(&params, "param", "model parameter NAME=VALUE, e.g. log10_A=-14.6 (fractions like 13/3 allowed); repeatable")
 	pulsars := fs.Int("pulsars", 40, "number of invented pulsars")

@@ -36,7 +36,7 @@ type spectrumRow struct {
 func runSpectrum(_ context.Context, e *env, args []string) error {
 	cfg := runconfig.Default()
 	fs := newFlagSet(e, "spectrum", "[options]", spectrumHelp)
-	bindModel(fs, &cfg)
+	runconfig.BindModel(fs, &cfg)
 	var params multiFlag
 	fs.Var(&params, "param", "model parameter NAME=VALUE, e.g. log10_Gmu=-10 (fractions like 13/3 allowed); repeatable")
 	freqList := fs.String("freqs", "", "comma-separated frequencies in Hz; overrides --fmin/--fmax/--n")
