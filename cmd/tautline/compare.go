@@ -13,6 +13,7 @@ import (
 
 	"github.com/sirupsen/logrus"
 
+	"tautline/cmd/tautline/internal/cli"
 	"tautline/compare"
 	"tautline/likelihood"
 	"tautline/models"
@@ -99,7 +100,7 @@ func runCompare(ctx context.Context, e *env, args []string) error {
 			co.models, co.reference, co.rungs, co.exponent, co.blocks, co.swapEvery, co.adapt, co.target, co.maxSteps, co.maxRungs)
 		return nil
 	}
-	lg, err := newLogger(e.stderr, rf.logLevel, rf.logFormat)
+	lg, err := cli.NewLogger(e.stderr, rf.logLevel, rf.logFormat)
 	if err != nil {
 		return err
 	}
@@ -159,7 +160,7 @@ func compareRun(ctx context.Context, e *env, lg *logrus.Logger, cfg runconfig.Co
 				ue = &env{stdout: e.stdout, stderr: e.stderr} // log lines: bars would overwrite each other
 			}
 			prog := newProgress(ue, lg, steps)
-			return func(done int) { prog.update(done, u.Model, 0) }, prog.finish
+			return func(done int) { prog.Update(done, u.Model, 0) }, prog.Finish
 		},
 		Pass: func(u rundir.Unit, p rundir.Pass) {
 			lg.WithFields(logrus.Fields{"model": u.Model, "pass": p.Pass, "steps": p.Steps, "rungs": p.Rungs, "error": fmt.Sprintf("%.3f", p.TotalError)}).Info("evidence accuracy")

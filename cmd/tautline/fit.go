@@ -12,6 +12,7 @@ import (
 
 	"github.com/sirupsen/logrus"
 
+	"tautline/cmd/tautline/internal/cli"
 	"tautline/fitrun"
 	"tautline/runconfig"
 	"tautline/rundir"
@@ -43,7 +44,7 @@ func runFit(ctx context.Context, e *env, args []string) error {
 		fmt.Fprint(e.stdout, runconfig.Marshal(cfg))
 		return nil
 	}
-	lg, err := newLogger(e.stderr, rf.logLevel, rf.logFormat)
+	lg, err := cli.NewLogger(e.stderr, rf.logLevel, rf.logFormat)
 	if err != nil {
 		return err
 	}
@@ -103,13 +104,13 @@ func fit(ctx context.Context, e *env, lg *logrus.Logger, cfg runconfig.Config, r
 		CheckpointEvery: cfg.Sampler.CheckpointEvery, FlushEvery: cfg.Output.FlushEvery, Out: cfg.Output.Dir, Resume: resume,
 		Reporter: fitrun.Reporter{
 			Infof: lg.Infof,
-			Step:  func(n int) { prog.update(n, "", 0) },
+			Step:  func(n int) { prog.Update(n, "", 0) },
 			Check: func(p sampler.Progress) {
-				prog.update(p.Steps, fmt.Sprintf("tau %.1f  ESS %.0f  R-hat %.3f", p.MaxTau, p.MinESS, p.MaxRhat), p.ETA)
+				prog.Update(p.Steps, fmt.Sprintf("tau %.1f  ESS %.0f  R-hat %.3f", p.MaxTau, p.MinESS, p.MaxRhat), p.ETA)
 			},
 		},
 	})
-	prog.finish()
+	prog.Finish()
 	if err != nil {
 		return err
 	}

@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"text/tabwriter"
 
+	"tautline/cmd/tautline/internal/cli"
 	"tautline/models/gw"
 )
 
@@ -42,7 +43,7 @@ type inspectOut struct {
 func runInspect(_ context.Context, e *env, args []string) error {
 	fs := newFlagSet(e, "inspect", "[--json] DATA", inspectHelp)
 	asJSON := fs.Bool("json", false, "print JSON instead of a table")
-	if err := parseFlags(fs, args); err != nil {
+	if err := cli.Parse(fs, args); err != nil {
 		return err
 	}
 	if fs.NArg() != 1 {

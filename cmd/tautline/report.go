@@ -10,6 +10,7 @@ import (
 	"time"
 
 	"strconv"
+	"tautline/cmd/tautline/internal/cli"
 	"tautline/likelihood"
 	"tautline/models"
 	"tautline/models/registry"
@@ -66,7 +67,7 @@ func runReport(_ context.Context, e *env, args []string) error {
 		o                  reportOpts
 		formats, masses    string
 		sigma2d            bool
-		truths             multiFlag
+		truths             cli.Multi
 		logLevel, logFrmt  string
 		smoothed, noTraces bool
 	)
@@ -90,7 +91,7 @@ func runReport(_ context.Context, e *env, args []string) error {
 	// Flags may come before or after RUNDIR.
 	var pos []string
 	for {
-		if err := parseFlags(fs, args); err != nil {
+		if err := cli.Parse(fs, args); err != nil {
 			return err
 		}
 		if fs.NArg() == 0 {
@@ -144,7 +145,7 @@ func runReport(_ context.Context, e *env, args []string) error {
 	case o.sig < 1 || o.sig > 6:
 		return fmt.Errorf("%w: --sig must be between 1 and 6, got %d", errUsage, o.sig)
 	}
-	lg, err := newLogger(e.stderr, logLevel, logFrmt)
+	lg, err := cli.NewLogger(e.stderr, logLevel, logFrmt)
 	if err != nil {
 		return err
 	}
@@ -280,7 +281,7 @@ func printReportSummary(e *env, run *rundir.Run, out string, files []string, sta
 			name = "./"
 		}
 		fmt.Fprintf(e.stdout, "  %s\n", name)
-		for _, l := range wrap(strings.Join(groups[d], " "), 74) {
+		for _, l := range cli.Wrap(strings.Join(groups[d], " "), 74) {
 			fmt.Fprintf(e.stdout, "      %s\n", l)
 		}
 	}

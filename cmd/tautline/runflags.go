@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"strings"
 
+	"tautline/cmd/tautline/internal/cli"
 	"tautline/models/registry"
 	"tautline/runconfig"
 )
@@ -15,7 +16,7 @@ import (
 type runFlags struct {
 	configPath  string
 	printConfig bool
-	priors      multiFlag
+	priors      cli.Multi
 	logLevel    string
 	logFormat   string
 }
@@ -42,7 +43,7 @@ func resolveConfig(e *env, name, synopsis, description string, args []string, de
 	if extra != nil {
 		extra(fs)
 	}
-	if err := parseFlags(fs, args); err != nil {
+	if err := cli.Parse(fs, args); err != nil {
 		return runconfig.Config{}, nil, nil, err
 	}
 	cfg := defaults()
@@ -59,7 +60,7 @@ func resolveConfig(e *env, name, synopsis, description string, args []string, de
 	if extra != nil {
 		extra(fs2)
 	}
-	if err := parseFlags(fs2, args); err != nil {
+	if err := cli.Parse(fs2, args); err != nil {
 		return runconfig.Config{}, nil, nil, err
 	}
 	for _, p := range rf2.priors {

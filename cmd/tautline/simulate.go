@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"os"
 
+	"tautline/cmd/tautline/internal/cli"
 	"tautline/likelihood"
 	"tautline/likelihood/simulate"
 	"tautline/models/gw"
@@ -27,7 +28,7 @@ func runSimulate(_ context.Context, e *env, args []string) error {
 	cfg := runconfig.Default()
 	fs := newFlagSet(e, "simulate", "[options] --out DIR", simulateHelp)
 	runconfig.BindModel(fs, &cfg)
-	var params multiFlag
+	var params cli.Multi
 	fs.Var(&params, "param", "model parameter NAME=VALUE, e.g. log10_A=-14.6 (fractions like 13/3 allowed); repeatable")
 	pulsars := fs.Int("pulsars", 40, "number of invented pulsars")
 	spanYr := fs.Float64("span-yr", 15, "observing span T in years (bins at f_i = i/T)")
@@ -38,7 +39,7 @@ func runSimulate(_ context.Context, e *env, args []string) error {
 	out := fs.String("out", "", "output folder (required); created if missing")
 	name := fs.String("name", "simulated", "data-set name, also the YAML file's base name")
 	samples := fs.Int("samples", 0, "also store this many posterior samples per bin (0: grid only)")
-	if err := parseFlags(fs, args); err != nil {
+	if err := cli.Parse(fs, args); err != nil {
 		return err
 	}
 	if *out == "" {

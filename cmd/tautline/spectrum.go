@@ -9,6 +9,7 @@ import (
 	"strings"
 	"text/tabwriter"
 
+	"tautline/cmd/tautline/internal/cli"
 	"tautline/models"
 	"tautline/models/gw"
 	"tautline/models/registry"
@@ -37,7 +38,7 @@ func runSpectrum(_ context.Context, e *env, args []string) error {
 	cfg := runconfig.Default()
 	fs := newFlagSet(e, "spectrum", "[options]", spectrumHelp)
 	runconfig.BindModel(fs, &cfg)
-	var params multiFlag
+	var params cli.Multi
 	fs.Var(&params, "param", "model parameter NAME=VALUE, e.g. log10_Gmu=-10 (fractions like 13/3 allowed); repeatable")
 	freqList := fs.String("freqs", "", "comma-separated frequencies in Hz; overrides --fmin/--fmax/--n")
 	fmin := fs.Float64("fmin", 1e-9, "lowest frequency of the logarithmic grid, Hz")
@@ -45,7 +46,7 @@ func runSpectrum(_ context.Context, e *env, args []string) error {
 	n := fs.Int("n", 30, "number of grid frequencies")
 	spanYr := fs.Float64("span-yr", 15, "array time span T in years, for log10 rho")
 	format := fs.String("format", "table", "output format: table, csv or json")
-	if err := parseFlags(fs, args); err != nil {
+	if err := cli.Parse(fs, args); err != nil {
 		return err
 	}
 	if fs.NArg() != 0 {
