@@ -204,9 +204,7 @@ func compareModels(cfg runconfig.Config, names []string, ds *likelihood.Dataset,
 	if err != nil {
 		return nil, err
 	}
-	built := map[string]models.Model{}
-	shares := map[string]map[string]string{}
-	used := map[string]bool{}
+	var built []models.Model
 	for _, name := range names {
 		mc := cfg
 		mc.Model.Name = name
@@ -214,24 +212,17 @@ func compareModels(cfg runconfig.Config, names []string, ds *likelihood.Dataset,
 		if err != nil {
 			return nil, err
 		}
-		built[name], shares[name] = m, map[string]string{}
-		for _, p := range m.Params() {
-			if v, ok := cfg.Model.Priors[p.Name]; ok {
-				shares[name][p.Name] = v
-				used[p.Name] = true
-			}
-		}
+		built = append(built, m)
 	}
-	for k := range cfg.Model.Priors {
-		if !used[k] {
-			return nil, fmt.Errorf("%w: prior for %q: none of the models %s has that parameter", errUsage, k, strings.Join(names, ", "))
-		}
+	shares, err := registry.SharePriors(names, built, cfg.Model.Priors)
+	if err != nil {
+		return nil, err
 	}
 	var out []compare.Model
-	for _, name := range names {
+	for i, name := range names {
 		mc := cfg
-		mc.Model.Name, mc.Model.Priors = name, shares[name]
-		pb, err := newProblem(mc, ds, like, built[name])
+		mc.Model.Name, mc.Model.Priors = name, shares[i]
+		pb, err := newProblem(mc, ds, like, built[i])
 		if err != nil {
 			return nil, fmt.Errorf("model %s: %w", name, err)
 		}

@@ -128,8 +128,8 @@ func runReport(_ context.Context, e *env, args []string) error {
 		}
 		o.masses = []float64{stats.Mass1Sigma2D, stats.Mass2Sigma2D}
 	}
-	if o.truths, err = reportParseTruths(truths); err != nil {
-		return err
+	if o.truths, err = registry.ParseAssignments(truths); err != nil {
+		return fmt.Errorf("%w: --truth %v", errUsage, err)
 	}
 	switch {
 	case o.dpi < 30 || o.dpi > 2400:
@@ -209,24 +209,6 @@ func reportParseMasses(s string) ([]float64, error) {
 	}
 	slices.Sort(out)
 	return slices.Compact(out), nil
-}
-
-// reportParseTruths reads NAME=VALUE pairs; VALUE may be a fraction such as 13/3.
-func reportParseTruths(list []string) (map[string]float64, error) {
-	out := map[string]float64{}
-	for _, s := range list {
-		name, val, ok := strings.Cut(s, "=")
-		name, val = strings.TrimSpace(name), strings.TrimSpace(val)
-		if !ok || name == "" || val == "" {
-			return nil, fmt.Errorf("%w: --truth %q: want NAME=VALUE", errUsage, s)
-		}
-		v, err := registry.ParseNumber(val)
-		if err != nil {
-			return nil, fmt.Errorf("%w: --truth %s: %v", errUsage, name, err)
-		}
-		out[name] = v
-	}
-	return out, nil
 }
 
 // reportRebuild rebuilds a run's models from the configurations the run
