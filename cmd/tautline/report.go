@@ -9,7 +9,6 @@ import (
 	"strings"
 	"time"
 
-	"strconv"
 	"tautline/cmd/tautline/internal/cli"
 	"tautline/likelihood"
 	"tautline/models"
@@ -119,8 +118,8 @@ func runReport(_ context.Context, e *env, args []string) error {
 		return fmt.Errorf("%w: --formats: name at least one of png, svg, pdf", errUsage)
 	}
 	var err error
-	if o.masses, err = reportParseMasses(masses); err != nil {
-		return err
+	if o.masses, err = stats.ParseMasses(masses); err != nil {
+		return fmt.Errorf("%w: --masses: %v", errUsage, err)
 	}
 	if sigma2d {
 		if masses != "" {
@@ -188,27 +187,6 @@ func runReport(_ context.Context, e *env, args []string) error {
 	}
 	printReportSummary(e, run, o.out, files, start)
 	return nil
-}
-
-// reportParseMasses reads a comma-separated list of credible masses, each a
-// fraction in (0, 1) or a percentage in [1, 100).
-func reportParseMasses(s string) ([]float64, error) {
-	var out []float64
-	for _, f := range splitList(s) {
-		v, err := strconv.ParseFloat(f, 64)
-		if err != nil {
-			return nil, fmt.Errorf("%w: --masses: %q is not a number", errUsage, f)
-		}
-		if v >= 1 {
-			v /= 100
-		}
-		if !(v > 0 && v < 1) {
-			return nil, fmt.Errorf("%w: --masses: %q is not a mass in (0, 1) or a percentage below 100", errUsage, f)
-		}
-		out = append(out, v)
-	}
-	slices.Sort(out)
-	return slices.Compact(out), nil
 }
 
 // reportRebuild rebuilds a run's models from the configurations the run
