@@ -63,19 +63,8 @@ func modelAt(cfg runconfig.Config, given []string, freqs []float64, logf func(st
 	if err != nil {
 		return nil, nil, nil, err
 	}
-	theta, err := registry.ParamValues(m, given)
-	if err != nil {
-		return nil, nil, nil, err
-	}
-	sp, err := m.At(freqs)
-	if err != nil {
-		return nil, nil, nil, err
-	}
-	ln := make([]float64, len(freqs))
-	if err := sp.LnOmega(theta, ln); err != nil {
-		return nil, nil, nil, fmt.Errorf("model %s at %s: %w", m.Name(), registry.DescribeTheta(m.Params(), theta), err)
-	}
-	return m, theta, ln, nil
+	theta, ln, err := registry.Evaluate(m, given, freqs)
+	return m, theta, ln, err
 }
 
 // problem is a data set, a model with its priors, and the posterior that

@@ -110,7 +110,7 @@ func runCompare(ctx context.Context, e *env, args []string) error {
 
 func compareRun(ctx context.Context, e *env, lg *logrus.Logger, cfg runconfig.Config, co compareOpts) error {
 	started := time.Now()
-	models := splitList(co.models)
+	models := cli.SplitList(co.models)
 	if len(models) == 0 {
 		return fmt.Errorf("%w: --models is empty", errUsage)
 	}
@@ -184,16 +184,6 @@ func compareRun(ctx context.Context, e *env, lg *logrus.Logger, cfg runconfig.Co
 	lg.WithField("seconds", fmt.Sprintf("%.1f", time.Since(started).Seconds())).Info("compare done")
 	compare.WriteTable(e.stdout, res, cfg.Output.Dir)
 	return nil
-}
-
-func splitList(s string) []string {
-	var out []string
-	for _, p := range strings.Split(s, ",") {
-		if p = strings.TrimSpace(p); p != "" {
-			out = append(out, p)
-		}
-	}
-	return out
 }
 
 // compareModels builds every model of a comparison once, on one data set

@@ -106,7 +106,7 @@ func runReport(_ context.Context, e *env, args []string) error {
 	if o.out == "" {
 		o.out = filepath.Join(dir, "report")
 	}
-	for _, f := range splitList(formats) {
+	for _, f := range cli.SplitList(formats) {
 		switch f {
 		case "png", "svg", "pdf":
 			o.formats = append(o.formats, f)

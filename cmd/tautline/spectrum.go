@@ -10,7 +10,6 @@ import (
 	"text/tabwriter"
 
 	"tautline/cmd/tautline/internal/cli"
-	"tautline/models"
 	"tautline/models/gw"
 	"tautline/models/registry"
 	"tautline/runconfig"
@@ -81,7 +80,7 @@ func runSpectrum(_ context.Context, e *env, args []string) error {
 			SpanYr float64            `json:"span_yr"`
 			H0     float64            `json:"h0_km_s_mpc"`
 			Rows   []spectrumRow      `json:"spectrum"`
-		}{m.Name(), paramMap(m, theta), *spanYr, cfg.Cosmology.H0, rows})
+		}{m.Name(), registry.ParamMap(m, theta), *spanYr, cfg.Cosmology.H0, rows})
 	case "csv":
 		w := csv.NewWriter(e.stdout)
 		_ = w.Write([]string{"f_hz", "omega_gw", "h_c", "psd_s3", "log10_rho"})
@@ -103,14 +102,6 @@ func runSpectrum(_ context.Context, e *env, args []string) error {
 }
 
 func g(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }
-
-func paramMap(m models.Model, theta []float64) map[string]float64 {
-	out := map[string]float64{}
-	for i, p := range m.Params() {
-		out[p.Name] = theta[i]
-	}
-	return out
-}
 
 // spectrumFreqs returns the listed frequencies or a logarithmic grid.
 func spectrumFreqs(list string, fmin, fmax float64, n int) ([]float64, error) {

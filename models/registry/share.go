@@ -50,3 +50,30 @@ func ParseAssignments(list []string) (map[string]float64, error) {
 	}
 	return out, nil
 }
+
+// Evaluate returns m's parameter vector for the NAME=VALUE pairs given (the
+// rest from InjectionDefaults, as ParamValues) and ln Omega_GW at freqs
+// for it.
+func Evaluate(m models.Model, given []string, freqs []float64) (theta, lnOmega []float64, err error) {
+	if theta, err = ParamValues(m, given); err != nil {
+		return nil, nil, err
+	}
+	sp, err := m.At(freqs)
+	if err != nil {
+		return nil, nil, err
+	}
+	lnOmega = make([]float64, len(freqs))
+	if err := sp.LnOmega(theta, lnOmega); err != nil {
+		return nil, nil, fmt.Errorf("model %s at %s: %w", m.Name(), DescribeTheta(m.Params(), theta), err)
+	}
+	return theta, lnOmega, nil
+}
+
+// ParamMap returns theta keyed by m's parameter names.
+func ParamMap(m models.Model, theta []float64) map[string]float64 {
+	out := map[string]float64{}
+	for i, p := range m.Params() {
+		out[p.Name] = theta[i]
+	}
+	return out
+}

@@ -7,6 +7,7 @@ import (
 	"testing"
 
 	"tautline/models"
+	"tautline/models/gw"
 )
 
 // TestSharePriors: each model gets the priors of the parameters it has, and
@@ -66,4 +67,30 @@ func FuzzParseAssignments(f *testing.F) {
 			}
 		}
 	})
+}
+
+// TestEvaluate: the SMBHB power law at f_yr with log10_A = -15 is
+// Omega = 2 pi^2 A^2 f_yr^2 / (3 H0^2) (h_c = A there; the relation of
+// models/gw), to 1e-12 relative (rounding only); an unknown parameter is a
+// usage error.
+func TestEvaluate(t *testing.T) {
+	m, err := Build(defaults("smbhb"), nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	theta, ln, err := Evaluate(m, []string{"log10_A=-15"}, []float64{gw.FYear})
+	if err != nil {
+		t.Fatal(err)
+	}
+	h0 := gw.H0SI(67.4)
+	want := 2 * math.Pi * math.Pi * 1e-30 * gw.FYear * gw.FYear / (3 * h0 * h0)
+	if theta[0] != -15 || math.Abs(math.Exp(ln[0])/want-1) > 1e-12 {
+		t.Errorf("theta %v, Omega %g, want %g", theta, math.Exp(ln[0]), want)
+	}
+	if pm := ParamMap(m, theta); len(pm) != 2 || pm["log10_A"] != -15 || pm["gamma"] != 13.0/3 {
+		t.Errorf("ParamMap = %v", pm)
+	}
+	if _, _, err := Evaluate(m, []string{"log10_Gmu=-10"}, []float64{gw.FYear}); !errors.Is(err, ErrUsage) {
+		t.Errorf("unknown parameter: %v", err)
+	}
 }

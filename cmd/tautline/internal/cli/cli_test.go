@@ -78,3 +78,10 @@ func TestNewLogger(t *testing.T) {
 		t.Errorf("log output %q", s)
 	}
 }
+
+// TestSplitList drops empty items and trims the rest.
+func TestSplitList(t *testing.T) {
+	if got := SplitList(" a, ,b ,"); strings.Join(got, "|") != "a|b" {
+		t.Errorf("SplitList = %q", got)
+	}
+}

@@ -152,3 +152,14 @@ func AsksHelp(args []string) bool {
 	}
 	return false
 }
+
+// SplitList returns the non-empty comma-separated items of s, trimmed.
+func SplitList(s string) []string {
+	var out []string
+	for _, p := range strings.Split(s, ",") {
+		if p = strings.TrimSpace(p); p != "" {
+			out = append(out, p)
+		}
+	}
+	return out
+}
