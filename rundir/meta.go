@@ -8,28 +8,11 @@ import (
 	"tautline/sampler"
 )
 
-// Meta is a fit's meta.json: the chains package's metadata plus the run's
-// status and the sampler's and likelihood's settings as resolved.
+// Meta is a fit's meta.json: the chains package's metadata, whose Status
+// is running, interrupted, converged or max-steps and whose Sampling is
+// filled at the end of the run.
 type Meta struct {
 	chains.Meta
-	// Status is running, interrupted, converged or max-steps.
-	Status string `json:"status"`
-	// Sampling holds burn-in, thinning, acceptance and the likelihood's
-	// bandwidths, filled at the end.
-	Sampling *Sampling `json:"sampling,omitempty"`
-}
-
-// Sampling is meta.json's record of how a finished fit was sampled.
-type Sampling struct {
-	Steps            int       `json:"steps"`
-	Burn             int       `json:"burn"`
-	Thin             int       `json:"thin"`
-	PosteriorSamples int       `json:"posterior_samples"`
-	Acceptance       []float64 `json:"acceptance"`
-	BandwidthRule    string    `json:"bandwidth_rule"`
-	Bandwidths       []float64 `json:"bandwidths"`
-	Penalty          float64   `json:"above_range_penalty"`
-	Until            string    `json:"until"`
 }
 
 // FitOutputs describes the files of a fit folder, for meta.json.
@@ -50,10 +33,11 @@ func WriteMeta(path string, m *Meta) error {
 }
 
 // Summary is a fit's summary.json.
+// Its members are in alphabetical order of their JSON names.
 type Summary struct {
+	Burn    int            `json:"burn"`
 	Params  []ParamSummary `json:"params"`
 	Samples int            `json:"samples"`
-	Burn    int            `json:"burn"`
 	Thin    int            `json:"thin"`
 }
 

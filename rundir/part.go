@@ -63,17 +63,22 @@ type Part struct {
 
 // Pass is one pass of the loop that runs a unit until its evidence error
 // meets a target.
+// Its members are in alphabetical order of their JSON names.
 type Pass struct {
-	Pass       int     `json:"pass"`
-	Steps      int     `json:"steps"`
-	Rungs      int     `json:"rungs"`
-	TotalError float64 `json:"total_error"`
-	Advice     string  `json:"advice"`
+	// Advice is the evidence package's reading of the pass.
+	Advice string `json:"advice"`
+	// Pass counts the passes from 0.
+	Pass int `json:"pass"`
+	// Rungs and Steps are the ladder size and steps per rung of the pass.
+	Rungs int `json:"rungs"`
 	// Status says, in the last pass, whether the target was met or which
 	// cap stopped the run.
 	Status string `json:"status,omitempty"`
+	Steps  int    `json:"steps"`
 	// Stopped says which cap stopped the run before the target.
 	Stopped string `json:"stopped,omitempty"`
+	// TotalError is the ln Z error (Monte-Carlo plus discretisation).
+	TotalError float64 `json:"total_error"`
 }
 
 // Seed returns the comparison's seed, recorded in the configuration.

@@ -3,6 +3,7 @@ package main
 import (
 	"math/rand/v2"
 	"tautline/models/registry"
+	"tautline/runconfig"
 	"testing"
 )
 
@@ -10,7 +11,7 @@ import (
 // and returns it with a set of prior draws to evaluate.
 func benchPosterior(b *testing.B, model string) (*problem, [][]float64) {
 	b.Helper()
-	cfg := defaultConfig()
+	cfg := runconfig.Default()
 	cfg.Model.Name = model
 	cfg.Data = "demo:smbhb"
 	pb, err := buildProblem(cfg, nil)

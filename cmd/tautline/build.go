@@ -13,6 +13,7 @@ import (
 	"tautline/models/gw"
 	"tautline/models/registry"
 	"tautline/priors"
+	"tautline/runconfig"
 )
 
 // demoFS holds the embedded demo data sets. They are simulated: an invented
@@ -50,45 +51,22 @@ func loadData(spec string) (*likelihood.Dataset, error) {
 	return likelihood.Load(spec)
 }
 
-// modelSettings turns the configuration into the registry's settings of
-// the model cfg names.
-func modelSettings(cfg Config) registry.Settings {
-	m, sc, c := cfg.Model, cfg.Model.Strings, cfg.Cosmology
-	return registry.Settings{
-		Name:      m.Name,
-		Binaries:  registry.Binaries{FixGamma: m.FixGamma, Turnover: m.Turnover, FBend: m.FBend, TurnoverKappa: m.TurnoverKappa},
-		Strings:   registry.Strings{Q: sc.Q, Gamma: sc.Gamma, F: sc.F, CEff: sc.CEff, Kappa: sc.Kappa, Modes: sc.Modes, DOF: sc.DOF, Direct: sc.Direct},
-		Cosmology: registry.Cosmology{H0: c.H0, OmegaM: c.OmegaM, TCMB: c.TCMB, Neff: c.Neff},
-	}
-}
-
 // buildModel constructs the model cfg names. logf, if not nil, receives
 // log lines while a string-spectrum table is built.
-func buildModel(cfg Config, logf func(format string, args ...any)) (models.Model, error) {
-	return registry.Build(modelSettings(cfg), logf)
+func buildModel(cfg runconfig.Config, logf func(format string, args ...any)) (models.Model, error) {
+	return registry.Build(cfg.ModelSettings(), logf)
 }
 
 // modelAt builds the configured model and evaluates ln Omega_GW at freqs
 // for the parameters given as NAME=VALUE (the rest from the registry's
 // injection defaults).
-func modelAt(cfg Config, given []string, freqs []float64, logf func(string, ...any)) (models.Model, []float64, []float64, error) {
+func modelAt(cfg runconfig.Config, given []string, freqs []float64, logf func(string, ...any)) (models.Model, []float64, []float64, error) {
 	m, err := buildModel(cfg, logf)
 	if err != nil {
 		return nil, nil, nil, err
 	}
-	theta, err := registry.ParamValues(m, given)
-	if err != nil {
-		return nil, nil, nil, err
-	}
-	sp, err := m.At(freqs)
-	if err != nil {
-		return nil, nil, nil, err
-	}
-	ln := make([]float64, len(freqs))
-	if err := sp.LnOmega(theta, ln); err != nil {
-		return nil, nil, nil, fmt.Errorf("model %s at %s: %w", m.Name(), registry.DescribeTheta(m.Params(), theta), err)
-	}
-	return m, theta, ln, nil
+	theta, ln, err := registry.Evaluate(m, given, freqs)
+	return m, theta, ln, err
 }
 
 // problem is a data set, a model with its priors, and the posterior that
@@ -102,7 +80,7 @@ type problem struct {
 }
 
 // buildProblem loads the data and model of cfg and joins them.
-func buildProblem(cfg Config, logf func(string, ...any)) (*problem, error) {
+func buildProblem(cfg runconfig.Config, logf func(string, ...any)) (*problem, error) {
 	ds, err := loadData(cfg.Data)
 	if err != nil {
 		return nil, err
@@ -121,7 +99,7 @@ func buildProblem(cfg Config, logf func(string, ...any)) (*problem, error) {
 // newProblem joins a loaded data set, its free spectrum and a built model
 // under the priors of cfg. The data set, free spectrum and model are not
 // changed, so one of each can serve many problems (compare's units).
-func newProblem(cfg Config, ds *likelihood.Dataset, like *likelihood.FreeSpectrum, m models.Model) (*problem, error) {
+func newProblem(cfg runconfig.Config, ds *likelihood.Dataset, like *likelihood.FreeSpectrum, m models.Model) (*problem, error) {
 	p := problem{data: ds, like: like, model: m}
 	var err error
 	if p.priors, err = registry.ResolvePriors(m, cfg.Model.Priors); err != nil {

@@ -13,10 +13,12 @@ import (
 
 	"github.com/sirupsen/logrus"
 
+	"tautline/cmd/tautline/internal/cli"
 	"tautline/compare"
 	"tautline/likelihood"
 	"tautline/models"
 	"tautline/models/registry"
+	"tautline/runconfig"
 	"tautline/rundir"
 	"tautline/sampler"
 )
@@ -79,7 +81,7 @@ func runCompare(ctx context.Context, e *env, args []string) error {
 		fs.IntVar(&co.swapEvery, "swap-every", 1, "steps between swap rounds of neighbouring rungs")
 		fs.BoolVar(&co.adapt, "adapt-ladder", false, "adapt the inner rungs' temperatures during burn-in to even out swap acceptance (Vousden, Farr & Mandel 2016); the ladder is frozen after burn-in and only later samples enter ln Z")
 	}
-	cfg, rf, fs, err := resolveConfig(e, "compare", "[options]", compareHelp, args, compareDefaults, bindCompareConfig, extra)
+	cfg, rf, fs, err := resolveConfig(e, "compare", "[options]", compareHelp, args, runconfig.CompareDefault, runconfig.BindCompare, extra)
 	if err != nil {
 		return err
 	}
@@ -93,12 +95,12 @@ func runCompare(ctx context.Context, e *env, args []string) error {
 		}
 	}
 	if rf.printConfig {
-		fmt.Fprint(e.stdout, marshalConfig(cfg))
+		fmt.Fprint(e.stdout, runconfig.Marshal(cfg))
 		fmt.Fprintf(e.stdout, "# compare: models %s, reference %s, %d rungs (exponent %g) in %d block(s), swap every %d, adapt ladder %v, evidence error %g (caps: %d steps, %d rungs)\n",
 			co.models, co.reference, co.rungs, co.exponent, co.blocks, co.swapEvery, co.adapt, co.target, co.maxSteps, co.maxRungs)
 		return nil
 	}
-	lg, err := newLogger(e.stderr, rf.logLevel, rf.logFormat)
+	lg, err := cli.NewLogger(e.stderr, rf.logLevel, rf.logFormat)
 	if err != nil {
 		return err
 	}
@@ -106,19 +108,9 @@ func runCompare(ctx context.Context, e *env, args []string) error {
 	return compareRun(ctx, e, lg, cfg, co)
 }
 
-// compareDefaults are fit's defaults with compare's own: the string demo,
-// 3000 steps per rung, and runs/compare.
-func compareDefaults() Config {
-	c := defaultConfig()
-	c.Data = "demo:strings"
-	c.Sampler.Steps = 3000
-	c.Output.Dir = filepath.Join("runs", "compare")
-	return c
-}
-
-func compareRun(ctx context.Context, e *env, lg *logrus.Logger, cfg Config, co compareOpts) error {
+func compareRun(ctx context.Context, e *env, lg *logrus.Logger, cfg runconfig.Config, co compareOpts) error {
 	started := time.Now()
-	models := splitList(co.models)
+	models := cli.SplitList(co.models)
 	if len(models) == 0 {
 		return fmt.Errorf("%w: --models is empty", errUsage)
 	}
@@ -168,7 +160,7 @@ func compareRun(ctx context.Context, e *env, lg *logrus.Logger, cfg Config, co c
 				ue = &env{stdout: e.stdout, stderr: e.stderr} // log lines: bars would overwrite each other
 			}
 			prog := newProgress(ue, lg, steps)
-			return func(done int) { prog.update(done, u.Model, 0) }, prog.finish
+			return func(done int) { prog.Update(done, u.Model, 0) }, prog.Finish
 		},
 		Pass: func(u rundir.Unit, p rundir.Pass) {
 			lg.WithFields(logrus.Fields{"model": u.Model, "pass": p.Pass, "steps": p.Steps, "rungs": p.Rungs, "error": fmt.Sprintf("%.3f", p.TotalError)}).Info("evidence accuracy")
@@ -194,27 +186,15 @@ func compareRun(ctx context.Context, e *env, lg *logrus.Logger, cfg Config, co c
 	return nil
 }
 
-func splitList(s string) []string {
-	var out []string
-	for _, p := range strings.Split(s, ",") {
-		if p = strings.TrimSpace(p); p != "" {
-			out = append(out, p)
-		}
-	}
-	return out
-}
-
 // compareModels builds every model of a comparison once, on one data set
 // and its free spectrum, each with its share of the --prior settings (a
 // prior applies to every model with that parameter).
-func compareModels(cfg Config, names []string, ds *likelihood.Dataset, lg *logrus.Logger) ([]compare.Model, error) {
+func compareModels(cfg runconfig.Config, names []string, ds *likelihood.Dataset, lg *logrus.Logger) ([]compare.Model, error) {
 	like, err := likelihood.NewFreeSpectrum(ds, likelihood.Options{Bandwidth: cfg.Likelihood.Bandwidth})
 	if err != nil {
 		return nil, err
 	}
-	built := map[string]models.Model{}
-	shares := map[string]map[string]string{}
-	used := map[string]bool{}
+	var built []models.Model
 	for _, name := range names {
 		mc := cfg
 		mc.Model.Name = name
@@ -222,24 +202,17 @@ func compareModels(cfg Config, names []string, ds *likelihood.Dataset, lg *logru
 		if err != nil {
 			return nil, err
 		}
-		built[name], shares[name] = m, map[string]string{}
-		for _, p := range m.Params() {
-			if v, ok := cfg.Model.Priors[p.Name]; ok {
-				shares[name][p.Name] = v
-				used[p.Name] = true
-			}
-		}
+		built = append(built, m)
 	}
-	for k := range cfg.Model.Priors {
-		if !used[k] {
-			return nil, fmt.Errorf("%w: prior for %q: none of the models %s has that parameter", errUsage, k, strings.Join(names, ", "))
-		}
+	shares, err := registry.SharePriors(names, built, cfg.Model.Priors)
+	if err != nil {
+		return nil, err
 	}
 	var out []compare.Model
-	for _, name := range names {
+	for i, name := range names {
 		mc := cfg
-		mc.Model.Name, mc.Model.Priors = name, shares[name]
-		pb, err := newProblem(mc, ds, like, built[name])
+		mc.Model.Name, mc.Model.Priors = name, shares[i]
+		pb, err := newProblem(mc, ds, like, built[i])
 		if err != nil {
 			return nil, fmt.Errorf("model %s: %w", name, err)
 		}
@@ -249,7 +222,7 @@ func compareModels(cfg Config, names []string, ds *likelihood.Dataset, lg *logru
 			return c
 		}
 		out = append(out, compare.Model{Name: name, Target: pb.post, Params: pb.post.FreeNames(), Priors: freePriors(pb),
-			Fingerprint: fingerprint(mc, ds.SHA256), Config: record})
+			Fingerprint: mc.Fingerprint(ds.SHA256), Config: record})
 	}
 	return out, nil
 }
@@ -257,10 +230,10 @@ func compareModels(cfg Config, names []string, ds *likelihood.Dataset, lg *logru
 // comparisonID hashes everything that decides a comparison's result: the
 // data, the configuration and the compare options, but not the task split
 // or where the output goes.
-func comparisonID(cfg Config, co compareOpts, dataSHA string) string {
+func comparisonID(cfg runconfig.Config, co compareOpts, dataSHA string) string {
 	c := cfg
-	c.Output, c.Sampler.Workers = OutputConfig{}, 0
+	c.Output, c.Sampler.Workers = runconfig.OutputConfig{}, 0
 	o := co
 	o.task, o.tasks, o.cmdline = 0, 0, ""
-	return rundir.Fingerprint(dataSHA, fmt.Sprintf("%s\n%+v", marshalConfig(c), o))
+	return rundir.Fingerprint(dataSHA, fmt.Sprintf("%s\n%+v", runconfig.Marshal(c), o))
 }

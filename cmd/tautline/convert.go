@@ -8,6 +8,8 @@ import (
 	"math"
 	"text/tabwriter"
 
+	"tautline/cmd/tautline/internal/cli"
+	"tautline/internal/numeric"
 	"tautline/models/cosmicstrings"
 )
 
@@ -38,7 +40,7 @@ func runConvert(_ context.Context, e *env, args []string) error {
 	eta := fs.Float64("eta", 0, "symmetry-breaking scale eta in GeV")
 	sep := fs.Float64("separation", 0, "maximum lensing image separation in milliarcseconds")
 	asJSON := fs.Bool("json", false, "print JSON")
-	if err := parseFlags(fs, args); err != nil {
+	if err := cli.Parse(fs, args); err != nil {
 		return err
 	}
 	var given []string
@@ -61,7 +63,7 @@ func runConvert(_ context.Context, e *env, args []string) error {
 	case "separation":
 		g = cosmicstrings.GmuFromImageSeparationMas(*sep)
 	}
-	if !(g > 0) || math.IsInf(g, 0) {
+	if !(g > 0) || !numeric.Finite(g) {
 		return fmt.Errorf("%w: --%s must be a positive finite number", errUsage, given[0])
 	}
 	c := conversion{

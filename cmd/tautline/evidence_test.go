@@ -22,6 +22,7 @@ import (
 	"testing"
 	"time"
 
+	"tautline/runconfig"
 	"tautline/rundir"
 
 	"gonum.org/v1/gonum/integrate/quad"
@@ -97,7 +98,7 @@ func evQuadLnZ(t *testing.T, pb *problem, q evQuad) (float64, int) {
 // configuration with the data set and the given priors.
 func evProblem(t *testing.T, data, model string, pri map[string]string) *problem {
 	t.Helper()
-	cfg := defaultConfig()
+	cfg := runconfig.Default()
 	cfg.Data, cfg.Model.Name = data, model
 	cfg.Model.Priors = map[string]string{}
 	for k, v := range pri {

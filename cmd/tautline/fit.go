@@ -2,7 +2,6 @@ package main
 
 import (
 	"context"
-	"errors"
 	"flag"
 	"fmt"
 	"os"
@@ -13,8 +12,9 @@ import (
 
 	"github.com/sirupsen/logrus"
 
-	"tautline/chains"
-	"tautline/report"
+	"tautline/cmd/tautline/internal/cli"
+	"tautline/fitrun"
+	"tautline/runconfig"
 	"tautline/rundir"
 	"tautline/sampler"
 )
@@ -34,17 +34,17 @@ chain bytes as a run that never stopped.`
 
 func runFit(ctx context.Context, e *env, args []string) error {
 	var resume bool
-	cfg, rf, _, err := resolveConfig(e, "fit", "[options]", fitHelp, args, defaultConfig, bindConfig, func(fs *flag.FlagSet) {
+	cfg, rf, _, err := resolveConfig(e, "fit", "[options]", fitHelp, args, runconfig.Default, runconfig.BindFit, func(fs *flag.FlagSet) {
 		fs.BoolVar(&resume, "resume", false, "continue the run in --out from its checkpoint (same configuration required)")
 	})
 	if err != nil {
 		return err
 	}
 	if rf.printConfig {
-		fmt.Fprint(e.stdout, marshalConfig(cfg))
+		fmt.Fprint(e.stdout, runconfig.Marshal(cfg))
 		return nil
 	}
-	lg, err := newLogger(e.stderr, rf.logLevel, rf.logFormat)
+	lg, err := cli.NewLogger(e.stderr, rf.logLevel, rf.logFormat)
 	if err != nil {
 		return err
 	}
@@ -54,26 +54,16 @@ func runFit(ctx context.Context, e *env, args []string) error {
 	return fit(ctx, e, lg, cfg, resume)
 }
 
-// fingerprint identifies everything that decides a run's chain: the data
-// and the configuration except the keys that only say how long to run, how
-// often to write, or how many goroutines to use.
-func fingerprint(cfg Config, dataSHA string) string {
-	c := cfg
-	c.Sampler.Steps, c.Sampler.Until, c.Sampler.Workers = 0, "", 0
-	c.Sampler.CheckpointEvery, c.Output.FlushEvery, c.Output.Dir = 0, 0, ""
-	return rundir.Fingerprint(dataSHA, marshalConfig(c))
-}
-
 // untilDefaultCap is the step cap of an --until run that names no --steps.
 const untilDefaultCap = 100000
 
-func fit(ctx context.Context, e *env, lg *logrus.Logger, cfg Config, resume bool) error {
+func fit(ctx context.Context, e *env, lg *logrus.Logger, cfg runconfig.Config, resume bool) error {
 	started := time.Now()
-	until, err := parseUntil(cfg.Sampler.Until)
+	until, err := sampler.ParseCriteria(cfg.Sampler.Until)
 	if err != nil {
-		return err
+		return fmt.Errorf("%w: --until %q: %v", errUsage, cfg.Sampler.Until, err)
 	}
-	if cfg.Sampler.Until != "" && cfg.Sampler.Steps == defaultConfig().Sampler.Steps {
+	if cfg.Sampler.Until != "" && cfg.Sampler.Steps == runconfig.Default().Sampler.Steps {
 		cfg.Sampler.Steps = untilDefaultCap
 		lg.Infof("--until without --steps: capping the run at %d steps", untilDefaultCap)
 	}
@@ -85,14 +75,14 @@ func fit(ctx context.Context, e *env, lg *logrus.Logger, cfg Config, resume bool
 		return err
 	}
 	names := pb.post.FreeNames()
-	moves, err := parseMoves(cfg.Sampler.Moves, len(names))
+	moves, err := sampler.ParseMoves(cfg.Sampler.Moves, len(names))
 	if err != nil {
-		return err
+		return fmt.Errorf("%w: --moves %q: %v", errUsage, cfg.Sampler.Moves, err)
 	}
 	lg.WithFields(logrus.Fields{"data": pb.data.Name, "bins": len(pb.data.Freqs), "model": pb.model.Name(), "params": strings.Join(names, ",")}).Info("fit")
 	scfg := sampler.Config{
 		Walkers: cfg.Sampler.Walkers, Seed: cfg.Sampler.Seed, Moves: moves, Workers: cfg.Sampler.Workers,
-		Fingerprint: fingerprint(cfg, pb.data.SHA256),
+		Fingerprint: cfg.Fingerprint(pb.data.SHA256),
 	}
 	if n := cfg.Sampler.Temperatures; n > 1 {
 		if scfg.Betas, err = sampler.GeometricLadder(n, cfg.Sampler.BetaMin); err != nil {
@@ -104,132 +94,31 @@ func fit(ctx context.Context, e *env, lg *logrus.Logger, cfg Config, resume bool
 	if err := os.MkdirAll(cfg.Output.Dir, 0o755); err != nil {
 		return fmt.Errorf("output folder: %w", err)
 	}
-	paths := rundir.FitPaths(cfg.Output.Dir)
-	columns := append([]string{"step", "walker", "ln_post", "ln_like"}, names...)
-
-	var ens *sampler.Ensemble
-	var w *chains.Writer
-	if resume {
-		ck, err := rundir.ReadCheckpoint(paths.Checkpoint)
-		if err != nil {
-			return err
-		}
-		if ens, err = sampler.Restore(pb.post, scfg, ck.State); err != nil {
-			return fmt.Errorf("%s: %w (was the configuration or data changed since the run started?)", paths.Checkpoint, err)
-		}
-		if w, err = chains.Resume(paths.Chain, columns, ck.ChainOffset); err != nil {
-			return err
-		}
-		lg.Infof("resuming from step %d (%s)", ens.Steps(), paths.Checkpoint)
-	} else {
-		if _, err := os.Stat(paths.Checkpoint); err == nil {
-			return fmt.Errorf("%s exists: this folder holds a run already; continue it with --resume or choose another --out", paths.Checkpoint)
-		}
-		if ens, err = sampler.New(pb.post, scfg); err != nil {
-			return err
-		}
-		if w, err = chains.Create(paths.Chain, columns); err != nil {
-			return err
-		}
-	}
-	defer ens.Close()
-	defer w.Close()
-
-	meta := newMeta(cfg, pb, started)
-	meta.Status = "running"
-	if err := rundir.WriteMeta(paths.Meta, meta); err != nil {
-		return err
-	}
-
-	row := make([]float64, len(columns))
-	dim := len(names)
-	writeCheckpoint := func(en *sampler.Ensemble) error {
-		off, err := w.Flush()
-		if err != nil {
-			return err
-		}
-		state, err := en.MarshalBinary()
-		if err != nil {
-			return err
-		}
-		return rundir.WriteCheckpoint(paths.Checkpoint, rundir.Checkpoint{ChainOffset: off, State: state})
-	}
 	prog := newProgress(e, lg, cfg.Sampler.Steps)
-	onStep := func(en *sampler.Ensemble) error {
-		pos, lpost, ll := en.Positions(0), en.LnPost(0), en.LnLike(0)
-		row[0] = float64(en.Steps())
-		for k := range en.Walkers() {
-			row[1], row[2], row[3] = float64(k), lpost[k], ll[k]
-			copy(row[4:], pos[k*dim:(k+1)*dim])
-			if err := w.Append(row); err != nil {
-				return err
-			}
-		}
-		s := en.Steps()
-		if ce := cfg.Sampler.CheckpointEvery; ce > 0 && s%ce == 0 {
-			if err := writeCheckpoint(en); err != nil {
-				return fmt.Errorf("checkpoint: %w", err)
-			}
-		} else if fe := cfg.Output.FlushEvery; fe > 0 && s%fe == 0 {
-			if _, err := w.Flush(); err != nil {
-				return err
-			}
-		}
-		prog.update(s, "", 0)
-		return nil
-	}
-	sampleStart := time.Now()
-	checkEvery := max(100, min(500, cfg.Sampler.Steps/10))
-	res, runErr := sampler.Run(ctx, ens, sampler.RunOptions{
-		MaxSteps: cfg.Sampler.Steps, Burn: cfg.Sampler.Burn, Thin: cfg.Sampler.Thin,
-		Until:      sampler.Criteria{ESS: until.ESS, TauMultiple: until.TauMultiple, Rhat: until.Rhat},
-		CheckEvery: checkEvery, OnStep: onStep,
-		OnCheck: func(p sampler.Progress) {
-			prog.update(p.Steps, fmt.Sprintf("tau %.1f  ESS %.0f  R-hat %.3f", p.MaxTau, p.MinESS, p.MaxRhat), p.ETA)
+	res, err := fitrun.Run(ctx, fitrun.Problem{
+		Target: pb.post, Names: names, Meta: newMeta(cfg, pb, started),
+		Likelihood: fitrun.Likelihood{BandwidthRule: pb.like.BandwidthRule(), Bandwidths: pb.like.Bandwidths(), AboveRangePenalty: pb.like.Penalty()},
+	}, fitrun.Settings{
+		Sampler: scfg, Steps: cfg.Sampler.Steps, Burn: cfg.Sampler.Burn, Thin: cfg.Sampler.Thin,
+		Until: sampler.Criteria{ESS: until.ESS, TauMultiple: until.TauMultiple, Rhat: until.Rhat}, UntilSpec: cfg.Sampler.Until,
+		CheckpointEvery: cfg.Sampler.CheckpointEvery, FlushEvery: cfg.Output.FlushEvery, Out: cfg.Output.Dir, Resume: resume,
+		Reporter: fitrun.Reporter{
+			Infof: lg.Infof,
+			Step:  func(n int) { prog.Update(n, "", 0) },
+			Check: func(p sampler.Progress) {
+				prog.Update(p.Steps, fmt.Sprintf("tau %.1f  ESS %.0f  R-hat %.3f", p.MaxTau, p.MinESS, p.MaxRhat), p.ETA)
+			},
 		},
 	})
-	prog.finish()
-	sampled := time.Now()
-	if runErr != nil && !errors.Is(runErr, context.Canceled) {
-		return runErr
-	}
-	if err := writeCheckpoint(ens); err != nil {
-		return fmt.Errorf("checkpoint: %w", err)
-	}
-	if err := w.Close(); err != nil {
+	prog.Finish()
+	if err != nil {
 		return err
 	}
-	if runErr != nil {
-		meta.Status = "interrupted"
-		meta.End = time.Now()
-		_ = rundir.WriteMeta(paths.Meta, meta)
-		return fmt.Errorf("interrupted at step %d; the checkpoint is saved: continue with the same command and --resume", ens.Steps())
-	}
-
-	post, n := rundir.PosteriorSamples(res, dim)
-	if err := chains.WriteNPY(paths.Posterior, n, dim, post); err != nil {
-		return err
-	}
-	sum := report.FitSummary(names, post, n, dim)
-	if err := rundir.WriteJSON(paths.Summary, rundir.Summary{Params: sum, Samples: n, Burn: res.Burn, Thin: res.Thin}); err != nil {
-		return err
-	}
-	meta.Status = res.Status.String()
-	meta.End = time.Now()
-	meta.Diagnostics = res.Report
-	meta.Timings = append(meta.Timings, chains.Timing{Phase: "sampling", Seconds: sampled.Sub(sampleStart).Seconds()},
-		chains.Timing{Phase: "total", Seconds: time.Since(started).Seconds()})
-	meta.Sampling = &rundir.Sampling{Steps: res.Steps, Burn: res.Burn, Thin: res.Thin, PosteriorSamples: n,
-		Acceptance: ens.AcceptanceFractions(0), BandwidthRule: pb.like.BandwidthRule(), Bandwidths: pb.like.Bandwidths(),
-		Penalty: pb.like.Penalty(), Until: cfg.Sampler.Until}
-	if err := rundir.WriteMeta(paths.Meta, meta); err != nil {
-		return err
-	}
-	printFitSummary(e, cfg, pb, res, sum, n)
+	printFitSummary(e, cfg, pb, res.Sampler, res.Summary, res.Samples)
 	return nil
 }
 
-func printFitSummary(e *env, cfg Config, pb *problem, res sampler.Result, sum []rundir.ParamSummary, n int) {
+func printFitSummary(e *env, cfg runconfig.Config, pb *problem, res sampler.Result, sum []rundir.ParamSummary, n int) {
 	status := res.Status.String()
 	if cfg.Sampler.Until == "" && res.Status == sampler.MaxStepsReached {
 		status = "finished" // no criteria were asked for; the diagnostics below say how well it mixed

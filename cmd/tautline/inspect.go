@@ -4,8 +4,10 @@ import (
 	"context"
 	"encoding/json"
 	"fmt"
-	"tautline/models/gw"
 	"text/tabwriter"
+
+	"tautline/cmd/tautline/internal/cli"
+	"tautline/models/gw"
 )
 
 const inspectHelp = `
@@ -41,7 +43,7 @@ type inspectOut struct {
 func runInspect(_ context.Context, e *env, args []string) error {
 	fs := newFlagSet(e, "inspect", "[--json] DATA", inspectHelp)
 	asJSON := fs.Bool("json", false, "print JSON instead of a table")
-	if err := parseFlags(fs, args); err != nil {
+	if err := cli.Parse(fs, args); err != nil {
 		return err
 	}
 	if fs.NArg() != 1 {

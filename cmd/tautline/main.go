@@ -24,6 +24,7 @@ import (
 	"strings"
 	"syscall"
 
+	"tautline/cmd/tautline/internal/cli"
 	"tautline/models/registry"
 )
 
@@ -59,11 +60,11 @@ func commands() []command {
 
 // errUsage marks errors that come from a malformed command line; main prints
 // them with a hint to --help and exits with status 2.
-var errUsage = errors.New("usage")
+var errUsage = cli.ErrUsage
 
 // errSilent is returned when a command has already reported the problem
 // (for example flag parsing, which prints its own message).
-var errSilent = errors.New("silent")
+var errSilent = cli.ErrSilent
 
 func main() {
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)

@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"os"
 
+	"tautline/cmd/tautline/internal/cli"
 	"tautline/compare"
 )
 
@@ -18,7 +19,7 @@ models, reference or seed) and says which models have no parts yet.`
 func runMerge(_ context.Context, e *env, args []string) error {
 	fs := newFlagSet(e, "merge", "--out DIR PARTDIR...", mergeHelp)
 	out := fs.String("out", "", "output folder for the merged comparison (required)")
-	if err := parseFlags(fs, args); err != nil {
+	if err := cli.Parse(fs, args); err != nil {
 		return err
 	}
 	if *out == "" || fs.NArg() == 0 {

@@ -5,11 +5,12 @@ import (
 	"time"
 
 	"tautline/chains"
+	"tautline/runconfig"
 	"tautline/rundir"
 )
 
 // newMeta starts a run's metadata: everything needed to reproduce it.
-func newMeta(cfg Config, pb *problem, started time.Time) *rundir.Meta {
+func newMeta(cfg runconfig.Config, pb *problem, started time.Time) chains.Meta {
 	var params []chains.ParamInfo
 	fixed := map[string]bool{}
 	for _, n := range pb.post.FreeNames() {
@@ -19,7 +20,7 @@ func newMeta(cfg Config, pb *problem, started time.Time) *rundir.Meta {
 		_, free := fixed[p.Name]
 		params = append(params, chains.ParamInfo{Name: p.Name, Label: p.Label, Unit: p.Unit, Prior: pb.priors[i].String(), Fixed: !free})
 	}
-	return &rundir.Meta{Meta: chains.Meta{
+	return chains.Meta{
 		Version:     versionString(),
 		CommandLine: os.Args,
 		Config:      cfg,
@@ -28,7 +29,7 @@ func newMeta(cfg Config, pb *problem, started time.Time) *rundir.Meta {
 		Model:       chains.ModelInfo{Name: pb.model.Name(), Params: params},
 		Start:       started,
 		Outputs:     rundir.FitOutputs(),
-	}}
+	}
 }
 
 // freePriors returns the prior of every sampled parameter, in the order of

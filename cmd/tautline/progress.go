@@ -1,99 +1,25 @@
 package main
 
 import (
-	"fmt"
-	"io"
-	"strings"
-	"time"
-
 	"github.com/sirupsen/logrus"
+
+	"tautline/cmd/tautline/internal/cli"
 )
 
-// newLogger returns a logrus logger writing to w at the given level and
-// format ("text" or "json").
-func newLogger(w io.Writer, level, format string) (*logrus.Logger, error) {
-	lg := logrus.New()
-	lg.SetOutput(w)
-	lv, err := logrus.ParseLevel(level)
-	if err != nil {
-		return nil, fmt.Errorf("%w: --log-level %q: want debug, info, warn or error", errUsage, level)
-	}
-	lg.SetLevel(lv)
-	switch format {
-	case "text":
-		lg.SetFormatter(&logrus.TextFormatter{DisableColors: true, FullTimestamp: true, TimestampFormat: time.TimeOnly})
-	case "json":
-		lg.SetFormatter(&logrus.JSONFormatter{})
-	default:
-		return nil, fmt.Errorf("%w: --log-format %q: want text or json", errUsage, format)
-	}
-	return lg, nil
-}
+// version is the release this source tree describes; cli.Version appends
+// the VCS revision when the binary was built from a git checkout.
+const version = "0.1.0"
 
-// progress reports a long loop: on a terminal a one-line bar redrawn in
-// place, elsewhere a log line every interval.
-type progress struct {
-	w        io.Writer
-	tty      bool
-	log      *logrus.Logger
-	total    int
-	start    time.Time
-	last     time.Time
-	interval time.Duration
-	drawn    bool
-}
+func versionString() string { return cli.Version(version) }
 
-func newProgress(e *env, lg *logrus.Logger, total int) *progress {
-	now := time.Now()
-	return &progress{w: e.stderr, tty: e.isTerminal, log: lg, total: total, start: now, last: now, interval: 10 * time.Second}
-}
-
-// update shows done out of total steps; extra is appended (tau, ESS, ...).
-// eta, if positive, overrides the estimate from the step rate.
-func (p *progress) update(done int, extra string, eta time.Duration) {
-	now := time.Now()
-	if p.tty && now.Sub(p.last) < 200*time.Millisecond && done < p.total {
-		return
-	}
-	if !p.tty && now.Sub(p.last) < p.interval && done < p.total {
-		return
-	}
-	p.last = now
-	el := now.Sub(p.start).Seconds()
-	rate := float64(done) / el
-	if eta <= 0 && rate > 0 && p.total > done {
-		eta = time.Duration(float64(p.total-done)/rate) * time.Second
-	}
-	if p.tty {
-		const width = 24
-		frac := float64(done) / float64(max(p.total, 1))
-		n := min(int(frac*width), width)
-		bar := strings.Repeat("=", n) + strings.Repeat(" ", width-n)
-		fmt.Fprintf(p.w, "\r[%s] %d/%d steps  %.0f/s  ETA %s  %s\x1b[K", bar, done, p.total, rate, fmtDur(eta), extra)
-		p.drawn = true
-		return
-	}
-	p.log.WithFields(logrus.Fields{"step": done, "of": p.total, "rate_per_s": fmt.Sprintf("%.0f", rate), "eta": fmtDur(eta)}).Info(strings.TrimSpace("sampling " + extra))
-}
-
-// finish ends the bar's line.
-func (p *progress) finish() {
-	if p.tty && p.drawn {
-		fmt.Fprintln(p.w)
-	}
-}
-
-func fmtDur(d time.Duration) string {
-	if d <= 0 {
-		return "-"
-	}
-	return d.Round(time.Second).String()
+func newProgress(e *env, lg *logrus.Logger, total int) *cli.Progress {
+	return cli.NewProgress(e.stderr, e.isTerminal, lg, total)
 }
 
 // stderrLog returns a printf-style logger to stderr for commands without
 // --log-level (simulate, spectrum): it reports long steps such as building
 // a string-spectrum table.
 func stderrLog(e *env) func(string, ...any) {
-	lg, _ := newLogger(e.stderr, "info", "text")
+	lg, _ := cli.NewLogger(e.stderr, "info", "text")
 	return lg.Infof
 }

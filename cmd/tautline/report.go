@@ -9,11 +9,12 @@ import (
 	"strings"
 	"time"
 
-	"strconv"
+	"tautline/cmd/tautline/internal/cli"
 	"tautline/likelihood"
 	"tautline/models"
 	"tautline/models/registry"
 	"tautline/report"
+	"tautline/runconfig"
 	"tautline/rundir"
 	"tautline/stats"
 )
@@ -65,7 +66,7 @@ func runReport(_ context.Context, e *env, args []string) error {
 		o                  reportOpts
 		formats, masses    string
 		sigma2d            bool
-		truths             multiFlag
+		truths             cli.Multi
 		logLevel, logFrmt  string
 		smoothed, noTraces bool
 	)
@@ -89,7 +90,7 @@ func runReport(_ context.Context, e *env, args []string) error {
 	// Flags may come before or after RUNDIR.
 	var pos []string
 	for {
-		if err := parseFlags(fs, args); err != nil {
+		if err := cli.Parse(fs, args); err != nil {
 			return err
 		}
 		if fs.NArg() == 0 {
@@ -105,7 +106,7 @@ func runReport(_ context.Context, e *env, args []string) error {
 	if o.out == "" {
 		o.out = filepath.Join(dir, "report")
 	}
-	for _, f := range splitList(formats) {
+	for _, f := range cli.SplitList(formats) {
 		switch f {
 		case "png", "svg", "pdf":
 			o.formats = append(o.formats, f)
@@ -117,8 +118,8 @@ func runReport(_ context.Context, e *env, args []string) error {
 		return fmt.Errorf("%w: --formats: name at least one of png, svg, pdf", errUsage)
 	}
 	var err error
-	if o.masses, err = reportParseMasses(masses); err != nil {
-		return err
+	if o.masses, err = stats.ParseMasses(masses); err != nil {
+		return fmt.Errorf("%w: --masses: %v", errUsage, err)
 	}
 	if sigma2d {
 		if masses != "" {
@@ -126,8 +127,8 @@ func runReport(_ context.Context, e *env, args []string) error {
 		}
 		o.masses = []float64{stats.Mass1Sigma2D, stats.Mass2Sigma2D}
 	}
-	if o.truths, err = reportParseTruths(truths); err != nil {
-		return err
+	if o.truths, err = registry.ParseAssignments(truths); err != nil {
+		return fmt.Errorf("%w: --truth %v", errUsage, err)
 	}
 	switch {
 	case o.dpi < 30 || o.dpi > 2400:
@@ -143,7 +144,7 @@ func runReport(_ context.Context, e *env, args []string) error {
 	case o.sig < 1 || o.sig > 6:
 		return fmt.Errorf("%w: --sig must be between 1 and 6, got %d", errUsage, o.sig)
 	}
-	lg, err := newLogger(e.stderr, logLevel, logFrmt)
+	lg, err := cli.NewLogger(e.stderr, logLevel, logFrmt)
 	if err != nil {
 		return err
 	}
@@ -188,49 +189,10 @@ func runReport(_ context.Context, e *env, args []string) error {
 	return nil
 }
 
-// reportParseMasses reads a comma-separated list of credible masses, each a
-// fraction in (0, 1) or a percentage in [1, 100).
-func reportParseMasses(s string) ([]float64, error) {
-	var out []float64
-	for _, f := range splitList(s) {
-		v, err := strconv.ParseFloat(f, 64)
-		if err != nil {
-			return nil, fmt.Errorf("%w: --masses: %q is not a number", errUsage, f)
-		}
-		if v >= 1 {
-			v /= 100
-		}
-		if !(v > 0 && v < 1) {
-			return nil, fmt.Errorf("%w: --masses: %q is not a mass in (0, 1) or a percentage below 100", errUsage, f)
-		}
-		out = append(out, v)
-	}
-	slices.Sort(out)
-	return slices.Compact(out), nil
-}
-
-// reportParseTruths reads NAME=VALUE pairs; VALUE may be a fraction such as 13/3.
-func reportParseTruths(list []string) (map[string]float64, error) {
-	out := map[string]float64{}
-	for _, s := range list {
-		name, val, ok := strings.Cut(s, "=")
-		name, val = strings.TrimSpace(name), strings.TrimSpace(val)
-		if !ok || name == "" || val == "" {
-			return nil, fmt.Errorf("%w: --truth %q: want NAME=VALUE", errUsage, s)
-		}
-		v, err := registry.ParseNumber(val)
-		if err != nil {
-			return nil, fmt.Errorf("%w: --truth %s: %v", errUsage, name, err)
-		}
-		out[name] = v
-	}
-	return out, nil
-}
-
 // reportRebuild rebuilds a run's models from the configurations the run
 // recorded.
 type reportRebuild struct {
-	cfgs map[*rundir.Model]Config
+	cfgs map[*rundir.Model]runconfig.Config
 	logf func(string, ...any)
 }
 
@@ -245,10 +207,10 @@ func (r reportRebuild) Problem(m *rundir.Model) (*likelihood.Dataset, *likelihoo
 }
 
 // reportConfigs decodes the configuration each model of run recorded.
-func reportConfigs(run *rundir.Run) (map[*rundir.Model]Config, error) {
-	out := map[*rundir.Model]Config{}
+func reportConfigs(run *rundir.Run) (map[*rundir.Model]runconfig.Config, error) {
+	out := map[*rundir.Model]runconfig.Config{}
 	for _, m := range run.Models {
-		cfg := defaultConfig()
+		cfg := runconfig.Default()
 		if err := json.Unmarshal(m.Config, &cfg); err != nil {
 			if run.Kind == rundir.KindFit {
 				return nil, fmt.Errorf("%s: config: %w", filepath.Join(run.Dir, rundir.MetaFile), err)
@@ -279,7 +241,7 @@ func printReportSummary(e *env, run *rundir.Run, out string, files []string, sta
 			name = "./"
 		}
 		fmt.Fprintf(e.stdout, "  %s\n", name)
-		for _, l := range wrap(strings.Join(groups[d], " "), 74) {
+		for _, l := range cli.Wrap(strings.Join(groups[d], " "), 74) {
 			fmt.Fprintf(e.stdout, "      %s\n", l)
 		}
 	}

@@ -18,6 +18,7 @@ import (
 
 	"tautline/chains"
 	"tautline/report"
+	"tautline/runconfig"
 	"tautline/rundir"
 )
 
@@ -381,7 +382,7 @@ func TestReportCompare(t *testing.T) {
 // uniform quantile -12 + 0.95 * 4 = -8.2.
 func TestReportExclusion(t *testing.T) {
 	run := t.TempDir()
-	cfg := defaultConfig()
+	cfg := runconfig.Default()
 	cfg.Model.Name = "strings"
 	m := &chains.Meta{Version: version, Config: cfg, Data: chains.DataSet{Name: "invented", SHA256: "0"},
 		Model: chains.ModelInfo{Name: "strings", Params: []chains.ParamInfo{
@@ -428,42 +429,4 @@ func TestReportExclusion(t *testing.T) {
 			t.Errorf("slice %d (%d samples): limit %.4f, want -8.2 ± %.3f", i, s.N, s.Limit, tol)
 		}
 	}
-}
-
-// FuzzReportMasses checks that --masses never panics and that what it
-// accepts is a sorted list of distinct masses in (0, 1).
-func FuzzReportMasses(f *testing.F) {
-	for _, s := range []string{"0.68,0.95", "68,95", "0.393,0.865", "", ",", "1", "100", "-1", "nan", "inf", "0.5,0.5", "1e-300"} {
-		f.Add(s)
-	}
-	f.Fuzz(func(t *testing.T, s string) {
-		ms, err := reportParseMasses(s)
-		if err != nil {
-			return
-		}
-		for i, m := range ms {
-			if !(m > 0 && m < 1) || (i > 0 && !(m > ms[i-1])) {
-				t.Fatalf("%q gave masses %v", s, ms)
-			}
-		}
-	})
-}
-
-// FuzzReportTruths checks that --truth (entries separated by ';' here)
-// never panics and accepts only named, finite values.
-func FuzzReportTruths(f *testing.F) {
-	for _, s := range []string{"log10_A=-14.6", "gamma=13/3", "a=1;b=2", "=1", "a=", "a", "a=1/0", "a=nan", "a==1"} {
-		f.Add(s)
-	}
-	f.Fuzz(func(t *testing.T, s string) {
-		got, err := reportParseTruths(strings.Split(s, ";"))
-		if err != nil {
-			return
-		}
-		for k, v := range got {
-			if k == "" || math.IsNaN(v) || math.IsInf(v, 0) {
-				t.Fatalf("%q gave %q = %v", s, k, v)
-			}
-		}
-	})
 }

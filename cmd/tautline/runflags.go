@@ -3,11 +3,11 @@ package main
 import (
 	"flag"
 	"fmt"
-	"strconv"
 	"strings"
 
+	"tautline/cmd/tautline/internal/cli"
 	"tautline/models/registry"
-	"tautline/sampler"
+	"tautline/runconfig"
 )
 
 // runFlags are the options shared by the commands that sample (fit,
@@ -16,85 +16,9 @@ import (
 type runFlags struct {
 	configPath  string
 	printConfig bool
-	priors      multiFlag
+	priors      cli.Multi
 	logLevel    string
 	logFormat   string
-}
-
-// bindConfig registers a flag for every key of cfg that fit uses, writing
-// into cfg.
-func bindConfig(fs *flag.FlagSet, cfg *Config) {
-	fs.StringVar(&cfg.Data, "data", cfg.Data, "free-spectrum data set: path to its YAML description, or demo:smbhb / demo:strings (embedded, simulated); empty picks the demo that suits --model")
-	fs.StringVar(&cfg.Model.Name, "model", cfg.Model.Name, "model: smbhb, strings, or strings+smbhb")
-	bindModelSettings(fs, cfg)
-	fs.StringVar(&cfg.Likelihood.Bandwidth, "bandwidth", cfg.Likelihood.Bandwidth, "KDE bandwidth rule for bins given as samples: scott or silverman")
-	bindSampler(fs, cfg, false)
-	fs.StringVar(&cfg.Sampler.Until, "until", cfg.Sampler.Until, "stop when all criteria hold, e.g. ess=5000,tau=50,rhat=1.01 (effective sample size, chain length in autocorrelation times, split R-hat); --steps is then the cap")
-	fs.StringVar(&cfg.Sampler.Moves, "moves", cfg.Sampler.Moves, "ensemble moves: stretch, de (differential evolution), or a weighted mix such as stretch:0.8,de:0.2")
-	fs.IntVar(&cfg.Sampler.CheckpointEvery, "checkpoint-every", cfg.Sampler.CheckpointEvery, "steps between checkpoints (0 disables them)")
-	fs.IntVar(&cfg.Sampler.Temperatures, "temperatures", cfg.Sampler.Temperatures, "parallel-tempering rungs, geometric in beta from 1 to --beta-min, swapping walkers every step; helps multimodal posteriors mix; only the beta = 1 rung is written (1: no tempering)")
-	fs.Float64Var(&cfg.Sampler.BetaMin, "beta-min", cfg.Sampler.BetaMin, "inverse temperature of the hottest rung with --temperatures")
-	fs.StringVar(&cfg.Output.Dir, "out", cfg.Output.Dir, "output folder for chains and metadata; empty means runs/fit-MODEL")
-	fs.IntVar(&cfg.Output.FlushEvery, "flush-every", cfg.Output.FlushEvery, "steps between chain flushes to disk (a crash loses at most this many)")
-}
-
-// bindCompareConfig registers the configuration keys compare uses: not
-// the model (compare takes --models), nor --until, the moves, checkpoints
-// or flushing, which compare does not use.
-func bindCompareConfig(fs *flag.FlagSet, cfg *Config) {
-	fs.StringVar(&cfg.Data, "data", cfg.Data, "free-spectrum data set: path to its YAML description, or demo:smbhb / demo:strings (embedded, simulated)")
-	bindModelSettings(fs, cfg)
-	fs.StringVar(&cfg.Likelihood.Bandwidth, "bandwidth", cfg.Likelihood.Bandwidth, "KDE bandwidth rule for bins given as samples: scott or silverman")
-	bindSampler(fs, cfg, true)
-	fs.StringVar(&cfg.Output.Dir, "out", cfg.Output.Dir, "output folder of the comparison")
-}
-
-// bindModel registers the flags that choose the model and configure it
-// and the background cosmology (simulate, spectrum).
-func bindModel(fs *flag.FlagSet, cfg *Config) {
-	fs.StringVar(&cfg.Model.Name, "model", cfg.Model.Name, "model: smbhb, strings, or strings+smbhb")
-	bindModelSettings(fs, cfg)
-}
-
-// bindModelSettings registers the models' fixed settings and the
-// background cosmology.
-func bindModelSettings(fs *flag.FlagSet, cfg *Config) {
-	fs.BoolVar(&cfg.Model.FixGamma, "fix-gamma", cfg.Model.FixGamma, "fix the SMBHB spectral index gamma to 13/3 (circular GW-driven binaries)")
-	fs.StringVar(&cfg.Model.Turnover, "turnover", cfg.Model.Turnover, "SMBHB low-frequency turnover (environmental hardening), h_c x (1 + (f_bend/f)^kappa)^(-1/2): none, fixed (at --f-bend and --turnover-kappa) or fit (log10_fbend and kappa sampled)")
-	fs.Float64Var(&cfg.Model.FBend, "f-bend", cfg.Model.FBend, "fixed turnover bend frequency in Hz (with --turnover fixed)")
-	fs.Float64Var(&cfg.Model.TurnoverKappa, "turnover-kappa", cfg.Model.TurnoverKappa, "fixed turnover shape exponent (with --turnover fixed; 0 means 10/3)")
-	fs.Float64Var(&cfg.Model.Strings.Q, "q", cfg.Model.Strings.Q, "string-loop emission spectral index: 4/3 cusps, 5/3 kinks, 2 kink-kink collisions (dimensionless)")
-	fs.Float64Var(&cfg.Model.Strings.Gamma, "gamma-loop", cfg.Model.Strings.Gamma, "total GW power of a loop in units of G mu^2")
-	fs.Float64Var(&cfg.Model.Strings.F, "f-large", cfg.Model.Strings.F, "fraction of loop-production energy going into large loops")
-	fs.StringVar(&cfg.Model.Strings.CEff, "loop-production", cfg.Model.Strings.CEff, "loop-production efficiency C_eff: vos (velocity-dependent one-scale equations) or step (5.4 before matter-radiation equality, 0.39 after)")
-	fs.Float64Var(&cfg.Model.Strings.Kappa, "kappa", cfg.Model.Strings.Kappa, "loop density scales as P^(-kappa) with the reconnection probability P")
-	fs.IntVar(&cfg.Model.Strings.Modes, "modes", cfg.Model.Strings.Modes, "number of loop harmonics summed; 0 adds the N -> infinity tail")
-	fs.StringVar(&cfg.Model.Strings.DOF, "dof", cfg.Model.Strings.DOF, "relativistic degrees of freedom: standard-model or constant")
-	fs.BoolVar(&cfg.Model.Strings.Direct, "direct", cfg.Model.Strings.Direct, "evaluate the string spectrum by direct quadrature instead of the certified table (slow; for checks)")
-	fs.Float64Var(&cfg.Cosmology.H0, "h0", cfg.Cosmology.H0, "Hubble constant in km/s/Mpc")
-	fs.Float64Var(&cfg.Cosmology.OmegaM, "omega-m", cfg.Cosmology.OmegaM, "matter density parameter today")
-	fs.Float64Var(&cfg.Cosmology.TCMB, "t-cmb", cfg.Cosmology.TCMB, "CMB temperature today in K")
-	fs.Float64Var(&cfg.Cosmology.Neff, "n-eff", cfg.Cosmology.Neff, "effective number of neutrino species")
-}
-
-// bindSampler registers the sampler flags fit and compare share; compare's
-// steps count per rung and its burn-in is a fixed share.
-func bindSampler(fs *flag.FlagSet, cfg *Config, compare bool) {
-	if compare {
-		fs.IntVar(&cfg.Sampler.Walkers, "walkers", cfg.Sampler.Walkers, "walkers per rung (at least 2 x the number of sampled parameters, even)")
-		fs.IntVar(&cfg.Sampler.Steps, "steps", cfg.Sampler.Steps, "ensemble steps of every rung")
-		fs.IntVar(&cfg.Sampler.Burn, "burn", cfg.Sampler.Burn, "steps of every rung discarded as burn-in; -1 discards the first quarter")
-		fs.IntVar(&cfg.Sampler.Thin, "thin", cfg.Sampler.Thin, "keep every n-th step in the beta = 1 posterior samples; 0 chooses from the autocorrelation time")
-		fs.Uint64Var(&cfg.Sampler.Seed, "seed", cfg.Sampler.Seed, "random seed; the same seed gives byte-identical results, in one process or split into tasks")
-		fs.IntVar(&cfg.Sampler.Workers, "workers", cfg.Sampler.Workers, "(model, rung block) units run side by side; 0 uses every CPU (results do not depend on it)")
-		return
-	}
-	fs.IntVar(&cfg.Sampler.Walkers, "walkers", cfg.Sampler.Walkers, "number of ensemble walkers (at least 2 x the number of sampled parameters, even)")
-	fs.IntVar(&cfg.Sampler.Steps, "steps", cfg.Sampler.Steps, "number of ensemble steps; with --until, the cap on steps (100000 when --until is given and --steps is not)")
-	fs.IntVar(&cfg.Sampler.Burn, "burn", cfg.Sampler.Burn, "steps discarded as burn-in in the summary; -1 chooses 5 autocorrelation times or a tenth of the run, whichever is longer")
-	fs.IntVar(&cfg.Sampler.Thin, "thin", cfg.Sampler.Thin, "keep every n-th step in the posterior samples; 0 chooses from the autocorrelation time")
-	fs.Uint64Var(&cfg.Sampler.Seed, "seed", cfg.Sampler.Seed, "random seed; the same seed gives byte-identical chains")
-	fs.IntVar(&cfg.Sampler.Workers, "workers", cfg.Sampler.Workers, "goroutines evaluating walkers; 0 uses every CPU (results do not depend on it)")
 }
 
 // bindCommon registers the options that are not configuration keys.
@@ -109,8 +33,8 @@ func bindCommon(fs *flag.FlagSet, rf *runFlags) {
 // resolveConfig parses args twice: first to find --config (and to serve
 // --help with the built-in defaults), then over the file's values so that
 // flags override the file.
-func resolveConfig(e *env, name, synopsis, description string, args []string, defaults func() Config,
-	bind func(*flag.FlagSet, *Config), extra func(*flag.FlagSet)) (Config, *runFlags, *flag.FlagSet, error) {
+func resolveConfig(e *env, name, synopsis, description string, args []string, defaults func() runconfig.Config,
+	bind func(*flag.FlagSet, *runconfig.Config), extra func(*flag.FlagSet)) (runconfig.Config, *runFlags, *flag.FlagSet, error) {
 	def := defaults()
 	var rf runFlags
 	fs := newFlagSet(e, name, synopsis, description)
@@ -119,13 +43,13 @@ func resolveConfig(e *env, name, synopsis, description string, args []string, de
 	if extra != nil {
 		extra(fs)
 	}
-	if err := parseFlags(fs, args); err != nil {
-		return Config{}, nil, nil, err
+	if err := cli.Parse(fs, args); err != nil {
+		return runconfig.Config{}, nil, nil, err
 	}
 	cfg := defaults()
 	if rf.configPath != "" {
-		if err := loadConfig(rf.configPath, &cfg); err != nil {
-			return Config{}, nil, nil, err
+		if err := runconfig.Load(rf.configPath, &cfg); err != nil {
+			return runconfig.Config{}, nil, nil, err
 		}
 	}
 	var rf2 runFlags
@@ -136,13 +60,13 @@ func resolveConfig(e *env, name, synopsis, description string, args []string, de
 	if extra != nil {
 		extra(fs2)
 	}
-	if err := parseFlags(fs2, args); err != nil {
-		return Config{}, nil, nil, err
+	if err := cli.Parse(fs2, args); err != nil {
+		return runconfig.Config{}, nil, nil, err
 	}
 	for _, p := range rf2.priors {
 		k, v, ok := strings.Cut(p, "=")
 		if !ok || strings.TrimSpace(k) == "" {
-			return Config{}, nil, nil, fmt.Errorf("%w: --prior %q: want NAME=SPEC, e.g. log10_A=uniform(-18,-11)", errUsage, p)
+			return runconfig.Config{}, nil, nil, fmt.Errorf("%w: --prior %q: want NAME=SPEC, e.g. log10_A=uniform(-18,-11)", errUsage, p)
 		}
 		if cfg.Model.Priors == nil {
 			cfg.Model.Priors = map[string]string{}
@@ -157,7 +81,7 @@ func resolveConfig(e *env, name, synopsis, description string, args []string, de
 
 // checkSampler refuses sampler settings that could only fail after the
 // sampling: no steps, a burn-in that keeps nothing, a negative thinning.
-func checkSampler(cfg Config) error {
+func checkSampler(cfg runconfig.Config) error {
 	sc := cfg.Sampler
 	switch {
 	case sc.Steps <= 0:
@@ -174,70 +98,4 @@ func checkSampler(cfg Config) error {
 		return fmt.Errorf("%w: --checkpoint-every and --flush-every must be >= 0", errUsage)
 	}
 	return nil
-}
-
-// untilCriteria is the parsed form of --until.
-type untilCriteria struct {
-	ESS, TauMultiple, Rhat float64
-}
-
-func parseUntil(s string) (untilCriteria, error) {
-	var u untilCriteria
-	if strings.TrimSpace(s) == "" {
-		return u, nil
-	}
-	for _, part := range strings.Split(s, ",") {
-		k, v, ok := strings.Cut(strings.TrimSpace(part), "=")
-		if !ok {
-			return u, fmt.Errorf("%w: --until %q: %q is not KEY=VALUE (keys: ess, tau, rhat)", errUsage, s, part)
-		}
-		x, err := strconv.ParseFloat(strings.TrimSpace(v), 64)
-		if err != nil || x <= 0 {
-			return u, fmt.Errorf("%w: --until %q: %s must be a positive number, got %q", errUsage, s, k, v)
-		}
-		switch strings.TrimSpace(k) {
-		case "ess":
-			u.ESS = x
-		case "tau":
-			u.TauMultiple = x
-		case "rhat":
-			if x <= 1 {
-				return u, fmt.Errorf("%w: --until %q: rhat must be above 1, got %g", errUsage, s, x)
-			}
-			u.Rhat = x
-		default:
-			return u, fmt.Errorf("%w: --until %q: unknown criterion %q (keys: ess, tau, rhat)", errUsage, s, k)
-		}
-	}
-	return u, nil
-}
-
-// parseMoves reads --moves: "stretch", "de", or "stretch:0.8,de:0.2".
-func parseMoves(s string, dim int) ([]sampler.WeightedMove, error) {
-	if strings.TrimSpace(s) == "" || strings.TrimSpace(s) == "stretch" {
-		return nil, nil
-	}
-	var out []sampler.WeightedMove
-	for _, part := range strings.Split(s, ",") {
-		name, ws, hasW := strings.Cut(strings.TrimSpace(part), ":")
-		w := 1.0
-		if hasW {
-			x, err := strconv.ParseFloat(ws, 64)
-			if err != nil || !(x > 0) {
-				return nil, fmt.Errorf("%w: --moves %q: weight of %s must be a positive number, got %q", errUsage, s, name, ws)
-			}
-			w = x
-		}
-		var m sampler.Move
-		switch name {
-		case "stretch":
-			m = sampler.Stretch{A: 2}
-		case "de":
-			m = sampler.DefaultDiffEvolution(dim)
-		default:
-			return nil, fmt.Errorf("%w: --moves %q: unknown move %q; want stretch or de", errUsage, s, name)
-		}
-		out = append(out, sampler.WeightedMove{Move: m, Weight: w})
-	}
-	return out, nil
 }

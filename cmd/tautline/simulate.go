@@ -5,10 +5,12 @@ import (
 	"fmt"
 	"os"
 
+	"tautline/cmd/tautline/internal/cli"
 	"tautline/likelihood"
 	"tautline/likelihood/simulate"
 	"tautline/models/gw"
 	"tautline/models/registry"
+	"tautline/runconfig"
 )
 
 const simulateHelp = `
@@ -23,10 +25,10 @@ defaults log10_A=-14.6, gamma=13/3, log10_Gmu=log10(2e-11), log10_alpha=-1,
 log10_P=0.`
 
 func runSimulate(_ context.Context, e *env, args []string) error {
-	cfg := defaultConfig()
+	cfg := runconfig.Default()
 	fs := newFlagSet(e, "simulate", "[options] --out DIR", simulateHelp)
-	bindModel(fs, &cfg)
-	var params multiFlag
+	runconfig.BindModel(fs, &cfg)
+	var params cli.Multi
 	fs.Var(&params, "param", "model parameter NAME=VALUE, e.g. log10_A=-14.6 (fractions like 13/3 allowed); repeatable")
 	pulsars := fs.Int("pulsars", 40, "number of invented pulsars")
 	spanYr := fs.Float64("span-yr", 15, "observing span T in years (bins at f_i = i/T)")
@@ -37,7 +39,7 @@ func runSimulate(_ context.Context, e *env, args []string) error {
 	out := fs.String("out", "", "output folder (required); created if missing")
 	name := fs.String("name", "simulated", "data-set name, also the YAML file's base name")
 	samples := fs.Int("samples", 0, "also store this many posterior samples per bin (0: grid only)")
-	if err := parseFlags(fs, args); err != nil {
+	if err := cli.Parse(fs, args); err != nil {
 		return err
 	}
 	if *out == "" {
@@ -50,11 +52,7 @@ func runSimulate(_ context.Context, e *env, args []string) error {
 		Pulsars: *pulsars, Span: *spanYr * gw.JulianYear, Cadence: *cadenceDays * 86400,
 		Sigma: *sigmaNs * 1e-9, Bins: *bins,
 	}
-	freqs := make([]float64, arr.Bins)
-	for i := range freqs {
-		freqs[i] = float64(i+1) / arr.Span
-	}
-	m, theta, lnOmega, err := modelAt(cfg, params, freqs, stderrLog(e))
+	m, theta, lnOmega, err := modelAt(cfg, params, gw.BinFrequencies(arr.Bins, arr.Span), stderrLog(e))
 	if err != nil {
 		return err
 	}

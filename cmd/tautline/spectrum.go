@@ -5,14 +5,14 @@ import (
 	"encoding/csv"
 	"encoding/json"
 	"fmt"
-	"math"
 	"strconv"
 	"strings"
 	"text/tabwriter"
 
-	"tautline/models"
+	"tautline/cmd/tautline/internal/cli"
 	"tautline/models/gw"
 	"tautline/models/registry"
+	"tautline/runconfig"
 )
 
 const spectrumHelp = `
@@ -34,10 +34,10 @@ type spectrumRow struct {
 }
 
 func runSpectrum(_ context.Context, e *env, args []string) error {
-	cfg := defaultConfig()
+	cfg := runconfig.Default()
 	fs := newFlagSet(e, "spectrum", "[options]", spectrumHelp)
-	bindModel(fs, &cfg)
-	var params multiFlag
+	runconfig.BindModel(fs, &cfg)
+	var params cli.Multi
 	fs.Var(&params, "param", "model parameter NAME=VALUE, e.g. log10_Gmu=-10 (fractions like 13/3 allowed); repeatable")
 	freqList := fs.String("freqs", "", "comma-separated frequencies in Hz; overrides --fmin/--fmax/--n")
 	fmin := fs.Float64("fmin", 1e-9, "lowest frequency of the logarithmic grid, Hz")
@@ -45,7 +45,7 @@ func runSpectrum(_ context.Context, e *env, args []string) error {
 	n := fs.Int("n", 30, "number of grid frequencies")
 	spanYr := fs.Float64("span-yr", 15, "array time span T in years, for log10 rho")
 	format := fs.String("format", "table", "output format: table, csv or json")
-	if err := parseFlags(fs, args); err != nil {
+	if err := cli.Parse(fs, args); err != nil {
 		return err
 	}
 	if fs.NArg() != 0 {
@@ -66,9 +66,9 @@ func runSpectrum(_ context.Context, e *env, args []string) error {
 	span := *spanYr * gw.JulianYear
 	rows := make([]spectrumRow, len(freqs))
 	for i, f := range freqs {
-		om := math.Exp(ln[i])
-		hc := gw.HcFromOmega(f, om, h0)
-		rows[i] = spectrumRow{F: f, Omega: om, Hc: hc, PSD: gw.PSDFromHc(f, hc), Log10Rho: gw.Log10RhoFromLnOmega(f, ln[i], h0, span)}
+		r := &rows[i]
+		r.F = f
+		r.Omega, r.Hc, r.PSD, r.Log10Rho = gw.Forms(f, ln[i], h0, span)
 	}
 	switch *format {
 	case "json":
@@ -80,7 +80,7 @@ func runSpectrum(_ context.Context, e *env, args []string) error {
 			SpanYr float64            `json:"span_yr"`
 			H0     float64            `json:"h0_km_s_mpc"`
 			Rows   []spectrumRow      `json:"spectrum"`
-		}{m.Name(), paramMap(m, theta), *spanYr, cfg.Cosmology.H0, rows})
+		}{m.Name(), registry.ParamMap(m, theta), *spanYr, cfg.Cosmology.H0, rows})
 	case "csv":
 		w := csv.NewWriter(e.stdout)
 		_ = w.Write([]string{"f_hz", "omega_gw", "h_c", "psd_s3", "log10_rho"})
@@ -103,14 +103,6 @@ func runSpectrum(_ context.Context, e *env, args []string) error {
 
 func g(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }
 
-func paramMap(m models.Model, theta []float64) map[string]float64 {
-	out := map[string]float64{}
-	for i, p := range m.Params() {
-		out[p.Name] = theta[i]
-	}
-	return out
-}
-
 // spectrumFreqs returns the listed frequencies or a logarithmic grid.
 func spectrumFreqs(list string, fmin, fmax float64, n int) ([]float64, error) {
 	if strings.TrimSpace(list) != "" {
@@ -130,13 +122,5 @@ func spectrumFreqs(list string, fmin, fmax float64, n int) ([]float64, error) {
 	if !(fmin > 0) || !(fmax > fmin) || n < 1 {
 		return nil, fmt.Errorf("%w: want 0 < --fmin < --fmax and --n >= 1, got %g, %g, %d", errUsage, fmin, fmax, n)
 	}
-	fs := make([]float64, n)
-	for i := range fs {
-		if n == 1 {
-			fs[i] = fmin
-			break
-		}
-		fs[i] = fmin * math.Pow(fmax/fmin, float64(i)/float64(n-1))
-	}
-	return fs, nil
+	return gw.LogFrequencies(fmin, fmax, n), nil
 }

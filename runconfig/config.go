@@ -1,19 +1,29 @@
-package main
+// Package runconfig is the configuration of a tautline run: the YAML schema
+// (Config and its sections), the defaults of fit and compare, decoding that
+// refuses unknown keys with their line number and the keys accepted there,
+// the YAML rendering stored in every run's metadata and printed by
+// --print-config, the fingerprint that identifies a chain, and the
+// command-line flags that override the keys.
+package runconfig
 
 import (
 	"bytes"
 	"errors"
 	"fmt"
 	"os"
+	"path/filepath"
 	"reflect"
 	"sort"
 	"strings"
 
 	"gopkg.in/yaml.v3"
+
+	"tautline/models/registry"
+	"tautline/rundir"
 )
 
 // Config is a run's full configuration. Every key has a default (see
-// defaultConfig), may be set in a YAML file given with --config, and may be
+// Default), may be set in a YAML file given with --config, and may be
 // overridden by a flag of the same meaning. The resolved configuration is
 // printed by --print-config and stored in every run's metadata.
 type Config struct {
@@ -87,12 +97,19 @@ type CosmologyConfig struct {
 
 // SamplerConfig sets the ensemble sampler.
 type SamplerConfig struct {
-	Walkers int    `yaml:"walkers"`
-	Steps   int    `yaml:"steps"`
-	Burn    int    `yaml:"burn"`
-	Thin    int    `yaml:"thin"`
-	Seed    uint64 `yaml:"seed"`
-	Workers int    `yaml:"workers"`
+	// Walkers is the ensemble size (per rung in compare).
+	Walkers int `yaml:"walkers"`
+	// Steps is the number of ensemble steps (per rung in compare).
+	Steps int `yaml:"steps"`
+	// Burn is the number of steps discarded as burn-in; -1 chooses it.
+	Burn int `yaml:"burn"`
+	// Thin keeps every Thin-th step in the posterior samples; 0 chooses it.
+	Thin int `yaml:"thin"`
+	// Seed is the run's random seed.
+	Seed uint64 `yaml:"seed"`
+	// Workers is the number of goroutines; 0 uses every CPU. Results do
+	// not depend on it.
+	Workers int `yaml:"workers"`
 	// Until holds stopping criteria such as "ess=5000,rhat=1.01"; when set,
 	// Steps is the cap.
 	Until string `yaml:"until"`
@@ -115,7 +132,9 @@ type OutputConfig struct {
 	FlushEvery int `yaml:"flush_every"`
 }
 
-func defaultConfig() Config {
+// Default returns fit's defaults: the SMBHB power law, 32 walkers, 4000
+// steps, seed 1.
+func Default() Config {
 	return Config{
 		Data: "",
 		Model: ModelConfig{
@@ -134,17 +153,31 @@ func defaultConfig() Config {
 	}
 }
 
-// loadConfig reads a YAML configuration file over the defaults in cfg.
-// Unknown keys are refused with their line number.
-func loadConfig(path string, cfg *Config) error {
+// CompareDefault returns compare's defaults: fit's, with the string demo,
+// 3000 steps per rung, and the folder runs/compare.
+func CompareDefault() Config {
+	c := Default()
+	c.Data = "demo:strings"
+	c.Sampler.Steps = 3000
+	c.Output.Dir = filepath.Join("runs", "compare")
+	return c
+}
+
+// Load reads a YAML configuration file over the values already in cfg
+// (usually Default). Unknown keys are refused with their line number.
+func Load(path string, cfg *Config) error {
 	raw, err := os.ReadFile(path)
 	if err != nil {
 		return fmt.Errorf("reading the configuration: %w", err)
 	}
-	return decodeConfig(path, raw, cfg)
+	return Decode(path, raw, cfg)
 }
 
-func decodeConfig(name string, raw []byte, cfg *Config) error {
+// Decode reads the YAML document raw over the values in cfg. Every error
+// starts with name (the file's name); an unknown key is reported with its
+// line and the keys accepted beside it, a value of the wrong type with its
+// line. An empty document keeps every value.
+func Decode(name string, raw []byte, cfg *Config) error {
 	var root yaml.Node
 	if err := yaml.Unmarshal(raw, &root); err != nil {
 		return fmt.Errorf("%s: %s", name, strings.TrimPrefix(err.Error(), "yaml: "))
@@ -212,8 +245,9 @@ func checkKeys(file string, n *yaml.Node, t reflect.Type, path string) error {
 	return nil
 }
 
-// marshalConfig renders cfg as YAML for --print-config and the metadata.
-func marshalConfig(cfg Config) string {
+// Marshal renders cfg as YAML, as --print-config prints it and as the
+// fingerprint hashes it.
+func Marshal(cfg Config) string {
 	var b bytes.Buffer
 	enc := yaml.NewEncoder(&b)
 	enc.SetIndent(2)
@@ -221,4 +255,24 @@ func marshalConfig(cfg Config) string {
 		return fmt.Sprintf("# cannot render configuration: %v\n", err)
 	}
 	return b.String()
+}
+
+// Fingerprint identifies everything that decides a run's chain: the data
+// set's checksum and the configuration except the keys that only say how
+// long to run, how often to write, where, or with how many goroutines.
+func (c Config) Fingerprint(dataSHA string) string {
+	c.Sampler.Steps, c.Sampler.Until, c.Sampler.Workers = 0, "", 0
+	c.Sampler.CheckpointEvery, c.Output.FlushEvery, c.Output.Dir = 0, 0, ""
+	return rundir.Fingerprint(dataSHA, Marshal(c))
+}
+
+// ModelSettings returns the registry's settings of the model c names.
+func (c Config) ModelSettings() registry.Settings {
+	m, sc, cc := c.Model, c.Model.Strings, c.Cosmology
+	return registry.Settings{
+		Name:      m.Name,
+		Binaries:  registry.Binaries{FixGamma: m.FixGamma, Turnover: m.Turnover, FBend: m.FBend, TurnoverKappa: m.TurnoverKappa},
+		Strings:   registry.Strings{Q: sc.Q, Gamma: sc.Gamma, F: sc.F, CEff: sc.CEff, Kappa: sc.Kappa, Modes: sc.Modes, DOF: sc.DOF, Direct: sc.Direct},
+		Cosmology: registry.Cosmology{H0: cc.H0, OmegaM: cc.OmegaM, TCMB: cc.TCMB, Neff: cc.Neff},
+	}
 }

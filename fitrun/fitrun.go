@@ -1,0 +1,235 @@
+// Package fitrun drives one fit: it runs the affine-invariant ensemble
+// sampler (Goodman & Weare 2010, with optional parallel tempering) on a
+// target, appends every walker's state to chain.csv as it goes, writes a
+// checkpoint every so many steps and on interruption, resumes a stopped run
+// to the same chain bytes as a run that never stopped, and at the end
+// writes the burned-in, thinned posterior samples, their summary and the
+// run's metadata into a fit folder laid out as rundir describes.
+//
+// It knows neither models nor data sets: it samples a sampler.Target and
+// records what the caller says about it.
+package fitrun
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"os"
+	"time"
+
+	"tautline/chains"
+	"tautline/report"
+	"tautline/rundir"
+	"tautline/sampler"
+)
+
+// Problem is what a fit samples and what its metadata says about it.
+type Problem struct {
+	// Target is the posterior; its free parameters are the chain columns.
+	Target sampler.Target
+	// Names are the free parameters' names, in the Target's order.
+	Names []string
+	// Meta is the run's metadata as known before sampling (version,
+	// command line, configuration, seed, data set, model, start time,
+	// outputs). Run fills the status, end time, timings, diagnostics and
+	// the sampling record; Meta.Start is the start of the "total" timing.
+	Meta chains.Meta
+	// Likelihood describes the densities behind the Target, for the
+	// sampling record of meta.json.
+	Likelihood Likelihood
+}
+
+// Likelihood is how the free-spectrum densities of a fit were built.
+type Likelihood struct {
+	BandwidthRule     string
+	Bandwidths        []float64
+	AboveRangePenalty float64
+}
+
+// Settings say how long to sample and how often to write.
+type Settings struct {
+	// Sampler configures the ensemble: walkers, seed, moves, workers, the
+	// tempering ladder, and the fingerprint that a checkpoint must match.
+	Sampler sampler.Config
+	// Steps is the cap on ensemble steps; Burn and Thin are as in
+	// sampler.RunOptions (-1 and 0 choose them).
+	Steps, Burn, Thin int
+	// Until are the convergence criteria (none: run Steps steps) and
+	// UntilSpec the text they were given as, recorded in meta.json.
+	Until     sampler.Criteria
+	UntilSpec string
+	// CheckpointEvery and FlushEvery are the steps between checkpoints and
+	// between chain flushes (0: never, except at the end).
+	CheckpointEvery, FlushEvery int
+	// Out is the fit folder; it must exist.
+	Out string
+	// Resume continues the run in Out from its checkpoint.
+	Resume bool
+	// Reporter receives progress; every member may be nil.
+	Reporter Reporter
+}
+
+// Reporter receives a fit's progress.
+type Reporter struct {
+	// Infof receives log lines.
+	Infof func(format string, args ...any)
+	// Step is called after every step with the ensemble's step count.
+	Step func(steps int)
+	// Check is called after every convergence check.
+	Check func(sampler.Progress)
+}
+
+// Result is a finished fit.
+type Result struct {
+	// Sampler is the sampler's result: status, steps, burn-in, thinning,
+	// diagnostics.
+	Sampler sampler.Result
+	// Summary summarises each free parameter's posterior samples.
+	Summary []rundir.ParamSummary
+	// Samples is the number of posterior samples written.
+	Samples int
+}
+
+// checkEvery is the interval between convergence checks of a run of steps
+// steps: a tenth of the run, at least 100 and at most 500.
+func checkEvery(steps int) int { return max(100, min(500, steps/10)) }
+
+// Run samples p into the fit folder s.Out and writes chain.csv,
+// checkpoint.bin, posterior.npy, summary.json and meta.json. When ctx is
+// cancelled it saves a checkpoint, marks meta.json interrupted and returns
+// an error saying how to resume.
+func Run(ctx context.Context, p Problem, s Settings) (*Result, error) {
+	paths := rundir.FitPaths(s.Out)
+	columns := append([]string{"step", "walker", "ln_post", "ln_like"}, p.Names...)
+	ens, w, err := open(p, s, paths, columns)
+	if err != nil {
+		return nil, err
+	}
+	defer ens.Close()
+	defer w.Close()
+
+	meta := &rundir.Meta{Meta: p.Meta}
+	meta.Status = "running"
+	if err := rundir.WriteMeta(paths.Meta, meta); err != nil {
+		return nil, err
+	}
+	rep := s.Reporter
+	row := make([]float64, len(columns))
+	dim := len(p.Names)
+	writeCheckpoint := func(en *sampler.Ensemble) error {
+		off, err := w.Flush()
+		if err != nil {
+			return err
+		}
+		state, err := en.MarshalBinary()
+		if err != nil {
+			return err
+		}
+		return rundir.WriteCheckpoint(paths.Checkpoint, rundir.Checkpoint{ChainOffset: off, State: state})
+	}
+	onStep := func(en *sampler.Ensemble) error {
+		pos, lpost, ll := en.Positions(0), en.LnPost(0), en.LnLike(0)
+		row[0] = float64(en.Steps())
+		for k := range en.Walkers() {
+			row[1], row[2], row[3] = float64(k), lpost[k], ll[k]
+			copy(row[4:], pos[k*dim:(k+1)*dim])
+			if err := w.Append(row); err != nil {
+				return err
+			}
+		}
+		n := en.Steps()
+		if ce := s.CheckpointEvery; ce > 0 && n%ce == 0 {
+			if err := writeCheckpoint(en); err != nil {
+				return fmt.Errorf("checkpoint: %w", err)
+			}
+		} else if fe := s.FlushEvery; fe > 0 && n%fe == 0 {
+			if _, err := w.Flush(); err != nil {
+				return err
+			}
+		}
+		if rep.Step != nil {
+			rep.Step(n)
+		}
+		return nil
+	}
+	sampleStart := time.Now()
+	res, runErr := sampler.Run(ctx, ens, sampler.RunOptions{
+		MaxSteps: s.Steps, Burn: s.Burn, Thin: s.Thin, Until: s.Until,
+		CheckEvery: checkEvery(s.Steps), OnStep: onStep, OnCheck: rep.Check,
+	})
+	sampled := time.Now()
+	if runErr != nil && !errors.Is(runErr, context.Canceled) {
+		return nil, runErr
+	}
+	if err := writeCheckpoint(ens); err != nil {
+		return nil, fmt.Errorf("checkpoint: %w", err)
+	}
+	if err := w.Close(); err != nil {
+		return nil, err
+	}
+	if runErr != nil {
+		meta.Status = "interrupted"
+		meta.End = time.Now()
+		_ = rundir.WriteMeta(paths.Meta, meta)
+		return nil, fmt.Errorf("interrupted at step %d; the checkpoint is saved: continue with the same command and --resume", ens.Steps())
+	}
+
+	post, n := rundir.PosteriorSamples(res, dim)
+	if err := chains.WriteNPY(paths.Posterior, n, dim, post); err != nil {
+		return nil, err
+	}
+	sum := report.FitSummary(p.Names, post, n, dim)
+	if err := rundir.WriteJSON(paths.Summary, rundir.Summary{Params: sum, Samples: n, Burn: res.Burn, Thin: res.Thin}); err != nil {
+		return nil, err
+	}
+	meta.Status = res.Status.String()
+	meta.End = time.Now()
+	meta.Diagnostics = res.Report
+	meta.Timings = append(meta.Timings, chains.Timing{Phase: "sampling", Seconds: sampled.Sub(sampleStart).Seconds()},
+		chains.Timing{Phase: "total", Seconds: time.Since(p.Meta.Start).Seconds()})
+	meta.Sampling = &chains.Sampling{Steps: res.Steps, Burn: res.Burn, Thin: res.Thin, PosteriorSamples: n,
+		Acceptance: ens.AcceptanceFractions(0), BandwidthRule: p.Likelihood.BandwidthRule, Bandwidths: p.Likelihood.Bandwidths,
+		AboveRangePenalty: p.Likelihood.AboveRangePenalty, Until: s.UntilSpec}
+	if err := rundir.WriteMeta(paths.Meta, meta); err != nil {
+		return nil, err
+	}
+	return &Result{Sampler: res, Summary: sum, Samples: n}, nil
+}
+
+// open starts the ensemble and the chain file: new ones, or, with
+// s.Resume, the checkpoint's state and the chain cut back to the length
+// the checkpoint recorded.
+func open(p Problem, s Settings, paths rundir.Fit, columns []string) (*sampler.Ensemble, *chains.Writer, error) {
+	if !s.Resume {
+		if _, err := os.Stat(paths.Checkpoint); err == nil {
+			return nil, nil, fmt.Errorf("%s exists: this folder holds a run already; continue it with --resume or choose another --out", paths.Checkpoint)
+		}
+		ens, err := sampler.New(p.Target, s.Sampler)
+		if err != nil {
+			return nil, nil, err
+		}
+		w, err := chains.Create(paths.Chain, columns)
+		if err != nil {
+			ens.Close()
+			return nil, nil, err
+		}
+		return ens, w, nil
+	}
+	ck, err := rundir.ReadCheckpoint(paths.Checkpoint)
+	if err != nil {
+		return nil, nil, err
+	}
+	ens, err := sampler.Restore(p.Target, s.Sampler, ck.State)
+	if err != nil {
+		return nil, nil, fmt.Errorf("%s: %w (was the configuration or data changed since the run started?)", paths.Checkpoint, err)
+	}
+	w, err := chains.Resume(paths.Chain, columns, ck.ChainOffset)
+	if err != nil {
+		ens.Close()
+		return nil, nil, err
+	}
+	if s.Reporter.Infof != nil {
+		s.Reporter.Infof("resuming from step %d (%s)", ens.Steps(), paths.Checkpoint)
+	}
+	return ens, w, nil
+}
