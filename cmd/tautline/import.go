@@ -14,6 +14,7 @@ import (
 	"strconv"
 	"strings"
 
+	"tautline/cmd/tautline/internal/cli"
 	"tautline/likelihood"
 	"tautline/likelihood/importer"
 	"tautline/models/gw"
@@ -92,7 +93,7 @@ func runImport(_ context.Context, e *env, args []string) error {
 	// Flags may come before, between or after SHAPE and FILE.
 	var pos []string
 	for {
-		if err := parseFlags(fs, args); err != nil {
+		if err := cli.Parse(fs, args); err != nil {
 			return err
 		}
 		if fs.NArg() == 0 {
@@ -153,7 +154,7 @@ func runImport(_ context.Context, e *env, args []string) error {
 	var warning string
 	switch shape {
 	case "samples":
-		opt := importer.MatrixOptions{Meta: meta, Columns: cols, ColumnNames: splitList(*columnNames), BurnIn: *burnIn, Thin: *thin}
+		opt := importer.MatrixOptions{Meta: meta, Columns: cols, ColumnNames: cli.SplitList(*columnNames), BurnIn: *burnIn, Thin: *thin}
 		var m *importer.Matrix
 		if *long {
 			m, err = importer.ReadLong(file, 0)
