@@ -369,7 +369,7 @@ func attacks() []attack {
 		refuse("strings fit above the table's band", fitArgs("--model", "strings", "--data", "@D/band-high.yaml", "--out", "@T/run"), "frequency 0.0001 Hz is outside the table's range [1e-11, 1e-05] Hz; evaluate it with the direct path (--direct)"),
 		refuse("strings fit below the table's band", fitArgs("--model", "strings", "--data", "@D/band-low.yaml", "--out", "@T/run"), "frequency 1e-13 Hz is outside the table's range"),
 		refuse("strings+smbhb fit above the band", fitArgs("--model", "strings+smbhb", "--data", "@D/band-high.yaml", "--out", "@T/run"), `part "strings": strings: frequency 0.0001 Hz is outside`),
-		refuse("compare above the band", append(append([]string{"compare"}, tinyCompare...), "--data", "@D/band-high.yaml", "--models", "smbhb,strings", "--out", "@T/cmp"), "model strings, rung block 0", "--direct"),
+		refuse("compare above the band", append(append([]string{"compare"}, tinyCompare...), "--data", "@D/band-high.yaml", "--models", "smbhb,strings", "--out", "@T/cmp"), "model strings", "--direct"),
 		accept("smbhb fit above the strings band", fitArgs("--data", "@D/band-high.yaml", "--out", "@T/run"), "posterior samples"),
 
 		// 6. merge on a part whose reference is not among its models.
