@@ -269,7 +269,7 @@ func (s *Settings) check() error {
 	if s.RankBins == 0 {
 		s.RankBins = AutoBins(s.Replicates, s.Draws)
 		if s.RankBins == 0 {
-			return fmt.Errorf("calibrate: %d replicates of %d draws allow no rank histogram of at least 2 bins with 5 expected counts each; give more replicates, or draws with draws+1 divisible by 2, 4, 5 or 10", s.Replicates, s.Draws)
+			return fmt.Errorf("calibrate: %d replicates of %d draws allow no rank histogram of at least 2 bins with 10 expected counts each; give more replicates, or draws with draws+1 divisible by 2, 4, 5 or 10", s.Replicates, s.Draws)
 		}
 	}
 	if err := checkBins(s.Draws, s.RankBins); err != nil {

@@ -186,14 +186,10 @@ func TestRankAndHistogram(t *testing.T) {
 	if _, err := Histogram([]int{100}, 99, 10); err == nil {
 		t.Error("rank above draws accepted")
 	}
-	if b := AutoBins(100, 99); b != 20 {
-		t.Errorf("AutoBins(100, 99) = %d, want 20", b)
-	}
-	if b := AutoBins(40, 39); b != 8 {
-		t.Errorf("AutoBins(40, 39) = %d, want 8", b)
-	}
-	if b := AutoBins(9, 99); b != 0 {
-		t.Errorf("AutoBins(9, 99) = %d, want 0", b)
+	for _, tc := range []struct{ n, draws, want int }{{100, 99, 10}, {1000, 99, 20}, {40, 39, 4}, {19, 99, 0}} {
+		if b := AutoBins(tc.n, tc.draws); b != tc.want {
+			t.Errorf("AutoBins(%d, %d) = %d, want %d", tc.n, tc.draws, b, tc.want)
+		}
 	}
 }
 
@@ -244,8 +240,9 @@ func smallSettings(out string) Settings {
 // not yet converged after its burn-in). Under the narrow prior the
 // posterior cannot reach most truths, whose ranks go to 0 or L: with 40
 // replicates of which about three quarters fall outside the fit prior, the
-// chi-squared statistic is of order hundreds, far beyond the 0.01 critical
-// value of 18.5 for 7 degrees of freedom, so the flag cannot be missed.
+// chi-squared statistic is of order a hundred, far beyond the 0.01
+// critical value of 11.3 for 3 degrees of freedom (4 bins), so the flag
+// cannot be missed.
 func TestCalibrated(t *testing.T) {
 	if testing.Short() {
 		t.Skip("runs 80 fits")
@@ -306,7 +303,7 @@ func TestResume(t *testing.T) {
 	dir := t.TempDir()
 	p := smallProblem(t, "uniform(-15.5,-13.5)", "")
 	s := smallSettings(filepath.Join(dir, "whole"))
-	s.Replicates, s.Steps, s.Burn, s.FigureFormats = 12, 200, 50, []string{"png", "svg"}
+	s.Replicates, s.Steps, s.Burn, s.FigureFormats = 20, 200, 50, []string{"png", "svg"}
 	if _, err := Run(context.Background(), p, s); err != nil {
 		t.Fatal(err)
 	}
@@ -375,7 +372,7 @@ func TestRunErrors(t *testing.T) {
 		{func(s *Settings) { s.Replicates = 0 }, "replicates must be >= 1"},
 		{func(s *Settings) { s.Burn = 300 }, "burn must be -1 or in 0..steps-1"},
 		{func(s *Settings) { s.RankBins = 7 }, "divide draws+1 = 40"},
-		{func(s *Settings) { s.Replicates = 3 }, "allow no rank histogram"},
+		{func(s *Settings) { s.Replicates = 19 }, "allow no rank histogram"},
 		{func(s *Settings) { s.Steps, s.Burn = 110, 108 }, "give more steps"},
 		{func(s *Settings) { s.Walkers = 3 }, "Walkers must be even"},
 	} {

@@ -59,14 +59,15 @@ func checkBins(draws, bins int) error {
 
 // AutoBins chooses the number of rank-histogram bins for n replicates of
 // draws posterior draws: the largest divisor of draws+1 that leaves at
-// least 5 expected counts per bin (the usual condition for the chi-squared
-// approximation, common practice) and is at most 20 (Talts et al. 2018
-// suggest about 20 bins for large runs). It returns 0 when no divisor of
-// at least 2 qualifies.
+// least 10 expected counts per bin (twice the usual minimum of 5 for the
+// chi-squared approximation, common practice, so that the simultaneous
+// band's lower end stays above zero and a hole in the histogram can show)
+// and is at most 20 (Talts et al. 2018 suggest about 20 bins for large
+// runs). It returns 0 when no divisor of at least 2 qualifies.
 func AutoBins(n, draws int) int {
 	best := 0
 	for b := 2; b <= 20 && b <= draws+1; b++ {
-		if (draws+1)%b == 0 && n >= 5*b {
+		if (draws+1)%b == 0 && n >= 10*b {
 			best = b
 		}
 	}

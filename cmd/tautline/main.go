@@ -53,6 +53,7 @@ func commands() []command {
 		{"spectrum", "print a model's Omega_GW, h_c, S(f) and log10 rho at chosen frequencies", runSpectrum},
 		{"convert", "convert a string tension Gmu to mu, the symmetry-breaking scale and lensing angles", runConvert},
 		{"report", "turn a fit or compare run folder into tables and figures for a paper", runReport},
+		{"calibrate", "check a model's inference by simulation-based calibration on simulated data sets", runCalibrate},
 	}
 }
 
