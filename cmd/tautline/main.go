@@ -55,6 +55,7 @@ func commands() []command {
 		{"convert", "convert a string tension Gmu to mu, the symmetry-breaking scale and lensing angles", runConvert},
 		{"report", "turn a fit or compare run folder into tables and figures for a paper", runReport},
 		{"import", "turn a published free spectrum (samples matrix, density grid, summary table) into a data set", runImport},
+		{"calibrate", "check a model's inference by simulation-based calibration on simulated data sets", runCalibrate},
 	}
 }
 

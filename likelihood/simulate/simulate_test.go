@@ -238,3 +238,116 @@ func TestRunErrors(t *testing.T) {
 		}
 	}
 }
+
+// TestWhiteNoiseNormalisation checks the white-noise level of Run against
+// its closed form, computed here from the array rather than taken from
+// Array.NoiseVariance: a white noise of rms sigma per observation, one
+// observation every cadence, has one-sided PSD S_n = 2 sigma^2 cadence
+// (docs/physics.md section 19), so one Fourier amplitude has variance
+// sigma_n^2 = S_n / T = 2 sigma^2 cadence / T. Both places that use it are
+// checked: the posterior written per bin must have exactly the shape
+// ln p(x) = C - P ln v - Q/(2v) with v = 10^(2x) + sigma_n^2 (the closed
+// form's sigma_n^2), and the statistic Q recovered from that shape must be
+// (rho_true^2 + sigma_n^2) times a chi-squared variable with 2P degrees of
+// freedom (gonum distuv.ChiSquared).
+func TestWhiteNoiseNormalisation(t *testing.T) {
+	arr := Array{Pulsars: 5, Span: 10 * gw.JulianYear, Cadence: 7 * 86400, Sigma: 200e-9, Bins: 12}
+	sn2 := 2 * arr.Sigma * arr.Sigma * arr.Cadence / arr.Span
+	f := harmonics(arr)
+	noSignal := make([]float64, arr.Bins)
+	for i := range noSignal {
+		noSignal[i] = math.Inf(-1)
+	}
+	// A power law whose lowest bin is well above the noise (rho^2/sigma_n^2
+	// about 3000) and whose highest is below it (about 0.06), so that the
+	// sum rho^2 + sigma_n^2 is tested on both sides.
+	signal := powerLaw(f, -14.3, 13.0/3)
+	for _, tc := range []struct {
+		name string
+		lnO  []float64
+	}{
+		{"noise only", noSignal},
+		{"signal plus noise", signal},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			rho2 := make([]float64, arr.Bins)
+			for i := range rho2 {
+				rho2[i] = h0 * h0 * math.Exp(tc.lnO[i]) / (8 * math.Pow(math.Pi, 4) * math.Pow(f[i], 5) * arr.Span)
+			}
+			if tc.lnO[0] > math.Inf(-1) && !(rho2[0] > 1000*sn2 && rho2[arr.Bins-1] < 0.1*sn2) {
+				t.Fatalf("signal does not straddle the noise: rho^2/sigma_n^2 = %g .. %g", rho2[0]/sn2, rho2[arr.Bins-1]/sn2)
+			}
+			seeds := 150
+			if testing.Short() {
+				seeds = 40
+			}
+			var scaled []float64 // Q_i / (rho_i^2 + sigma_n^2)
+			worst := 0.0
+			for seed := range seeds {
+				ds, err := Run(tc.lnO, arr, h0, uint64(seed), GridOptions{})
+				if err != nil {
+					t.Fatal(err)
+				}
+				for i, b := range ds.Bins {
+					q, res := fitStatistic(b.Grid, b.Density, arr.Pulsars, sn2)
+					worst = math.Max(worst, res)
+					scaled = append(scaled, q/(rho2[i]+sn2))
+				}
+			}
+			// The grid densities are exp of the same expression evaluated in
+			// float64 and divided by one normalisation, so with the right
+			// sigma_n^2 the fit is exact to rounding of terms up to ~700 in
+			// size (1e-12 relative); 1e-8 leaves room and is still 1e8
+			// times smaller than the misfit a noise level off by even 1 %
+			// leaves (about Q/(2v) x 0.01, of order 0.05).
+			if worst > 1e-8 {
+				// The recovered Q means nothing then (it can be negative).
+				t.Fatalf("posterior shape does not follow sigma_n^2 = 2 sigma^2 cadence / T = %g s^2: worst residual %.3g in ln p", sn2, worst)
+			}
+			ref := distuv.ChiSquared{K: float64(2 * arr.Pulsars)}
+			if d := ks(scaled, ref.CDF); d > ksCritical001(len(scaled)) {
+				t.Errorf("Q/(rho^2 + sigma_n^2) over %d bins: KS distance %.4f to chi-squared(%d) exceeds %.4f",
+					len(scaled), d, 2*arr.Pulsars, ksCritical001(len(scaled)))
+			}
+			mean := 0.0
+			for _, s := range scaled {
+				mean += s / float64(len(scaled))
+			}
+			// The mean of n chi-squared(k) values has sd sqrt(2k/n); 5 sd.
+			if tol := 5 * math.Sqrt(ref.Variance()/float64(len(scaled))); math.Abs(mean-ref.Mean()) > tol {
+				t.Errorf("mean Q/(rho^2 + sigma_n^2) = %.4f, want %g +- %.4f", mean, ref.Mean(), tol)
+			}
+		})
+	}
+}
+
+// fitStatistic fits ln d(x) = C - P ln v(x) - Q/(2 v(x)), v = 10^(2x) + sn2,
+// to a grid posterior by linear least squares in (C, Q) over the points
+// whose density is representable, and returns Q and the largest absolute
+// residual in ln d.
+func fitStatistic(g, d []float64, pulsars int, sn2 float64) (q, worst float64) {
+	// Basis 1 and u = sn2/v (in (0, 1], well scaled); y = ln d + P ln v.
+	var n, su, suu, sy, suy float64
+	type pt struct{ u, y float64 }
+	var pts []pt
+	for k, x := range g {
+		if !(d[k] > 1e-250) {
+			continue
+		}
+		v := math.Pow(10, 2*x) + sn2
+		p := pt{u: sn2 / v, y: math.Log(d[k]) + float64(pulsars)*math.Log(v)}
+		pts = append(pts, p)
+		n++
+		su += p.u
+		suu += p.u * p.u
+		sy += p.y
+		suy += p.u * p.y
+	}
+	det := n*suu - su*su
+	b := (n*suy - su*sy) / det // slope in u: -Q/(2 sn2)
+	c := (sy - b*su) / n
+	for _, p := range pts {
+		worst = math.Max(worst, math.Abs(c+b*p.u-p.y))
+	}
+	return -2 * sn2 * b, worst
+}
