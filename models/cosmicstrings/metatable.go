@@ -33,11 +33,20 @@ const (
 
 var metaMagic = [8]byte{'T', 'L', 'S', 'M', 'E', 'T', 'A', '1'}
 
+// metaAxes returns the table's axes. The t_s axis ends on a node exactly at
+// log10 t0: for t_s >= t0 nothing decays before today and the spectrum is
+// the stable one, so the spectrum has a kink in t_s at t0 (its derivative
+// is non-zero just below and zero above). Rows beyond t0 would put that
+// kink inside interpolation stencils; with the last node at t0, the
+// stencils near the top use nodes at or below t0 only (the stencil start
+// is clamped at the end of the axis), and lnOmega clamps t_s to t0, where
+// the interpolation returns the top row, the stable spectrum, exactly.
 func metaAxes(lnT0 float64) []gridAxis {
 	yHi := lnT0 / math.Ln10
+	nY := uint32(math.Ceil((yHi-metaYLo)/metaYStep)) + 2 // one node below metaYLo
 	return []gridAxis{
 		{Lo: tableGLo - metaGStep, Step: metaGStep, N: uint32(math.Round((tableGHi-tableGLo)/metaGStep)) + 3},
-		{Lo: metaYLo - metaYStep, Step: metaYStep, N: uint32(math.Ceil((yHi-metaYLo)/metaYStep)) + 3},
+		{Lo: yHi - float64(nY-1)*metaYStep, Step: metaYStep, N: nY},
 		{Lo: metaVStep / 2, Step: metaVStep, N: uint32(math.Ceil(metaVMax / metaVStep))},
 	}
 }

@@ -188,3 +188,51 @@ func BenchmarkMetastableLnOmega30(b *testing.B) {
 	}
 	benchSpectrum(b, sp, []float64{-10, 8.2}, 0, -13, 0.1)
 }
+
+// TestMetastableTableNearToday probes the t_s axis where the spectrum has
+// its kink, t_s = t0 (just below it loops decay in the last moments, just
+// above nothing decays and the spectrum is the stable one): points with
+// t_s from 0.3 t0 to 3 t0 over the whole Gmu range agree with the direct
+// path within 0.01 in ln Omega (the certification limit), and for t_s >= t0
+// the table returns its top row, so the model equals itself at any larger
+// sqrt(kappa).
+func TestMetastableTableNearToday(t *testing.T) {
+	tab := loadMeta(t)
+	d, err := NewMetastableDirect(DefaultMetastableSettings())
+	if err != nil {
+		t.Fatal(err)
+	}
+	f := []float64{1e-10, 1e-9, 1e-8, 1e-7, 1e-6}
+	lnf := make([]float64, len(f))
+	for i := range f {
+		lnf[i] = math.Log(f[i])
+	}
+	out, got, far := make([]float64, len(f)), make([]float64, len(f)), make([]float64, len(f))
+	for _, lg := range []float64{-14, -13.9, -12.3, -10.1, -8.7, -6} {
+		gmu := math.Pow(10, lg)
+		for _, r := range []float64{0.3, 0.6, 0.9, 0.99, 1.01, 3} {
+			sk := sqrtKappaOf(gmu, tab.lnTHi+math.Log(r))
+			if err := d.Omega(f, gmu, sk, out); err != nil {
+				t.Fatal(err)
+			}
+			if err := tab.lnOmega(lg, sk, lnf, got); err != nil {
+				t.Fatal(err)
+			}
+			for j := range f {
+				if e := math.Abs(got[j] - math.Log(out[j])); !(e <= certMaxErr) {
+					t.Errorf("log10 Gmu=%g t_s=%g t0 f=%g: table %.5f, direct %.5f", lg, r, f[j], got[j], math.Log(out[j]))
+				}
+			}
+			if r > 1 {
+				if err := tab.lnOmega(lg, sk+3, lnf, far); err != nil {
+					t.Fatal(err)
+				}
+				for j := range f {
+					if far[j] != got[j] {
+						t.Errorf("log10 Gmu=%g f=%g: t_s = %g t0 gives %.8f, much later t_s %.8f; both are the stable spectrum", lg, f[j], r, got[j], far[j])
+					}
+				}
+			}
+		}
+	}
+}
