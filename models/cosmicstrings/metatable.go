@@ -5,7 +5,6 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
-	"slices"
 
 	"tautline/models/cosmology"
 )
@@ -54,33 +53,26 @@ func metaAxes(lnT0 float64) []gridAxis {
 // A MetastableTable holds the metastable spectrum on the grid above for
 // fixed MetastableSettings. It is immutable and safe for concurrent use.
 type MetastableTable struct {
+	gridTable
 	s            MetastableSettings
 	bg           *cosmology.Background
 	lnTLo, lnTHi float64
-	g            *grid
-	cert         GridCertificate
 }
 
 // Settings returns the settings the table was built or loaded for.
 func (t *MetastableTable) Settings() MetastableSettings { return t.s }
 
-// Certificate returns the table's certification record.
-func (t *MetastableTable) Certificate() GridCertificate { return t.cert }
-
 func newMetaTable(s MetastableSettings) (*MetastableTable, error) {
-	if err := s.Validate(); err != nil {
+	bg, err := newBackground(s, s.Cosmology)
+	if err != nil {
 		return nil, err
 	}
 	if s.CEff == CEffStep {
 		return nil, errStepTable
 	}
-	bg, err := cosmology.New(s.Cosmology)
-	if err != nil {
-		return nil, fmt.Errorf("strings: %w", err)
-	}
 	t := &MetastableTable{s: s, bg: bg}
 	t.lnTLo, t.lnTHi = bg.LnTimeRange()
-	t.g = newGrid(metaAxes(t.lnTHi)...)
+	t.gridTable = gridTable{magic: metaMagic, hash: s.Hash(), g: newGrid(metaAxes(t.lnTHi)...)}
 	return t, nil
 }
 
@@ -195,42 +187,13 @@ func (t *MetastableTable) certify(proto *MetastableDirect, opt BuildOptions) (Gr
 	}
 	freqs := make([][]float64, len(pts))
 	for i := range freqs {
-		f := make([]float64, certFreqsPerPoint)
-		for j := range f {
-			f[j] = certBandLo * math.Pow(certBandHi/certBandLo, rng.Float64())
-		}
-		slices.Sort(f)
-		freqs[i] = f
+		freqs[i] = bandFreqs(rng)
 	}
-	errs := make([]float64, len(pts)*certFreqsPerPoint)
-	err := parallel(opt.Workers, len(pts), proto.Clone, func(d *MetastableDirect, i int) error {
-		p := pts[i]
-		out := make([]float64, certFreqsPerPoint)
-		if err := d.Omega(freqs[i], math.Pow(10, p.lg), p.sk, out); err != nil {
-			return err
-		}
-		for j, f := range freqs[i] {
-			v, err := t.LnOmega(p.lg, p.sk, f)
-			if err != nil {
-				return err
-			}
-			e := math.Abs(v - math.Log(out[j]))
-			if math.IsInf(v, -1) && out[j] == 0 {
-				e = 0
-			}
-			errs[i*certFreqsPerPoint+j] = e
-		}
-		return nil
-	}, nil)
-	c := GridCertificate{BandLo: certBandLo, BandHi: certBandHi, Seed: opt.Seed}
-	if err != nil {
-		return c, err
-	}
-	err = certStats(&c, errs, func(i int) [3]float64 {
-		p := pts[i/certFreqsPerPoint]
-		return [3]float64{p.lg, p.sk, freqs[i/certFreqsPerPoint][i%certFreqsPerPoint]}
-	})
-	return c, err
+	return certifyAt(opt, proto.Clone, freqs, func(i int) [2]float64 { return [2]float64{pts[i].lg, pts[i].sk} },
+		func(d *MetastableDirect, i int, f, out []float64) error {
+			return d.Omega(f, math.Pow(10, pts[i].lg), pts[i].sk, out)
+		},
+		func(i int, f float64) (float64, error) { return t.LnOmega(pts[i].lg, pts[i].sk, f) })
 }
 
 // ErrOutsideMetastableTable is returned when log10 Gmu is outside
@@ -311,31 +274,15 @@ func (t *MetastableTable) lnOmega(lg, sk float64, lnf, out []float64) error {
 	return nil
 }
 
-// MarshalBinary encodes the table in its on-disk format.
-func (t *MetastableTable) MarshalBinary() ([]byte, error) {
-	return encodeGrid(metaMagic, t.s.Hash(), t.g, t.cert)
-}
-
 func decodeMetaTable(name string, b []byte, s MetastableSettings) (*MetastableTable, error) {
 	t, err := newMetaTable(s)
 	if err != nil {
 		return nil, err
 	}
-	g, c, err := decodeGrid(name, b, metaMagic, s.Hash(), t.g)
-	if err != nil {
+	if err := t.decode(name, b); err != nil {
 		return nil, err
 	}
-	t.g, t.cert = g, c
 	return t, nil
-}
-
-// WriteFile writes the table to path atomically.
-func (t *MetastableTable) WriteFile(path string) error {
-	b, err := t.MarshalBinary()
-	if err != nil {
-		return fmt.Errorf("strings: %s: %w", path, err)
-	}
-	return writeFileAtomic(path, b)
 }
 
 // MetastableCachePath returns where LoadMetastableTable caches the table.
