@@ -52,11 +52,19 @@ func (s MetastableSettings) Validate() error {
 const metastableVersion = 1
 
 // Hash identifies the settings and the version of the computation (hex
-// SHA-256 of their canonical form); metastable tables are keyed by it.
+// SHA-256 of their canonical form).
 func (s MetastableSettings) Hash() string {
 	c := fmt.Sprintf("tautline-metastable v%d;alpha=%s;P=%s;%s", metastableVersion, hexBits(s.Alpha), hexBits(s.P), s.Settings.canonical())
 	h := sha256.Sum256([]byte(c))
 	return hex.EncodeToString(h[:])
+}
+
+// TableHash identifies what a MetastableTable stores, ln Omega at P = 1:
+// Hash with Kappa and P set to 1, so that one table serves every P and
+// Kappa (the table adds -Kappa ln P).
+func (s MetastableSettings) TableHash() string {
+	s.Kappa, s.P = 1, 1
+	return s.Hash()
 }
 
 // String describes the settings for logs and reports.

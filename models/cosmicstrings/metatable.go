@@ -72,7 +72,7 @@ func newMetaTable(s MetastableSettings) (*MetastableTable, error) {
 	}
 	t := &MetastableTable{s: s, bg: bg}
 	t.lnTLo, t.lnTHi = bg.LnTimeRange()
-	t.gridTable = gridTable{magic: metaMagic, hash: s.Hash(), g: newGrid(metaAxes(t.lnTHi)...)}
+	t.gridTable = gridTable{magic: metaMagic, hash: s.TableHash(), g: newGrid(metaAxes(t.lnTHi)...)}
 	return t, nil
 }
 
@@ -102,10 +102,14 @@ func BuildMetastableTable(s MetastableSettings, opt BuildOptions) (*MetastableTa
 	if err != nil {
 		return nil, err
 	}
+	// The rows hold ln Omega at P = 1 (lnOmega adds -Kappa ln P), so they
+	// are computed with P = 1; certification uses s itself.
+	s1 := s
+	s1.P = 1
 	ax := t.g.axes
 	nrow, m := t.g.rows()
 	nY := int(ax[1].N)
-	err = parallel(opt.Workers, nrow, proto.Clone, func(d *MetastableDirect, r int) error {
+	err = parallel(opt.Workers, nrow, func() *MetastableDirect { return proto.n.metastable(s1) }, func(d *MetastableDirect, r int) error {
 		lg := ax[0].Lo + float64(r/nY)*ax[0].Step
 		lts := (ax[1].Lo + float64(r%nY)*ax[1].Step) * math.Ln10
 		lfs := t.lnCutoff(lts)
@@ -287,11 +291,11 @@ func decodeMetaTable(name string, b []byte, s MetastableSettings) (*MetastableTa
 
 // MetastableCachePath returns where LoadMetastableTable caches the table.
 func MetastableCachePath(s MetastableSettings, cacheDir string) (string, error) {
-	return cacheFile(cacheDir, "strings-metastable-"+s.Hash()[:16]+".tbl")
+	return cacheFile(cacheDir, "strings-metastable-"+s.TableHash()[:16]+".tbl")
 }
 
 // LoadMetastableTable returns the table for s: the compiled-in one for
-// DefaultMetastableSettings, else the cached file, else a freshly built and
+// DefaultMetastableSettings (any P and Kappa), else the cached file, else a freshly built and
 // certified one, which it caches (see LoadTable for the error rules).
 func LoadMetastableTable(s MetastableSettings, cacheDir string, opt BuildOptions) (*MetastableTable, error) {
 	if _, err := newMetaTable(s); err != nil {

@@ -236,3 +236,45 @@ func TestMetastableTableNearToday(t *testing.T) {
 		}
 	}
 }
+
+// TestMetastableTableFixedP: the table stores ln Omega at P = 1, so the
+// settings' fixed P and Kappa load the embedded table (no build) and enter
+// once, as -Kappa ln P; the result agrees with the direct path, which
+// applies P^-Kappa to the loop density (docs/physics.md section 3), within
+// the certification limit.
+func TestMetastableTableFixedP(t *testing.T) {
+	if len(embeddedMetaTable) == 0 {
+		t.Skip("no embedded metastable table")
+	}
+	s := DefaultMetastableSettings()
+	s.P, s.Kappa = 0.25, 0.6
+	if s.TableHash() != DefaultMetastableSettings().TableHash() {
+		t.Fatal("TableHash depends on P or Kappa")
+	}
+	tab, err := LoadMetastableTable(s, t.TempDir(), BuildOptions{
+		Progress: func(int, int) { t.Fatal("LoadMetastableTable builds a table for P = 0.25 instead of using the embedded one") },
+	})
+	if err != nil {
+		t.Fatal(err)
+	}
+	d, err := NewMetastableDirect(s)
+	if err != nil {
+		t.Fatal(err)
+	}
+	f := []float64{1e-9, 1e-8, 1e-7}
+	out := make([]float64, len(f))
+	for _, sk := range []float64{7.7, 8.3, 9} {
+		if err := d.Omega(f, 1e-9, sk, out); err != nil {
+			t.Fatal(err)
+		}
+		for i := range f {
+			v, err := tab.LnOmega(-9, sk, f[i])
+			if err != nil {
+				t.Fatal(err)
+			}
+			if e := math.Abs(v - math.Log(out[i])); !(e <= certMaxErr) {
+				t.Errorf("sqrt(kappa) = %g, f = %g: table %.5f, direct %.5f", sk, f[i], v, math.Log(out[i]))
+			}
+		}
+	}
+}
