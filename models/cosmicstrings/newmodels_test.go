@@ -252,7 +252,9 @@ func TestMetastableTableFixedP(t *testing.T) {
 		t.Fatal("TableHash depends on P or Kappa")
 	}
 	tab, err := LoadMetastableTable(s, t.TempDir(), BuildOptions{
-		Progress: func(int, int) { t.Fatal("LoadMetastableTable builds a table for P = 0.25 instead of using the embedded one") },
+		Progress: func(int, int) {
+			t.Fatal("LoadMetastableTable builds a table for P = 0.25 instead of using the embedded one")
+		},
 	})
 	if err != nil {
 		t.Fatal(err)
