@@ -29,7 +29,7 @@ func planckRadiation(t testing.TB) radiationOnly {
 	return radiationOnly{bg.H0SI(), bg.OmegaR()}
 }
 
-// plateau is PHYSICS.md section 3's radiation-era plateau,
+// plateau is docs/physics.md section 3's radiation-era plateau,
 // (128 pi/9) F C_r Omega_r (Gmu/eps) ((1+eps)^(3/2) - 1), eps = alpha/(Gamma Gmu).
 func plateau(s Settings, omegaR, gmu, alpha float64) float64 {
 	eps := alpha / (s.Gamma * gmu)

@@ -24,7 +24,7 @@ const (
 	tableGStep         = 0.2
 	tableAStep         = 0.2
 	tableLnFStep       = 0.1
-	// Certification band and threshold (the brief's requirement).
+	// Certification band and threshold (docs/physics.md section 11).
 	certBandLo, certBandHi = 1e-10, 1e-6
 	certMaxErr             = 0.01
 	certFreqsPerPoint      = 8
