@@ -210,7 +210,8 @@ func (t *MetastableTable) position(lg, sk float64) (y, lfs float64, none bool, e
 	if !(lg >= tableGLo && lg <= tableGHi && sk >= 0 && sk < math.Inf(1)) {
 		return 0, 0, false, ErrOutsideMetastableTable
 	}
-	lts := lnDecayTime(math.Pow(10, lg), sk)
+	// lnDecayTime with ln Gmu = lg ln 10 (no power of ten needed).
+	lts := 0.5*(math.Log(2*math.Pi)-lg*math.Ln10) + 0.5*math.Pi*sk*sk + math.Log(PlanckTime)
 	if lts <= t.lnTLo {
 		return 0, 0, true, nil
 	}
@@ -225,57 +226,97 @@ func (t *MetastableTable) LnOmega(log10Gmu, sqrtKappa, f float64) (float64, erro
 		return 0, frequencyError{f}
 	}
 	var out [1]float64
-	lf := [1]float64{math.Log(f)}
-	if err := t.lnOmega(log10Gmu, sqrtKappa, lf[:], out[:]); err != nil {
+	lf, inv := [1]float64{math.Log(f)}, [1]float64{1 / f}
+	if err := t.lnOmega(log10Gmu, sqrtKappa, lf[:], inv[:], out[:], make([]float64, t.g.axes[2].N)); err != nil {
 		return 0, err
 	}
 	return out[0], nil
 }
 
-// lnOmega writes ln Omega at ln f = lnf[i] into out; it does not
-// allocate.
-func (t *MetastableTable) lnOmega(lg, sk float64, lnf, out []float64) error {
+// lnOmega writes ln Omega at ln f = lnf[i] (1/f = invF[i]) into out,
+// using buf (one entry per node of the v axis) as scratch; it does not
+// allocate. It first combines the 16 (Gmu, t_s) rows of the stencil into
+// one row over the v nodes the frequencies need, then interpolates that
+// row in v at each frequency.
+func (t *MetastableTable) lnOmega(lg, sk float64, lnf, invF, out, buf []float64) error {
 	y, lfs, none, err := t.position(lg, sk)
 	if err != nil {
 		return err
 	}
 	shift := -t.s.Kappa * math.Log(t.s.P)
 	ax := t.g.axes
-	if none || y < metaYLo {
-		for i, l := range lnf {
-			if l-lfs > 0 && !none {
-				return ErrOutsideMetastableTable
+	vMin, vMax := math.Inf(1), math.Inf(-1)
+	for _, l := range lnf {
+		if v := l - lfs; v > 0 {
+			if v < vMin {
+				vMin = v
 			}
+			if v > vMax {
+				vMax = v
+			}
+		}
+	}
+	if none || y < metaYLo || !(vMax > 0) {
+		if !none && vMax > 0 {
+			return ErrOutsideMetastableTable
+		}
+		for i := range out[:len(lnf)] {
 			out[i] = math.Inf(-1)
 		}
 		return nil
 	}
 	ig, wg := ax[0].index(lg)
 	iy, wy := ax[1].index(y)
+	jLo, _ := ax[2].index(vMin)
+	jHi, _ := ax[2].index(vMax)
+	jHi += 4
 	nY, m := int(ax[1].N), int(ax[2].N)
-	var w [16]float64
-	var base [16]int
+	row := buf[jLo:jHi]
+	clear(row)
 	for a := range 4 {
 		for b := range 4 {
-			w[4*a+b] = wg[a] * wy[b]
-			base[4*a+b] = ((ig+a)*nY + iy + b) * m
+			w := wg[a] * wy[b]
+			base := ((ig+a)*nY+iy+b)*m + jLo
+			src := t.g.data[base : base+len(row)]
+			for j, d := range src {
+				row[j] += w * float64(d)
+			}
 		}
 	}
+	fs := math.Exp(lfs)
+	// The 4-point Lagrange weights of numeric.Lagrange4Weights, written
+	// out with a multiplication by 1/step.
+	v0, inv, last := ax[2].Lo, 1/ax[2].Step, m-4
 	for i, l := range lnf {
 		v := l - lfs
 		if !(v > 0) {
 			out[i] = math.Inf(-1)
 			continue
 		}
-		iv, wv := ax[2].index(v)
-		var s float64
-		for k := range 16 {
-			r := t.g.data[base[k]+iv : base[k]+iv+4]
-			s += w[k] * (wv[0]*float64(r[0]) + wv[1]*float64(r[1]) + wv[2]*float64(r[2]) + wv[3]*float64(r[3]))
+		x := (v - v0) * inv
+		iv := int(math.Floor(x)) - 1
+		if iv < 0 {
+			iv = 0
+		} else if iv > last {
+			iv = last
 		}
-		out[i] = s + edgeTerm(v) + shift
+		u := x - float64(iv)
+		r := buf[iv : iv+4 : iv+4]
+		u1, u2, u3 := u-1, u-2, u-3
+		lag := (-r[0]*u1*u2*u3+r[3]*u*u1*u2)/6 + (r[1]*u*u2*u3-r[2]*u*u1*u3)/2
+		out[i] = lag + log1mx(fs*invF[i]) + shift
 	}
 	return nil
+}
+
+// log1mx returns ln(1 - x) for 0 <= x < 1 (the edge term ln(1 - f_*/f) =
+// ln(1 - e^-v)): by its Taylor series -sum x^n/n to n = 8 below x = 0.05
+// (remainder below x^9/(9 (1 - x)) = 2.3e-13), else math.Log1p.
+func log1mx(x float64) float64 {
+	if x < 0.05 {
+		return -x * (1 + x*(1.0/2+x*(1.0/3+x*(1.0/4+x*(1.0/5+x*(1.0/6+x*(1.0/7+x*(1.0/8))))))))
+	}
+	return math.Log1p(-x)
 }
 
 func decodeMetaTable(name string, b []byte, s MetastableSettings) (*MetastableTable, error) {

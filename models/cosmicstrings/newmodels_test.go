@@ -203,9 +203,9 @@ func TestMetastableTableNearToday(t *testing.T) {
 		t.Fatal(err)
 	}
 	f := []float64{1e-10, 1e-9, 1e-8, 1e-7, 1e-6}
-	lnf := make([]float64, len(f))
-	for i := range f {
-		lnf[i] = math.Log(f[i])
+	sp, err := NewMetastableModel(tab).At(f)
+	if err != nil {
+		t.Fatal(err)
 	}
 	out, got, far := make([]float64, len(f)), make([]float64, len(f)), make([]float64, len(f))
 	for _, lg := range []float64{-14, -13.9, -12.3, -10.1, -8.7, -6} {
@@ -215,7 +215,7 @@ func TestMetastableTableNearToday(t *testing.T) {
 			if err := d.Omega(f, gmu, sk, out); err != nil {
 				t.Fatal(err)
 			}
-			if err := tab.lnOmega(lg, sk, lnf, got); err != nil {
+			if err := sp.LnOmega([]float64{lg, sk}, got); err != nil {
 				t.Fatal(err)
 			}
 			for j := range f {
@@ -224,7 +224,7 @@ func TestMetastableTableNearToday(t *testing.T) {
 				}
 			}
 			if r > 1 {
-				if err := tab.lnOmega(lg, sk+3, lnf, far); err != nil {
+				if err := sp.LnOmega([]float64{lg, sk + 3}, far); err != nil {
 					t.Fatal(err)
 				}
 				for j := range f {
