@@ -62,28 +62,15 @@ const bosVersion = 1
 // TableHash identifies what a BOS table stores (ln Omega at P = 1, so
 // Kappa is normalised to 1): the hex SHA-256 of the canonical settings.
 func (s BOSSettings) TableHash() string {
-	c := s.Cosmology
-	if c.DOF == "" {
-		c.DOF = cosmology.DOFStandardModel
-	}
-	g := func(v float64) string { return fmt.Sprintf("%x", math.Float64bits(v)) }
-	text := fmt.Sprintf("tautline-strings-bos v%d;q=%s;gamma=%s;modes=%d;H0=%s;Om=%s;T=%s;Neff=%s;dof=%s",
-		bosVersion, g(s.Q), g(s.Gamma), s.Modes, g(c.H0), g(c.OmegaM), g(c.TCMB), g(c.Neff), c.DOF)
+	text := fmt.Sprintf("tautline-strings-bos v%d;q=%s;gamma=%s;modes=%d;%s",
+		bosVersion, hexBits(s.Q), hexBits(s.Gamma), s.Modes, canonicalCosmology(s.Cosmology))
 	h := sha256.Sum256([]byte(text))
 	return hex.EncodeToString(h[:])
 }
 
 // String describes the settings for logs and reports.
 func (s BOSSettings) String() string {
-	n := "infinite"
-	if s.Modes > 0 {
-		n = fmt.Sprint(s.Modes)
-	}
-	dof := s.Cosmology.DOF
-	if dof == "" {
-		dof = cosmology.DOFStandardModel
-	}
-	return fmt.Sprintf("BOS loops: q=%.4g Gamma=%g kappa=%g modes=%s dof=%s", s.Q, s.Gamma, s.Kappa, n, dof)
+	return fmt.Sprintf("BOS loops: q=%.4g Gamma=%g kappa=%g modes=%s dof=%s", s.Q, s.Gamma, s.Kappa, modesText(s.Modes), dofName(s.Cosmology))
 }
 
 // A BOSDirect computes the spectrum of the loop distribution of
@@ -108,14 +95,7 @@ type BOSDirect struct {
 
 // NewBOSDirect builds the background for s.
 func NewBOSDirect(s BOSSettings) (*BOSDirect, error) {
-	if err := s.Validate(); err != nil {
-		return nil, err
-	}
-	bg, err := cosmology.New(s.Cosmology)
-	if err != nil {
-		return nil, fmt.Errorf("strings: %w", err)
-	}
-	return newBOSOn(s, bg)
+	return onBackground(s, s.Cosmology, newBOSOn)
 }
 
 func newBOSOn(s BOSSettings, bg expansion) (*BOSDirect, error) {

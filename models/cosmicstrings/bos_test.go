@@ -91,17 +91,7 @@ func bosOmegaKGonum(bg *cosmology.Background, s BOSSettings, k int, f, gmu float
 	gg := s.Gamma * gmu
 	kf := float64(k)
 	length := func(u float64) float64 { return 2 * kf / f * math.Exp(bg.LnA(u)) }
-	root := func(g func(float64) float64, a, b float64) float64 { // g increasing
-		for range 200 {
-			c := 0.5 * (a + b)
-			if g(c) < 0 {
-				a = c
-			} else {
-				b = c
-			}
-		}
-		return 0.5 * (a + b)
-	}
+	root := rootUp
 	pref := 8 * math.Pi / (3 * bg.H0SI() * bg.H0SI()) * gmu * gmu * s.Gamma * math.Pow(kf, -s.Q) / zeta(s.Q) * 2 * kf / f
 	rad := func(u float64) float64 {
 		t := math.Exp(u)

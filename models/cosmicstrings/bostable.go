@@ -4,7 +4,6 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
-	"slices"
 )
 
 // BOS table layout: nodes every 0.2 in log10 Gmu and 0.1 in ln f, one node
@@ -21,16 +20,16 @@ var (
 // BOSSettings; P enters exactly as -Kappa ln P. It is immutable and safe
 // for concurrent use.
 type BOSTable struct {
-	s    BOSSettings
-	g    *grid
-	cert GridCertificate
+	gridTable
+	s BOSSettings
+}
+
+func newBOSTable(s BOSSettings) *BOSTable {
+	return &BOSTable{s: s, gridTable: gridTable{magic: bosMagic, hash: s.TableHash(), g: newGrid(bosAxisG, bosAxisF)}}
 }
 
 // Settings returns the settings the table was built or loaded for.
 func (t *BOSTable) Settings() BOSSettings { return t.s }
-
-// Certificate returns the table's certification record.
-func (t *BOSTable) Certificate() GridCertificate { return t.cert }
 
 // Domain returns the ranges of log10 Gmu and of frequency the table covers.
 func (t *BOSTable) Domain() (log10GmuLo, log10GmuHi, fLo, fHi float64) {
@@ -47,7 +46,7 @@ func BuildBOSTable(s BOSSettings, opt BuildOptions) (*BOSTable, error) {
 	if err != nil {
 		return nil, err
 	}
-	t := &BOSTable{s: s, g: newGrid(bosAxisG, bosAxisF)}
+	t := newBOSTable(s)
 	nrow, m := t.g.rows()
 	fn := make([]float64, m)
 	for i := range fn {
@@ -92,36 +91,11 @@ func (t *BOSTable) certify(proto *BOSDirect, opt BuildOptions) (GridCertificate,
 	}
 	freqs := make([][]float64, len(lgs))
 	for i := range freqs {
-		f := make([]float64, certFreqsPerPoint)
-		for j := range f {
-			f[j] = certBandLo * math.Pow(certBandHi/certBandLo, rng.Float64())
-		}
-		slices.Sort(f)
-		freqs[i] = f
+		freqs[i] = bandFreqs(rng)
 	}
-	errs := make([]float64, len(lgs)*certFreqsPerPoint)
-	err := parallel(opt.Workers, len(lgs), proto.Clone, func(d *BOSDirect, i int) error {
-		out := make([]float64, certFreqsPerPoint)
-		if err := d.Omega(freqs[i], math.Pow(10, lgs[i]), 1, out); err != nil {
-			return err
-		}
-		for j, f := range freqs[i] {
-			v, err := t.LnOmega(lgs[i], 0, f)
-			if err != nil {
-				return err
-			}
-			errs[i*certFreqsPerPoint+j] = math.Abs(v - math.Log(out[j]))
-		}
-		return nil
-	}, nil)
-	c := GridCertificate{BandLo: certBandLo, BandHi: certBandHi, Seed: opt.Seed}
-	if err != nil {
-		return c, err
-	}
-	err = certStats(&c, errs, func(i int) [3]float64 {
-		return [3]float64{lgs[i/certFreqsPerPoint], 0, freqs[i/certFreqsPerPoint][i%certFreqsPerPoint]}
-	})
-	return c, err
+	return certifyAt(opt, proto.Clone, freqs, func(i int) [2]float64 { return [2]float64{lgs[i], 0} },
+		func(d *BOSDirect, i int, f, out []float64) error { return d.Omega(f, math.Pow(10, lgs[i]), 1, out) },
+		func(i int, f float64) (float64, error) { return t.LnOmega(lgs[i], 0, f) })
 }
 
 // LnOmega interpolates ln Omega_GW at one point; BOSModel uses a faster
@@ -144,26 +118,12 @@ func (t *BOSTable) LnOmega(log10Gmu, log10P, f float64) (float64, error) {
 	return v - t.s.Kappa*math.Ln10*log10P, nil
 }
 
-// MarshalBinary encodes the table in its on-disk format.
-func (t *BOSTable) MarshalBinary() ([]byte, error) {
-	return encodeGrid(bosMagic, t.s.TableHash(), t.g, t.cert)
-}
-
 func decodeBOSTable(name string, b []byte, s BOSSettings) (*BOSTable, error) {
-	g, c, err := decodeGrid(name, b, bosMagic, s.TableHash(), newGrid(bosAxisG, bosAxisF))
-	if err != nil {
+	t := newBOSTable(s)
+	if err := t.decode(name, b); err != nil {
 		return nil, err
 	}
-	return &BOSTable{s: s, g: g, cert: c}, nil
-}
-
-// WriteFile writes the table to path atomically.
-func (t *BOSTable) WriteFile(path string) error {
-	b, err := t.MarshalBinary()
-	if err != nil {
-		return fmt.Errorf("strings: %s: %w", path, err)
-	}
-	return writeFileAtomic(path, b)
+	return t, nil
 }
 
 // BOSCachePath returns where LoadBOSTable caches the table for s.

@@ -77,7 +77,7 @@ func (n *network) cEff(lnti float64) float64 {
 	return numeric.Lagrange4(n.cTab, (lnti-n.lnTLo)/vosStep)
 }
 
-// A Direct computes Omega_GW(f) by quadrature, following PHYSICS.md
+// A Direct computes Omega_GW(f) by quadrature, following docs/physics.md
 // section 3:
 //
 //	Omega^(k)(f) = (8 pi / (3 H0^2)) (Gmu)^2 (2k/f) F Gamma_k / (alpha (alpha + Gamma Gmu))

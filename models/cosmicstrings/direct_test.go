@@ -21,7 +21,7 @@ var plateauPairs = []struct{ gmu, eps float64 }{
 
 // TestPlateau compares the high-frequency spectrum in a radiation-only
 // background (a = (2 H0 sqrt(Omega_r) t)^(1/2)) with constant C_eff = 5.4 and
-// constant degrees of freedom against PHYSICS.md section 3's closed form
+// constant degrees of freedom against docs/physics.md section 3's closed form
 // (128 pi/9) F C_r Omega_r (Gmu/eps) ((1+eps)^(3/2) - 1).
 func TestPlateau(t *testing.T) {
 	r := planckRadiation(t)
@@ -35,7 +35,7 @@ func TestPlateau(t *testing.T) {
 		}
 		// With N modes the plateau is reduced by the missing tail
 		// sum_{k>N} k^-q / zeta(q) = N^(1-q)/((q-1) zeta(q)) (1 + O(1/N)),
-		// PHYSICS.md section 3.
+		// docs/physics.md section 3.
 		tail := 0.0
 		if modes > 0 {
 			tail = math.Pow(float64(modes), 1-s.Q) / ((s.Q - 1) * zeta(s.Q))
@@ -48,7 +48,7 @@ func TestPlateau(t *testing.T) {
 				t.Fatal(err)
 			}
 			want := plateau(s, r.omegaR, p.gmu, alpha) * (1 - tail)
-			// 0.5 % (the brief's target). The residual finite-age deficit
+			// 0.5 % (docs/physics.md section 3). The residual finite-age deficit
 			// (modes with f/k near the cutoff 2/(alpha t0)) falls as
 			// (f alpha t0)^(-1/3) and is below 1e-3 at 1 kHz for these pairs.
 			if rel := math.Abs(out[0]/want - 1); rel > 0.005 {
@@ -60,7 +60,7 @@ func TestPlateau(t *testing.T) {
 	}
 }
 
-// TestZetaAndGammaSum checks zeta(q) against PHYSICS.md's values (zeta(4/3) =
+// TestZetaAndGammaSum checks zeta(q) against docs/physics.md's values (zeta(4/3) =
 // 3.60094, zeta(5/3) = 2.12352 to the 6 digits quoted, zeta(2) = pi^2/6
 // exactly) and that sum_k Gamma_k = Gamma, the sum done by brute force to
 // 1e6 terms plus the integral tail M^(1-q)/(q-1) - M^(-q)/2.
@@ -92,7 +92,7 @@ func TestZetaAndGammaSum(t *testing.T) {
 }
 
 // omegaKGonum integrates Omega^(k)(f) independently with gonum's fixed
-// Gauss-Legendre rule in ln t, writing the formula of PHYSICS.md section 3
+// Gauss-Legendre rule in ln t, writing the formula of docs/physics.md section 3
 // afresh (harmonic k explicitly, no mode identity).
 func omegaKGonum(bg *cosmology.Background, s Settings, c func(lnti float64) float64, k int, f, gmu, alpha float64, n int) float64 {
 	lo, hi := bg.LnTimeRange()
@@ -243,7 +243,7 @@ func TestModeSumConvergence(t *testing.T) {
 	}
 }
 
-// TestReconnectionScaling: Omega propto P^(-kappa) (PHYSICS.md section 3).
+// TestReconnectionScaling: Omega propto P^(-kappa) (docs/physics.md section 3).
 func TestReconnectionScaling(t *testing.T) {
 	for _, kappa := range []float64{1, 0.6} {
 		s := DefaultSettings()
@@ -272,7 +272,7 @@ func TestReconnectionScaling(t *testing.T) {
 // TestPhysicalShape: for Gmu = 1e-10, alpha = 0.1, P = 1 the spectrum rises
 // below the nHz band and flattens towards the plateau at high frequency, and
 // standard-model degrees of freedom lower the high-frequency plateau by
-// about Gdof = 0.39 relative to constant ones (PHYSICS.md section 3).
+// about Gdof = 0.39 relative to constant ones (docs/physics.md section 3).
 func TestPhysicalShape(t *testing.T) {
 	sm, err := NewDirect(DefaultSettings())
 	if err != nil {

@@ -1,5 +1,5 @@
 // Package cosmicstrings computes the stochastic gravitational-wave background of
-// a cosmic-string loop network in the one-scale model (PHYSICS.md section
+// a cosmic-string loop network in the one-scale model (docs/physics.md section
 // 3; the published form of Cui, Lewicki, Morrissey & Wells 2018-2019 and
 // Sousa, Avelino & Guedes 2020), with the loop-production coefficient C_eff
 // from the velocity-dependent one-scale equations (Martins & Shellard 1996,
@@ -57,7 +57,47 @@
 // in At, so LnOmega costs 16 multiply-adds per frequency and allocates
 // nothing.
 //
+// # Metastable strings
+//
+// MetastableDirect and MetastableTable (parameters log10_Gmu and
+// sqrt_kappa_m, model "strings-metastable"; docs/physics.md section 21)
+// follow the one-scale loops until the network breaks up at
+//
+//	t_s = Gamma_d^(-1/2) = sqrt(2 pi/Gmu) exp(pi kappa/2) t_Planck,
+//	Gamma_d = (mu/(2 pi)) exp(-pi kappa),
+//
+// the monopole-pair nucleation rate per unit length of Leblond, Shlaer &
+// Siemens 2009, as used by Buchmueller, Domcke & Schmitz 2021 (both from
+// memory). No loop is born after t_s, and each one alive then survives
+// with probability exp(-Gamma_d [l (t - t_s) + (1/2) Gamma Gmu (t - t_s)^2]).
+// The spectrum vanishes below f_* = 2 a(t_s)/(alpha t_s), rises as f^2
+// (in radiation, zeta(q+2) (8 pi^(3/2)/9) Gmu^2 F Gamma_1 C_r alpha^(1/2)
+// sqrt(Omega_r) t_s f^2/H0, derived from these equations and tested), and is
+// the stable spectrum when t_s is after today. alpha and P are fixed
+// settings. The table is gridded in log10 Gmu, log10 t_s (ending on a node
+// at today's age, where the spectrum has a kink in t_s) and ln(f/f_*),
+// stores ln Omega - ln(1 - f_*/f) at P = 1, and is certified to 0.0074 in
+// ln Omega (metatable.bin, 1.0 MB).
+//
+// # Simulation-calibrated loops
+//
+// BOSDirect and BOSTable (parameters log10_Gmu and log10_P, model
+// "strings-bos"; docs/physics.md section 22) use the loop number density of
+// Blanco-Pillado, Olum & Shlaer 2014 (coefficients from memory), with
+// x = l + Gamma Gmu t,
+//
+//	n_r = 0.18 t^(-3/2) x^(-5/2)              (radiation era, l <= 0.1 t),
+//	n_m = (0.27 - 0.45 (l/t)^0.31) t^-2 x^-2  (matter era, l <= 0.18 t),
+//
+// the radiation-era loops carried into the matter era by dilution as a^-3.
+// It has no alpha and no F. Its table (bostable.bin, 25 kB) is bicubic in
+// (log10 Gmu, ln f) and certified to 0.0028.
+//
+// Both share with the one-scale model the mode sum (modesum.go), the
+// quadrature of a loop population (loops.go), the grid storage, file
+// format, certification and cache loading (grid.go).
+//
 // units.go converts Gmu to the mass per length, the symmetry-breaking scale,
-// the deficit angle and the largest lensing image separation (PHYSICS.md
+// the deficit angle and the largest lensing image separation (docs/physics.md
 // section 9).
 package cosmicstrings

@@ -7,6 +7,7 @@ import (
 	"fmt"
 	"hash/crc32"
 	"math"
+	"math/rand/v2"
 	"os"
 	"path/filepath"
 	"slices"
@@ -51,6 +52,46 @@ func (g *grid) rows() (n, m int) {
 	return len(g.data) / m, m
 }
 
+// A gridTable is what the BOS and metastable tables share: the grid, the
+// file magic, the hash of the settings it was built for and its
+// certificate; their exported types embed it.
+type gridTable struct {
+	magic [8]byte
+	hash  string
+	g     *grid
+	cert  GridCertificate
+}
+
+// Certificate returns the table's certification record.
+func (t *gridTable) Certificate() GridCertificate { return t.cert }
+
+// MarshalBinary encodes the table in its on-disk format.
+func (t *gridTable) MarshalBinary() ([]byte, error) {
+	return encodeGrid(t.magic, t.hash, t.g, t.cert)
+}
+
+// WriteFile writes the table to path atomically, creating its folder if
+// needed.
+func (t *gridTable) WriteFile(path string) error {
+	b, err := t.MarshalBinary()
+	if err != nil {
+		return fmt.Errorf("strings: %s: %w", path, err)
+	}
+	return writeFileAtomic(path, b)
+}
+
+// decode replaces t's grid and certificate by those encoded in b, which
+// must carry t's magic and hash and the layout of t's grid; name labels
+// errors.
+func (t *gridTable) decode(name string, b []byte) error {
+	g, c, err := decodeGrid(name, b, t.magic, t.hash, t.g)
+	if err != nil {
+		return err
+	}
+	t.g, t.cert = g, c
+	return nil
+}
+
 // GridCertificate records how well a BOS or metastable table reproduces
 // its direct path: the maximum and 99th-percentile absolute error of
 // ln Omega over Points comparisons at random parameters inside the table's
@@ -80,21 +121,78 @@ func certStats(c *GridCertificate, errs []float64, where func(i int) [3]float64)
 	if len(errs) == 0 {
 		return fmt.Errorf("%w: no points", ErrCertification)
 	}
-	worst := 0
+	var worst int
+	c.MaxErr, c.P99Err, worst = errorStats(errs)
+	c.Worst = where(worst)
+	if !(c.MaxErr <= certMaxErr) {
+		return fmt.Errorf("%w: %v", ErrCertification, c)
+	}
+	return nil
+}
+
+// errorStats returns the largest of errs (NaN counting as largest), its
+// index and the 99th percentile (the smallest value at or above 99 % of
+// errs); errs must not be empty.
+func errorStats(errs []float64) (maxErr, p99 float64, worst int) {
 	for i, e := range errs {
 		if !(e <= errs[worst]) {
 			worst = i
 		}
 	}
-	c.MaxErr = errs[worst]
-	c.Worst = where(worst)
 	sorted := slices.Clone(errs)
 	slices.Sort(sorted)
-	c.P99Err = sorted[int(math.Ceil(0.99*float64(len(sorted))))-1]
-	if !(c.MaxErr <= certMaxErr) {
-		return fmt.Errorf("%w: %v", ErrCertification, c)
+	return errs[worst], sorted[int(math.Ceil(0.99*float64(len(sorted))))-1], worst
+}
+
+// bandFreqs returns certFreqsPerPoint frequencies drawn log-uniformly in
+// the certification band, sorted.
+func bandFreqs(rng *rand.Rand) []float64 {
+	f := make([]float64, certFreqsPerPoint)
+	for j := range f {
+		f[j] = certBandLo * math.Pow(certBandHi/certBandLo, rng.Float64())
 	}
-	return nil
+	slices.Sort(f)
+	return f
+}
+
+// certifyAt certifies a BOS or metastable table against its direct path:
+// at each point i (parameters params(i)) and each of its frequencies
+// freqs[i] (certFreqsPerPoint of them) the error is
+// |ln Omega_table - ln Omega_direct|, 0 where both vanish (direct 0, table
+// -Inf); direct evaluates Omega at point i on a worker's own evaluator from
+// newWorker, and table gives ln Omega. The statistics and the failure rule
+// are those of certStats.
+func certifyAt[W any](opt BuildOptions, newWorker func() W, freqs [][]float64, params func(i int) [2]float64,
+	direct func(w W, i int, f, out []float64) error, table func(i int, f float64) (float64, error)) (GridCertificate, error) {
+	errs := make([]float64, len(freqs)*certFreqsPerPoint)
+	err := parallel(opt.Workers, len(freqs), newWorker, func(w W, i int) error {
+		out := make([]float64, certFreqsPerPoint)
+		if err := direct(w, i, freqs[i], out); err != nil {
+			return err
+		}
+		for j, f := range freqs[i] {
+			v, err := table(i, f)
+			if err != nil {
+				return err
+			}
+			e := math.Abs(v - math.Log(out[j]))
+			if math.IsInf(v, -1) && out[j] == 0 {
+				e = 0
+			}
+			errs[i*certFreqsPerPoint+j] = e
+		}
+		return nil
+	}, nil)
+	c := GridCertificate{BandLo: certBandLo, BandHi: certBandHi, Seed: opt.Seed}
+	if err != nil {
+		return c, err
+	}
+	err = certStats(&c, errs, func(k int) [3]float64 {
+		i := k / certFreqsPerPoint
+		p := params(i)
+		return [3]float64{p[0], p[1], freqs[i][k%certFreqsPerPoint]}
+	})
+	return c, err
 }
 
 // parallel runs job(w, i) for i in [0, n) on workers goroutines, w being

@@ -29,9 +29,23 @@ func planckRadiation(t testing.TB) radiationOnly {
 	return radiationOnly{bg.H0SI(), bg.OmegaR()}
 }
 
-// plateau is PHYSICS.md section 3's radiation-era plateau,
+// plateau is docs/physics.md section 3's radiation-era plateau,
 // (128 pi/9) F C_r Omega_r (Gmu/eps) ((1+eps)^(3/2) - 1), eps = alpha/(Gamma Gmu).
 func plateau(s Settings, omegaR, gmu, alpha float64) float64 {
 	eps := alpha / (s.Gamma * gmu)
 	return 128 * math.Pi / 9 * s.F * CEffRadiation * omegaR * gmu / eps * (math.Pow(1+eps, 1.5) - 1)
+}
+
+// rootUp returns the zero of the increasing function g in [a, b] by 200
+// bisections, independently of the code's own root finder.
+func rootUp(g func(float64) float64, a, b float64) float64 {
+	for range 200 {
+		c := 0.5 * (a + b)
+		if g(c) < 0 {
+			a = c
+		} else {
+			b = c
+		}
+	}
+	return 0.5 * (a + b)
 }

@@ -52,12 +52,19 @@ func (s MetastableSettings) Validate() error {
 const metastableVersion = 1
 
 // Hash identifies the settings and the version of the computation (hex
-// SHA-256 of their canonical form); metastable tables are keyed by it.
+// SHA-256 of their canonical form).
 func (s MetastableSettings) Hash() string {
-	g := func(v float64) string { return fmt.Sprintf("%x", math.Float64bits(v)) }
-	c := fmt.Sprintf("tautline-metastable v%d;alpha=%s;P=%s;%s", metastableVersion, g(s.Alpha), g(s.P), s.Settings.canonical())
+	c := fmt.Sprintf("tautline-metastable v%d;alpha=%s;P=%s;%s", metastableVersion, hexBits(s.Alpha), hexBits(s.P), s.Settings.canonical())
 	h := sha256.Sum256([]byte(c))
 	return hex.EncodeToString(h[:])
+}
+
+// TableHash identifies what a MetastableTable stores, ln Omega at P = 1:
+// Hash with Kappa and P set to 1, so that one table serves every P and
+// Kappa (the table adds -Kappa ln P).
+func (s MetastableSettings) TableHash() string {
+	s.Kappa, s.P = 1, 1
+	return s.Hash()
 }
 
 // String describes the settings for logs and reports.
@@ -100,14 +107,29 @@ type MetastableDirect struct {
 
 // NewMetastableDirect builds the background and the C_eff table for s.
 func NewMetastableDirect(s MetastableSettings) (*MetastableDirect, error) {
+	return onBackground(s, s.Cosmology, newMetastableOn)
+}
+
+// onBackground checks s, builds the background c and returns on(s, bg).
+func onBackground[S interface{ Validate() error }, T any](s S, c cosmology.Params, on func(S, expansion) (T, error)) (T, error) {
+	bg, err := newBackground(s, c)
+	if err != nil {
+		var zero T
+		return zero, err
+	}
+	return on(s, bg)
+}
+
+// newBackground checks s and builds the background c for it.
+func newBackground(s interface{ Validate() error }, c cosmology.Params) (*cosmology.Background, error) {
 	if err := s.Validate(); err != nil {
 		return nil, err
 	}
-	bg, err := cosmology.New(s.Cosmology)
+	bg, err := cosmology.New(c)
 	if err != nil {
 		return nil, fmt.Errorf("strings: %w", err)
 	}
-	return newMetastableOn(s, bg)
+	return bg, nil
 }
 
 func newMetastableOn(s MetastableSettings, bg expansion) (*MetastableDirect, error) {

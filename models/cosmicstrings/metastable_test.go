@@ -162,17 +162,7 @@ func metaOmegaKGonum(bg *cosmology.Background, n *network, s MetastableSettings,
 	gd := 1 / (ts * ts)
 	length := func(u float64) float64 { return 2 * kf / f * math.Exp(bg.LnA(u)) }
 	birth := func(u float64) float64 { return (length(u) + gg*math.Exp(u)) / (s.Alpha + gg) }
-	root := func(g func(float64) float64, a, b float64) float64 { // g increasing
-		for range 200 {
-			c := 0.5 * (a + b)
-			if g(c) < 0 {
-				a = c
-			} else {
-				b = c
-			}
-		}
-		return 0.5 * (a + b)
-	}
+	root := rootUp
 	// t_b <= t, t_b <= t_s, survival factor above e^-60
 	u0 := root(func(u float64) float64 { return u - math.Log(birth(u)) }, lo, hi)
 	u1 := math.Min(hi, root(func(u float64) float64 { return math.Log(birth(u)) - math.Log(ts) }, lo, hi))

@@ -5,7 +5,6 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
-	"slices"
 
 	"tautline/models/cosmology"
 )
@@ -33,11 +32,20 @@ const (
 
 var metaMagic = [8]byte{'T', 'L', 'S', 'M', 'E', 'T', 'A', '1'}
 
+// metaAxes returns the table's axes. The t_s axis ends on a node exactly at
+// log10 t0: for t_s >= t0 nothing decays before today and the spectrum is
+// the stable one, so the spectrum has a kink in t_s at t0 (its derivative
+// is non-zero just below and zero above). Rows beyond t0 would put that
+// kink inside interpolation stencils; with the last node at t0, the
+// stencils near the top use nodes at or below t0 only (the stencil start
+// is clamped at the end of the axis), and lnOmega clamps t_s to t0, where
+// the interpolation returns the top row, the stable spectrum, exactly.
 func metaAxes(lnT0 float64) []gridAxis {
 	yHi := lnT0 / math.Ln10
+	nY := uint32(math.Ceil((yHi-metaYLo)/metaYStep)) + 2 // one node below metaYLo
 	return []gridAxis{
 		{Lo: tableGLo - metaGStep, Step: metaGStep, N: uint32(math.Round((tableGHi-tableGLo)/metaGStep)) + 3},
-		{Lo: metaYLo - metaYStep, Step: metaYStep, N: uint32(math.Ceil((yHi-metaYLo)/metaYStep)) + 3},
+		{Lo: yHi - float64(nY-1)*metaYStep, Step: metaYStep, N: nY},
 		{Lo: metaVStep / 2, Step: metaVStep, N: uint32(math.Ceil(metaVMax / metaVStep))},
 	}
 }
@@ -45,33 +53,26 @@ func metaAxes(lnT0 float64) []gridAxis {
 // A MetastableTable holds the metastable spectrum on the grid above for
 // fixed MetastableSettings. It is immutable and safe for concurrent use.
 type MetastableTable struct {
+	gridTable
 	s            MetastableSettings
 	bg           *cosmology.Background
 	lnTLo, lnTHi float64
-	g            *grid
-	cert         GridCertificate
 }
 
 // Settings returns the settings the table was built or loaded for.
 func (t *MetastableTable) Settings() MetastableSettings { return t.s }
 
-// Certificate returns the table's certification record.
-func (t *MetastableTable) Certificate() GridCertificate { return t.cert }
-
 func newMetaTable(s MetastableSettings) (*MetastableTable, error) {
-	if err := s.Validate(); err != nil {
+	bg, err := newBackground(s, s.Cosmology)
+	if err != nil {
 		return nil, err
 	}
 	if s.CEff == CEffStep {
 		return nil, errStepTable
 	}
-	bg, err := cosmology.New(s.Cosmology)
-	if err != nil {
-		return nil, fmt.Errorf("strings: %w", err)
-	}
 	t := &MetastableTable{s: s, bg: bg}
 	t.lnTLo, t.lnTHi = bg.LnTimeRange()
-	t.g = newGrid(metaAxes(t.lnTHi)...)
+	t.gridTable = gridTable{magic: metaMagic, hash: s.TableHash(), g: newGrid(metaAxes(t.lnTHi)...)}
 	return t, nil
 }
 
@@ -101,10 +102,14 @@ func BuildMetastableTable(s MetastableSettings, opt BuildOptions) (*MetastableTa
 	if err != nil {
 		return nil, err
 	}
+	// The rows hold ln Omega at P = 1 (lnOmega adds -Kappa ln P), so they
+	// are computed with P = 1; certification uses s itself.
+	s1 := s
+	s1.P = 1
 	ax := t.g.axes
 	nrow, m := t.g.rows()
 	nY := int(ax[1].N)
-	err = parallel(opt.Workers, nrow, proto.Clone, func(d *MetastableDirect, r int) error {
+	err = parallel(opt.Workers, nrow, func() *MetastableDirect { return proto.n.metastable(s1) }, func(d *MetastableDirect, r int) error {
 		lg := ax[0].Lo + float64(r/nY)*ax[0].Step
 		lts := (ax[1].Lo + float64(r%nY)*ax[1].Step) * math.Ln10
 		lfs := t.lnCutoff(lts)
@@ -186,42 +191,13 @@ func (t *MetastableTable) certify(proto *MetastableDirect, opt BuildOptions) (Gr
 	}
 	freqs := make([][]float64, len(pts))
 	for i := range freqs {
-		f := make([]float64, certFreqsPerPoint)
-		for j := range f {
-			f[j] = certBandLo * math.Pow(certBandHi/certBandLo, rng.Float64())
-		}
-		slices.Sort(f)
-		freqs[i] = f
+		freqs[i] = bandFreqs(rng)
 	}
-	errs := make([]float64, len(pts)*certFreqsPerPoint)
-	err := parallel(opt.Workers, len(pts), proto.Clone, func(d *MetastableDirect, i int) error {
-		p := pts[i]
-		out := make([]float64, certFreqsPerPoint)
-		if err := d.Omega(freqs[i], math.Pow(10, p.lg), p.sk, out); err != nil {
-			return err
-		}
-		for j, f := range freqs[i] {
-			v, err := t.LnOmega(p.lg, p.sk, f)
-			if err != nil {
-				return err
-			}
-			e := math.Abs(v - math.Log(out[j]))
-			if math.IsInf(v, -1) && out[j] == 0 {
-				e = 0
-			}
-			errs[i*certFreqsPerPoint+j] = e
-		}
-		return nil
-	}, nil)
-	c := GridCertificate{BandLo: certBandLo, BandHi: certBandHi, Seed: opt.Seed}
-	if err != nil {
-		return c, err
-	}
-	err = certStats(&c, errs, func(i int) [3]float64 {
-		p := pts[i/certFreqsPerPoint]
-		return [3]float64{p.lg, p.sk, freqs[i/certFreqsPerPoint][i%certFreqsPerPoint]}
-	})
-	return c, err
+	return certifyAt(opt, proto.Clone, freqs, func(i int) [2]float64 { return [2]float64{pts[i].lg, pts[i].sk} },
+		func(d *MetastableDirect, i int, f, out []float64) error {
+			return d.Omega(f, math.Pow(10, pts[i].lg), pts[i].sk, out)
+		},
+		func(i int, f float64) (float64, error) { return t.LnOmega(pts[i].lg, pts[i].sk, f) })
 }
 
 // ErrOutsideMetastableTable is returned when log10 Gmu is outside
@@ -234,7 +210,8 @@ func (t *MetastableTable) position(lg, sk float64) (y, lfs float64, none bool, e
 	if !(lg >= tableGLo && lg <= tableGHi && sk >= 0 && sk < math.Inf(1)) {
 		return 0, 0, false, ErrOutsideMetastableTable
 	}
-	lts := lnDecayTime(math.Pow(10, lg), sk)
+	// lnDecayTime with ln Gmu = lg ln 10 (no power of ten needed).
+	lts := 0.5*(math.Log(2*math.Pi)-lg*math.Ln10) + 0.5*math.Pi*sk*sk + math.Log(PlanckTime)
 	if lts <= t.lnTLo {
 		return 0, 0, true, nil
 	}
@@ -249,62 +226,97 @@ func (t *MetastableTable) LnOmega(log10Gmu, sqrtKappa, f float64) (float64, erro
 		return 0, frequencyError{f}
 	}
 	var out [1]float64
-	lf := [1]float64{math.Log(f)}
-	if err := t.lnOmega(log10Gmu, sqrtKappa, lf[:], out[:]); err != nil {
+	lf, inv := [1]float64{math.Log(f)}, [1]float64{1 / f}
+	if err := t.lnOmega(log10Gmu, sqrtKappa, lf[:], inv[:], out[:], make([]float64, t.g.axes[2].N)); err != nil {
 		return 0, err
 	}
 	return out[0], nil
 }
 
-// lnOmega writes ln Omega at ln f = lnf[i] into out; it does not
-// allocate.
-func (t *MetastableTable) lnOmega(lg, sk float64, lnf, out []float64) error {
+// lnOmega writes ln Omega at ln f = lnf[i] (1/f = invF[i]) into out,
+// using buf (one entry per node of the v axis) as scratch; it does not
+// allocate. It first combines the 16 (Gmu, t_s) rows of the stencil into
+// one row over the v nodes the frequencies need, then interpolates that
+// row in v at each frequency.
+func (t *MetastableTable) lnOmega(lg, sk float64, lnf, invF, out, buf []float64) error {
 	y, lfs, none, err := t.position(lg, sk)
 	if err != nil {
 		return err
 	}
 	shift := -t.s.Kappa * math.Log(t.s.P)
 	ax := t.g.axes
-	if none || y < metaYLo {
-		for i, l := range lnf {
-			if l-lfs > 0 && !none {
-				return ErrOutsideMetastableTable
+	vMin, vMax := math.Inf(1), math.Inf(-1)
+	for _, l := range lnf {
+		if v := l - lfs; v > 0 {
+			if v < vMin {
+				vMin = v
 			}
+			if v > vMax {
+				vMax = v
+			}
+		}
+	}
+	if none || y < metaYLo || !(vMax > 0) {
+		if !none && vMax > 0 {
+			return ErrOutsideMetastableTable
+		}
+		for i := range out[:len(lnf)] {
 			out[i] = math.Inf(-1)
 		}
 		return nil
 	}
 	ig, wg := ax[0].index(lg)
 	iy, wy := ax[1].index(y)
+	jLo, _ := ax[2].index(vMin)
+	jHi, _ := ax[2].index(vMax)
+	jHi += 4
 	nY, m := int(ax[1].N), int(ax[2].N)
-	var w [16]float64
-	var base [16]int
+	row := buf[jLo:jHi]
+	clear(row)
 	for a := range 4 {
 		for b := range 4 {
-			w[4*a+b] = wg[a] * wy[b]
-			base[4*a+b] = ((ig+a)*nY + iy + b) * m
+			w := wg[a] * wy[b]
+			base := ((ig+a)*nY+iy+b)*m + jLo
+			src := t.g.data[base : base+len(row)]
+			for j, d := range src {
+				row[j] += w * float64(d)
+			}
 		}
 	}
+	fs := math.Exp(lfs)
+	// The 4-point Lagrange weights of numeric.Lagrange4Weights, written
+	// out with a multiplication by 1/step.
+	v0, inv, last := ax[2].Lo, 1/ax[2].Step, m-4
 	for i, l := range lnf {
 		v := l - lfs
 		if !(v > 0) {
 			out[i] = math.Inf(-1)
 			continue
 		}
-		iv, wv := ax[2].index(v)
-		var s float64
-		for k := range 16 {
-			r := t.g.data[base[k]+iv : base[k]+iv+4]
-			s += w[k] * (wv[0]*float64(r[0]) + wv[1]*float64(r[1]) + wv[2]*float64(r[2]) + wv[3]*float64(r[3]))
+		x := (v - v0) * inv
+		iv := int(math.Floor(x)) - 1
+		if iv < 0 {
+			iv = 0
+		} else if iv > last {
+			iv = last
 		}
-		out[i] = s + edgeTerm(v) + shift
+		u := x - float64(iv)
+		r := buf[iv : iv+4 : iv+4]
+		u1, u2, u3 := u-1, u-2, u-3
+		lag := (-r[0]*u1*u2*u3+r[3]*u*u1*u2)/6 + (r[1]*u*u2*u3-r[2]*u*u1*u3)/2
+		out[i] = lag + log1mx(fs*invF[i]) + shift
 	}
 	return nil
 }
 
-// MarshalBinary encodes the table in its on-disk format.
-func (t *MetastableTable) MarshalBinary() ([]byte, error) {
-	return encodeGrid(metaMagic, t.s.Hash(), t.g, t.cert)
+// log1mx returns ln(1 - x) for 0 <= x < 1 (the edge term ln(1 - f_*/f) =
+// ln(1 - e^-v)): by its Taylor series -sum x^n/n to n = 8 below x = 0.05
+// (remainder below x^9/(9 (1 - x)) = 2.3e-13), else math.Log1p.
+func log1mx(x float64) float64 {
+	if x < 0.05 {
+		return -x * (1 + x*(1.0/2+x*(1.0/3+x*(1.0/4+x*(1.0/5+x*(1.0/6+x*(1.0/7+x*(1.0/8))))))))
+	}
+	return math.Log1p(-x)
 }
 
 func decodeMetaTable(name string, b []byte, s MetastableSettings) (*MetastableTable, error) {
@@ -312,30 +324,19 @@ func decodeMetaTable(name string, b []byte, s MetastableSettings) (*MetastableTa
 	if err != nil {
 		return nil, err
 	}
-	g, c, err := decodeGrid(name, b, metaMagic, s.Hash(), t.g)
-	if err != nil {
+	if err := t.decode(name, b); err != nil {
 		return nil, err
 	}
-	t.g, t.cert = g, c
 	return t, nil
-}
-
-// WriteFile writes the table to path atomically.
-func (t *MetastableTable) WriteFile(path string) error {
-	b, err := t.MarshalBinary()
-	if err != nil {
-		return fmt.Errorf("strings: %s: %w", path, err)
-	}
-	return writeFileAtomic(path, b)
 }
 
 // MetastableCachePath returns where LoadMetastableTable caches the table.
 func MetastableCachePath(s MetastableSettings, cacheDir string) (string, error) {
-	return cacheFile(cacheDir, "strings-metastable-"+s.Hash()[:16]+".tbl")
+	return cacheFile(cacheDir, "strings-metastable-"+s.TableHash()[:16]+".tbl")
 }
 
 // LoadMetastableTable returns the table for s: the compiled-in one for
-// DefaultMetastableSettings, else the cached file, else a freshly built and
+// DefaultMetastableSettings (any P and Kappa), else the cached file, else a freshly built and
 // certified one, which it caches (see LoadTable for the error rules).
 func LoadMetastableTable(s MetastableSettings, cacheDir string, opt BuildOptions) (*MetastableTable, error) {
 	if _, err := newMetaTable(s); err != nil {

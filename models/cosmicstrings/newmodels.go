@@ -51,12 +51,20 @@ func (m *MetastableModel) At(f []float64) (models.Spectrum, error) {
 	if err != nil {
 		return nil, err
 	}
-	return &metaSpectrum{t: m.t, lnf: lnf}, nil
+	inv := make([]float64, len(f))
+	for i, v := range f {
+		inv[i] = 1 / v
+	}
+	return &metaSpectrum{t: m.t, lnf: lnf, invF: inv, buf: make([]float64, m.t.g.axes[2].N)}, nil
 }
 
+// metaSpectrum evaluates a MetastableTable at fixed frequencies; buf is
+// lnOmega's scratch row, so a metaSpectrum serves one goroutine at a time
+// (as models.Spectrum requires).
 type metaSpectrum struct {
-	t   *MetastableTable
-	lnf []float64
+	t         *MetastableTable
+	lnf, invF []float64
+	buf       []float64
 }
 
 // LnOmega implements models.Spectrum without allocating; -Inf where the
@@ -65,7 +73,7 @@ func (s *metaSpectrum) LnOmega(theta, out []float64) error {
 	if len(theta) != 2 || len(out) != len(s.lnf) {
 		return errGridTheta
 	}
-	return s.t.lnOmega(theta[0], theta[1], s.lnf, out)
+	return s.t.lnOmega(theta[0], theta[1], s.lnf, s.invF, out, s.buf)
 }
 
 // tableLnF checks that f lies in the tables' band and returns ln f.

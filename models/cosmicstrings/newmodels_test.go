@@ -188,3 +188,95 @@ func BenchmarkMetastableLnOmega30(b *testing.B) {
 	}
 	benchSpectrum(b, sp, []float64{-10, 8.2}, 0, -13, 0.1)
 }
+
+// TestMetastableTableNearToday probes the t_s axis where the spectrum has
+// its kink, t_s = t0 (just below it loops decay in the last moments, just
+// above nothing decays and the spectrum is the stable one): points with
+// t_s from 0.3 t0 to 3 t0 over the whole Gmu range agree with the direct
+// path within 0.01 in ln Omega (the certification limit), and for t_s >= t0
+// the table returns its top row, so the model equals itself at any larger
+// sqrt(kappa).
+func TestMetastableTableNearToday(t *testing.T) {
+	tab := loadMeta(t)
+	d, err := NewMetastableDirect(DefaultMetastableSettings())
+	if err != nil {
+		t.Fatal(err)
+	}
+	f := []float64{1e-10, 1e-9, 1e-8, 1e-7, 1e-6}
+	sp, err := NewMetastableModel(tab).At(f)
+	if err != nil {
+		t.Fatal(err)
+	}
+	out, got, far := make([]float64, len(f)), make([]float64, len(f)), make([]float64, len(f))
+	for _, lg := range []float64{-14, -13.9, -12.3, -10.1, -8.7, -6} {
+		gmu := math.Pow(10, lg)
+		for _, r := range []float64{0.3, 0.6, 0.9, 0.99, 1.01, 3} {
+			sk := sqrtKappaOf(gmu, tab.lnTHi+math.Log(r))
+			if err := d.Omega(f, gmu, sk, out); err != nil {
+				t.Fatal(err)
+			}
+			if err := sp.LnOmega([]float64{lg, sk}, got); err != nil {
+				t.Fatal(err)
+			}
+			for j := range f {
+				if e := math.Abs(got[j] - math.Log(out[j])); !(e <= certMaxErr) {
+					t.Errorf("log10 Gmu=%g t_s=%g t0 f=%g: table %.5f, direct %.5f", lg, r, f[j], got[j], math.Log(out[j]))
+				}
+			}
+			if r > 1 {
+				if err := sp.LnOmega([]float64{lg, sk + 3}, far); err != nil {
+					t.Fatal(err)
+				}
+				for j := range f {
+					if far[j] != got[j] {
+						t.Errorf("log10 Gmu=%g f=%g: t_s = %g t0 gives %.8f, much later t_s %.8f; both are the stable spectrum", lg, f[j], r, got[j], far[j])
+					}
+				}
+			}
+		}
+	}
+}
+
+// TestMetastableTableFixedP: the table stores ln Omega at P = 1, so the
+// settings' fixed P and Kappa load the embedded table (no build) and enter
+// once, as -Kappa ln P; the result agrees with the direct path, which
+// applies P^-Kappa to the loop density (docs/physics.md section 3), within
+// the certification limit.
+func TestMetastableTableFixedP(t *testing.T) {
+	if len(embeddedMetaTable) == 0 {
+		t.Skip("no embedded metastable table")
+	}
+	s := DefaultMetastableSettings()
+	s.P, s.Kappa = 0.25, 0.6
+	if s.TableHash() != DefaultMetastableSettings().TableHash() {
+		t.Fatal("TableHash depends on P or Kappa")
+	}
+	tab, err := LoadMetastableTable(s, t.TempDir(), BuildOptions{
+		Progress: func(int, int) {
+			t.Fatal("LoadMetastableTable builds a table for P = 0.25 instead of using the embedded one")
+		},
+	})
+	if err != nil {
+		t.Fatal(err)
+	}
+	d, err := NewMetastableDirect(s)
+	if err != nil {
+		t.Fatal(err)
+	}
+	f := []float64{1e-9, 1e-8, 1e-7}
+	out := make([]float64, len(f))
+	for _, sk := range []float64{7.7, 8.3, 9} {
+		if err := d.Omega(f, 1e-9, sk, out); err != nil {
+			t.Fatal(err)
+		}
+		for i := range f {
+			v, err := tab.LnOmega(-9, sk, f[i])
+			if err != nil {
+				t.Fatal(err)
+			}
+			if e := math.Abs(v - math.Log(out[i])); !(e <= certMaxErr) {
+				t.Errorf("sqrt(kappa) = %g, f = %g: table %.5f, direct %.5f", sk, f[i], v, math.Log(out[i]))
+			}
+		}
+	}
+}

@@ -91,14 +91,35 @@ func (s Settings) Validate() error {
 // canonical returns a stable text form of s; the cosmology's empty DOF is
 // normalised to its default.
 func (s Settings) canonical() string {
-	c := s.Cosmology
+	g := hexBits
+	return fmt.Sprintf("tautline-strings v%d;q=%s;gamma=%s;F=%s;kappa=%s;ceff=%s;modes=%d;%s",
+		physicsVersion, g(s.Q), g(s.Gamma), g(s.F), g(s.Kappa), s.CEff, s.Modes, canonicalCosmology(s.Cosmology))
+}
+
+// canonicalCosmology is the stable text form of c that settings hashes
+// end with.
+func canonicalCosmology(c cosmology.Params) string {
+	g := hexBits
+	return fmt.Sprintf("H0=%s;Om=%s;T=%s;Neff=%s;dof=%s", g(c.H0), g(c.OmegaM), g(c.TCMB), g(c.Neff), dofName(c))
+}
+
+// hexBits writes v exactly, as the hex of its IEEE 754 bits.
+func hexBits(v float64) string { return fmt.Sprintf("%x", math.Float64bits(v)) }
+
+// dofName is c's degrees-of-freedom choice, the empty default normalised.
+func dofName(c cosmology.Params) string {
 	if c.DOF == "" {
-		c.DOF = cosmology.DOFStandardModel
+		return cosmology.DOFStandardModel
 	}
-	g := func(v float64) string { return fmt.Sprintf("%x", math.Float64bits(v)) }
-	return fmt.Sprintf("tautline-strings v%d;q=%s;gamma=%s;F=%s;kappa=%s;ceff=%s;modes=%d;H0=%s;Om=%s;T=%s;Neff=%s;dof=%s",
-		physicsVersion, g(s.Q), g(s.Gamma), g(s.F), g(s.Kappa), s.CEff, s.Modes,
-		g(c.H0), g(c.OmegaM), g(c.TCMB), g(c.Neff), c.DOF)
+	return c.DOF
+}
+
+// modesText describes a number of summed harmonics (0: all of them).
+func modesText(n int) string {
+	if n > 0 {
+		return fmt.Sprint(n)
+	}
+	return "infinite"
 }
 
 // Hash identifies the settings (and the version of the computation): the
@@ -120,13 +141,6 @@ func (s Settings) TableHash() string {
 
 // String describes the settings for logs and reports.
 func (s Settings) String() string {
-	n := "infinite"
-	if s.Modes > 0 {
-		n = fmt.Sprint(s.Modes)
-	}
-	dof := s.Cosmology.DOF
-	if dof == "" {
-		dof = cosmology.DOFStandardModel
-	}
-	return fmt.Sprintf("q=%.4g Gamma=%g F=%g kappa=%g C_eff=%s modes=%s dof=%s", s.Q, s.Gamma, s.F, s.Kappa, s.CEff, n, dof)
+	return fmt.Sprintf("q=%.4g Gamma=%g F=%g kappa=%g C_eff=%s modes=%s dof=%s",
+		s.Q, s.Gamma, s.F, s.Kappa, s.CEff, modesText(s.Modes), dofName(s.Cosmology))
 }

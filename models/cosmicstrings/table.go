@@ -9,9 +9,7 @@ import (
 	"math"
 	"math/rand/v2"
 	"os"
-	"path/filepath"
 	"slices"
-	"sync"
 
 	"tautline/internal/numeric"
 )
@@ -26,7 +24,7 @@ const (
 	tableGStep         = 0.2
 	tableAStep         = 0.2
 	tableLnFStep       = 0.1
-	// Certification band and threshold (the brief's requirement).
+	// Certification band and threshold (docs/physics.md section 11).
 	certBandLo, certBandHi = 1e-10, 1e-6
 	certMaxErr             = 0.01
 	certFreqsPerPoint      = 8
@@ -183,49 +181,22 @@ func BuildTable(s Settings, opt BuildOptions) (*Table, error) {
 // iG*nA + iA) with ln Omega from the direct path, on workers goroutines.
 func (t *Table) computeNodes(proto *Direct, workers int, nodes []int, progress func(done, total int)) error {
 	fn := t.lnFNodes()
-	jobs := make(chan int)
-	var (
-		wg       sync.WaitGroup
-		mu       sync.Mutex
-		done     int
-		firstErr error
-	)
-	for range workers {
-		d := proto.Clone()
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			out := make([]float64, len(fn))
-			for job := range jobs {
-				ig, ia := job/t.nA, job%t.nA
-				gmu := math.Pow(10, t.g0+float64(ig)*tableGStep)
-				alpha := math.Pow(10, t.a0+float64(ia)*tableAStep)
-				err := d.Omega(fn, gmu, alpha, 1, out)
-				row := t.data[job*t.nF : (job+1)*t.nF]
-				for i, v := range out {
-					if !(v > 0) && err == nil {
-						err = fmt.Errorf("strings: table: Omega = %g at Gmu = %g, alpha = %g, f = %g", v, gmu, alpha, fn[i])
-					}
-					row[i] = float32(math.Log(v))
-				}
-				mu.Lock()
-				if err != nil && firstErr == nil {
-					firstErr = err
-				}
-				done++
-				if progress != nil {
-					progress(done, len(nodes))
-				}
-				mu.Unlock()
+	return parallel(workers, len(nodes), proto.Clone, func(d *Direct, k int) error {
+		job := nodes[k]
+		ig, ia := job/t.nA, job%t.nA
+		gmu := math.Pow(10, t.g0+float64(ig)*tableGStep)
+		alpha := math.Pow(10, t.a0+float64(ia)*tableAStep)
+		out := make([]float64, len(fn))
+		err := d.Omega(fn, gmu, alpha, 1, out)
+		row := t.data[job*t.nF : (job+1)*t.nF]
+		for i, v := range out {
+			if !(v > 0) && err == nil {
+				err = fmt.Errorf("strings: table: Omega = %g at Gmu = %g, alpha = %g, f = %g", v, gmu, alpha, fn[i])
 			}
-		}()
-	}
-	for _, j := range nodes {
-		jobs <- j
-	}
-	close(jobs)
-	wg.Wait()
-	return firstErr
+			row[i] = float32(math.Log(v))
+		}
+		return err
+	}, progress)
 }
 
 // certify compares the table with the direct path (see Certificate).
@@ -262,69 +233,42 @@ func (t *Table) certifyCells(proto *Direct, opt BuildOptions, maxCells int) (Cer
 	kHi := int(math.Floor((math.Log(certBandHi)-t.f0)/tableLnFStep - 0.5))
 	freqs := make([][]float64, len(pts))
 	for i := range pts {
+		if i < n {
+			freqs[i] = bandFreqs(rng)
+			continue
+		}
 		f := make([]float64, certFreqsPerPoint)
 		for j := range f {
-			if i >= n {
-				k := kLo + rng.IntN(kHi-kLo+1)
-				f[j] = math.Exp(t.f0 + (float64(k)+0.5)*tableLnFStep)
-				continue
-			}
-			f[j] = certBandLo * math.Pow(certBandHi/certBandLo, rng.Float64())
+			k := kLo + rng.IntN(kHi-kLo+1)
+			f[j] = math.Exp(t.f0 + (float64(k)+0.5)*tableLnFStep)
 		}
 		slices.Sort(f)
 		freqs[i] = f
 	}
 	errs := make([]float64, len(pts)*certFreqsPerPoint)
-	workers := max(1, opt.Workers)
-	var wg sync.WaitGroup
-	var mu sync.Mutex
-	var firstErr error
-	jobs := make(chan int)
-	for range workers {
-		d := proto.Clone()
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			out := make([]float64, certFreqsPerPoint)
-			for i := range jobs {
-				p := pts[i]
-				err := d.Omega(freqs[i], math.Pow(10, p.lg), math.Pow(10, p.la), 1, out)
-				for j, f := range freqs[i] {
-					v, e := t.LnOmega(p.lg, p.la, 0, f)
-					if e != nil && err == nil {
-						err = e
-					}
-					errs[i*certFreqsPerPoint+j] = math.Abs(v - math.Log(out[j]))
-				}
-				if err != nil {
-					mu.Lock()
-					firstErr = err
-					mu.Unlock()
-				}
-			}
-		}()
-	}
-	for i := range pts {
-		jobs <- i
-	}
-	close(jobs)
-	wg.Wait()
-	c := Certificate{Points: len(errs), BandLo: certBandLo, BandHi: certBandHi, Seed: opt.Seed}
-	if firstErr != nil {
-		return c, firstErr
-	}
-	worst := 0
-	for i, e := range errs {
-		if !(e <= errs[worst]) {
-			worst = i
+	err := parallel(opt.Workers, len(pts), proto.Clone, func(d *Direct, i int) error {
+		p := pts[i]
+		out := make([]float64, certFreqsPerPoint)
+		if err := d.Omega(freqs[i], math.Pow(10, p.lg), math.Pow(10, p.la), 1, out); err != nil {
+			return err
 		}
+		for j, f := range freqs[i] {
+			v, err := t.LnOmega(p.lg, p.la, 0, f)
+			if err != nil {
+				return err
+			}
+			errs[i*certFreqsPerPoint+j] = math.Abs(v - math.Log(out[j]))
+		}
+		return nil
+	}, nil)
+	c := Certificate{Points: len(errs), BandLo: certBandLo, BandHi: certBandHi, Seed: opt.Seed}
+	if err != nil {
+		return c, err
 	}
-	c.MaxErr = errs[worst]
+	var worst int
+	c.MaxErr, c.P99Err, worst = errorStats(errs)
 	p := pts[worst/certFreqsPerPoint]
 	c.Worst = [3]float64{p.lg, p.la, freqs[worst/certFreqsPerPoint][worst%certFreqsPerPoint]}
-	sorted := slices.Clone(errs)
-	slices.Sort(sorted)
-	c.P99Err = sorted[int(math.Ceil(0.99*float64(len(sorted))))-1]
 	if !(c.MaxErr <= certMaxErr) {
 		return c, fmt.Errorf("%w: %v", ErrCertification, c)
 	}
@@ -471,14 +415,7 @@ func (t *Table) WriteFile(path string) error {
 // (os.UserCacheDir()/tautline when cacheDir is empty); the name depends on
 // s.TableHash, so all values of Kappa share one file.
 func CachePath(s Settings, cacheDir string) (string, error) {
-	if cacheDir == "" {
-		base, err := os.UserCacheDir()
-		if err != nil {
-			return "", fmt.Errorf("strings: no user cache directory: %w", err)
-		}
-		cacheDir = filepath.Join(base, "tautline")
-	}
-	return filepath.Join(cacheDir, "strings-"+s.TableHash()[:16]+".tbl"), nil
+	return cacheFile(cacheDir, "strings-"+s.TableHash()[:16]+".tbl")
 }
 
 // LoadTable returns the table for s: the one compiled into the binary when
@@ -501,26 +438,9 @@ func loadTable(s Settings, cacheDir string, build BuildOptions, builder func(Set
 	if s.CEff == CEffStep {
 		return nil, errStepTable
 	}
-	if !build.NoEmbedded && len(embeddedTable) > 0 {
-		if t, err := decodeTable("embedded table", embeddedTable, s); err == nil {
-			return t, nil
-		}
-	}
 	path, pathErr := CachePath(s, cacheDir)
-	if pathErr == nil {
-		if t, err := ReadTable(path, s); err == nil {
-			return t, nil
-		}
-	}
-	t, err := builder(s, build)
-	if err != nil {
-		return nil, err
-	}
-	if pathErr != nil {
-		return t, fmt.Errorf("%w: %w", ErrCacheWrite, pathErr)
-	}
-	if err := t.WriteFile(path); err != nil {
-		return t, fmt.Errorf("%w: %w", ErrCacheWrite, err)
-	}
-	return t, nil
+	return loadOrBuild(embeddedTable, build.NoEmbedded, path, pathErr,
+		func(name string, b []byte) (*Table, error) { return decodeTable(name, b, s) },
+		func() (*Table, error) { return builder(s, build) },
+		(*Table).MarshalBinary)
 }

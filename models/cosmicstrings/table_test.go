@@ -70,7 +70,7 @@ func TestEmbeddedTableReproducible(t *testing.T) {
 // TestTableAgainstDirect is the fast path's acceptance test: at 200 fresh
 // random points inside the default prior box (Gmu 1e-14..1e-6, alpha
 // 1e-5..1, P 1e-3..1) and random frequencies in 1e-10..1e-6 Hz, the table's
-// ln Omega agrees with the direct path within 0.01 (the brief's
+// ln Omega agrees with the direct path within 0.01 (the certification
 // requirement); we also require the 99th percentile below 0.002.
 func TestTableAgainstDirect(t *testing.T) {
 	tab := defaultTable(t)
@@ -317,7 +317,7 @@ func TestSettingsHash(t *testing.T) {
 // TestKappaSharesTable: the table stores ln Omega at P = 1, so a model with
 // kappa = 0.6 uses the embedded default table (no build, nothing cached),
 // and its ln Omega is that of P = 1 shifted by exactly -0.6 ln P (the
-// P^(-kappa) scaling of PHYSICS.md section 3).
+// P^(-kappa) scaling of docs/physics.md section 3).
 func TestKappaSharesTable(t *testing.T) {
 	s := DefaultSettings()
 	s.Kappa = 0.6

@@ -19,7 +19,7 @@ const ScaleCaveat = "eta from Gmu = (eta/M_Planck)^2 with the non-reduced Planck
 	"so eta would be lower by sqrt(2 pi) = 2.5), and the loop model's Gmu is itself an effective parameter."
 
 // MassPerLength returns the string's mass per unit length mu = Gmu c^2 / G
-// in kg/m (PHYSICS.md section 1: 1.35e17 kg/m at Gmu = 1e-10).
+// in kg/m (docs/physics.md section 1: 1.35e17 kg/m at Gmu = 1e-10).
 func MassPerLength(gmu float64) float64 { return gmu * speedOfLight * speedOfLight / newtonG }
 
 // GmuFromMassPerLength inverts MassPerLength (mu in kg/m).

@@ -5,16 +5,16 @@ import (
 	"testing"
 )
 
-// TestUnits checks PHYSICS.md section 9's check values.
+// TestUnits checks docs/physics.md section 9's check values.
 func TestUnits(t *testing.T) {
 	tests := []struct {
 		name      string
 		got, want float64
 		tol       float64 // relative
 	}{
-		// 1.35e17 kg/m at Gmu = 1e-10 (PHYSICS.md section 1), quoted to 3 digits.
+		// 1.35e17 kg/m at Gmu = 1e-10 (docs/physics.md section 1), quoted to 3 digits.
 		{"mu(1e-10) kg/m", MassPerLength(1e-10), 1.35e17, 5e-3},
-		// 0.52 mas at Gmu = 1e-10 (PHYSICS.md section 9), quoted to 2 digits.
+		// 0.52 mas at Gmu = 1e-10 (docs/physics.md section 9), quoted to 2 digits.
 		{"separation(1e-10) mas", MaxImageSeparationMas(1e-10), 0.52, 1e-2},
 		// eta ~ 1e16 GeV at Gmu = 1e-6 (common practice, order of magnitude):
 		// M_Planck sqrt(1e-6) = 1.22e16 GeV, so a factor-1.3 tolerance.

@@ -7,7 +7,7 @@ import (
 
 // TestVOSScaling integrates the VOS equations in power-law backgrounds and
 // compares the late-time C_eff with the published scaling values 5.4
-// (radiation) and 0.39 (matter) (from memory; PHYSICS.md section 3).
+// (radiation) and 0.39 (matter) (from memory; docs/physics.md section 3).
 func TestVOSScaling(t *testing.T) {
 	tests := []struct {
 		name string
@@ -15,10 +15,10 @@ func TestVOSScaling(t *testing.T) {
 		want float64
 		tol  float64
 	}{
-		// 3 %: the brief's tolerance for a recalled value quoted to two
+		// 3 %: the accuracy of a recalled value quoted to two
 		// significant figures.
 		{"radiation", 0.5, CEffRadiation, 0.03},
-		// 4 %: the VOS equations exactly as written in PHYSICS.md (c = 0.23)
+		// 4 %: the VOS equations exactly as written in docs/physics.md (c = 0.23)
 		// have the closed-form scaling solution v = 0.5808, xi = 0.6161,
 		// C_eff = 0.4039, 3.6 % above the recalled 0.39; the recalled value
 		// presumably reflects a slightly different calibration. We keep the

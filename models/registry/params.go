@@ -13,14 +13,16 @@ import (
 
 // InjectionDefaults are the parameter values used when none are given: a
 // typical SMBHB amplitude with the circular-binary index, and a string
-// network with Gmu = 2e-11, alpha = 0.1, P = 1.
+// network with Gmu = 2e-11, alpha = 0.1, P = 1 and, when metastable,
+// sqrt(kappa) = 8 (the middle of its default prior).
 func InjectionDefaults() map[string]float64 {
 	return map[string]float64{
-		"log10_A":     -14.6,
-		"gamma":       13.0 / 3,
-		"log10_Gmu":   math.Log10(2e-11),
-		"log10_alpha": -1,
-		"log10_P":     0,
+		"log10_A":      -14.6,
+		"gamma":        13.0 / 3,
+		"log10_Gmu":    math.Log10(2e-11),
+		"log10_alpha":  -1,
+		"log10_P":      0,
+		"sqrt_kappa_m": 8,
 	}
 }
 

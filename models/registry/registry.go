@@ -1,8 +1,9 @@
 // Package registry names the gravitational-wave background models tautline
 // can fit and builds them from plain settings: the supermassive black-hole
-// binary power law (package binaries), the cosmic-string loop network
-// (package cosmicstrings, docs/physics.md section 3) and sums of them
-// (models.Sum). It also resolves priors given by parameter name and reads
+// binary power law (package binaries), the cosmic-string loop network in
+// three forms (package cosmicstrings: the one-scale model of docs/physics.md
+// section 3, metastable strings of section 21 and the simulation-calibrated
+// loops of section 22) and sums of them (models.Sum). It also resolves priors given by parameter name and reads
 // NAME=VALUE parameter lists.
 //
 // Adding a model is one entry in the table returned by Entries.
@@ -52,8 +53,12 @@ type Binaries struct {
 	TurnoverKappa float64
 }
 
-// Strings holds the string-network model's fixed settings (see
-// cosmicstrings.Settings for their meaning).
+// Strings holds the string-network models' fixed settings (see
+// cosmicstrings.Settings, MetastableSettings and BOSSettings for their
+// meaning). strings and strings-metastable read all of Q, Gamma, F, CEff,
+// Kappa, Modes and DOF; strings-bos reads Q, Gamma, Kappa, Modes and DOF
+// (its loop sizes and production rate are the simulations', so it has no
+// F, C_eff or alpha).
 type Strings struct {
 	Q, Gamma, F float64
 	// CEff is the loop-production efficiency, "vos" or "step".
@@ -63,8 +68,16 @@ type Strings struct {
 	Modes int
 	// DOF is "standard-model" or "constant".
 	DOF string
-	// Direct evaluates the spectrum by quadrature instead of the table.
+	// Direct evaluates the spectrum by quadrature instead of the table
+	// (strings only).
 	Direct bool
+	// Alpha is the loop length at birth over cosmic time of
+	// strings-metastable, fixed there rather than sampled; 0 means 0.1.
+	Alpha float64
+	// P is the reconnection probability of strings-metastable, fixed
+	// there rather than sampled (the loop density scales as P^-Kappa);
+	// 0 means 1.
+	P float64
 }
 
 // Cosmology holds the background parameters.
@@ -100,6 +113,10 @@ func Entries() []Entry {
 		{Name: "smbhb", Data: "demo:smbhb", Build: buildBinaries},
 		{Name: "strings", Data: "demo:strings", Build: buildStrings},
 		{Name: "strings+smbhb", Data: "demo:strings", Build: sum("strings+smbhb", buildStrings, buildBinaries)},
+		{Name: "strings-metastable", Data: "demo:strings", Build: buildMetastable},
+		{Name: "strings-metastable+smbhb", Data: "demo:strings", Build: sum("strings-metastable+smbhb", buildMetastable, buildBinaries)},
+		{Name: "strings-bos", Data: "demo:strings", Build: buildBOS},
+		{Name: "strings-bos+smbhb", Data: "demo:strings", Build: sum("strings-bos+smbhb", buildBOS, buildBinaries)},
 	}
 }
 
@@ -209,25 +226,99 @@ func buildStrings(st Settings, logf Logf) (models.Model, error) {
 		}
 		return cosmicstrings.NewDirectModel(s)
 	}
+	t, err := loadTable(logf, "string-spectrum", func(opt cosmicstrings.BuildOptions) (*cosmicstrings.Table, error) {
+		return cosmicstrings.LoadTable(s, "", opt)
+	}, func(t *cosmicstrings.Table) fmt.Stringer { return t.Certificate() })
+	if err != nil {
+		return nil, err
+	}
+	return cosmicstrings.NewModel(t), nil
+}
+
+// MetastableSettings turns s into the metastable model's settings: the
+// string settings of StringSettings with the fixed Alpha and P.
+func MetastableSettings(s Settings) cosmicstrings.MetastableSettings {
+	ms := cosmicstrings.DefaultMetastableSettings()
+	ms.Settings = StringSettings(s)
+	if a := s.Strings.Alpha; a != 0 {
+		ms.Alpha = a
+	}
+	if p := s.Strings.P; p != 0 {
+		ms.P = p
+	}
+	return ms
+}
+
+// BOSSettings turns s into the simulation-calibrated model's settings.
+func BOSSettings(s Settings) cosmicstrings.BOSSettings {
+	cs := StringSettings(s)
+	return cosmicstrings.BOSSettings{Q: cs.Q, Gamma: cs.Gamma, Kappa: cs.Kappa, Modes: cs.Modes, Cosmology: cs.Cosmology}
+}
+
+// buildMetastable returns the metastable string model through its
+// certified table (embedded for the defaults, else cached or built).
+func buildMetastable(st Settings, logf Logf) (models.Model, error) {
+	if st.Strings.Direct {
+		return nil, fmt.Errorf("%w: model strings-metastable: no direct-quadrature model (drop the direct option)", ErrUsage)
+	}
+	s := MetastableSettings(st)
+	if s.CEff == cosmicstrings.CEffStep {
+		return nil, fmt.Errorf("%w: model strings-metastable: loop_production step has no table (its kink would be smoothed over); use vos", ErrUsage)
+	}
+	if err := s.Validate(); err != nil {
+		return nil, fmt.Errorf("%w: %v", ErrUsage, err)
+	}
+	t, err := loadTable(logf, "metastable string-spectrum", func(opt cosmicstrings.BuildOptions) (*cosmicstrings.MetastableTable, error) {
+		return cosmicstrings.LoadMetastableTable(s, "", opt)
+	}, func(t *cosmicstrings.MetastableTable) fmt.Stringer { return t.Certificate() })
+	if err != nil {
+		return nil, err
+	}
+	return cosmicstrings.NewMetastableModel(t), nil
+}
+
+// buildBOS returns the simulation-calibrated loop model through its
+// certified table.
+func buildBOS(st Settings, logf Logf) (models.Model, error) {
+	if st.Strings.Direct {
+		return nil, fmt.Errorf("%w: model strings-bos: no direct-quadrature model (drop the direct option)", ErrUsage)
+	}
+	s := BOSSettings(st)
+	if err := s.Validate(); err != nil {
+		return nil, fmt.Errorf("%w: %v", ErrUsage, err)
+	}
+	t, err := loadTable(logf, "BOS string-spectrum", func(opt cosmicstrings.BuildOptions) (*cosmicstrings.BOSTable, error) {
+		return cosmicstrings.LoadBOSTable(s, "", opt)
+	}, func(t *cosmicstrings.BOSTable) fmt.Stringer { return t.Certificate() })
+	if err != nil {
+		return nil, err
+	}
+	return cosmicstrings.NewBOSModel(t), nil
+}
+
+// loadTable runs load (one of the cosmicstrings table loaders) on all
+// CPUs, logging the progress of a build and the certificate of a freshly
+// built table; a table that could not be cached is used with a warning.
+func loadTable[T any](logf Logf, what string, load func(cosmicstrings.BuildOptions) (T, error), cert func(T) fmt.Stringer) (T, error) {
 	last := -1
-	t, err := cosmicstrings.LoadTable(s, "", cosmicstrings.BuildOptions{
+	t, err := load(cosmicstrings.BuildOptions{
 		Workers: runtime.NumCPU(), Seed: 1,
 		Progress: func(done, total int) {
 			if pct := 10 * done / total; pct != last {
 				last = pct
-				logf("building the string-spectrum table for these settings: %d%% (%d of %d nodes)", 10*pct, done, total)
+				logf("building the %s table for these settings: %d%% (%d of %d nodes)", what, 10*pct, done, total)
 			}
 		},
 	})
-	if errors.Is(err, cosmicstrings.ErrCacheWrite) && t != nil {
+	if errors.Is(err, cosmicstrings.ErrCacheWrite) {
 		logf("warning: %v (the table is used but will be rebuilt next time)", err)
 		err = nil
 	}
 	if err != nil {
-		return nil, err
+		return t, err
 	}
 	if last >= 0 {
-		logf("string table certified: %s", t.Certificate())
+		logf("%s table certified: %s", what, cert(t))
 	}
-	return cosmicstrings.NewModel(t), nil
+	return t, nil
 }

@@ -8,6 +8,7 @@ import (
 	"testing"
 
 	"tautline/models"
+	"tautline/models/cosmicstrings"
 )
 
 // defaults are the settings the command line starts from.
@@ -43,6 +44,10 @@ func TestBuild(t *testing.T) {
 		{"smbhb", "fit", []string{"log10_A", "gamma", "log10_fbend", "kappa"}, "demo:smbhb"},
 		{"strings", "none", []string{"log10_Gmu", "log10_alpha", "log10_P"}, "demo:strings"},
 		{"strings+smbhb", "none", []string{"log10_Gmu", "log10_alpha", "log10_P", "log10_A", "gamma"}, "demo:strings"},
+		{"strings-metastable", "none", []string{"log10_Gmu", "sqrt_kappa_m"}, "demo:strings"},
+		{"strings-metastable+smbhb", "none", []string{"log10_Gmu", "sqrt_kappa_m", "log10_A", "gamma"}, "demo:strings"},
+		{"strings-bos", "none", []string{"log10_Gmu", "log10_P"}, "demo:strings"},
+		{"strings-bos+smbhb", "none", []string{"log10_Gmu", "log10_P", "log10_A", "gamma"}, "demo:strings"},
 	} {
 		s := defaults(c.name)
 		s.Binaries.Turnover = c.turnover
@@ -57,7 +62,7 @@ func TestBuild(t *testing.T) {
 			t.Errorf("DefaultData(%s) = %s, want %s", c.name, got, c.data)
 		}
 	}
-	if !slices.Equal(Names(), []string{"smbhb", "strings", "strings+smbhb"}) {
+	if !slices.Equal(Names(), []string{"smbhb", "strings", "strings+smbhb", "strings-metastable", "strings-metastable+smbhb", "strings-bos", "strings-bos+smbhb"}) {
 		t.Errorf("Names() = %v", Names())
 	}
 }
@@ -75,6 +80,12 @@ func TestBuildErrors(t *testing.T) {
 		{"Omega_m of 1", func(s *Settings) { s.Cosmology.OmegaM = 1 }, "cosmology"},
 		{"fixed turnover without f_bend", func(s *Settings) { s.Binaries.Turnover = "fixed" }, "--f-bend"},
 		{"unknown turnover", func(s *Settings) { s.Binaries.Turnover = "soft" }, `--turnover "soft"`},
+		{"metastable alpha above 1", func(s *Settings) { s.Name, s.Strings.Alpha = "strings-metastable", 2 }, "Alpha must be in (0, 1]"},
+		{"metastable P above 1", func(s *Settings) { s.Name, s.Strings.P = "strings-metastable", 1.5 }, "P must be in (0, 1]"},
+		{"metastable step C_eff", func(s *Settings) { s.Name, s.Strings.CEff = "strings-metastable", "step" }, "no table"},
+		{"metastable direct", func(s *Settings) { s.Name, s.Strings.Direct = "strings-metastable", true }, "no direct-quadrature model"},
+		{"BOS direct", func(s *Settings) { s.Name, s.Strings.Direct = "strings-bos", true }, "no direct-quadrature model"},
+		{"BOS Gamma", func(s *Settings) { s.Name, s.Strings.Gamma = "strings-bos", -1 }, "Gamma must be in (0, 1e4)"},
 	} {
 		s := defaults("smbhb")
 		c.edit(&s)
@@ -170,4 +181,99 @@ func FuzzParseNumber(f *testing.F) {
 			t.Errorf("ParseNumber(%q) = %g", s, x)
 		}
 	})
+}
+
+// lnOmega builds the model named in s and evaluates it at theta.
+func lnOmega(t *testing.T, s Settings, f, theta []float64) []float64 {
+	t.Helper()
+	m, err := Build(s, nil)
+	if err != nil {
+		t.Fatalf("%s: %v", s.Name, err)
+	}
+	sp, err := m.At(f)
+	if err != nil {
+		t.Fatal(err)
+	}
+	out := make([]float64, len(f))
+	if err := sp.LnOmega(theta, out); err != nil {
+		t.Fatalf("%s at %v: %v", s.Name, theta, err)
+	}
+	return out
+}
+
+// TestStringModelSpectra evaluates the string models the registry builds
+// against references outside the registry:
+//   - strings-metastable with t_s after today (sqrt(kappa) = 9.5 at
+//     Gmu = 1e-10; docs/physics.md section 21) is the stable one-scale
+//     spectrum at alpha = 0.1, P = 1: the two certified tables, each
+//     within 0.01 of the same direct path, agree within 0.02;
+//   - strings-bos matches cosmicstrings.BOSDirect (its quadrature) within
+//     the certification limit 0.01 (docs/physics.md section 22);
+//   - the fixed P of strings-metastable and the sampled P of strings-bos
+//     enter exactly as -kappa ln P (section 3), checked with kappa = 0.6;
+//   - strings-bos+smbhb is the log-sum-exp of its parts (models.Sum).
+func TestStringModelSpectra(t *testing.T) {
+	f := []float64{2e-9, 1e-8, 3e-8}
+	stable := lnOmega(t, defaults("strings"), f, []float64{-10, -1, 0})
+	meta := lnOmega(t, defaults("strings-metastable"), f, []float64{-10, 9.5})
+	for i := range f {
+		// 0.02: twice the certification limit of each table.
+		if math.Abs(meta[i]-stable[i]) > 0.02 {
+			t.Errorf("f = %g: metastable with t_s > t0 %.5f, stable %.5f", f[i], meta[i], stable[i])
+		}
+	}
+
+	s := defaults("strings-metastable")
+	s.Strings.Kappa, s.Strings.P = 0.6, 0.25
+	metaP := lnOmega(t, s, f, []float64{-10, 8.3})
+	meta1 := lnOmega(t, defaults("strings-metastable"), f, []float64{-10, 8.3})
+	for i := range f {
+		// exact up to rounding: the table adds -kappa ln P
+		if d := metaP[i] - meta1[i]; math.Abs(d+0.6*math.Log(0.25)) > 1e-12 {
+			t.Errorf("f = %g: metastable P = 0.25, kappa = 0.6 shifts ln Omega by %.6g, want %.6g", f[i], d, -0.6*math.Log(0.25))
+		}
+	}
+
+	d, err := cosmicstrings.NewBOSDirect(BOSSettings(defaults("strings-bos")))
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := make([]float64, len(f))
+	if err := d.Omega(f, 1e-10, 0.1, want); err != nil {
+		t.Fatal(err)
+	}
+	sb := defaults("strings-bos")
+	sb.Strings.Kappa = 0.6
+	bos := lnOmega(t, sb, f, []float64{-10, -1})
+	for i := range f {
+		// The direct path uses kappa = 1 (the default): rescale to 0.6.
+		w := math.Log(want[i]) - 0.4*math.Log(10)
+		if math.Abs(bos[i]-w) > 0.01 {
+			t.Errorf("f = %g: strings-bos %.5f, direct %.5f", f[i], bos[i], w)
+		}
+	}
+
+	bin := lnOmega(t, defaults("smbhb"), f, []float64{-14.6, 13.0 / 3})
+	bos1 := lnOmega(t, defaults("strings-bos"), f, []float64{-10, -1})
+	both := lnOmega(t, defaults("strings-bos+smbhb"), f, []float64{-10, -1, -14.6, 13.0 / 3})
+	for i := range f {
+		hi, lo := math.Max(bos1[i], bin[i]), math.Min(bos1[i], bin[i])
+		if w := hi + math.Log1p(math.Exp(lo-hi)); math.Abs(both[i]-w) > 1e-12 {
+			t.Errorf("f = %g: strings-bos+smbhb %.12g, log-sum-exp of the parts %.12g", f[i], both[i], w)
+		}
+	}
+}
+
+// TestMetastableDefaults: settings without Alpha and P (as older callers
+// give them) take alpha = 0.1 and P = 1.
+func TestMetastableDefaults(t *testing.T) {
+	ms := MetastableSettings(defaults("strings-metastable"))
+	if ms.Alpha != 0.1 || ms.P != 1 {
+		t.Errorf("alpha = %g, P = %g; want 0.1 and 1", ms.Alpha, ms.P)
+	}
+	s := defaults("strings-metastable")
+	s.Strings.Alpha, s.Strings.P = 0.05, 0.5
+	if ms := MetastableSettings(s); ms.Alpha != 0.05 || ms.P != 0.5 {
+		t.Errorf("alpha = %g, P = %g; want 0.05 and 0.5", ms.Alpha, ms.P)
+	}
 }

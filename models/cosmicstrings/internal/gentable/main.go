@@ -44,7 +44,7 @@ func main() {
 		s := cosmicstrings.DefaultMetastableSettings()
 		t, err := cosmicstrings.BuildMetastableTable(s, opt)
 		fail(err)
-		what, cert, write = fmt.Sprintf("settings %s (hash %.12s)", s, s.Hash()), t.Certificate().String(), t.WriteFile
+		what, cert, write = fmt.Sprintf("settings %s (table hash %.12s)", s, s.TableHash()), t.Certificate().String(), t.WriteFile
 	default:
 		fail(fmt.Errorf("-model must be one-scale, bos or metastable, got %q", *model))
 	}
