@@ -18,6 +18,8 @@ func FuzzDecodeConfig(f *testing.F) {
 	}
 	f.Add([]byte("sampler: {walkers: [1, 2]}\n"))
 	f.Add([]byte("model:\n  priors:\n    x: 3\n"))
+	f.Add([]byte("data: [a.yaml, demo:pair-b]\nbins: {a: lowest:3, 2: \"1,4\"}\n"))
+	f.Add([]byte("bins: lowest:5\ndata: [[1]]\n"))
 	f.Fuzz(func(t *testing.T, raw []byte) {
 		cfg := Default()
 		if err := Decode("fuzz.yaml", raw, &cfg); err != nil && !strings.HasPrefix(err.Error(), "fuzz.yaml") {

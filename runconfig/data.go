@@ -14,6 +14,7 @@ import (
 
 	"tautline/chains"
 	"tautline/likelihood"
+	"tautline/models/registry"
 )
 
 // DataList names the data sets of a run, in the order their likelihoods
@@ -188,7 +189,7 @@ func (c Config) LoadData(load Loader) ([]Data, error) {
 	out := make([]Data, len(c.Data))
 	for i, spec := range c.Data {
 		if k := slices.Index(c.Data[:i], spec); k >= 0 {
-			return nil, fmt.Errorf("data set %s is given twice (data sets %d and %d); its likelihood would count twice", spec, k+1, i+1)
+			return nil, fmt.Errorf("%w: data set %s is given twice (data sets %d and %d); its likelihood would count twice", registry.ErrUsage, spec, k+1, i+1)
 		}
 		ds, err := load(spec)
 		if err != nil {
@@ -196,10 +197,10 @@ func (c Config) LoadData(load Loader) ([]Data, error) {
 		}
 		for k := range i {
 			if out[k].Name == ds.Name {
-				return nil, fmt.Errorf("data sets %s and %s are both named %q; the same data would count twice (give each data set once, with distinct names)", out[k].Spec, spec, ds.Name)
+				return nil, fmt.Errorf("%w: data sets %s and %s are both named %q; the same data would count twice (give each data set once, with distinct names)", registry.ErrUsage, out[k].Spec, spec, ds.Name)
 			}
 			if ds.SHA256 != "" && out[k].SHA256 == ds.SHA256 {
-				return nil, fmt.Errorf("data sets %s and %s have the same content (sha256 %s); the same data would count twice", out[k].Spec, spec, ds.SHA256)
+				return nil, fmt.Errorf("%w: data sets %s and %s have the same content (sha256 %s); the same data would count twice", registry.ErrUsage, out[k].Spec, spec, ds.SHA256)
 			}
 		}
 		out[i] = Data{Spec: spec, Set: ds, Name: ds.Name, SHA256: ds.SHA256}
@@ -215,10 +216,10 @@ func (c Config) LoadData(load Loader) ([]Data, error) {
 		d := &out[i]
 		bins, err := likelihood.ParseBins(spec, len(d.Set.Bins))
 		if err != nil {
-			return nil, fmt.Errorf("bin selection of data set %q: %w", d.Name, err)
+			return nil, fmt.Errorf("%w: data set %q: %w", registry.ErrUsage, d.Name, err)
 		}
 		if d.Set, err = d.Set.Select(bins); err != nil {
-			return nil, fmt.Errorf("bin selection of data set %q: %w", d.Name, err)
+			return nil, fmt.Errorf("%w: data set %q: %w", registry.ErrUsage, d.Name, err)
 		}
 		d.Bins = slices.Sorted(slices.Values(bins))
 	}
@@ -250,15 +251,15 @@ func (c Config) binSpecs(data []Data) ([]string, error) {
 		if i < 0 {
 			n, err := strconv.Atoi(k)
 			if err != nil {
-				return nil, fmt.Errorf("bin selection %s=%s: no data set is named %q; the data sets are %s (or give a position 1..%d)", k, spec, k, strings.Join(names, ", "), len(data))
+				return nil, fmt.Errorf("%w: bin selection %s=%s: no data set is named %q; the data sets are %s (or give a position 1..%d)", registry.ErrUsage, k, spec, k, strings.Join(names, ", "), len(data))
 			}
 			if n < 1 || n > len(data) {
-				return nil, fmt.Errorf("bin selection %s=%s: there is no data set %d; positions run 1..%d", k, spec, n, len(data))
+				return nil, fmt.Errorf("%w: bin selection %s=%s: there is no data set %d; positions run 1..%d", registry.ErrUsage, k, spec, n, len(data))
 			}
 			i = n - 1
 		}
 		if own[i] != "" {
-			return nil, fmt.Errorf("bin selection: data set %q has two selections (%s and %s=%s); give one", names[i], own[i], k, spec)
+			return nil, fmt.Errorf("%w: bin selection: data set %q has two selections (%s and %s=%s); give one", registry.ErrUsage, names[i], own[i], k, spec)
 		}
 		own[i] = k + "=" + spec
 		out[i] = spec

@@ -40,17 +40,11 @@ func loadData(spec string) (*likelihood.Dataset, error) {
 	return likelihood.Load(spec)
 }
 
-// buildModel constructs the model cfg names. logf, if not nil, receives
-// log lines while a string-spectrum table is built.
-func buildModel(cfg runconfig.Config, logf func(format string, args ...any)) (models.Model, error) {
-	return registry.Build(cfg.ModelSettings(), logf)
-}
-
 // modelAt builds the configured model and evaluates ln Omega_GW at freqs
 // for the parameters given as NAME=VALUE (the rest from the registry's
 // injection defaults).
 func modelAt(cfg runconfig.Config, given []string, freqs []float64, logf func(string, ...any)) (models.Model, []float64, []float64, error) {
-	m, err := buildModel(cfg, logf)
+	m, err := registry.Build(cfg.ModelSettings(), logf)
 	if err != nil {
 		return nil, nil, nil, err
 	}

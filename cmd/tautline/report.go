@@ -172,7 +172,7 @@ func runReport(_ context.Context, e *env, args []string) error {
 		Draws: o.draws, BinDraws: o.binDraws, Sig: o.sig, Slices: o.slices, LimitMass: o.limitMass,
 		Version: versionString(), Log: lg,
 		Params: func(m *rundir.Model) ([]models.Param, error) {
-			md, err := buildModel(cfgs[m], lg.Debugf)
+			md, err := registry.Build(cfgs[m].ModelSettings(), lg.Debugf)
 			if err != nil {
 				return nil, err
 			}
