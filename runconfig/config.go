@@ -3,7 +3,12 @@
 // refuses unknown keys with their line number and the keys accepted there,
 // the YAML rendering stored in every run's metadata and printed by
 // --print-config, the fingerprint that identifies a chain, and the
-// command-line flags that override the keys.
+// command-line flags that override the keys. It also turns a configuration
+// into the problem a run samples: the data sets it names, loaded and cut to
+// the selected bins (LoadData), joined with the model into the product of
+// their free-spectrum likelihoods (LoadProblem, likelihood.Joint), and the
+// records of those data sets in the run metadata (DataIdentity,
+// DataRecords).
 package runconfig
 
 import (
