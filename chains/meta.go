@@ -30,8 +30,12 @@ type Meta struct {
 	Config any `json:"config"`
 	// Seed is the run's random seed.
 	Seed uint64 `json:"seed"`
-	// Data identifies the data set fitted.
+	// Data identifies the data set fitted (for several, their joint
+	// record: names joined, combined digest).
 	Data DataSet `json:"data"`
+	// Datasets lists every data set of a run on several data sets or on
+	// selected bins; omitted for one data set with every bin.
+	Datasets []DataSet `json:"datasets,omitempty"`
 	// Model names the model and its parameters.
 	Model ModelInfo `json:"model"`
 	// Start and End bound the run in wall-clock time.
@@ -84,6 +88,9 @@ type DataSet struct {
 	Name   string `json:"name"`
 	Path   string `json:"path"`
 	SHA256 string `json:"sha256"` // hex digest of the file's bytes
+	// Bins are the bins used (1-based, increasing) when not all were;
+	// SHA256 is then still the whole file's digest.
+	Bins []int `json:"bins,omitempty"`
 }
 
 // ModelInfo names a model and lists its parameters in chain-column order.

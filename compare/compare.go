@@ -50,10 +50,15 @@ type Model struct {
 	Config func(samplerWorkers int) any
 }
 
-// Problem is a comparison: several models on one data set.
+// Problem is a comparison: several models on one data set, or on several
+// whose likelihoods the models' targets multiply.
 type Problem struct {
-	// DataName and DataSHA256 name the data set and its checksum.
+	// DataName and DataSHA256 name the data set and its checksum (for
+	// several data sets, their joint name and digest).
 	DataName, DataSHA256 string
+	// Datasets lists every data set when there are several or bins were
+	// selected (recorded in part.json and compare.json); nil otherwise.
+	Datasets []chains.DataSet
 	// Models are the models compared, in the order of the results.
 	Models []Model
 	// Reference is the model the Bayes factors are computed against.
@@ -407,7 +412,7 @@ func writePart(p Problem, s Settings, u rundir.Unit, workers int, betas []float6
 	u.Betas = betas
 	pm := rundir.Part{
 		Schema: rundir.PartSchema, Version: s.Version, Unit: u, Reference: p.Reference, Models: models, Fingerprint: m.Fingerprint,
-		Comparison: p.ID, Config: cfg, DataName: p.DataName, DataSHA256: p.DataSHA256, Params: m.Params, Priors: m.Priors,
+		Comparison: p.ID, Config: cfg, DataName: p.DataName, DataSHA256: p.DataSHA256, Datasets: p.Datasets, Params: m.Params, Priors: m.Priors,
 		Steps: steps, Walkers: h.Walkers(), BurnIndex: res.BurnIndex, Recorded: rec, Swap: res.SwapAcceptance,
 		Passes: passes,
 	}

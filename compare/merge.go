@@ -38,7 +38,7 @@ func Merge(out string, dirs []string, version string) (*rundir.Comparison, error
 	first := parts[keys[0]]
 	seed, _ := first.part.Seed() // checked by DecodePart
 	res := &rundir.Comparison{Schema: 1, Version: version, Data: first.part.DataName, DataSHA256: first.part.DataSHA256,
-		Reference: first.part.Reference, Seed: seed}
+		Datasets: first.part.Datasets, Reference: first.part.Reference, Seed: seed}
 	byModel := map[string][]*rundir.Part{}
 	for _, k := range keys {
 		s := parts[k]

@@ -56,13 +56,23 @@ type RunOptions struct {
 	Params  func(m *rundir.Model) ([]models.Param, error)
 }
 
-// A Rebuilder rebuilds a run's data set and posterior from the
+// A Rebuilder rebuilds a run's data sets and posteriors from the
 // configuration the run recorded.
 type Rebuilder interface {
-	// DataSpec names the model's data set as its configuration gives it.
+	// DataSpec names the model's data sets as its configuration gives them.
 	DataSpec(m *rundir.Model) string
-	// Problem rebuilds the model's data set and posterior.
-	Problem(m *rundir.Model) (*likelihood.Dataset, *likelihood.Posterior, error)
+	// Problem rebuilds the model's data sets and, for each, its posterior.
+	Problem(m *rundir.Model) (Rebuilt, error)
+}
+
+// Rebuilt is a run's problem rebuilt for the spectrum figure: the data
+// sets in the run's order (bins selected as in the run), each one's
+// posterior, and the digest the run recorded for such data (its
+// DataSHA256), to tell whether the files have changed since.
+type Rebuilt struct {
+	Data   []*likelihood.Dataset
+	Posts  []*likelihood.Posterior
+	SHA256 string
 }
 
 // WriteRun writes the report of run into o.Out: per model the summaries,
@@ -84,11 +94,11 @@ type reportWriter struct {
 	o        RunOptions
 	run      *rundir.Run
 	smoothed bool
-	files    []string // written, relative to o.out
-	bands    []ModelBand
+	files    []string      // written, relative to o.out
+	bands    [][]ModelBand // [model][data set]
 	excl     []NamedExclusion
 	exclTop  float64
-	data     *likelihood.Dataset
+	data     []*likelihood.Dataset
 	exclLbl  [2]string
 }
 
@@ -175,21 +185,22 @@ const (
 func (w *reportWriter) writeModel(m *rundir.Model) error {
 	dir := filepath.Join(w.o.Out, m.Stem)
 	meta := w.meta(m.Name)
-	var (
-		like *likelihood.Posterior
-		data *likelihood.Dataset
-	)
+	var rb *Rebuilt
 	if w.o.Rebuild != nil {
 		w.lg.WithFields(logrus.Fields{"model": m.Name, "data": w.o.Rebuild.DataSpec(m)}).Info("rebuilding data set and model for the spectrum")
-		ds, pp, err := w.o.Rebuild.Problem(m)
+		r, err := w.o.Rebuild.Problem(m)
 		if err != nil {
 			return fmt.Errorf("rebuilding the run's data set and model (use --no-spectrum to skip the spectrum): %w", err)
 		}
-		like = pp
+		if len(r.Posts) == 0 || len(r.Posts) != len(r.Data) {
+			return fmt.Errorf("rebuilding the run's data set and model: %d posteriors for %d data sets", len(r.Posts), len(r.Data))
+		}
+		rb = &r
+		like := r.Posts[0]
 		if got := like.FreeNames(); !slices.Equal(got, m.Names) {
 			return fmt.Errorf("the configuration now builds parameters %s but the run sampled %s", strings.Join(got, ", "), strings.Join(m.Names, ", "))
 		}
-		if m.DataSHA256 != "" && ds.SHA256 != m.DataSHA256 {
+		if m.DataSHA256 != "" && r.SHA256 != m.DataSHA256 {
 			w.lg.WithField("model", m.Name).Warnf("data set %s has changed since the run (checksum differs); the spectrum shows the current file", w.o.Rebuild.DataSpec(m))
 		}
 		for i, p := range like.FreeParams() {
@@ -201,11 +212,10 @@ func (w *reportWriter) writeModel(m *rundir.Model) error {
 			}
 		}
 		if w.data == nil {
-			w.data = ds
+			w.data = r.Data
 		}
-		data = ds
 	}
-	if like == nil && slices.Contains(m.Labels, "") && w.o.Params != nil {
+	if rb == nil && slices.Contains(m.Labels, "") && w.o.Params != nil {
 		// Labels and units only: the model without data or likelihood.
 		if params, err := w.o.Params(m); err == nil {
 			for _, p := range params {
@@ -282,8 +292,8 @@ func (w *reportWriter) writeModel(m *rundir.Model) error {
 	} else if w.run.Kind == "compare" {
 		w.lg.WithField("model", m.Name).Warn("no evidence.json or lnl_beta.csv: skipping the ln L-versus-beta figure")
 	}
-	if like != nil {
-		if err := w.addBand(m, data, like); err != nil {
+	if rb != nil {
+		if err := w.addBands(m, *rb); err != nil {
 			return err
 		}
 	}
@@ -411,20 +421,29 @@ func (w *reportWriter) writeLnLBeta(dir string, m *rundir.Model) error {
 	return nil
 }
 
-// addBand pushes evenly spaced posterior draws through the model.
-func (w *reportWriter) addBand(m *rundir.Model, ds *likelihood.Dataset, post *likelihood.Posterior) error {
-	band, failed, err := PredictiveBand(m.Name, ds.Freqs, m.Samples, m.Rows, m.Cols, w.o.Draws,
-		func(theta []float64) ([]float64, error) { return post.Log10Rho(theta, nil) })
-	if failed > 0 {
-		w.lg.WithField("model", m.Name).Warnf("%d of %d posterior draws lie outside the model's domain; left out of the band", failed, min(w.o.Draws, m.Rows))
+// addBands pushes evenly spaced posterior draws through the model, at
+// the frequencies of each data set.
+func (w *reportWriter) addBands(m *rundir.Model, r Rebuilt) error {
+	if len(r.Data) != len(w.data) {
+		return fmt.Errorf("it was run on %d data sets, the other models on %d", len(r.Data), len(w.data))
 	}
-	if err != nil {
-		return err
+	var bands []ModelBand
+	for i, ds := range r.Data {
+		post := r.Posts[i]
+		band, failed, err := PredictiveBand(m.Name, ds.Freqs, m.Samples, m.Rows, m.Cols, w.o.Draws,
+			func(theta []float64) ([]float64, error) { return post.Log10Rho(theta, nil) })
+		if failed > 0 {
+			w.lg.WithField("model", m.Name).Warnf("%d of %d posterior draws lie outside the model's domain; left out of the band", failed, min(w.o.Draws, m.Rows))
+		}
+		if err != nil {
+			return err
+		}
+		if !slices.Equal(band.Freq, w.data[i].Freqs) {
+			return errors.New("its data set's frequencies differ from the other models'")
+		}
+		bands = append(bands, band)
 	}
-	if w.data != nil && !slices.Equal(band.Freq, w.data.Freqs) {
-		return errors.New("its data set's frequencies differ from the other models'")
-	}
-	w.bands = append(w.bands, band)
+	w.bands = append(w.bands, bands)
 	return nil
 }
 
@@ -432,16 +451,19 @@ func (w *reportWriter) addBand(m *rundir.Model, ds *likelihood.Dataset, post *li
 // central intervals and the median.
 var reportProbs = []float64{0.025, 0.16, 0.5, 0.84, 0.975}
 
-// writeSpectrum draws the data's per-bin posteriors with every model's
-// band and writes both as spectrum.csv/json.
-func (w *reportWriter) writeSpectrum() error {
-	ds := w.data
+// spectrumSet is one data set's bins and the models' bands at its
+// frequencies, for SpectrumFigure.
+func (w *reportWriter) spectrumSet(i int) SpectrumData {
+	ds := w.data[i]
 	mq := w.o.BinDraws
 	ps := make([]float64, mq)
 	for j := range ps {
 		ps[j] = (float64(j) + 0.5) / float64(mq)
 	}
-	sd := SpectrumData{Freq: ds.Freqs, BinBounds: [2]float64{ds.PriorMin, ds.PriorMax}, Models: w.bands}
+	sd := SpectrumData{Name: ds.Name, Freq: ds.Freqs, BinBounds: [2]float64{ds.PriorMin, ds.PriorMax}}
+	for _, b := range w.bands {
+		sd.Models = append(sd.Models, b[i])
+	}
 	for k := range ds.Bins {
 		b := &ds.Bins[k]
 		var s []float64
@@ -456,54 +478,85 @@ func (w *reportWriter) writeSpectrum() error {
 		}
 		sd.BinSamples = append(sd.BinSamples, s)
 	}
+	return sd
+}
+
+// writeSpectrum draws the data's per-bin posteriors with every model's
+// band and writes both as spectrum.csv/json; with several data sets, each
+// row names its data set.
+func (w *reportWriter) writeSpectrum() error {
+	sd := w.spectrumSet(0)
+	for i := 1; i < len(w.data); i++ {
+		sd.Others = append(sd.Others, w.spectrumSet(i))
+	}
 	w.lg.Info("spectrum figure")
 	files, err := SpectrumFigure(filepath.Join(w.o.Out, "spectrum"), sd, w.figOpts())
 	if err != nil {
 		return err
 	}
 	w.add(files...)
-	// The same quantiles as numbers: one row per (source, frequency).
+	// The same quantiles as numbers: one row per (data set, source,
+	// frequency).
 	type rowJSON struct {
+		Dataset   string  `json:"dataset,omitempty"`
 		Source    string  `json:"source"`
 		Freq      float64 `json:"frequency_hz"`
 		Quantiles []Num   `json:"log10_rho_quantiles"`
 	}
+	multi := len(w.data) > 1
 	var rows []rowJSON
-	quant := func(src string, k int, vals []float64) {
-		v := slices.Clone(vals)
-		v = slices.DeleteFunc(v, func(x float64) bool { return math.IsNaN(x) || math.IsInf(x, 0) })
-		slices.Sort(v)
-		q := make([]Num, len(reportProbs))
-		for i, p := range reportProbs {
-			q[i] = Num(math.NaN())
-			if len(v) > 0 {
-				q[i] = Num(stats.Quantile(v, p))
+	for _, set := range append([]SpectrumData{sd}, sd.Others...) {
+		name := ""
+		if multi {
+			name = set.Name
+		}
+		quant := func(src string, k int, vals []float64) {
+			v := slices.Clone(vals)
+			v = slices.DeleteFunc(v, func(x float64) bool { return math.IsNaN(x) || math.IsInf(x, 0) })
+			slices.Sort(v)
+			q := make([]Num, len(reportProbs))
+			for i, p := range reportProbs {
+				q[i] = Num(math.NaN())
+				if len(v) > 0 {
+					q[i] = Num(stats.Quantile(v, p))
+				}
+			}
+			rows = append(rows, rowJSON{name, src, set.Freq[k], q})
+		}
+		for k, s := range set.BinSamples {
+			quant("data", k, s)
+		}
+		for _, b := range set.Models {
+			col := make([]float64, len(b.Curves))
+			for k := range b.Freq {
+				for d, c := range b.Curves {
+					col[d] = c[k]
+				}
+				quant(b.Name, k, col)
 			}
 		}
-		rows = append(rows, rowJSON{src, ds.Freqs[k], q})
 	}
-	for k, s := range sd.BinSamples {
-		quant("data", k, s)
-	}
-	for _, b := range w.bands {
-		col := make([]float64, len(b.Curves))
-		for k := range b.Freq {
-			for d, c := range b.Curves {
-				col[d] = c[k]
-			}
-			quant(b.Name, k, col)
-		}
+	header := []string{"source", "frequency_hz", "q02.5", "q16", "q50", "q84", "q97.5"}
+	if multi {
+		header = append([]string{"dataset"}, header...)
 	}
 	csvRows := make([][]string, len(rows))
 	for i, r := range rows {
-		csvRows[i] = []string{r.Source, strconv.FormatFloat(r.Freq, 'g', -1, 64)}
+		if multi {
+			csvRows[i] = []string{r.Dataset}
+		}
+		csvRows[i] = append(csvRows[i], r.Source, strconv.FormatFloat(r.Freq, 'g', -1, 64))
 		for _, q := range r.Quantiles {
 			csvRows[i] = append(csvRows[i], strconv.FormatFloat(float64(q), 'g', -1, 64))
 		}
 	}
 	cp := filepath.Join(w.o.Out, "spectrum.csv")
-	if err := reportWriteCSV(cp, []string{"source", "frequency_hz", "q02.5", "q16", "q50", "q84", "q97.5"}, csvRows); err != nil {
+	if err := reportWriteCSV(cp, header, csvRows); err != nil {
 		return err
+	}
+	note := "source \"data\": the data set's per-bin posterior; otherwise a model's posterior-predictive log10 rho (s)"
+	if multi {
+		note += "; dataset: the data set of the row (each has its own frequencies and log10 rho offset)"
 	}
 	jp := filepath.Join(w.o.Out, "spectrum.json")
 	if err := rundir.WriteJSON(jp, struct {
@@ -514,8 +567,7 @@ func (w *reportWriter) writeSpectrum() error {
 		Prior  [2]float64 `json:"bin_prior_log10_rho"`
 		Rows   []rowJSON  `json:"rows"`
 		Source string     `json:"note"`
-	}{w.meta(strings.Join(w.run.ModelNames(), ",")), reportProbs, w.o.Draws, mq, sd.BinBounds, rows,
-		"source \"data\": the data set's per-bin posterior; otherwise a model's posterior-predictive log10 rho (s)"}); err != nil {
+	}{w.meta(strings.Join(w.run.ModelNames(), ",")), reportProbs, w.o.Draws, w.o.BinDraws, sd.BinBounds, rows, note}); err != nil {
 		return err
 	}
 	w.add(cp, jp)

@@ -3,7 +3,12 @@
 // refuses unknown keys with their line number and the keys accepted there,
 // the YAML rendering stored in every run's metadata and printed by
 // --print-config, the fingerprint that identifies a chain, and the
-// command-line flags that override the keys.
+// command-line flags that override the keys. It also turns a configuration
+// into the problem a run samples: the data sets it names, loaded and cut to
+// the selected bins (LoadData), joined with the model into the product of
+// their free-spectrum likelihoods (LoadProblem, likelihood.Joint), and the
+// records of those data sets in the run metadata (DataIdentity,
+// DataRecords).
 package runconfig
 
 import (
@@ -27,9 +32,14 @@ import (
 // overridden by a flag of the same meaning. The resolved configuration is
 // printed by --print-config and stored in every run's metadata.
 type Config struct {
-	// Data is the free-spectrum data set: a path to its YAML description, or
-	// "demo:smbhb" / "demo:strings" for an embedded simulated demo.
-	Data       string           `yaml:"data"`
+	// Data are the free-spectrum data sets: paths to their YAML
+	// descriptions, or "demo:NAME" for an embedded simulated demo. In YAML
+	// one data set is a string and several a list; their likelihoods
+	// multiply (the data sets are treated as independent).
+	Data DataList `yaml:"data"`
+	// Bins selects frequency bins of the data sets (see Bins); empty uses
+	// every bin of every data set.
+	Bins       Bins             `yaml:"bins,omitempty" json:",omitempty"`
 	Model      ModelConfig      `yaml:"model"`
 	Likelihood LikelihoodConfig `yaml:"likelihood"`
 	Cosmology  CosmologyConfig  `yaml:"cosmology"`
@@ -136,7 +146,7 @@ type OutputConfig struct {
 // steps, seed 1.
 func Default() Config {
 	return Config{
-		Data: "",
+		Data: nil,
 		Model: ModelConfig{
 			Name: "smbhb", Turnover: "none",
 			Strings: StringsConfig{
@@ -157,7 +167,7 @@ func Default() Config {
 // 3000 steps per rung, and the folder runs/compare.
 func CompareDefault() Config {
 	c := Default()
-	c.Data = "demo:strings"
+	c.Data = DataList{"demo:strings"}
 	c.Sampler.Steps = 3000
 	c.Output.Dir = filepath.Join("runs", "compare")
 	return c
@@ -258,7 +268,7 @@ func Marshal(cfg Config) string {
 }
 
 // Fingerprint identifies everything that decides a run's chain: the data
-// set's checksum and the configuration except the keys that only say how
+// sets' checksum (DataIdentity's) and the configuration except the keys that only say how
 // long to run, how often to write, where, or with how many goroutines.
 func (c Config) Fingerprint(dataSHA string) string {
 	c.Sampler.Steps, c.Sampler.Until, c.Sampler.Workers = 0, "", 0

@@ -18,6 +18,8 @@ func FuzzDecodeConfig(f *testing.F) {
 	}
 	f.Add([]byte("sampler: {walkers: [1, 2]}\n"))
 	f.Add([]byte("model:\n  priors:\n    x: 3\n"))
+	f.Add([]byte("data: [a.yaml, demo:pair-b]\nbins: {a: lowest:3, 2: \"1,4\"}\n"))
+	f.Add([]byte("bins: lowest:5\ndata: [[1]]\n"))
 	f.Fuzz(func(t *testing.T, raw []byte) {
 		cfg := Default()
 		if err := Decode("fuzz.yaml", raw, &cfg); err != nil && !strings.HasPrefix(err.Error(), "fuzz.yaml") {
@@ -40,7 +42,7 @@ func TestDecode(t *testing.T) {
 				return c.Sampler.Walkers == 8 && c.Model.Strings.Q == 2 && c.Sampler.Steps == 4000
 			}, ""},
 		{"priors map", "model:\n  priors:\n    gamma: fixed(3)\n", func(c Config) bool { return c.Model.Priors["gamma"] == "fixed(3)" }, ""},
-		{"unknown top", "sampler:\n  walkers: 8\nsamplr: {}\n", nil, `c.yaml: line 3: unknown key "samplr"; known keys here: cosmology, data, likelihood, model, output, sampler`},
+		{"unknown top", "sampler:\n  walkers: 8\nsamplr: {}\n", nil, `c.yaml: line 3: unknown key "samplr"; known keys here: bins, cosmology, data, likelihood, model, output, sampler`},
 		{"unknown nested", "model:\n  strings:\n    qq: 1\n", nil, `c.yaml: line 3: unknown key "model.strings.qq"`},
 		{"not a mapping", "sampler: 3\n", nil, "c.yaml: line 1: sampler: want a mapping of keys"},
 		{"top not a mapping", "- 1\n", nil, "c.yaml: line 1: the top level: want a mapping of keys"},

@@ -1,11 +1,62 @@
 package runconfig
 
-import "flag"
+import (
+	"flag"
+	"strings"
+)
+
+// Demos lists the embedded simulated demo data sets, as named after
+// "demo:".
+func Demos() []string { return []string{"smbhb", "strings", "pair-a", "pair-b"} }
+
+// dataHelp is the help of --data.
+func dataHelp(tail string) string {
+	return "free-spectrum data set: path to its YAML description, or demo:NAME for an embedded simulated demo (NAME: " +
+		strings.Join(Demos(), ", ") + "); repeat it for several data sets, whose likelihoods multiply: " +
+		"that treats them as independent, an approximation when the arrays share pulsars" + tail
+}
+
+const binsHelp = "use only some frequency bins: SPEC for every data set, or NAME=SPEC for the data set of that name (or 1-based position); " +
+	"SPEC is 1-5, 1,3,7-9 or lowest:5; repeatable"
+
+// dataFlag is the repeatable --data: the first use on the command line
+// replaces the configuration's list, later ones add to it.
+type dataFlag struct {
+	list *DataList
+	set  bool
+}
+
+func (f *dataFlag) String() string {
+	if f.list == nil {
+		return ""
+	}
+	return f.list.String()
+}
+
+func (f *dataFlag) Set(v string) error {
+	if !f.set {
+		*f.list, f.set = nil, true
+	}
+	*f.list = append(*f.list, v)
+	return nil
+}
+
+// binsFlag is the repeatable --bins (see Config.SetBins).
+type binsFlag struct{ cfg *Config }
+
+func (f binsFlag) String() string     { return "" }
+func (f binsFlag) Set(v string) error { return f.cfg.SetBins(v) }
+
+// bindData registers --data and --bins.
+func bindData(fs *flag.FlagSet, cfg *Config, tail string) {
+	fs.Var(&dataFlag{list: &cfg.Data}, "data", dataHelp(tail))
+	fs.Var(binsFlag{cfg}, "bins", binsHelp)
+}
 
 // BindFit registers on fs a flag for every key of cfg that fit uses, with
 // cfg's values as the defaults; parsing writes into cfg.
 func BindFit(fs *flag.FlagSet, cfg *Config) {
-	fs.StringVar(&cfg.Data, "data", cfg.Data, "free-spectrum data set: path to its YAML description, or demo:smbhb / demo:strings (embedded, simulated); empty picks the demo that suits --model")
+	bindData(fs, cfg, "; none picks the demo that suits --model")
 	fs.StringVar(&cfg.Model.Name, "model", cfg.Model.Name, "model: smbhb, strings, or strings+smbhb")
 	bindModelSettings(fs, cfg)
 	fs.StringVar(&cfg.Likelihood.Bandwidth, "bandwidth", cfg.Likelihood.Bandwidth, "KDE bandwidth rule for bins given as samples: scott or silverman")
@@ -23,7 +74,7 @@ func BindFit(fs *flag.FlagSet, cfg *Config) {
 // (compare takes --models), nor --until, the moves, checkpoints or
 // flushing, which compare does not use.
 func BindCompare(fs *flag.FlagSet, cfg *Config) {
-	fs.StringVar(&cfg.Data, "data", cfg.Data, "free-spectrum data set: path to its YAML description, or demo:smbhb / demo:strings (embedded, simulated)")
+	bindData(fs, cfg, "")
 	bindModelSettings(fs, cfg)
 	fs.StringVar(&cfg.Likelihood.Bandwidth, "bandwidth", cfg.Likelihood.Bandwidth, "KDE bandwidth rule for bins given as samples: scott or silverman")
 	bindSampler(fs, cfg, true)

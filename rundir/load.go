@@ -46,8 +46,12 @@ type Model struct {
 	// Config is the run configuration the command recorded (meta.json's or
 	// part.json's "config").
 	Config json.RawMessage
-	// Data and DataSHA256 name the data set and its checksum.
+	// Data and DataSHA256 name the data set and its checksum (for several
+	// data sets, their joint record).
 	Data, DataSHA256 string
+	// Datasets lists every data set of a run on several or on selected
+	// bins; nil for one data set with every bin (and in older folders).
+	Datasets []chains.DataSet
 	// Names are the sampled parameters, in the column order of Samples;
 	// Priors their priors (priors.Parse syntax), Labels their LaTeX labels
 	// and Units their units (empty: unknown).
@@ -111,7 +115,7 @@ func loadFit(dir, metaPath string, traces bool) (*Run, error) {
 		return nil, fmt.Errorf("%s: config: %w", metaPath, err)
 	}
 	rm := &Model{Name: m.Model.Name, Stem: Stem(m.Model.Name), Config: cfg, Data: m.Data.Name, DataSHA256: m.Data.SHA256,
-		SamplesPath: filepath.Join(dir, PosteriorFile)}
+		Datasets: m.Datasets, SamplesPath: filepath.Join(dir, PosteriorFile)}
 	for _, p := range m.Model.Params {
 		if !p.Fixed {
 			rm.Names = append(rm.Names, p.Name)
@@ -170,7 +174,7 @@ func loadCompare(dir, cmpPath string) (*Run, error) {
 		}
 		md := ModelDir(dir, row.Model)
 		rm := &Model{Name: row.Model, Stem: Stem(row.Model), Config: pm.Config, Data: res.Data, DataSHA256: res.DataSHA256,
-			Names: pm.Params, Priors: pm.Priors, SamplesPath: filepath.Join(md, PosteriorFile)}
+			Datasets: res.Datasets, Names: pm.Params, Priors: pm.Priors, SamplesPath: filepath.Join(md, PosteriorFile)}
 		rm.Labels, rm.Units = make([]string, len(rm.Names)), make([]string, len(rm.Names))
 		if len(rm.Priors) != len(rm.Names) {
 			return nil, fmt.Errorf("%s: part.json of model %s lists %d priors for %d parameters", dir, row.Model, len(rm.Priors), len(rm.Names))

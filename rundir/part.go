@@ -6,6 +6,7 @@ import (
 	"slices"
 	"strings"
 
+	"tautline/chains"
 	"tautline/sampler"
 	"tautline/sampler/evidence"
 )
@@ -48,13 +49,16 @@ type Part struct {
 	Config     json.RawMessage `json:"config"`
 	DataName   string          `json:"data_name"`
 	DataSHA256 string          `json:"data_sha256"`
-	Params     []string        `json:"params"`
-	Priors     []string        `json:"priors"` // of the free parameters, in the order of Params
-	Steps      int             `json:"steps"`
-	Walkers    int             `json:"walkers"`
-	BurnIndex  int             `json:"burn_index"`
-	Recorded   int             `json:"recorded_steps"`
-	Swap       []float64       `json:"swap_acceptance"`
+	// Datasets lists every data set of a comparison on several or on
+	// selected bins (DataName and DataSHA256 are then their joint record).
+	Datasets  []chains.DataSet `json:"datasets,omitempty"`
+	Params    []string         `json:"params"`
+	Priors    []string         `json:"priors"` // of the free parameters, in the order of Params
+	Steps     int              `json:"steps"`
+	Walkers   int              `json:"walkers"`
+	BurnIndex int              `json:"burn_index"`
+	Recorded  int              `json:"recorded_steps"`
+	Swap      []float64        `json:"swap_acceptance"`
 	// Diagnostics are the cold rung's, in the block holding beta = 1.
 	Diagnostics *sampler.Report `json:"cold_rung_diagnostics,omitempty"`
 	// Passes lists the passes of an --evidence-error run.
@@ -139,9 +143,11 @@ type Comparison struct {
 	Version    string `json:"tautline_version"`
 	Data       string `json:"data"`
 	DataSHA256 string `json:"data_sha256"`
-	Reference  string `json:"reference"`
-	Seed       uint64 `json:"seed"`
-	Rows       []Row  `json:"models"`
+	// Datasets is as in Part.
+	Datasets  []chains.DataSet `json:"datasets,omitempty"`
+	Reference string           `json:"reference"`
+	Seed      uint64           `json:"seed"`
+	Rows      []Row            `json:"models"`
 }
 
 // Row is one model's line of the comparison.

@@ -591,7 +591,7 @@ func broadAttacks() []attack {
 			priorRun(t, b, false)
 		}),
 		with1(r("fit into a folder that holds a run", fitArgs("--data", "@D/ok.yaml", "--out", "@T/run"), "this folder holds a run already"), func(t *testing.T, b *attackEnv) { priorRun(t, b, false) }),
-		u("inspect two data sets", []string{"inspect", "@D/ok.yaml", "@D/ok.yaml"}, "want exactly one data set, got 2"),
+		r("inspect a good and a missing data set", []string{"inspect", "@D/ok.yaml", "@T/none.yaml"}, "none.yaml"),
 		r("inspect a missing file", []string{"inspect", "@T/none.yaml"}, "none.yaml"),
 		u("inspect demo:nothing", []string{"inspect", "demo:nothing"}, "no such demo"),
 		r("simulate --pulsars 0", []string{"simulate", "--pulsars", "0", "--out", "@T/sim"}, "pulsars must be >= 1, got 0"),

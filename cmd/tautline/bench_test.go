@@ -9,11 +9,11 @@ import (
 
 // benchPosterior builds the posterior of model on the 30-bin SMBHB demo
 // and returns it with a set of prior draws to evaluate.
-func benchPosterior(b *testing.B, model string) (*problem, [][]float64) {
+func benchPosterior(b *testing.B, model string) (*runconfig.Problem, [][]float64) {
 	b.Helper()
 	cfg := runconfig.Default()
 	cfg.Model.Name = model
-	cfg.Data = "demo:smbhb"
+	cfg.Data = runconfig.DataList{"demo:smbhb"}
 	pb, err := buildProblem(cfg, nil)
 	if err != nil {
 		b.Fatal(err)
@@ -21,8 +21,8 @@ func benchPosterior(b *testing.B, model string) (*problem, [][]float64) {
 	r := rand.New(rand.NewPCG(1, 2))
 	pts := make([][]float64, 256)
 	for i := range pts {
-		pts[i] = make([]float64, pb.post.Dim())
-		pb.post.Draw(r, pts[i])
+		pts[i] = make([]float64, pb.Target.Dim())
+		pb.Target.Draw(r, pts[i])
 	}
 	return pb, pts
 }
@@ -38,7 +38,7 @@ func BenchmarkLogLike(b *testing.B) {
 			b.ResetTimer()
 			s := 0.0
 			for i := 0; i < b.N; i++ {
-				s += pb.post.LogLike(pts[i%len(pts)])
+				s += pb.Target.LogLike(pts[i%len(pts)])
 			}
 			_ = s
 		})

@@ -15,8 +15,6 @@ import (
 
 	"tautline/cmd/tautline/internal/cli"
 	"tautline/compare"
-	"tautline/likelihood"
-	"tautline/models"
 	"tautline/models/registry"
 	"tautline/runconfig"
 	"tautline/rundir"
@@ -24,7 +22,7 @@ import (
 )
 
 const compareHelp = `
-Computes the evidence ln Z of each model on one data set by thermodynamic
+Computes the evidence ln Z of each model on the data by thermodynamic
 integration over a ladder of power posteriors (parallel tempering; each rung
 samples prior x likelihood^beta), cross-checks it with the stepping-stone
 estimator on the same samples, and reports ln B of every model against
@@ -141,15 +139,16 @@ func compareRun(ctx context.Context, e *env, lg *logrus.Logger, cfg runconfig.Co
 	if co.blocks < 1 || co.blocks > co.rungs {
 		return fmt.Errorf("%w: --rung-blocks must be between 1 and --rungs (%d), got %d", errUsage, co.rungs, co.blocks)
 	}
-	ds, err := loadData(cfg.Data)
+	data, parts, err := cfg.LoadParts(loadData)
 	if err != nil {
 		return err
 	}
-	pr := compare.Problem{DataName: ds.Name, DataSHA256: ds.SHA256, Reference: co.reference, ID: comparisonID(cfg, co, ds.SHA256)}
+	id := runconfig.DataIdentity(data)
+	pr := compare.Problem{DataName: id.Name, DataSHA256: id.SHA256, Datasets: runconfig.DataRecords(data), Reference: co.reference, ID: comparisonID(cfg, co, id.SHA256)}
 	if err := compare.CheckOut(cfg.Output.Dir, pr.ID); err != nil {
 		return err
 	}
-	if pr.Models, err = compareModels(cfg, models, ds, lg); err != nil {
+	if pr.Models, err = cfg.CompareModels(models, data, parts, lg.Infof); err != nil {
 		return err
 	}
 	rep := compare.Reporter{
@@ -184,47 +183,6 @@ func compareRun(ctx context.Context, e *env, lg *logrus.Logger, cfg runconfig.Co
 	lg.WithField("seconds", fmt.Sprintf("%.1f", time.Since(started).Seconds())).Info("compare done")
 	compare.WriteTable(e.stdout, res, cfg.Output.Dir)
 	return nil
-}
-
-// compareModels builds every model of a comparison once, on one data set
-// and its free spectrum, each with its share of the --prior settings (a
-// prior applies to every model with that parameter).
-func compareModels(cfg runconfig.Config, names []string, ds *likelihood.Dataset, lg *logrus.Logger) ([]compare.Model, error) {
-	like, err := likelihood.NewFreeSpectrum(ds, likelihood.Options{Bandwidth: cfg.Likelihood.Bandwidth})
-	if err != nil {
-		return nil, err
-	}
-	var built []models.Model
-	for _, name := range names {
-		mc := cfg
-		mc.Model.Name = name
-		m, err := buildModel(mc, lg.Infof)
-		if err != nil {
-			return nil, err
-		}
-		built = append(built, m)
-	}
-	shares, err := registry.SharePriors(names, built, cfg.Model.Priors)
-	if err != nil {
-		return nil, err
-	}
-	var out []compare.Model
-	for i, name := range names {
-		mc := cfg
-		mc.Model.Name, mc.Model.Priors = name, shares[i]
-		pb, err := newProblem(mc, ds, like, built[i])
-		if err != nil {
-			return nil, fmt.Errorf("model %s: %w", name, err)
-		}
-		record := func(workers int) any {
-			c := mc
-			c.Sampler.Workers = workers
-			return c
-		}
-		out = append(out, compare.Model{Name: name, Target: pb.post, Params: pb.post.FreeNames(), Priors: freePriors(pb),
-			Fingerprint: mc.Fingerprint(ds.SHA256), Config: record})
-	}
-	return out, nil
 }
 
 // comparisonID hashes everything that decides a comparison's result: the

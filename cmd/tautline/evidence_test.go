@@ -41,9 +41,9 @@ type evQuad struct {
 // exactly as the sampler sees them, and the n at which it converged.
 // Doubling n (gonum has no adaptive rule) is the convergence test that
 // PHYSICS.md section 7 prescribes.
-func evQuadLnZ(t *testing.T, pb *problem, q evQuad) (float64, int) {
+func evQuadLnZ(t *testing.T, pb *runconfig.Problem, q evQuad) (float64, int) {
 	t.Helper()
-	post := pb.post
+	post := pb.Target
 	params := post.FreeParams()
 	if len(params) != len(q.panels) {
 		t.Fatalf("quadrature: %d free parameters %v, %d panel counts", len(params), post.FreeNames(), len(q.panels))
@@ -96,10 +96,10 @@ func evQuadLnZ(t *testing.T, pb *problem, q evQuad) (float64, int) {
 
 // evProblem builds the problem compare builds for one model: the default
 // configuration with the data set and the given priors.
-func evProblem(t *testing.T, data, model string, pri map[string]string) *problem {
+func evProblem(t *testing.T, data, model string, pri map[string]string) *runconfig.Problem {
 	t.Helper()
 	cfg := runconfig.Default()
-	cfg.Data, cfg.Model.Name = data, model
+	cfg.Data, cfg.Model.Name = runconfig.DataList{data}, model
 	cfg.Model.Priors = map[string]string{}
 	for k, v := range pri {
 		cfg.Model.Priors[k] = v
@@ -194,16 +194,16 @@ func TestEvidenceAgainstQuadrature(t *testing.T) {
 			pb := evProblem(t, c.data, c.model, c.priors)
 			start := time.Now()
 			want, n := evQuadLnZ(t, pb, c.q)
-			t.Logf("quadrature over %v: ln Z = %.5f (n = %d per panel, %.1f s)", pb.post.FreeNames(), want, n, time.Since(start).Seconds())
+			t.Logf("quadrature over %v: ln Z = %.5f (n = %d per panel, %.1f s)", pb.Target.FreeNames(), want, n, time.Since(start).Seconds())
 
 			args := append([]string{"--models", c.model, "--reference", c.model, "--data", c.data}, c.args...)
 			res, _ := evCompare(t, append(args, priorFlags(c.priors)...)...)
-			if res.DataSHA256 != pb.data.SHA256 {
-				t.Fatalf("compare read data %s, the quadrature %s", res.DataSHA256, pb.data.SHA256)
+			if res.DataSHA256 != pb.Data[0].SHA256 {
+				t.Fatalf("compare read data %s, the quadrature %s", res.DataSHA256, pb.Data[0].SHA256)
 			}
 			row := evRow(t, res, c.model)
-			if fmt.Sprint(row.Params) != fmt.Sprint(pb.post.FreeNames()) {
-				t.Fatalf("compare sampled %v, the quadrature integrates %v", row.Params, pb.post.FreeNames())
+			if fmt.Sprint(row.Params) != fmt.Sprint(pb.Target.FreeNames()) {
+				t.Fatalf("compare sampled %v, the quadrature integrates %v", row.Params, pb.Target.FreeNames())
 			}
 			ti, ss := row.TI, row.SS
 			t.Logf("TI %.4f ± %.4f (MC %.4f, disc %.4f); SS %.4f ± %.4f; quadrature %.4f",

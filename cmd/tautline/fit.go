@@ -74,15 +74,15 @@ func fit(ctx context.Context, e *env, lg *logrus.Logger, cfg runconfig.Config, r
 	if err != nil {
 		return err
 	}
-	names := pb.post.FreeNames()
+	names := pb.Target.FreeNames()
 	moves, err := sampler.ParseMoves(cfg.Sampler.Moves, len(names))
 	if err != nil {
 		return fmt.Errorf("%w: --moves %q: %v", errUsage, cfg.Sampler.Moves, err)
 	}
-	lg.WithFields(logrus.Fields{"data": pb.data.Name, "bins": len(pb.data.Freqs), "model": pb.model.Name(), "params": strings.Join(names, ",")}).Info("fit")
+	lg.WithFields(logrus.Fields{"data": pb.Name(), "bins": pb.NumBins(), "model": pb.Model.Name(), "params": strings.Join(names, ",")}).Info("fit")
 	scfg := sampler.Config{
 		Walkers: cfg.Sampler.Walkers, Seed: cfg.Sampler.Seed, Moves: moves, Workers: cfg.Sampler.Workers,
-		Fingerprint: cfg.Fingerprint(pb.data.SHA256),
+		Fingerprint: cfg.Fingerprint(runconfig.DataIdentity(pb.Data).SHA256),
 	}
 	if n := cfg.Sampler.Temperatures; n > 1 {
 		if scfg.Betas, err = sampler.GeometricLadder(n, cfg.Sampler.BetaMin); err != nil {
@@ -95,9 +95,10 @@ func fit(ctx context.Context, e *env, lg *logrus.Logger, cfg runconfig.Config, r
 		return fmt.Errorf("output folder: %w", err)
 	}
 	prog := newProgress(e, lg, cfg.Sampler.Steps)
+	rule, bw, penalty := pb.Likelihood()
 	res, err := fitrun.Run(ctx, fitrun.Problem{
-		Target: pb.post, Names: names, Meta: newMeta(cfg, pb, started),
-		Likelihood: fitrun.Likelihood{BandwidthRule: pb.like.BandwidthRule(), Bandwidths: pb.like.Bandwidths(), AboveRangePenalty: pb.like.Penalty()},
+		Target: pb.Target, Names: names, Meta: newMeta(cfg, pb, started),
+		Likelihood: fitrun.Likelihood{BandwidthRule: rule, Bandwidths: bw, AboveRangePenalty: penalty},
 	}, fitrun.Settings{
 		Sampler: scfg, Steps: cfg.Sampler.Steps, Burn: cfg.Sampler.Burn, Thin: cfg.Sampler.Thin,
 		Until: sampler.Criteria{ESS: until.ESS, TauMultiple: until.TauMultiple, Rhat: until.Rhat}, UntilSpec: cfg.Sampler.Until,
@@ -118,13 +119,13 @@ func fit(ctx context.Context, e *env, lg *logrus.Logger, cfg runconfig.Config, r
 	return nil
 }
 
-func printFitSummary(e *env, cfg runconfig.Config, pb *problem, res sampler.Result, sum []rundir.ParamSummary, n int) {
+func printFitSummary(e *env, cfg runconfig.Config, pb *runconfig.Problem, res sampler.Result, sum []rundir.ParamSummary, n int) {
 	status := res.Status.String()
 	if cfg.Sampler.Until == "" && res.Status == sampler.MaxStepsReached {
 		status = "finished" // no criteria were asked for; the diagnostics below say how well it mixed
 	}
 	fmt.Fprintf(e.stdout, "\nModel %s on %s (%d bins): %s after %d steps x %d walkers; burn-in %d, thin %d, %d posterior samples\n\n",
-		pb.model.Name(), pb.data.Name, len(pb.data.Freqs), status, res.Steps, cfg.Sampler.Walkers, res.Burn, res.Thin, n)
+		pb.Model.Name(), pb.Name(), pb.NumBins(), status, res.Steps, cfg.Sampler.Walkers, res.Burn, res.Thin, n)
 	tw := tabwriter.NewWriter(e.stdout, 0, 0, 2, ' ', tabwriter.AlignRight)
 	fmt.Fprintln(tw, "parameter\tmedian\t68% low\t68% high\t95% low\t95% high\ttau\tESS\tbulk ESS\ttail ESS\tR-hat\t")
 	for k, s := range sum {

@@ -39,7 +39,7 @@ func TestHelpVersionAndExitCodes(t *testing.T) {
 		{[]string{"simulate", "--help"}, 0, "--pulsars int"},
 		{[]string{"spectrum", "--help"}, 0, "--span-yr float"},
 		{[]string{"convert", "--help"}, 0, "--gmu"},
-		{[]string{"inspect"}, 2, "want exactly one data set"},
+		{[]string{"inspect"}, 2, "want at least one data set, got 0 arguments"},
 		{[]string{"fit", "--until", "ess=lots"}, 2, "ess must be a positive number"},
 		{[]string{"fit", "--prior", "log10_A"}, 2, "want NAME=SPEC"},
 		{[]string{"fit", "--burn", "500", "--steps", "100"}, 2, "--burn 500 keeps none of --steps 100"},
@@ -80,7 +80,7 @@ func TestConfigErrors(t *testing.T) {
 		code int
 		want string
 	}{
-		{"bad-unknown-top.yaml", 1, `bad-unknown-top.yaml: line 2: unknown key "samplr"; known keys here: cosmology, data, likelihood, model, output, sampler`},
+		{"bad-unknown-top.yaml", 1, `bad-unknown-top.yaml: line 2: unknown key "samplr"; known keys here: bins, cosmology, data, likelihood, model, output, sampler`},
 		{"bad-unknown-nested.yaml", 1, `bad-unknown-nested.yaml: line 5: unknown key "sampler.stepz"; known keys here: beta_min, burn, checkpoint_every, moves, seed, steps, temperatures, thin, until, walkers, workers`},
 		{"bad-type.yaml", 1, "bad-type.yaml: line 2: cannot unmarshal !!str `many` into int"},
 		{"bad-syntax.yaml", 1, "bad-syntax.yaml: line 2: did not find expected key"},

@@ -10,7 +10,6 @@ import (
 	"time"
 
 	"tautline/cmd/tautline/internal/cli"
-	"tautline/likelihood"
 	"tautline/models"
 	"tautline/models/registry"
 	"tautline/report"
@@ -35,7 +34,9 @@ sub-folder per model):
   against log10_alpha as exclusion_log10_Gmu_vs_log10_alpha.csv/json;
 
   for the run: spectrum.png/svg and spectrum.csv/json (each bin's log10 rho
-  posterior with each model's posterior-predictive 68 % and 95 % bands),
+  posterior with each model's posterior-predictive 68 % and 95 % bands; for
+  a run on several data sets, each data set's bins in its own colour with
+  the bands at its frequencies, and a dataset column),
   exclusion.png/svg (when a model has the exclusion curve), for compare runs
   comparison.tex/csv/json (ln Z by TI and SS with errors, ln B as compare.json
   gives it), and report.json listing every file.
@@ -171,7 +172,7 @@ func runReport(_ context.Context, e *env, args []string) error {
 		Draws: o.draws, BinDraws: o.binDraws, Sig: o.sig, Slices: o.slices, LimitMass: o.limitMass,
 		Version: versionString(), Log: lg,
 		Params: func(m *rundir.Model) ([]models.Param, error) {
-			md, err := buildModel(cfgs[m], lg.Debugf)
+			md, err := registry.Build(cfgs[m].ModelSettings(), lg.Debugf)
 			if err != nil {
 				return nil, err
 			}
@@ -196,14 +197,18 @@ type reportRebuild struct {
 	logf func(string, ...any)
 }
 
-func (r reportRebuild) DataSpec(m *rundir.Model) string { return r.cfgs[m].Data }
+func (r reportRebuild) DataSpec(m *rundir.Model) string { return r.cfgs[m].Data.String() }
 
-func (r reportRebuild) Problem(m *rundir.Model) (*likelihood.Dataset, *likelihood.Posterior, error) {
+func (r reportRebuild) Problem(m *rundir.Model) (report.Rebuilt, error) {
 	pb, err := buildProblem(r.cfgs[m], r.logf)
 	if err != nil {
-		return nil, nil, err
+		return report.Rebuilt{}, err
 	}
-	return pb.data, pb.post, nil
+	out := report.Rebuilt{Posts: pb.Target.Parts(), SHA256: runconfig.DataIdentity(pb.Data).SHA256}
+	for _, d := range pb.Data {
+		out.Data = append(out.Data, d.Set)
+	}
+	return out, nil
 }
 
 // reportConfigs decodes the configuration each model of run recorded.

@@ -73,8 +73,8 @@ func resolveConfig(e *env, name, synopsis, description string, args []string, de
 		}
 		cfg.Model.Priors[strings.TrimSpace(k)] = strings.TrimSpace(v)
 	}
-	if cfg.Data == "" {
-		cfg.Data = registry.DefaultData(cfg.Model.Name)
+	if len(cfg.Data) == 0 || (len(cfg.Data) == 1 && cfg.Data[0] == "") {
+		cfg.Data = runconfig.DataList{registry.DefaultData(cfg.Model.Name)}
 	}
 	return cfg, &rf2, fs2, nil
 }
