@@ -262,7 +262,7 @@ func WriteTable(w io.Writer, res *rundir.Comparison, out string) {
 	_ = tw.Flush()
 	for _, r := range res.Rows {
 		if pm := r.PriorMass; pm != nil && pm.Inside < pm.Draws {
-			fmt.Fprintf(w, "%s: the likelihood is zero (model above the data's range) on part of the prior: ln Z includes ln P(rest) = %.3f ± %.3f from %d of %d prior draws\n",
+			fmt.Fprintf(w, "%s: the likelihood is zero (model above the data's range) on part of the prior: ln Z includes the prior mass of the rest, ln P = %.3f ± %.3f (%d of %d prior draws)\n",
 				r.Model, pm.LnP, pm.Err, pm.Inside, pm.Draws)
 		}
 	}
