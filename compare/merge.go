@@ -168,7 +168,16 @@ func mergeModel(out, model string, parts []*rundir.Part) (rundir.Row, error) {
 		}
 		return 0
 	})
-	ev, err := integrate(rungs)
+	var pm *evidence.PriorMass
+	for _, p := range parts {
+		if p.PriorMass != nil {
+			pm = p.PriorMass
+		}
+	}
+	if pm == nil {
+		return rundir.Row{}, errors.New("no part records the prior mass of the region where the likelihood is non-zero (parts written by an older version?)")
+	}
+	ev, err := integrate(rungs, pm)
 	if err != nil {
 		return rundir.Row{}, err
 	}
@@ -196,6 +205,7 @@ func mergeModel(out, model string, parts []*rundir.Part) (rundir.Row, error) {
 	return rundir.Row{
 		Model: model, Params: parts[0].Params, TI: ev.TIHigher, TITrap: ev.TI, SS: ev.SS, Disagree: ev.Disagree,
 		Rungs: len(rungs), Steps: parts[0].Steps, Walkers: parts[0].Walkers, Warnings: ev.Warnings, Accuracy: accuracy,
+		PriorMass: ev.PriorMass,
 	}, nil
 }
 
@@ -204,14 +214,23 @@ func g(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }
 func writeCompareCSV(path string, res *rundir.Comparison) error {
 	return chains.WriteFileAtomic(path, func(w io.Writer) error {
 		cw := csv.NewWriter(w)
-		_ = cw.Write([]string{"model", "ln_z_ti", "ti_mc_err", "ti_disc_err", "ti_total_err", "ln_z_ss", "ss_mc_err", "ss_disc_err", "ss_total_err", "ln_b", "ln_b_err", "kass_raftery"})
+		_ = cw.Write([]string{"model", "ln_z_ti", "ti_mc_err", "ti_disc_err", "ti_prior_mass_err", "ti_total_err", "ln_z_ss", "ss_mc_err", "ss_disc_err", "ss_total_err", "ln_b", "ln_b_err", "kass_raftery", "ln_prior_mass"})
 		for _, r := range res.Rows {
-			_ = cw.Write([]string{r.Model, g(r.TI.LnZ), g(r.TI.MCErr), g(r.TI.DiscErr), g(r.TI.Total),
-				g(r.SS.LnZ), g(r.SS.MCErr), g(r.SS.DiscErr), g(r.SS.Total), g(r.LnB), g(r.LnBErr), r.Reading})
+			_ = cw.Write([]string{r.Model, g(r.TI.LnZ), g(r.TI.MCErr), g(r.TI.DiscErr), g(r.TI.PriorMassErr), g(r.TI.Total),
+				g(r.SS.LnZ), g(r.SS.MCErr), g(r.SS.DiscErr), g(r.SS.Total), g(r.LnB), g(r.LnBErr), r.Reading, g(lnPriorMass(r))})
 		}
 		cw.Flush()
 		return cw.Error()
 	})
+}
+
+// lnPriorMass is the ln P_prior(R) included in a row's ln Z (0 if none
+// was recorded).
+func lnPriorMass(r rundir.Row) float64 {
+	if r.PriorMass == nil {
+		return 0
+	}
+	return r.PriorMass.LnP
 }
 
 func writeCurveCSV(path string, ev evidence.Result) error {
@@ -229,18 +248,24 @@ func writeCurveCSV(path string, ev evidence.Result) error {
 // WriteTable prints the comparison res, whose files are in out, as a text
 // table with its warnings.
 func WriteTable(w io.Writer, res *rundir.Comparison, out string) {
-	fmt.Fprintf(w, "\nEvidence of each model given data set %s (reference %s; errors: Monte-Carlo + discretisation = total)\n\n", res.Data, res.Reference)
+	fmt.Fprintf(w, "\nEvidence of each model given data set %s (reference %s; errors: Monte-Carlo + discretisation + prior mass = total)\n\n", res.Data, res.Reference)
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
-	fmt.Fprintln(tw, "model\tln Z (TI)\t± MC\t± disc\t± total\tln Z (SS)\t± total\tln B\t± err\treading")
+	fmt.Fprintln(tw, "model\tln Z (TI)\t± MC\t± disc\t± mass\t± total\tln Z (SS)\t± total\tln B\t± err\treading")
 	for _, r := range res.Rows {
 		lnb, lnbErr := strconv.FormatFloat(r.LnB, 'f', 2, 64), strconv.FormatFloat(r.LnBErr, 'f', 2, 64)
 		if r.Reading == "reference" {
 			lnb, lnbErr = "0", "-"
 		}
-		fmt.Fprintf(tw, "%s\t%.3f\t%.3f\t%.3f\t%.3f\t%.3f\t%.3f\t%s\t%s\t%s\n", r.Model, r.TI.LnZ, r.TI.MCErr, r.TI.DiscErr, r.TI.Total,
+		fmt.Fprintf(tw, "%s\t%.3f\t%.3f\t%.3f\t%.3f\t%.3f\t%.3f\t%.3f\t%s\t%s\t%s\n", r.Model, r.TI.LnZ, r.TI.MCErr, r.TI.DiscErr, r.TI.PriorMassErr, r.TI.Total,
 			r.SS.LnZ, r.SS.Total, lnb, lnbErr, r.Reading)
 	}
 	_ = tw.Flush()
+	for _, r := range res.Rows {
+		if pm := r.PriorMass; pm != nil && pm.Inside < pm.Draws {
+			fmt.Fprintf(w, "%s: the likelihood is zero (model above the data's range) on part of the prior: ln Z includes the prior mass of the rest, ln P = %.3f ± %.3f (%d of %d prior draws)\n",
+				r.Model, pm.LnP, pm.Err, pm.Inside, pm.Draws)
+		}
+	}
 	for _, r := range res.Rows {
 		if r.Accuracy != "" {
 			fmt.Fprintf(w, "%s: evidence accuracy: %s\n", r.Model, r.Accuracy)

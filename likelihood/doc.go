@@ -54,9 +54,11 @@
 //
 // Outside the prior range (docs/physics.md section 5): below lo the per-bin
 // posterior is flat, the noise floor, so ln p_i is clamped to its value at
-// lo; above hi the model is excluded, but samplers need a finite number, so
-// ln p_i(x) = ln p_i(hi) - Penalty (1 + (x - hi)) with Penalty 1000 per bin
-// by default (distance capped at 1e6 dex; NaN counts as the cap).
+// lo; above hi the likelihood is exactly zero (ln p_i = -Inf; NaN counts as
+// above), since the data's posteriors were made under a prior that is zero
+// there. Options.Penalty selects a finite stand-in,
+// ln p_i(hi) - Penalty (1 + (x - hi)), for callers that need one;
+// LogLikeExact ignores it, and evidence calculations use LogLikeExact.
 //
 // # Posterior
 //

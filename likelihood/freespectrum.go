@@ -15,9 +15,6 @@ const (
 	// DefaultTableSize is the number of table points per bin spanning the
 	// prior range (spacing 6/2047 = 0.003 dex for a 6-dex range).
 	DefaultTableSize = 2048
-	// DefaultPenalty is the log-likelihood cost per bin of lying above the
-	// prior range: Penalty at the top edge plus Penalty per dex beyond it.
-	DefaultPenalty = 1000.0
 	// DensityFloor bounds a tabulated density from below, relative to the
 	// bin's peak: ln p_i >= ln max p_i + ln DensityFloor (about -27.6). It
 	// keeps zero grid densities and the far tails of a kernel estimate
@@ -42,9 +39,12 @@ type Options struct {
 	// TableSize is the number of table points per bin, at least 16;
 	// 0 means DefaultTableSize.
 	TableSize int
-	// Penalty is the per-bin log-likelihood cost above the prior range:
-	// ln p_i(x) = ln p_i(hi) - Penalty*(1 + (x - hi)) for x > hi.
-	// 0 means DefaultPenalty; it must be > 0.
+	// Penalty, when > 0, replaces the exact ln p_i(x) = -Inf above the
+	// prior range by the finite stand-in
+	// ln p_i(x) = ln p_i(hi) - Penalty*(1 + min(x - hi, 1e6)), for callers
+	// that need a finite value everywhere (an optimiser started outside the
+	// range). It changes LogLike only: LogLikeExact, which evidence
+	// calculations use, ignores it. 0 (the default) is the exact rule.
 	Penalty float64
 }
 
@@ -91,10 +91,10 @@ type FreeSpectrum struct {
 // [lo, hi].
 //
 // Outside the prior range (docs/physics.md section 5): below lo the posterior is
-// flat (the noise floor), so ln p_i(x) = ln p_i(lo); above hi the model is
-// excluded but samplers need a finite number, so
-// ln p_i(x) = ln p_i(hi) - Penalty*(1 + min(x - hi, 1e6)). NaN inputs are
-// treated as the largest distance above.
+// flat (the noise floor), so ln p_i(x) = ln p_i(lo); above hi the data's
+// posterior, made under a prior that is zero there, is zero, so
+// ln p_i(x) = -Inf (or the finite Options.Penalty stand-in, if asked for).
+// NaN inputs count as above the range.
 func NewFreeSpectrum(ds *Dataset, opt Options) (*FreeSpectrum, error) {
 	if ds == nil {
 		return nil, errors.New("likelihood: nil data set")
@@ -114,11 +114,8 @@ func NewFreeSpectrum(ds *Dataset, opt Options) (*FreeSpectrum, error) {
 	if opt.TableSize < 16 || opt.TableSize > 1<<22 {
 		return nil, fmt.Errorf("likelihood: table size: must be in [16, %d], got %d", 1<<22, opt.TableSize)
 	}
-	if opt.Penalty == 0 {
-		opt.Penalty = DefaultPenalty
-	}
-	if !(opt.Penalty > 0) || math.IsInf(opt.Penalty, 0) {
-		return nil, fmt.Errorf("likelihood: penalty: must be finite and > 0, got %g", opt.Penalty)
+	if !(opt.Penalty >= 0) || math.IsInf(opt.Penalty, 0) {
+		return nil, fmt.Errorf("likelihood: penalty: must be finite and >= 0 (0: exact), got %g", opt.Penalty)
 	}
 	m := opt.TableSize
 	n := len(ds.Bins)
@@ -163,9 +160,22 @@ func (f *FreeSpectrum) node(k int) float64 {
 	return f.lo + float64(k)/f.inv
 }
 
-// LogLike returns sum_i ln p_i(log10rho[i]). log10rho must have one entry per
-// bin; otherwise LogLike returns -Inf. It does not allocate.
+// LogLike returns sum_i ln p_i(log10rho[i]): -Inf if any bin lies above
+// the prior range (or that bin's Options.Penalty stand-in, when set).
+// log10rho must have one entry per bin; otherwise LogLike returns -Inf. It
+// does not allocate.
 func (f *FreeSpectrum) LogLike(log10rho []float64) float64 {
+	return f.logLike(log10rho, f.penalty)
+}
+
+// LogLikeExact is LogLike with the exact rule above the prior range
+// (-Inf), whatever Options.Penalty says: the likelihood evidence
+// calculations must use (docs/physics.md section 7).
+func (f *FreeSpectrum) LogLikeExact(log10rho []float64) float64 {
+	return f.logLike(log10rho, 0)
+}
+
+func (f *FreeSpectrum) logLike(log10rho []float64, penalty float64) float64 {
 	if len(log10rho) != f.nbin {
 		return math.Inf(-1)
 	}
@@ -186,7 +196,14 @@ func (f *FreeSpectrum) LogLike(log10rho []float64) float64 {
 			s += r[0] + w*(r[1]-r[0])
 			continue
 		}
-		s += f.lnp(t[off:off+m], x)
+		if x <= lo {
+			s += t[off]
+			continue
+		}
+		if penalty == 0 {
+			return math.Inf(-1)
+		}
+		s += f.lnp(t[off:off+m], x, penalty)
 	}
 	return s
 }
@@ -197,19 +214,24 @@ func (f *FreeSpectrum) LnDensity(i int, x float64) float64 {
 	if i < 0 || i >= f.nbin {
 		return math.NaN()
 	}
-	return f.lnp(f.table[i*f.m:(i+1)*f.m], x)
+	return f.lnp(f.table[i*f.m:(i+1)*f.m], x, f.penalty)
 }
 
-func (f *FreeSpectrum) lnp(row []float64, x float64) float64 {
+// lnp is ln p_i(x) for the table row of bin i; above the range it is -Inf
+// when penalty is 0, else the penalty stand-in.
+func (f *FreeSpectrum) lnp(row []float64, x, penalty float64) float64 {
 	switch {
 	case x <= f.lo:
 		return row[0]
 	case x > f.hi || x != x:
+		if penalty == 0 {
+			return math.Inf(-1)
+		}
 		d := x - f.hi
 		if !(d <= maxAbove) { // also NaN
 			d = maxAbove
 		}
-		return row[f.m-1] - f.penalty*(1+d)
+		return row[f.m-1] - penalty*(1+d)
 	}
 	u := (x - f.lo) * f.inv
 	k := int(u)
@@ -226,7 +248,8 @@ func (f *FreeSpectrum) NumBins() int { return f.nbin }
 // Range returns the prior range [lo, hi] of log10 rho the tables span.
 func (f *FreeSpectrum) Range() (lo, hi float64) { return f.lo, f.hi }
 
-// Penalty returns the above-range penalty per dex.
+// Penalty returns the above-range penalty per dex of LogLike; 0 means the
+// exact rule (ln L = -Inf above the prior range).
 func (f *FreeSpectrum) Penalty() float64 { return f.penalty }
 
 // BandwidthRule returns the kernel bandwidth rule, "scott" or "silverman".

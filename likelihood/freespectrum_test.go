@@ -261,20 +261,31 @@ func TestGaussianBins(t *testing.T) {
 	}
 }
 
+// TestOutOfRange checks the rules outside the prior range (docs/physics.md
+// section 5): below it the density is clamped to its value at lo; above it
+// the likelihood is exactly zero (ln p = -Inf), or, only when a penalty is
+// asked for, ln p(hi) - Penalty (1 + min(x - hi, 1e6)); LogLikeExact is the
+// exact rule whatever the penalty.
 func TestOutOfRange(t *testing.T) {
 	const lo, hi = -9.0, -5.0
 	ds := &Dataset{Name: "t", Span: 1e8, Freqs: []float64{1e-8, 2e-8}, PriorMin: lo, PriorMax: hi,
 		Bins: []Bin{{Kind: Gaussian, Mean: -7, SD: 0.5}, {Kind: Gaussian, Mean: -6, SD: 1}}}
-	for _, pen := range []float64{0, 50} {
-		f, err := NewFreeSpectrum(ds, Options{Penalty: pen})
+	inf := math.Inf(-1)
+	for _, P := range []float64{0, 50} {
+		f, err := NewFreeSpectrum(ds, Options{Penalty: P})
 		if err != nil {
 			t.Fatal(err)
 		}
-		P := pen
-		if P == 0 {
-			P = DefaultPenalty
+		if f.Penalty() != P {
+			t.Errorf("Penalty() = %g, want %g", f.Penalty(), P)
 		}
 		atLo, atHi := f.LnDensity(0, lo), f.LnDensity(0, hi)
+		above := func(d float64) float64 {
+			if P == 0 {
+				return inf
+			}
+			return atHi - P*(1+d)
+		}
 		for _, tc := range []struct {
 			x, want float64
 			why     string
@@ -282,24 +293,39 @@ func TestOutOfRange(t *testing.T) {
 			{lo - 1e-9, atLo, "just below: clamp to the noise floor"},
 			{lo - 30, atLo, "far below: clamp"},
 			{math.Inf(-1), atLo, "-Inf: clamp"},
-			{hi + 0.5, atHi - P*1.5, "half a dex above: Penalty*(1+0.5)"},
-			{hi + 2, atHi - P*3, "two dex above"},
-			{math.Inf(1), atHi - P*(1+1e6), "+Inf: capped distance"},
-			{math.NaN(), atHi - P*(1+1e6), "NaN: treated as the largest distance"},
+			{hi + 1e-12, above(1e-12), "just above"},
+			{hi + 0.5, above(0.5), "half a dex above"},
+			{hi + 2, above(2), "two dex above"},
+			{math.Inf(1), above(1e6), "+Inf: capped distance"},
+			{math.NaN(), above(1e6), "NaN: treated as the largest distance"},
 		} {
-			if got := f.LnDensity(0, tc.x); got != tc.want {
+			if got := f.LnDensity(0, tc.x); got != tc.want && math.Abs(got-tc.want) > 1e-9 {
 				t.Errorf("penalty %g: ln p(%g) = %g, want %g (%s)", P, tc.x, got, tc.want, tc.why)
 			}
 		}
-		// LogLike is the sum over bins and never NaN or -Inf.
-		for _, x := range [][]float64{{-7, -6}, {-20, 3}, {math.NaN(), math.Inf(1)}} {
-			got := f.LogLike(x)
-			want := f.LnDensity(0, x[0]) + f.LnDensity(1, x[1])
-			if got != want || math.IsNaN(got) || math.IsInf(got, 0) {
-				t.Errorf("LogLike(%v) = %g, want finite %g", x, got, want)
+		// LogLike is the sum over bins, never NaN; LogLikeExact is -Inf as
+		// soon as one bin is above the range.
+		for _, tc := range []struct {
+			x     []float64
+			above bool
+		}{
+			{[]float64{-7, -6}, false}, {[]float64{-20, -30}, false}, {[]float64{-20, 3}, true},
+			{[]float64{math.NaN(), -6}, true}, {[]float64{-7, math.Inf(1)}, true},
+		} {
+			got := f.LogLike(tc.x)
+			want := f.LnDensity(0, tc.x[0]) + f.LnDensity(1, tc.x[1])
+			if got != want || math.IsNaN(got) {
+				t.Errorf("penalty %g: LogLike(%v) = %g, want %g", P, tc.x, got, want)
+			}
+			exact := f.LogLikeExact(tc.x)
+			switch {
+			case tc.above && exact != inf:
+				t.Errorf("LogLikeExact(%v) = %g, want -Inf", tc.x, exact)
+			case !tc.above && exact != got:
+				t.Errorf("LogLikeExact(%v) = %g, want LogLike's %g in range", tc.x, exact, got)
 			}
 		}
-		if f.LogLike([]float64{-7}) != math.Inf(-1) {
+		if f.LogLike([]float64{-7}) != inf || f.LogLikeExact([]float64{-7}) != inf {
 			t.Error("LogLike with the wrong length should be -Inf")
 		}
 	}
@@ -313,7 +339,7 @@ func TestNewFreeSpectrumOptions(t *testing.T) {
 	}{
 		{Options{Bandwidth: "wide"}, `likelihood: bandwidth rule "wide": must be "scott" or "silverman"`},
 		{Options{TableSize: 3}, `likelihood: table size: must be in [16, 4194304], got 3`},
-		{Options{Penalty: -1}, `likelihood: penalty: must be finite and > 0, got -1`},
+		{Options{Penalty: -1}, `likelihood: penalty: must be finite and >= 0 (0: exact), got -1`},
 	} {
 		if _, err := NewFreeSpectrum(ds, tc.opt); err == nil || err.Error() != tc.want {
 			t.Errorf("%+v: error %v, want %s", tc.opt, err, tc.want)

@@ -74,11 +74,21 @@ func (j *Joint) LogPrior(x []float64) float64 { return j.parts[0].LogPrior(x) }
 
 // LogLike returns the sum over data sets of their free-spectrum log
 // likelihoods, added in the order the data sets were given; -Inf when x is
-// outside the model's domain. It does not allocate in steady state.
+// outside the model's domain or above a data set's prior range. It does not allocate in steady state.
 func (j *Joint) LogLike(x []float64) float64 {
 	s := 0.0
 	for _, p := range j.parts {
 		s += p.LogLike(x)
+	}
+	return s
+}
+
+// LogLikeExact is LogLike with every part's exact rule above its prior
+// range (see Posterior.LogLikeExact); evidence calculations use it.
+func (j *Joint) LogLikeExact(x []float64) float64 {
+	s := 0.0
+	for _, p := range j.parts {
+		s += p.LogLikeExact(x)
 	}
 	return s
 }

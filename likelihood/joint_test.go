@@ -68,12 +68,18 @@ func TestJointIsSum(t *testing.T) {
 		}
 		if !math.IsInf(got, 0) {
 			finite++
+		} else if !aboveRange(t, single, x) {
+			t.Errorf("LogLike(%v) = %g, but no part's model lies above its prior range", x, got)
+		}
+		if ex := j.LogLikeExact(x); math.Float64bits(ex) != math.Float64bits(got) {
+			t.Errorf("LogLikeExact(%v) = %g, LogLike %g: equal without a penalty", x, ex, got)
 		}
 		if lp := j.LogPrior(x); lp != single[0].LogPrior(x) {
 			t.Fatalf("LogPrior(%v) = %g, want %g", x, lp, single[0].LogPrior(x))
 		}
 	}
-	if finite < 100 {
+	// Above-range draws have zero likelihood; most of this prior is in range.
+	if finite < 50 {
 		t.Errorf("only %d of 100 prior draws scored finitely", finite)
 	}
 	if got := j.LogLike([]float64{-14, 8}); !math.IsInf(got, -1) {
@@ -85,6 +91,25 @@ func TestJointIsSum(t *testing.T) {
 	if a := testing.AllocsPerRun(200, func() { j.LogLike(x) }); a != 0 && !raceEnabled {
 		t.Errorf("Joint.LogLike allocates %g times per call, want 0", a)
 	}
+}
+
+// aboveRange reports whether x puts some part's model above that part's
+// prior range of log10 rho in a bin.
+func aboveRange(t *testing.T, parts []*Posterior, x []float64) bool {
+	t.Helper()
+	for _, p := range parts {
+		rho, err := p.Log10Rho(x, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		_, hi := p.FreeSpectrum().Range()
+		for _, r := range rho {
+			if r > hi {
+				return true
+			}
+		}
+	}
+	return false
 }
 
 func TestNewJointRefuses(t *testing.T) {

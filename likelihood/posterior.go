@@ -20,6 +20,15 @@ import (
 // example outside a tabulated range) gets LogLike = -Inf: the sampler rejects
 // such proposals, so the model's domain acts as a zero of the prior. Keep
 // priors inside the domain so that Draw never lands outside it.
+//
+// A theta whose spectrum lies above the data's prior range of log10 rho in
+// some bin has likelihood exactly zero (docs/physics.md section 5), so
+// LogLike = -Inf there too. Draw still draws from the whole prior; the
+// sampler redraws starting points until LogLike is finite, so walkers start
+// in the region R where the likelihood is non-zero and never leave it. The
+// evidence is then Z = P_prior(R) Z_R, with Z_R the evidence of the prior
+// restricted to R (what tempered runs started in R estimate) and
+// P_prior(R) estimated from prior draws (package compare).
 type Posterior struct {
 	model  models.Model
 	params []models.Param // all, with the priors in use
@@ -154,8 +163,17 @@ func (p *Posterior) LogPrior(x []float64) float64 {
 }
 
 // LogLike returns the free-spectrum log likelihood of the free parameters
-// x; -Inf outside the model's domain. It does not allocate in steady state.
-func (p *Posterior) LogLike(x []float64) float64 {
+// x: -Inf outside the model's domain and where the model lies above the
+// data's prior range in some bin (unless the free spectrum was built with
+// a penalty, see Options.Penalty). It does not allocate in steady state.
+func (p *Posterior) LogLike(x []float64) float64 { return p.logLike(x, false) }
+
+// LogLikeExact is LogLike with the exact rule above the prior range (-Inf)
+// whatever penalty the free spectrum carries: evidence calculations use it
+// (docs/physics.md section 7), so that ln Z depends on no tuning constant.
+func (p *Posterior) LogLikeExact(x []float64) float64 { return p.logLike(x, true) }
+
+func (p *Posterior) logLike(x []float64, exact bool) float64 {
 	if len(x) != len(p.free) {
 		return math.Inf(-1)
 	}
@@ -173,6 +191,9 @@ func (p *Posterior) LogLike(x []float64) float64 {
 	const half = 0.5 / math.Ln10
 	for i, lo := range s.lnO {
 		s.rho[i] = half*lo + p.c[i]
+	}
+	if exact {
+		return p.fs.LogLikeExact(s.rho)
 	}
 	return p.fs.LogLike(s.rho)
 }

@@ -120,18 +120,25 @@ func TestPosteriorLogLike(t *testing.T) {
 			case lr < ds.PriorMin:
 				want += nd.LogProb(ds.PriorMin) - lnZ
 			case lr > ds.PriorMax:
-				want += nd.LogProb(ds.PriorMax) - lnZ - DefaultPenalty*(1+lr-ds.PriorMax)
+				want = math.Inf(-1) // zero likelihood above the range
 			default:
 				want += nd.LogProb(lr) - lnZ
 			}
 		}
-		if got := p.LogLike(x); math.Abs(got-want) > tol*(1+1e-9)+1e-9*math.Abs(want) {
+		got := p.LogLike(x)
+		if math.IsInf(want, -1) {
+			if !math.IsInf(got, -1) || p.LogLikeExact(x) != got {
+				t.Errorf("LogLike(%v) = %g, LogLikeExact %g, want -Inf (above the range)", x, got, p.LogLikeExact(x))
+			}
+			continue
+		}
+		if math.Abs(got-want) > tol*(1+1e-9)+1e-9*math.Abs(want) || p.LogLikeExact(x) != got {
 			t.Errorf("LogLike(%v) = %.9g, want %.9g (tol %.2g)", x, got, want, tol)
 		}
 	}
-	// A NaN from the model is scored as far above the data, finite.
-	if got := p.LogLike([]float64{math.NaN(), 3}); math.IsNaN(got) || math.IsInf(got, 0) {
-		t.Errorf("LogLike with NaN amplitude = %g, want finite", got)
+	// A NaN from the model counts as above the data: zero likelihood.
+	if got := p.LogLike([]float64{math.NaN(), 3}); !math.IsInf(got, -1) {
+		t.Errorf("LogLike with NaN amplitude = %g, want -Inf", got)
 	}
 	// Outside the model's domain: -Inf (zero prior support).
 	if got := p.LogLike([]float64{-14, 8}); !math.IsInf(got, -1) {

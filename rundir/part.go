@@ -63,6 +63,9 @@ type Part struct {
 	Diagnostics *sampler.Report `json:"cold_rung_diagnostics,omitempty"`
 	// Passes lists the passes of an --evidence-error run.
 	Passes []Pass `json:"passes,omitempty"`
+	// PriorMass, in the block holding beta = 0, is the estimated prior
+	// mass of the region where the model's likelihood is non-zero.
+	PriorMass *evidence.PriorMass `json:"prior_mass,omitempty"`
 }
 
 // Pass is one pass of the loop that runs a unit until its evidence error
@@ -168,4 +171,7 @@ type Row struct {
 	// Accuracy says, with --evidence-error, whether the target was met or
 	// which cap stopped the run.
 	Accuracy string `json:"evidence_target,omitempty"`
+	// PriorMass is the estimated prior mass of the region where the
+	// likelihood is non-zero, whose ln is included in the ln Z above.
+	PriorMass *evidence.PriorMass `json:"prior_mass,omitempty"`
 }

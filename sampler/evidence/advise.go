@@ -51,7 +51,9 @@ const maxInsertFactor = 2
 // (MCErr / (target - DiscErr'))^2. Adding rungs is assumed to leave the
 // Monte-Carlo error unchanged. A discretisation estimate smaller than twice
 // its own Monte-Carlo noise (Estimate.DiscNoise) is treated as noise: the
-// advice is then more steps only, by (Total / target)^2.
+// advice is then more steps only, by (Total / target)^2. A prior-mass
+// error (Estimate.PriorMassErr) is taken off the target first, since only
+// more prior draws reduce it.
 func Advise(r Result, target float64) Advice {
 	est := r.TIHigher
 	if !(target > 0) || math.IsInf(target, 1) {
@@ -59,6 +61,15 @@ func Advise(r Result, target float64) Advice {
 	}
 	if est.Total <= target {
 		return Advice{Done: true, StepsFactor: 1, Reason: fmt.Sprintf("total error %.3g is within the target %.3g", est.Total, target)}
+	}
+	// Neither steps nor rungs shrink the prior-mass error: what they can
+	// reach is the target without it.
+	if est.PriorMassErr > 0 {
+		if est.PriorMassErr >= target {
+			return Advice{StepsFactor: 1, Reason: fmt.Sprintf("the prior-mass error %.3g alone exceeds the target %.3g: it needs more prior draws, not more steps or rungs", est.PriorMassErr, target)}
+		}
+		target -= est.PriorMassErr
+		est.Total -= est.PriorMassErr
 	}
 
 	segs := make([]segment, len(r.Intervals))

@@ -66,6 +66,16 @@
 // error, so that Advise can tell a ladder that is too coarse from a run
 // that is too short.
 //
+// # Zero likelihood on part of the prior
+//
+// When the likelihood is exactly zero on part of the prior (a model above
+// the data's range, docs/physics.md section 5), the rungs sample the prior
+// restricted to the region R where it is not, and estimate ln Z_R.
+// Options.PriorMass, the fraction p of independent prior draws inside R
+// (NewPriorMass), adds ln p to every estimate and its binomial error
+// sqrt((1-p)/(p M)) to every budget as Estimate.PriorMassErr, so that
+// Total = MCErr + DiscErr + PriorMassErr.
+//
 // TIHigher and SS are compared through their difference, whose Monte-Carlo
 // error is computed from the paired influence series (both use the same
 // samples, so most of the noise cancels) and combined in quadrature with

@@ -33,6 +33,11 @@ type Options struct {
 	// thermodynamic integration and stepping-stone are flagged as
 	// disagreeing; 0 means 3.
 	DisagreeAt float64
+	// PriorMass, when set, is the prior probability of the region where the
+	// likelihood is non-zero, the rungs having sampled the prior restricted
+	// to it: its ln p is added to every ln Z and its error to every error
+	// budget (Estimate.PriorMassErr).
+	PriorMass *PriorMass
 }
 
 // An Estimate is one evidence estimate with its error budget.
@@ -40,7 +45,10 @@ type Estimate struct {
 	LnZ     float64 `json:"lnZ"`
 	MCErr   float64 `json:"mcErr"`   // Monte-Carlo standard error
 	DiscErr float64 `json:"discErr"` // discretisation error (bias for stepping-stone)
-	Total   float64 `json:"total"`   // MCErr + DiscErr
+	// PriorMassErr is the standard error of ln P_prior(R) when the estimate
+	// includes it (Options.PriorMass), else 0.
+	PriorMassErr float64 `json:"priorMassErr"`
+	Total        float64 `json:"total"` // MCErr + DiscErr + PriorMassErr
 	// DiscNoise is the Monte-Carlo standard error of DiscErr itself: a
 	// discretisation error not well above it is mostly sampling noise, which
 	// more steps, not more rungs, will reduce.
@@ -84,7 +92,9 @@ type Result struct {
 	// and both discretisation errors, added in quadrature.
 	DisagreeErr float64      `json:"disagreeErr"`
 	Curve       []CurvePoint `json:"curve"`
-	Intervals   []Interval   `json:"intervals"`
+	// PriorMass is Options.PriorMass, already included in the estimates.
+	PriorMass *PriorMass `json:"priorMass,omitempty"`
+	Intervals []Interval `json:"intervals"`
 	// Warnings name rungs whose errors are less trustworthy than reported.
 	Warnings []string `json:"warnings,omitempty"`
 }
@@ -310,6 +320,12 @@ func Integrate(rungs []Rung, opt Options) (Result, error) {
 	}
 	res.SS = newEstimate(ssLnZ, mcVar[estSS], ssVar, 0)
 	discShares(res.Intervals, sub, betas, E, V, res.TIHigher.DiscErr)
+	if pm := opt.PriorMass; pm != nil {
+		for _, e := range []*Estimate{&res.TI, &res.TIHigher, &res.SS} {
+			pm.apply(e)
+		}
+		res.PriorMass = pm
+	}
 
 	for _, e := range []Estimate{res.TI, res.TIHigher, res.SS} {
 		if !numeric.Finite(e.LnZ) || !numeric.Finite(e.Total) || !numeric.Finite(e.DiscNoise) {
