@@ -23,6 +23,7 @@ import (
 
 	"gopkg.in/yaml.v3"
 
+	"tautline/compare"
 	"tautline/models/registry"
 	"tautline/rundir"
 )
@@ -168,7 +169,8 @@ func Default() Config {
 func CompareDefault() Config {
 	c := Default()
 	c.Data = DataList{"demo:strings"}
-	c.Sampler.Steps = 3000
+	c.Sampler.Steps = compare.DefaultSteps
+	c.Sampler.Walkers = compare.DefaultWalkers
 	c.Output.Dir = filepath.Join("runs", "compare")
 	return c
 }

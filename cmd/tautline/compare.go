@@ -61,22 +61,27 @@ type compareOpts struct {
 	swapEvery int
 	adapt     bool
 	cmdline   string
+	// priorDraws estimates ln P_prior(R), the log prior mass of the region
+	// of finite likelihood.
+	priorDraws int
 }
 
 func runCompare(ctx context.Context, e *env, args []string) error {
 	var co compareOpts
+	d := compare.DefaultSettings()
 	extra := func(fs *flag.FlagSet) {
 		fs.StringVar(&co.models, "models", "smbhb,strings,strings+smbhb", "comma-separated models to compare")
 		fs.StringVar(&co.reference, "reference", "smbhb", "model that ln B is computed against")
-		fs.IntVar(&co.rungs, "rungs", 16, "rungs of the temperature ladder, beta_k = (k/(K-1))^exponent from 0 to 1")
-		fs.Float64Var(&co.exponent, "ladder-exponent", 5, "exponent of the power-law ladder (dense near beta = 0)")
+		fs.IntVar(&co.rungs, "rungs", d.Rungs, "rungs of the temperature ladder, beta_k = (k/(K-1))^exponent from 0 to 1")
+		fs.Float64Var(&co.exponent, "ladder-exponent", d.Exponent, "exponent of the power-law ladder (dense near beta = 0)")
 		fs.IntVar(&co.blocks, "rung-blocks", 1, "split the ladder into this many independent blocks (no swaps across blocks) so that tasks can run them apart")
 		fs.Float64Var(&co.target, "evidence-error", 0, "keep running until the total error of every ln Z is below this (0: one pass)")
-		fs.IntVar(&co.maxSteps, "max-steps", 40000, "cap on steps per rung with --evidence-error")
-		fs.IntVar(&co.maxRungs, "max-rungs", 48, "cap on rungs with --evidence-error")
+		fs.IntVar(&co.maxSteps, "max-steps", d.MaxSteps, "cap on steps per rung with --evidence-error")
+		fs.IntVar(&co.maxRungs, "max-rungs", d.MaxRungs, "cap on rungs with --evidence-error")
 		fs.IntVar(&co.task, "task", -1, "run only slice TASK (0-based) of --tasks; -1 runs everything; the environment variable SLURM_ARRAY_TASK_ID is used when set and --task is not")
 		fs.IntVar(&co.tasks, "tasks", 1, "number of slices the work is split into")
 		fs.IntVar(&co.swapEvery, "swap-every", 1, "steps between swap rounds of neighbouring rungs")
+		fs.IntVar(&co.priorDraws, "prior-draws", d.PriorDraws, "independent prior draws that estimate the prior mass of the region where the model stays within every bin's log10 rho range (its binomial error is the '± mass' term of ln Z)")
 		fs.BoolVar(&co.adapt, "adapt-ladder", false, "adapt the inner rungs' temperatures during burn-in to even out swap acceptance (Vousden, Farr & Mandel 2016); the ladder is frozen after burn-in and only later samples enter ln Z")
 	}
 	cfg, rf, fs, err := resolveConfig(e, "compare", "[options]", compareHelp, args, runconfig.CompareDefault, runconfig.BindCompare, extra)
@@ -170,7 +175,7 @@ func compareRun(ctx context.Context, e *env, lg *logrus.Logger, cfg runconfig.Co
 		Rungs: co.rungs, Exponent: co.exponent, Blocks: co.blocks,
 		Walkers: sc.Walkers, Steps: sc.Steps, Burn: sc.Burn, Thin: sc.Thin, Seed: sc.Seed, SwapEvery: co.swapEvery, AdaptLadder: co.adapt,
 		ErrorTarget: co.target, MaxSteps: co.maxSteps, MaxRungs: co.maxRungs, Task: co.task, Tasks: co.tasks,
-		Workers: sc.Workers, Out: cfg.Output.Dir, Version: version, Reporter: rep,
+		Workers: sc.Workers, Out: cfg.Output.Dir, Version: version, Reporter: rep, PriorDraws: co.priorDraws,
 	})
 	if err != nil {
 		return err

@@ -184,10 +184,10 @@ func TestEvidenceAgainstQuadrature(t *testing.T) {
 		q                 evQuad
 		args              []string
 	}{
-		// 32 rungs and 4000 steps bring the reported total error of the
-		// 2-parameter model to about 0.03, in about 6 s.
-		{"smbhb 2 parameters", "demo:smbhb", "smbhb", nil, quadSMBHB, []string{"--rungs", "32", "--steps", "4000"}},
-		{"strings log10_Gmu only", "demo:strings", "strings", fixedAlphaP, quadStrings1D, []string{"--rungs", "24", "--steps", "3000"}},
+		// compare's default ladder and run length (24 rungs, 3000 steps):
+		// the defaults are what users get, so they are what is checked.
+		{"smbhb 2 parameters", "demo:smbhb", "smbhb", nil, quadSMBHB, nil},
+		{"strings log10_Gmu only", "demo:strings", "strings", fixedAlphaP, quadStrings1D, nil},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
@@ -275,7 +275,7 @@ func TestBayesFactorSign(t *testing.T) {
 			wantB := zs - zb
 			t.Logf("quadrature: ln Z strings %.4f, smbhb %.4f, ln B %.4f (%.1f s)", zs, zb, wantB, time.Since(start).Seconds())
 
-			args := append([]string{"--models", "smbhb,strings", "--data", c.data, "--rungs", "24", "--steps", "3000"}, priorFlags(c.priors)...)
+			args := append([]string{"--models", "smbhb,strings", "--data", c.data}, priorFlags(c.priors)...)
 			res, _ := evCompare(t, args...)
 			if res.Reference != "smbhb" {
 				t.Fatalf("reference %q, want the default smbhb", res.Reference)
