@@ -86,6 +86,12 @@ type StringsConfig struct {
 	DOF string `yaml:"dof"`
 	// Direct evaluates the spectrum by quadrature instead of the table.
 	Direct bool `yaml:"direct"`
+	// Alpha is the loop size at birth as a fraction of cosmic time, fixed
+	// in the metastable model (strings-metastable), which samples log10_Gmu
+	// and sqrt_kappa_m instead.
+	Alpha float64 `yaml:"alpha"`
+	// P is the reconnection probability, fixed in the metastable model.
+	P float64 `yaml:"p"`
 }
 
 // LikelihoodConfig sets how per-bin densities are built.
@@ -151,7 +157,7 @@ func Default() Config {
 		Model: ModelConfig{
 			Name: "smbhb", Turnover: "none",
 			Strings: StringsConfig{
-				Q: 4.0 / 3, Gamma: 50, F: 0.1, CEff: "vos", Kappa: 1, Modes: 100000, DOF: "standard-model",
+				Q: 4.0 / 3, Gamma: 50, F: 0.1, CEff: "vos", Kappa: 1, Modes: 100000, DOF: "standard-model", Alpha: 0.1, P: 1,
 			},
 		},
 		Likelihood: LikelihoodConfig{Bandwidth: "scott"},
@@ -284,7 +290,7 @@ func (c Config) ModelSettings() registry.Settings {
 	return registry.Settings{
 		Name:      m.Name,
 		Binaries:  registry.Binaries{FixGamma: m.FixGamma, Turnover: m.Turnover, FBend: m.FBend, TurnoverKappa: m.TurnoverKappa},
-		Strings:   registry.Strings{Q: sc.Q, Gamma: sc.Gamma, F: sc.F, CEff: sc.CEff, Kappa: sc.Kappa, Modes: sc.Modes, DOF: sc.DOF, Direct: sc.Direct},
+		Strings:   registry.Strings{Q: sc.Q, Gamma: sc.Gamma, F: sc.F, CEff: sc.CEff, Kappa: sc.Kappa, Modes: sc.Modes, DOF: sc.DOF, Direct: sc.Direct, Alpha: sc.Alpha, P: sc.P},
 		Cosmology: registry.Cosmology{H0: cc.H0, OmegaM: cc.OmegaM, TCMB: cc.TCMB, Neff: cc.Neff},
 	}
 }

@@ -102,6 +102,8 @@ func bindModelSettings(fs *flag.FlagSet, cfg *Config) {
 	fs.Float64Var(&cfg.Model.Strings.Kappa, "kappa", cfg.Model.Strings.Kappa, "loop density scales as P^(-kappa) with the reconnection probability P")
 	fs.IntVar(&cfg.Model.Strings.Modes, "modes", cfg.Model.Strings.Modes, "number of loop harmonics summed; 0 adds the N -> infinity tail")
 	fs.StringVar(&cfg.Model.Strings.DOF, "dof", cfg.Model.Strings.DOF, "relativistic degrees of freedom: standard-model or constant")
+	fs.Float64Var(&cfg.Model.Strings.Alpha, "string-alpha", cfg.Model.Strings.Alpha, "loop size at birth as a fraction of cosmic time, fixed in strings-metastable (dimensionless)")
+	fs.Float64Var(&cfg.Model.Strings.P, "string-p", cfg.Model.Strings.P, "reconnection probability, fixed in strings-metastable (0 < P <= 1)")
 	fs.BoolVar(&cfg.Model.Strings.Direct, "direct", cfg.Model.Strings.Direct, "evaluate the string spectrum by direct quadrature instead of the certified table (slow; for checks)")
 	fs.Float64Var(&cfg.Cosmology.H0, "h0", cfg.Cosmology.H0, "Hubble constant in km/s/Mpc")
 	fs.Float64Var(&cfg.Cosmology.OmegaM, "omega-m", cfg.Cosmology.OmegaM, "matter density parameter today")
