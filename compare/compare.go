@@ -25,6 +25,7 @@ import (
 	"sync"
 
 	"tautline/chains"
+	"tautline/internal/budget"
 	"tautline/rundir"
 	"tautline/sampler"
 	"tautline/sampler/evidence"
@@ -177,6 +178,13 @@ func Run(ctx context.Context, p Problem, s Settings) (*rundir.Comparison, error)
 	}
 	units, err := Plan(names, s.Rungs, s.Exponent, s.Blocks)
 	if err != nil {
+		return nil, err
+	}
+	dims := make([]int, len(p.Models))
+	for i, m := range p.Models {
+		dims[i] = m.Target.Dim()
+	}
+	if err := s.CheckSize(dims, budget.Current(s.Out)); err != nil {
 		return nil, err
 	}
 	if err := os.MkdirAll(s.Out, 0o755); err != nil {

@@ -71,8 +71,8 @@ type Settings struct {
 
 // Reporter receives a fit's progress.
 type Reporter struct {
-	// Infof receives log lines.
-	Infof func(format string, args ...any)
+	// Infof receives log lines, Warnf warnings.
+	Infof, Warnf func(format string, args ...any)
 	// Step is called after every step with the ensemble's step count.
 	Step func(steps int)
 	// Check is called after every convergence check.
@@ -204,10 +204,13 @@ func open(p Problem, s Settings, paths rundir.Fit, columns []string) (*sampler.E
 		if _, err := os.Stat(paths.Checkpoint); err == nil {
 			return nil, nil, fmt.Errorf("%s exists: this folder holds a run already; continue it with --resume or choose another --out", paths.Checkpoint)
 		}
+		t0 := time.Now()
 		ens, err := sampler.New(p.Target, s.Sampler)
 		if err != nil {
 			return nil, nil, err
 		}
+		// New evaluates every walker of every rung at least once.
+		s.warnLong(len(p.Names), time.Since(t0)/time.Duration(ens.Walkers()*ens.Rungs()), 0)
 		w, err := chains.Create(paths.Chain, columns)
 		if err != nil {
 			ens.Close()
@@ -215,7 +218,7 @@ func open(p Problem, s Settings, paths rundir.Fit, columns []string) (*sampler.E
 		}
 		return ens, w, nil
 	}
-	ck, err := rundir.ReadCheckpoint(paths.Checkpoint)
+	ck, err := rundir.ReadCheckpointLimit(paths.Checkpoint, s.checkpointLimit(len(p.Names)))
 	if err != nil {
 		return nil, nil, err
 	}
