@@ -23,6 +23,7 @@ import (
 	"slices"
 	"strings"
 	"sync"
+	"time"
 
 	"tautline/chains"
 	"tautline/internal/budget"
@@ -166,6 +167,7 @@ func CheckOut(out, id string) error {
 // s.Task < 0 it then merges them (see Merge) and returns the result;
 // otherwise it returns nil.
 func Run(ctx context.Context, p Problem, s Settings) (*rundir.Comparison, error) {
+	started := time.Now()
 	var names []string
 	for _, m := range p.Models {
 		names = append(names, m.Name)
@@ -195,6 +197,11 @@ func Run(ctx context.Context, p Problem, s Settings) (*rundir.Comparison, error)
 		if s.Task < 0 || i%max(s.Tasks, 1) == s.Task {
 			mine = append(mine, u)
 		}
+	}
+	removed, err := removeStale(s, mine, names, started)
+	logRemoved(s.Reporter.Warnf, removed)
+	if err != nil {
+		return nil, err
 	}
 	if err := runUnits(ctx, p, s, mine); err != nil {
 		return nil, err

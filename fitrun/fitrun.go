@@ -15,9 +15,11 @@ import (
 	"errors"
 	"fmt"
 	"os"
+	"strings"
 	"time"
 
 	"tautline/chains"
+	"tautline/internal/safeio"
 	"tautline/report"
 	"tautline/rundir"
 	"tautline/sampler"
@@ -100,6 +102,9 @@ func checkEvery(steps int) int { return max(100, min(500, steps/10)) }
 // an error saying how to resume.
 func Run(ctx context.Context, p Problem, s Settings) (*Result, error) {
 	paths := rundir.FitPaths(s.Out)
+	if err := removeStale(s, time.Now()); err != nil {
+		return nil, err
+	}
 	columns := append([]string{"step", "walker", "ln_post", "ln_like"}, p.Names...)
 	ens, w, err := open(p, s, paths, columns)
 	if err != nil {
@@ -194,6 +199,20 @@ func Run(ctx context.Context, p Problem, s Settings) (*Result, error) {
 		return nil, err
 	}
 	return &Result{Sampler: res, Summary: sum, Samples: n}, nil
+}
+
+// removeStale deletes the temporaries (".NAME.tmp-*" older than started)
+// that atomic writes of a killed run left in the fit folder, which this
+// run owns, and logs them.
+func removeStale(s Settings, started time.Time) error {
+	names, err := safeio.RemoveStale(s.Out, safeio.TempsOf(rundir.CheckpointFile, rundir.PosteriorFile, rundir.SummaryFile, rundir.MetaFile, rundir.ChainFile), started)
+	if len(names) > 0 && s.Reporter.Warnf != nil {
+		s.Reporter.Warnf("removed %d stale temporaries of an interrupted run from %s: %s", len(names), s.Out, strings.Join(names, ", "))
+	}
+	if err != nil {
+		return fmt.Errorf("output folder: %w", err)
+	}
+	return nil
 }
 
 // open starts the ensemble and the chain file: new ones, or, with

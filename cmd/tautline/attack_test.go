@@ -345,15 +345,15 @@ func attacks() []attack {
 		quick(usage("spectrum --n 1e9", []string{"spectrum", "--n", "1000000000"}, "--n 1000000000"), 5*time.Second),
 
 		// 4. Stale temporaries after kill -9.
-		todo(with(attack{name: "resume removes stale temporaries", args: fitArgs("--data", "@D/ok.yaml", "--steps", "60", "--resume", "--out", "@T/run"), code: 0, want: []string{"posterior samples"}, check: noTemporaries},
-			func(t *testing.T, b *attackEnv) { priorRun(t, b, true) }), 4),
-		todo(with(attack{name: "a new run removes stale temporaries", args: fitArgs("--data", "@D/ok.yaml", "--out", "@T/run"), code: 0, want: []string{"posterior samples"}, check: noTemporaries},
+		with(attack{name: "resume removes stale temporaries", args: fitArgs("--data", "@D/ok.yaml", "--steps", "60", "--resume", "--out", "@T/run"), code: 0, want: []string{"posterior samples"}, check: noTemporaries},
+			func(t *testing.T, b *attackEnv) { priorRun(t, b, true) }),
+		with(attack{name: "a new run removes stale temporaries", args: fitArgs("--data", "@D/ok.yaml", "--out", "@T/run"), code: 0, want: []string{"posterior samples"}, check: noTemporaries},
 			func(t *testing.T, b *attackEnv) {
 				priorRun(t, b, true)
 				for _, f := range []string{"checkpoint.bin", "chain.csv", "meta.json", "summary.json", "posterior.npy"} {
 					_ = os.Remove(b.path("run", f))
 				}
-			}), 4),
+			}),
 		with(attack{name: "a completed run leaves no temporaries", args: fitArgs("--data", "@D/ok.yaml", "--out", "@T/run"), code: 0, want: []string{"posterior samples"}, check: noTemporaries}, nil),
 
 		// 5. Doubtful inputs: refuse, or accept and say what was assumed.
