@@ -33,8 +33,10 @@ import (
 	"slices"
 	"strings"
 	"sync"
+	"time"
 
 	"tautline/chains"
+	"tautline/internal/budget"
 	"tautline/rundir"
 	"tautline/sampler"
 	"tautline/sampler/evidence"
@@ -205,6 +207,7 @@ func CheckOut(out, id string) error {
 // s.Task < 0 it then merges them (see Merge) and returns the result;
 // otherwise it returns nil.
 func Run(ctx context.Context, p Problem, s Settings) (*rundir.Comparison, error) {
+	started := time.Now()
 	var names []string
 	for _, m := range p.Models {
 		names = append(names, m.Name)
@@ -219,6 +222,13 @@ func Run(ctx context.Context, p Problem, s Settings) (*rundir.Comparison, error)
 	if err != nil {
 		return nil, err
 	}
+	dims := make([]int, len(p.Models))
+	for i, m := range p.Models {
+		dims[i] = m.Target.Dim()
+	}
+	if err := s.CheckSize(dims, budget.Current(s.Out)); err != nil {
+		return nil, err
+	}
 	if err := os.MkdirAll(s.Out, 0o755); err != nil {
 		return nil, fmt.Errorf("output folder: %w", err)
 	}
@@ -227,6 +237,11 @@ func Run(ctx context.Context, p Problem, s Settings) (*rundir.Comparison, error)
 		if s.Task < 0 || i%max(s.Tasks, 1) == s.Task {
 			mine = append(mine, u)
 		}
+	}
+	removed, err := removeStale(s, mine, names, started)
+	logRemoved(s.Reporter.Warnf, removed)
+	if err != nil {
+		return nil, err
 	}
 	if err := runUnits(ctx, p, s, mine); err != nil {
 		return nil, err

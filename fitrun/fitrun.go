@@ -15,9 +15,11 @@ import (
 	"errors"
 	"fmt"
 	"os"
+	"strings"
 	"time"
 
 	"tautline/chains"
+	"tautline/internal/safeio"
 	"tautline/report"
 	"tautline/rundir"
 	"tautline/sampler"
@@ -71,8 +73,8 @@ type Settings struct {
 
 // Reporter receives a fit's progress.
 type Reporter struct {
-	// Infof receives log lines.
-	Infof func(format string, args ...any)
+	// Infof receives log lines, Warnf warnings.
+	Infof, Warnf func(format string, args ...any)
 	// Step is called after every step with the ensemble's step count.
 	Step func(steps int)
 	// Check is called after every convergence check.
@@ -100,6 +102,9 @@ func checkEvery(steps int) int { return max(100, min(500, steps/10)) }
 // an error saying how to resume.
 func Run(ctx context.Context, p Problem, s Settings) (*Result, error) {
 	paths := rundir.FitPaths(s.Out)
+	if err := removeStale(s, time.Now()); err != nil {
+		return nil, err
+	}
 	columns := append([]string{"step", "walker", "ln_post", "ln_like"}, p.Names...)
 	ens, w, err := open(p, s, paths, columns)
 	if err != nil {
@@ -196,6 +201,20 @@ func Run(ctx context.Context, p Problem, s Settings) (*Result, error) {
 	return &Result{Sampler: res, Summary: sum, Samples: n}, nil
 }
 
+// removeStale deletes the temporaries (".NAME.tmp-*" older than started)
+// that atomic writes of a killed run left in the fit folder, which this
+// run owns, and logs them.
+func removeStale(s Settings, started time.Time) error {
+	names, err := safeio.RemoveStale(s.Out, safeio.TempsOf(rundir.CheckpointFile, rundir.PosteriorFile, rundir.SummaryFile, rundir.MetaFile, rundir.ChainFile), started)
+	if len(names) > 0 && s.Reporter.Warnf != nil {
+		s.Reporter.Warnf("removed %d stale temporaries of an interrupted run from %s: %s", len(names), s.Out, strings.Join(names, ", "))
+	}
+	if err != nil {
+		return fmt.Errorf("output folder: %w", err)
+	}
+	return nil
+}
+
 // open starts the ensemble and the chain file: new ones, or, with
 // s.Resume, the checkpoint's state and the chain cut back to the length
 // the checkpoint recorded.
@@ -204,10 +223,13 @@ func open(p Problem, s Settings, paths rundir.Fit, columns []string) (*sampler.E
 		if _, err := os.Stat(paths.Checkpoint); err == nil {
 			return nil, nil, fmt.Errorf("%s exists: this folder holds a run already; continue it with --resume or choose another --out", paths.Checkpoint)
 		}
+		t0 := time.Now()
 		ens, err := sampler.New(p.Target, s.Sampler)
 		if err != nil {
 			return nil, nil, err
 		}
+		// New evaluates every walker of every rung at least once.
+		s.warnLong(len(p.Names), time.Since(t0)/time.Duration(ens.Walkers()*ens.Rungs()), 0)
 		w, err := chains.Create(paths.Chain, columns)
 		if err != nil {
 			ens.Close()
@@ -215,7 +237,7 @@ func open(p Problem, s Settings, paths rundir.Fit, columns []string) (*sampler.E
 		}
 		return ens, w, nil
 	}
-	ck, err := rundir.ReadCheckpoint(paths.Checkpoint)
+	ck, err := rundir.ReadCheckpointLimit(paths.Checkpoint, s.checkpointLimit(len(p.Names)))
 	if err != nil {
 		return nil, nil, err
 	}

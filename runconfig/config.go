@@ -15,7 +15,6 @@ import (
 	"bytes"
 	"errors"
 	"fmt"
-	"os"
 	"path/filepath"
 	"reflect"
 	"sort"
@@ -24,6 +23,7 @@ import (
 	"gopkg.in/yaml.v3"
 
 	"tautline/compare"
+	"tautline/internal/safeio"
 	"tautline/models/registry"
 	"tautline/rundir"
 )
@@ -182,9 +182,12 @@ func CompareDefault() Config {
 }
 
 // Load reads a YAML configuration file over the values already in cfg
-// (usually Default). Unknown keys are refused with their line number.
+// (usually Default). Unknown keys are refused with their line number. The
+// path must name a regular file of at most safeio.LimitConfig (1 MiB): a
+// named pipe, a device such as /dev/zero or a link to one is refused before
+// anything is read.
 func Load(path string, cfg *Config) error {
-	raw, err := os.ReadFile(path)
+	raw, err := safeio.ReadFile(path, safeio.LimitConfig)
 	if err != nil {
 		return fmt.Errorf("reading the configuration: %w", err)
 	}
@@ -220,8 +223,15 @@ func Decode(name string, raw []byte, cfg *Config) error {
 
 // checkKeys walks a YAML mapping against the yaml tags of struct type t and
 // reports the first key that t does not know, with its line and the keys
-// that would be accepted there.
+// that would be accepted there, and the first integer key given a
+// fractional or exponent number (yaml.v3 would truncate 1.5 to 1 silently).
 func checkKeys(file string, n *yaml.Node, t reflect.Type, path string) error {
+	for n.Kind == yaml.AliasNode && n.Alias != nil {
+		n = n.Alias
+	}
+	if isInteger(t.Kind()) && n.Kind == yaml.ScalarNode && n.Tag == "!!float" {
+		return fmt.Errorf("%s: line %d: cannot unmarshal !!float `%s` into %s: %s must be a whole number", file, n.Line, n.Value, t, path)
+	}
 	if t.Kind() != reflect.Struct {
 		return nil
 	}
@@ -261,6 +271,11 @@ func checkKeys(file string, n *yaml.Node, t reflect.Type, path string) error {
 		}
 	}
 	return nil
+}
+
+// isInteger reports whether k is a signed or unsigned integer kind.
+func isInteger(k reflect.Kind) bool {
+	return (k >= reflect.Int && k <= reflect.Int64) || (k >= reflect.Uint && k <= reflect.Uintptr)
 }
 
 // Marshal renders cfg as YAML, as --print-config prints it and as the

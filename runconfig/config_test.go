@@ -1,10 +1,14 @@
 package runconfig
 
 import (
+	"errors"
 	"os"
 	"path/filepath"
 	"strings"
+	"syscall"
 	"testing"
+
+	"tautline/internal/safeio"
 )
 
 // FuzzDecodeConfig feeds arbitrary bytes to the configuration reader: it
@@ -48,6 +52,12 @@ func TestDecode(t *testing.T) {
 		{"top not a mapping", "- 1\n", nil, "c.yaml: line 1: the top level: want a mapping of keys"},
 		{"wrong type", "sampler:\n  walkers: many\n", nil, "c.yaml: line 2: cannot unmarshal"},
 		{"syntax", "sampler: [\n", nil, "c.yaml: line"},
+		{"fraction into int", "sampler:\n  steps: 1.5\n", nil, "c.yaml: line 2: cannot unmarshal !!float `1.5` into int: sampler.steps must be a whole number"},
+		{"fraction into uint64", "\nsampler:\n  seed: 1.5\n", nil, "c.yaml: line 3: cannot unmarshal !!float `1.5` into uint64: sampler.seed"},
+		{"exponent into int", "model:\n  strings:\n    modes: 1e5\n", nil, "c.yaml: line 3: cannot unmarshal !!float `1e5` into int: model.strings.modes"},
+		{"fraction through an alias", "sampler:\n  beta_min: &b 0.5\n  steps: *b\n", nil, "c.yaml: line 2: cannot unmarshal !!float `0.5` into int: sampler.steps"},
+		{"float into a float key", "sampler:\n  beta_min: 1e-4\n", func(c Config) bool { return c.Sampler.BetaMin == 1e-4 }, ""},
+		{"integer into a float key", "model:\n  strings:\n    q: 2\n", func(c Config) bool { return c.Model.Strings.Q == 2 }, ""},
 	}
 	for _, c := range cases {
 		cfg := Default()
@@ -61,6 +71,50 @@ func TestDecode(t *testing.T) {
 		if err != nil || !c.check(cfg) {
 			t.Errorf("%s: %v, %+v", c.name, err, cfg)
 		}
+	}
+}
+
+// TestLoadRefusesSpecialFiles: a device, a named pipe, a link to a device
+// and a file over the 1 MiB cap are refused at once, before any decoding,
+// with the path and what is wrong; a sound file loads.
+func TestLoadRefusesSpecialFiles(t *testing.T) {
+	dir := t.TempDir()
+	fifo := filepath.Join(dir, "pipe.yaml")
+	if err := syscall.Mkfifo(fifo, 0o600); err != nil {
+		t.Skipf("cannot make a named pipe here: %v", err)
+	}
+	link := filepath.Join(dir, "link.yaml")
+	if err := os.Symlink("/dev/zero", link); err != nil {
+		t.Fatal(err)
+	}
+	big := filepath.Join(dir, "big.yaml")
+	if err := os.WriteFile(big, append([]byte("# "), make([]byte, safeio.LimitConfig)...), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	good := filepath.Join(dir, "good.yaml")
+	if err := os.WriteFile(good, []byte("sampler:\n  walkers: 12\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	cases := []struct {
+		path, want string
+		is         error
+	}{
+		{"/dev/zero", "/dev/zero: is a character device, not a regular file", safeio.ErrNotRegular},
+		{fifo, "pipe.yaml: is a named pipe (FIFO)", safeio.ErrNotRegular},
+		{link, "link.yaml: is a character device", safeio.ErrNotRegular},
+		{big, "is more than the 1 MiB limit", safeio.ErrTooLarge},
+		{dir, "is a directory", safeio.ErrNotRegular},
+	}
+	for _, c := range cases {
+		cfg := Default()
+		err := Load(c.path, &cfg)
+		if err == nil || !strings.Contains(err.Error(), c.want) || !errors.Is(err, c.is) {
+			t.Errorf("Load(%s): %v, want %q", c.path, err, c.want)
+		}
+	}
+	cfg := Default()
+	if err := Load(good, &cfg); err != nil || cfg.Sampler.Walkers != 12 {
+		t.Errorf("Load(good): %v, walkers %d", err, cfg.Sampler.Walkers)
 	}
 }
 

@@ -10,6 +10,7 @@ import (
 	"os"
 
 	"tautline/chains"
+	"tautline/internal/safeio"
 )
 
 // Checkpoint is checkpoint.bin. The file holds the sampler's complete state and the length of
@@ -44,9 +45,19 @@ func WriteCheckpoint(path string, ck Checkpoint) error {
 // ErrCheckpointCorrupt is returned for a checkpoint that fails its checks.
 var ErrCheckpointCorrupt = errors.New("checkpoint is corrupt (truncated or altered); it cannot be resumed")
 
-// ReadCheckpoint reads and checks the checkpoint at path.
+// ReadCheckpoint reads and checks the checkpoint at path, a regular file
+// of at most safeio.LimitCheckpoint.
 func ReadCheckpoint(path string) (Checkpoint, error) {
-	raw, err := os.ReadFile(path)
+	return ReadCheckpointLimit(path, safeio.LimitCheckpoint)
+}
+
+// ReadCheckpointLimit reads and checks the checkpoint at path, refusing
+// before reading it a path that is not a regular file (a named pipe would
+// block), a file above safeio.LimitCheckpoint or above limit when limit is
+// larger (the outer cap), and then a file above limit, the most that the
+// caller's settings can have written.
+func ReadCheckpointLimit(path string, limit int64) (Checkpoint, error) {
+	raw, err := readCheckpointFile(path, limit)
 	if err != nil {
 		if errors.Is(err, os.ErrNotExist) {
 			return Checkpoint{}, fmt.Errorf("%s: no checkpoint to resume from (run without --resume first)", path)
@@ -67,4 +78,27 @@ func ReadCheckpoint(path string) (Checkpoint, error) {
 		return Checkpoint{}, fmt.Errorf("%s: %w", path, ErrCheckpointCorrupt)
 	}
 	return Checkpoint{ChainOffset: off, State: body[n+16:]}, nil
+}
+
+// readCheckpointFile applies ReadCheckpointLimit's two caps.
+func readCheckpointFile(path string, limit int64) ([]byte, error) {
+	outer := max(limit, safeio.LimitCheckpoint)
+	f, err := safeio.Open(path)
+	if err != nil {
+		return nil, err
+	}
+	defer f.Close()
+	if fi, err := f.Stat(); err == nil && fi.Size() > outer {
+		return nil, &safeio.LimitError{Path: path, Limit: outer, Size: fi.Size()}
+	} else if err == nil && fi.Size() > limit {
+		return nil, fmt.Errorf("%w (the most this run's walkers, steps and rungs can write; was --steps lowered?)", &safeio.LimitError{Path: path, Limit: limit, Size: fi.Size()})
+	}
+	raw, err := io.ReadAll(io.LimitReader(f, limit+1))
+	if err != nil {
+		return nil, fmt.Errorf("%s: %w", path, err)
+	}
+	if int64(len(raw)) > limit {
+		return nil, &safeio.LimitError{Path: path, Limit: limit, Size: -1}
+	}
+	return raw, nil
 }

@@ -2,6 +2,7 @@ package sampler
 
 import (
 	"fmt"
+	"math"
 	"strconv"
 	"strings"
 )
@@ -23,7 +24,7 @@ func ParseCriteria(s string) (Criteria, error) {
 			return c, fmt.Errorf("%q is not KEY=VALUE (keys: ess, tau, rhat)", part)
 		}
 		x, err := strconv.ParseFloat(strings.TrimSpace(v), 64)
-		if err != nil || x <= 0 {
+		if err != nil || !(x > 0) || math.IsInf(x, 0) {
 			return c, fmt.Errorf("%s must be a positive number, got %q", k, v)
 		}
 		switch strings.TrimSpace(k) {

@@ -19,6 +19,9 @@ func TestParseCriteria(t *testing.T) {
 		{"ess", Criteria{}, `"ess" is not KEY=VALUE (keys: ess, tau, rhat)`},
 		{"steps=10", Criteria{}, `unknown criterion "steps"`},
 		{"ess=-3", Criteria{}, `ess must be a positive number, got "-3"`},
+		{"ess=nan", Criteria{}, `ess must be a positive number, got "nan"`},
+		{"tau=+Inf", Criteria{}, `tau must be a positive number, got "+Inf"`},
+		{"rhat=NaN", Criteria{}, `rhat must be a positive number, got "NaN"`},
 	}
 	for _, c := range cases {
 		got, err := ParseCriteria(c.in)

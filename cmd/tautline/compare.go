@@ -132,8 +132,8 @@ func compareRun(ctx context.Context, e *env, lg *logrus.Logger, cfg runconfig.Co
 			return fmt.Errorf("%w: --models: unknown model %q; want some of %s", errUsage, m, strings.Join(registry.Names(), ", "))
 		}
 	}
-	if err := checkSampler(cfg); err != nil {
-		return err
+	if err := cfg.CheckSampler(); err != nil {
+		return fmt.Errorf("%w: %v", errUsage, err)
 	}
 	if !slices.Contains(models, co.reference) {
 		return fmt.Errorf("%w: --reference %q is not among --models %s", errUsage, co.reference, co.models)

@@ -65,6 +65,8 @@ func runConvert(_ context.Context, e *env, args []string) error {
 	}
 	if !(g > 0) || !numeric.Finite(g) {
 		return fmt.Errorf("%w: --%s must be a positive finite number", errUsage, given[0])
+	} else if g >= 1 {
+		return fmt.Errorf("%w: --%s must be below 1 as a tension Gmu (the conversions assume Gmu << 1), got Gmu = %g", errUsage, given[0], g)
 	}
 	c := conversion{
 		Gmu: g, MuKgPerM: cosmicstrings.MassPerLength(g), EtaGeV: cosmicstrings.SymmetryBreakingScale(g),

@@ -14,6 +14,7 @@ import (
 
 	"tautline/cmd/tautline/internal/cli"
 	"tautline/fitrun"
+	"tautline/internal/budget"
 	"tautline/runconfig"
 	"tautline/rundir"
 	"tautline/sampler"
@@ -30,7 +31,9 @@ It ends with a summary: median and 68 % interval per parameter, acceptance
 and convergence diagnostics. With no options it fits the SMBHB power law to
 the embedded simulated demo data. --until runs until the convergence criteria
 hold; --resume continues a run that was stopped or killed, and gives the same
-chain bytes as a run that never stopped.`
+chain bytes as a run that never stopped. A run whose estimated memory (see
+README: about 3 x walkers x steps x (parameters + temperatures) x 8 bytes) is
+above half the physical memory, or whose files exceed the free disk, is refused.`
 
 func runFit(ctx context.Context, e *env, args []string) error {
 	var resume bool
@@ -67,8 +70,8 @@ func fit(ctx context.Context, e *env, lg *logrus.Logger, cfg runconfig.Config, r
 		cfg.Sampler.Steps = untilDefaultCap
 		lg.Infof("--until without --steps: capping the run at %d steps", untilDefaultCap)
 	}
-	if err := checkSampler(cfg); err != nil {
-		return err
+	if err := cfg.CheckSampler(); err != nil {
+		return fmt.Errorf("%w: %v", errUsage, err)
 	}
 	pb, err := buildProblem(cfg, lg.Infof)
 	if err != nil {
@@ -91,26 +94,30 @@ func fit(ctx context.Context, e *env, lg *logrus.Logger, cfg runconfig.Config, r
 	} else if n < 1 {
 		return fmt.Errorf("%w: --temperatures must be >= 1, got %d", errUsage, n)
 	}
-	if err := os.MkdirAll(cfg.Output.Dir, 0o755); err != nil {
-		return fmt.Errorf("output folder: %w", err)
-	}
 	prog := newProgress(e, lg, cfg.Sampler.Steps)
 	rule, bw, penalty := pb.Likelihood()
-	res, err := fitrun.Run(ctx, fitrun.Problem{
-		Target: pb.Target, Names: names, Meta: newMeta(cfg, pb, started),
-		Likelihood: fitrun.Likelihood{BandwidthRule: rule, Bandwidths: bw, AboveRangePenalty: penalty},
-	}, fitrun.Settings{
+	st := fitrun.Settings{
 		Sampler: scfg, Steps: cfg.Sampler.Steps, Burn: cfg.Sampler.Burn, Thin: cfg.Sampler.Thin,
 		Until: sampler.Criteria{ESS: until.ESS, TauMultiple: until.TauMultiple, Rhat: until.Rhat}, UntilSpec: cfg.Sampler.Until,
 		CheckpointEvery: cfg.Sampler.CheckpointEvery, FlushEvery: cfg.Output.FlushEvery, Out: cfg.Output.Dir, Resume: resume,
 		Reporter: fitrun.Reporter{
-			Infof: lg.Infof,
-			Step:  func(n int) { prog.Update(n, "", 0) },
+			Infof: lg.Infof, Warnf: lg.Warnf,
+			Step: func(n int) { prog.Update(n, "", 0) },
 			Check: func(p sampler.Progress) {
 				prog.Update(p.Steps, fmt.Sprintf("tau %.1f  ESS %.0f  R-hat %.3f", p.MaxTau, p.MinESS, p.MaxRhat), p.ETA)
 			},
 		},
-	})
+	}
+	if err := st.CheckSize(len(names), budget.Current(cfg.Output.Dir)); err != nil {
+		return err
+	}
+	if err := os.MkdirAll(cfg.Output.Dir, 0o755); err != nil {
+		return fmt.Errorf("output folder: %w", err)
+	}
+	res, err := fitrun.Run(ctx, fitrun.Problem{
+		Target: pb.Target, Names: names, Meta: newMeta(cfg, pb, started),
+		Likelihood: fitrun.Likelihood{BandwidthRule: rule, Bandwidths: bw, AboveRangePenalty: penalty},
+	}, st)
 	prog.Finish()
 	if err != nil {
 		return err

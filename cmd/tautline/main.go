@@ -25,6 +25,7 @@ import (
 	"syscall"
 
 	"tautline/cmd/tautline/internal/cli"
+	"tautline/internal/budget"
 	"tautline/models/registry"
 )
 
@@ -104,7 +105,7 @@ func run(ctx context.Context, e *env, args []string) int {
 			return 0
 		case errors.Is(err, errSilent):
 			return 2
-		case errors.Is(err, errUsage), errors.Is(err, registry.ErrUsage):
+		case errors.Is(err, errUsage), errors.Is(err, registry.ErrUsage), errors.Is(err, budget.ErrTooLarge):
 			msg := strings.TrimPrefix(err.Error(), errUsage.Error()+": ")
 			fmt.Fprintf(e.stderr, "tautline %s: %s\nRun 'tautline %s --help' for the options.\n", c.name, msg, c.name)
 			return 2

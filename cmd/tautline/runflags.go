@@ -78,24 +78,3 @@ func resolveConfig(e *env, name, synopsis, description string, args []string, de
 	}
 	return cfg, &rf2, fs2, nil
 }
-
-// checkSampler refuses sampler settings that could only fail after the
-// sampling: no steps, a burn-in that keeps nothing, a negative thinning.
-func checkSampler(cfg runconfig.Config) error {
-	sc := cfg.Sampler
-	switch {
-	case sc.Steps <= 0:
-		return fmt.Errorf("%w: --steps must be > 0, got %d", errUsage, sc.Steps)
-	case sc.Burn < -1:
-		return fmt.Errorf("%w: --burn must be >= 0, or -1 to choose it, got %d", errUsage, sc.Burn)
-	case sc.Burn >= sc.Steps:
-		return fmt.Errorf("%w: --burn %d keeps none of --steps %d", errUsage, sc.Burn, sc.Steps)
-	case sc.Thin < 0:
-		return fmt.Errorf("%w: --thin must be >= 0 (0 chooses it), got %d", errUsage, sc.Thin)
-	case sc.Walkers < 2:
-		return fmt.Errorf("%w: --walkers must be at least 2 x the number of sampled parameters, got %d", errUsage, sc.Walkers)
-	case sc.CheckpointEvery < 0 || cfg.Output.FlushEvery < 0:
-		return fmt.Errorf("%w: --checkpoint-every and --flush-every must be >= 0", errUsage)
-	}
-	return nil
-}

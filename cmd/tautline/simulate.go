@@ -3,6 +3,7 @@ package main
 import (
 	"context"
 	"fmt"
+	"math"
 	"os"
 
 	"tautline/cmd/tautline/internal/cli"
@@ -45,8 +46,12 @@ func runSimulate(_ context.Context, e *env, args []string) error {
 	if *out == "" {
 		return fmt.Errorf("%w: --out is required", errUsage)
 	}
-	if fs.NArg() != 0 {
-		return fmt.Errorf("%w: unexpected argument %q", errUsage, fs.Arg(0))
+	if err := cli.First(cli.Require(fs.NArg() == 0, "unexpected argument %q", fs.Arg(0)),
+		cli.Require(*bins >= 1, "--bins must be >= 1, got %d", *bins),
+		cli.Require(*bins <= simulate.MaxBins, "--bins %d is more than the %d bins a data set may hold", *bins, simulate.MaxBins),
+		cli.Require(*samples <= simulate.MaxSamples/max(*bins, 1), "--samples %d x --bins %d is more than the %d samples a data set may store", *samples, *bins, simulate.MaxSamples),
+		cli.Require(*spanYr > 0 && !math.IsInf(*spanYr, 0), "--span-yr must be a positive number of years, got %g", *spanYr)); err != nil {
+		return err
 	}
 	arr := simulate.Array{
 		Pulsars: *pulsars, Span: *spanYr * gw.JulianYear, Cadence: *cadenceDays * 86400,

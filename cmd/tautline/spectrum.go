@@ -119,6 +119,9 @@ func spectrumFreqs(list string, fmin, fmax float64, n int) ([]float64, error) {
 		}
 		return fs, nil
 	}
+	if n > gw.MaxLogFrequencies {
+		return nil, fmt.Errorf("%w: --n %d is more than the %d frequencies a grid may have", errUsage, n, gw.MaxLogFrequencies)
+	}
 	if !(fmin > 0) || !(fmax > fmin) || n < 1 {
 		return nil, fmt.Errorf("%w: want 0 < --fmin < --fmax and --n >= 1, got %g, %g, %d", errUsage, fmin, fmax, n)
 	}

@@ -2,6 +2,11 @@ package gw
 
 import "math"
 
+// MaxLogFrequencies is the most frequencies a logarithmic grid of the
+// command line may have: a million points resolve any spectrum far below
+// the width of a bin, and keep the output under a hundred megabytes.
+const MaxLogFrequencies = 1 << 20
+
 // LogFrequencies returns n frequencies spaced evenly in log f from fmin to
 // fmax inclusive, fmin * (fmax/fmin)^(i/(n-1)); n = 1 gives {fmin}. The
 // caller checks 0 < fmin < fmax and n >= 1.

@@ -85,3 +85,18 @@ func TestSplitList(t *testing.T) {
 		t.Errorf("SplitList = %q", got)
 	}
 }
+
+// TestRequireFirst: Require makes a usage error only when its condition
+// fails, and First returns the first failure of a list.
+func TestRequireFirst(t *testing.T) {
+	if err := Require(true, "x"); err != nil {
+		t.Errorf("Require(true) = %v", err)
+	}
+	err := First(nil, Require(1 > 2, "--n %d is wrong", 3), Require(false, "second"))
+	if !errors.Is(err, ErrUsage) || err.Error() != "usage: --n 3 is wrong" {
+		t.Errorf("First = %v", err)
+	}
+	if First(nil, nil) != nil {
+		t.Error("First of nils is not nil")
+	}
+}

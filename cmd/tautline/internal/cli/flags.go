@@ -19,6 +19,24 @@ import (
 // command prints them with a hint to --help and exits with status 2.
 var ErrUsage = errors.New("usage")
 
+// Require returns a usage error with the message when ok is false.
+func Require(ok bool, format string, args ...any) error {
+	if ok {
+		return nil
+	}
+	return fmt.Errorf("%w: %s", ErrUsage, fmt.Sprintf(format, args...))
+}
+
+// First returns the first error that is not nil.
+func First(errs ...error) error {
+	for _, err := range errs {
+		if err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
 // ErrSilent is returned when the problem has already been reported (flag
 // parsing prints its own message).
 var ErrSilent = errors.New("silent")
