@@ -9,7 +9,6 @@ import (
 	"fmt"
 	"io"
 	"io/fs"
-	"os"
 	"path"
 	"path/filepath"
 	"regexp"
@@ -19,6 +18,7 @@ import (
 	"gopkg.in/yaml.v3"
 
 	"tautline/internal/numeric"
+	"tautline/internal/safeio"
 	"tautline/models/gw"
 )
 
@@ -64,8 +64,12 @@ var (
 
 // Load reads the data set described by the YAML file at path; table paths in
 // it are resolved against the file's directory.
+//
+// Only regular files are read (a named pipe or a device such as /dev/zero
+// is refused without being opened for long), the description up to
+// safeio.LimitDescription bytes and each table up to safeio.LimitTable.
 func Load(path string) (*Dataset, error) {
-	data, err := os.ReadFile(path)
+	data, err := safeio.ReadFile(path, safeio.LimitDescription)
 	if err != nil {
 		return nil, fmt.Errorf("likelihood: %w", err)
 	}
@@ -75,23 +79,24 @@ func Load(path string) (*Dataset, error) {
 		if !filepath.IsAbs(p) {
 			p = filepath.Join(dir, filepath.FromSlash(rel))
 		}
-		b, err := os.ReadFile(p)
+		b, err := safeio.ReadFile(p, safeio.LimitTable)
 		return p, b, err
 	}
 	return parse(path, data, read)
 }
 
 // LoadFS is Load reading from fsys; path and the table paths use forward
-// slashes, tables relative to the description's directory.
+// slashes, tables relative to the description's directory. The same file
+// types and size limits as Load's apply.
 func LoadFS(fsys fs.FS, name string) (*Dataset, error) {
-	data, err := fs.ReadFile(fsys, name)
+	data, err := safeio.ReadFileFS(fsys, name, safeio.LimitDescription)
 	if err != nil {
 		return nil, fmt.Errorf("likelihood: %w", err)
 	}
 	dir := path.Dir(name)
 	read := func(rel string) (string, []byte, error) {
 		p := path.Join(dir, rel)
-		b, err := fs.ReadFile(fsys, p)
+		b, err := safeio.ReadFileFS(fsys, p, safeio.LimitTable)
 		return p, b, err
 	}
 	return parse(name, data, read)
