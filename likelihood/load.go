@@ -374,6 +374,9 @@ func (p *parser) prior(n *yaml.Node, ds *Dataset) error {
 	if lo >= hi {
 		return p.errf(n.Line, key, "lo must be below hi, got [%g, %g]", lo, hi)
 	}
+	if msg := checkPriorWidth(lo, hi); msg != "" {
+		return p.errf(n.Line, key, "%s", msg)
+	}
 	ds.PriorMin, ds.PriorMax = lo, hi
 	p.lo, p.hi, p.prLn = lo, hi, n.Line
 	return nil
@@ -502,6 +505,9 @@ func (p *parser) table(file string, data []byte, kind Representation, header []s
 			}
 			if spread(a.samples) <= 0 {
 				return errf(a.line, "bin %d: all samples are equal; no density can be estimated", i+1)
+			}
+			if msg := checkSpread(a.samples, p.lo, p.hi); msg != "" {
+				return errf(a.line, "bin %d: %s (log10_rho_prior, %s line %d)", i+1, msg, p.name, p.prLn)
 			}
 		case Grid:
 			if len(a.grid) < 2 {
