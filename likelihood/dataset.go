@@ -8,6 +8,7 @@ import (
 	"sort"
 
 	"tautline/internal/numeric"
+	"tautline/models/gw"
 )
 
 // MinSamples is the fewest posterior samples a bin in the samples
@@ -27,6 +28,16 @@ const MaxPriorDecades = 1000.0
 // samples fall within a few thousandths of one table spacing of the
 // default table and the kernel density estimate cannot resolve them.
 const MinSpreadFraction = 1e-6
+
+// The range of time spans T accepted, in s. Shorter than a day puts the
+// lowest bin 1/T above 1e-5 Hz, outside the nanohertz band of pulsar
+// timing; longer than a millennium exceeds any timing record. A span
+// outside it is almost surely a unit mistake (years given as seconds, or
+// seconds as years).
+const (
+	MinSpan = 86400.0
+	MaxSpan = 1000 * gw.JulianYear
+)
 
 // FreqTolerance is the relative tolerance within which listed frequencies must
 // equal i/T unless the data set declares them irregular.
@@ -85,6 +96,10 @@ type Dataset struct {
 	SHA256 string
 	// Path is the description file the data set was loaded from.
 	Path string
+	// Warnings name the doubtful inputs Load accepted (a grid bin of only
+	// two points, say), each with its file and line, for the caller to
+	// show; nil when there were none.
+	Warnings []string
 }
 
 // A Bin is the posterior of log10 rho in one frequency bin. Only the fields
@@ -248,6 +263,9 @@ func (ds *Dataset) Validate() error {
 	}
 	if !numeric.Finite(ds.Span) || ds.Span <= 0 {
 		return fail("span: must be a finite number of seconds > 0, got %g", ds.Span)
+	}
+	if ds.Span < MinSpan || ds.Span > MaxSpan {
+		return fail("span: %g s is outside the supported range [%g s (1 day), %g s (1000 yr)]", ds.Span, MinSpan, MaxSpan)
 	}
 	if !numeric.Finite(ds.PriorMin) || !numeric.Finite(ds.PriorMax) || ds.PriorMin >= ds.PriorMax {
 		return fail("prior range: need finite lo < hi, got [%g, %g]", ds.PriorMin, ds.PriorMax)
