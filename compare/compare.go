@@ -25,6 +25,7 @@ import (
 	"sync"
 
 	"tautline/chains"
+	"tautline/internal/safeio"
 	"tautline/rundir"
 	"tautline/sampler"
 	"tautline/sampler/evidence"
@@ -149,7 +150,7 @@ func UnitSeed(seed uint64, model, block int) uint64 {
 func CheckOut(out, id string) error {
 	matches, _ := rundir.PartFiles(out)
 	for _, m := range matches {
-		raw, err := os.ReadFile(m)
+		raw, err := safeio.ReadFile(m, safeio.LimitPart)
 		if err != nil {
 			return err
 		}

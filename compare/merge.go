@@ -110,11 +110,7 @@ func readParts(dirs []string) (map[string]source, []string, error) {
 			return nil, nil, err
 		}
 		for _, m := range matches {
-			raw, err := os.ReadFile(m)
-			if err != nil {
-				return nil, nil, err
-			}
-			pm, err := rundir.DecodePart(m, raw)
+			pm, err := rundir.ReadPart(m)
 			if err != nil {
 				return nil, nil, err
 			}
