@@ -10,6 +10,8 @@ import (
 	"os"
 	"strconv"
 	"strings"
+
+	"tautline/internal/safeio"
 )
 
 // A Writer appends rows to a chain file. It is not safe for concurrent use.
@@ -126,6 +128,14 @@ func Resume(path string, columns []string, offset int64) (*Writer, error) {
 	if err != nil {
 		return nil, fmt.Errorf("chains: %s: %w", path, err)
 	}
+	// A named pipe or device in the chain's place would block the reads
+	// below or never end: check the type before opening and on the open
+	// file.
+	if st, err := os.Stat(path); err != nil {
+		return nil, fmt.Errorf("chains: %w", err)
+	} else if err := safeio.CheckRegular(path, st); err != nil {
+		return nil, fmt.Errorf("chains: %w", err)
+	}
 	f, err := os.OpenFile(path, os.O_RDWR, 0)
 	if err != nil {
 		return nil, fmt.Errorf("chains: %w", err)
@@ -137,6 +147,10 @@ func Resume(path string, columns []string, offset int64) (*Writer, error) {
 	st, err := f.Stat()
 	if err != nil {
 		return fail("%w", err)
+	}
+	if err := safeio.CheckRegular(path, st); err != nil {
+		f.Close()
+		return nil, fmt.Errorf("chains: %w", err)
 	}
 	got := make([]byte, len(h))
 	if _, err := io.ReadFull(f, got); err != nil || !bytes.Equal(got, h) {
@@ -231,7 +245,7 @@ func (w *Writer) Close() error {
 // newline (a run killed while writing) is an error; Resume at the last
 // flushed offset repairs such a file.
 func ReadCSV(path string) (columns []string, rows [][]float64, err error) {
-	f, err := os.Open(path)
+	f, err := safeio.Open(path)
 	if err != nil {
 		return nil, nil, fmt.Errorf("chains: %w", err)
 	}

@@ -8,8 +8,9 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"os"
 	"time"
+
+	"tautline/internal/safeio"
 )
 
 // MetaSchema is the version of the metadata layout written by WriteMeta.
@@ -140,8 +141,10 @@ func WriteMeta(path string, m *Meta) error {
 // ReadMeta reads a metadata file written by WriteMeta. It rejects files
 // without a schema number and files from a newer schema than this package
 // knows.
+//
+// Only a regular file of at most safeio.LimitJSON bytes is read.
 func ReadMeta(path string) (*Meta, error) {
-	b, err := os.ReadFile(path)
+	b, err := safeio.ReadFile(path, safeio.LimitJSON)
 	if err != nil {
 		return nil, fmt.Errorf("chains: %w", err)
 	}
@@ -175,9 +178,10 @@ func ReadMeta(path string) (*Meta, error) {
 }
 
 // FileSHA256 returns the hex SHA-256 digest of the file at path, for
-// DataSet.SHA256.
+// DataSet.SHA256. Only a regular file is read (a device such as /dev/zero
+// would never end).
 func FileSHA256(path string) (string, error) {
-	f, err := os.Open(path)
+	f, err := safeio.Open(path)
 	if err != nil {
 		return "", fmt.Errorf("chains: %w", err)
 	}

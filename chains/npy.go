@@ -11,6 +11,8 @@ import (
 	"strings"
 
 	"codeberg.org/sbinet/npyio/npy"
+
+	"tautline/internal/safeio"
 )
 
 // WriteNPY writes the rows x cols matrix held row-major in data to path as
@@ -76,19 +78,29 @@ func npyHeader(rows, cols int) []byte {
 
 // ReadNPY reads a two-dimensional float64 .npy file (either byte order,
 // either memory order) and returns it row-major. A one-dimensional array of
-// length n is returned as an n x 1 matrix.
+// length n is returned as an n x 1 matrix. Only a regular file of at most
+// NPYLimit bytes is read.
 func ReadNPY(path string) (rows, cols int, data []float64, err error) {
-	f, err := os.Open(path)
+	f, err := safeio.Open(path)
 	if err != nil {
 		return 0, 0, nil, fmt.Errorf("chains: %w", err)
 	}
 	defer f.Close()
+	if st, err := f.Stat(); err == nil && st.Size() > NPYLimit {
+		return 0, 0, nil, fmt.Errorf("chains: %w", &safeio.LimitError{Path: path, Limit: NPYLimit, Size: st.Size()})
+	}
 	rows, cols, data, err = readNPY(f)
 	if err != nil {
 		return 0, 0, nil, fmt.Errorf("chains: %s: %w", path, err)
 	}
 	return rows, cols, data, nil
 }
+
+// NPYLimit caps the .npy files ReadNPY reads. The largest array tautline
+// writes is a comparison's lnl.npy, 8 bytes per rung, recorded step and
+// walker, which is the bulk of a tempered run's checkpoint too, so the
+// checkpoint's cap (safeio.LimitCheckpoint, 4 GiB) serves.
+const NPYLimit = safeio.LimitCheckpoint
 
 func readNPY(f *os.File) (rows, cols int, data []float64, err error) {
 	// The decoder panics on some malformed headers; report those as errors.

@@ -37,6 +37,7 @@ import (
 
 	"tautline/chains"
 	"tautline/internal/budget"
+	"tautline/internal/safeio"
 	"tautline/rundir"
 	"tautline/sampler"
 	"tautline/sampler/evidence"
@@ -191,7 +192,7 @@ func UnitSeed(seed uint64, model, block int) uint64 {
 func CheckOut(out, id string) error {
 	matches, _ := rundir.PartFiles(out)
 	for _, m := range matches {
-		raw, err := os.ReadFile(m)
+		raw, err := safeio.ReadFile(m, safeio.LimitPart)
 		if err != nil {
 			return err
 		}

@@ -9,6 +9,7 @@ import (
 	"slices"
 	"strings"
 	"testing"
+	"time"
 
 	"tautline/chains"
 )
@@ -223,4 +224,34 @@ func FuzzMerge(f *testing.F) {
 // writeToyLnL writes 2 rungs x 2 steps x 2 walkers of ln L values.
 func writeToyLnL(path string) error {
 	return chains.WriteNPY(path, 4, 2, []float64{-1, -1.1, -1.2, -0.9, -5, -6, -4, -5.5})
+}
+
+// TestMergeHugeBlockCount checks that a part claiming an enormous number
+// of rung blocks is refused at once, listing a few of the missing ones,
+// instead of looping over every block it claims.
+func TestMergeHugeBlockCount(t *testing.T) {
+	dir := t.TempDir()
+	pd := filepath.Join(dir, "parts", "a.block0")
+	if err := os.MkdirAll(pd, 0o755); err != nil {
+		t.Fatal(err)
+	}
+	p := filepath.Join(pd, "part.json")
+	raw := `{"schema":1,"unit":{"model":"a","model_index":0,"block":0,"blocks":1000000000000,"betas":[1,0]},"reference":"a","models":["a"],"walkers":2,"recorded_steps":2,"params":[],"priors":[]}`
+	if err := os.WriteFile(p, []byte(raw), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if err := writeToyLnL(filepath.Join(pd, "lnl.npy")); err != nil {
+		t.Fatal(err)
+	}
+	done := make(chan error, 1)
+	go func() { _, err := Merge(filepath.Join(dir, "out"), []string{dir}, "test"); done <- err }()
+	select {
+	case err := <-done:
+		want := "no parts for a block 1, a block 2, a block 3, a block 4, a block 5, a block 6, a block 7, a block 8, a block 9, a block 10 and 999999999989 more (of the 1000000000000 rung block(s) per model that " + p + " names): run every task before merging"
+		if err == nil || err.Error() != want {
+			t.Errorf("error\n got: %v\nwant: %s", err, want)
+		}
+	case <-time.After(5 * time.Second):
+		t.Fatal("Merge did not return within 5 s")
+	}
 }

@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"math"
 	"os"
 	"path/filepath"
 	"slices"
@@ -53,20 +54,30 @@ func Merge(out string, dirs []string, version string) (*rundir.Comparison, error
 		}
 		byModel[s.part.Unit.Model] = append(byModel[s.part.Unit.Model], s.part)
 	}
+	// unit.blocks comes from the file: list at most maxListed missing
+	// units, so that the loop ends after the parts present plus
+	// maxListed blocks however large the number claimed.
+	const maxListed = 10
 	var missing []string
+	nMissing, blocks := 0, first.part.Unit.Blocks
 	for _, m := range first.part.Models {
 		have := map[int]bool{}
 		for _, pm := range byModel[m] {
 			have[pm.Unit.Block] = true
 		}
-		for b := range first.part.Unit.Blocks {
+		nMissing += min(blocks-len(have), math.MaxInt-nMissing)
+		for b := 0; b < blocks && len(missing) < maxListed; b++ {
 			if !have[b] {
 				missing = append(missing, fmt.Sprintf("%s block %d", m, b))
 			}
 		}
 	}
-	if len(missing) > 0 {
-		return nil, fmt.Errorf("no parts for %s (of %d rung block(s) per model): run every task before merging", strings.Join(missing, ", "), first.part.Unit.Blocks)
+	if nMissing > 0 {
+		list := strings.Join(missing, ", ")
+		if nMissing > len(missing) {
+			list += fmt.Sprintf(" and %d more", nMissing-len(missing))
+		}
+		return nil, fmt.Errorf("no parts for %s (of the %d rung block(s) per model that %s names): run every task before merging", list, blocks, first.path)
 	}
 	for _, k := range keys {
 		if err := rundir.CopyDir(filepath.Dir(parts[k].path), parts[k].part.Unit.Dir(out)); err != nil {
@@ -110,11 +121,7 @@ func readParts(dirs []string) (map[string]source, []string, error) {
 			return nil, nil, err
 		}
 		for _, m := range matches {
-			raw, err := os.ReadFile(m)
-			if err != nil {
-				return nil, nil, err
-			}
-			pm, err := rundir.DecodePart(m, raw)
+			pm, err := rundir.ReadPart(m)
 			if err != nil {
 				return nil, nil, err
 			}

@@ -8,11 +8,36 @@ import (
 	"sort"
 
 	"tautline/internal/numeric"
+	"tautline/models/gw"
 )
 
 // MinSamples is the fewest posterior samples a bin in the samples
 // representation may have: fewer cannot support a density estimate.
 const MinSamples = 50
+
+// MaxPriorDecades is the widest prior range of log10 rho accepted, in
+// decades (hi - lo). Free-spectrum posteriors are made under priors a few
+// decades wide (the demos use 4 to 6); the tables of the likelihood span
+// the range with a fixed number of points, so a range of thousands of
+// decades leaves no resolution where the data are, and a range near the
+// float limit overflows hi - lo.
+const MaxPriorDecades = 1000.0
+
+// MinSpreadFraction is the smallest spread (largest minus smallest) of a
+// bin's samples accepted, as a fraction of the prior range: below it the
+// samples fall within a few thousandths of one table spacing of the
+// default table and the kernel density estimate cannot resolve them.
+const MinSpreadFraction = 1e-6
+
+// The range of time spans T accepted, in s. Shorter than a day puts the
+// lowest bin 1/T above 1e-5 Hz, outside the nanohertz band of pulsar
+// timing; longer than a millennium exceeds any timing record. A span
+// outside it is almost surely a unit mistake (years given as seconds, or
+// seconds as years).
+const (
+	MinSpan = 86400.0
+	MaxSpan = 1000 * gw.JulianYear
+)
 
 // FreqTolerance is the relative tolerance within which listed frequencies must
 // equal i/T unless the data set declares them irregular.
@@ -71,6 +96,10 @@ type Dataset struct {
 	SHA256 string
 	// Path is the description file the data set was loaded from.
 	Path string
+	// Warnings name the doubtful inputs Load accepted (a grid bin of only
+	// two points, say), each with its file and line, for the caller to
+	// show; nil when there were none.
+	Warnings []string
 }
 
 // A Bin is the posterior of log10 rho in one frequency bin. Only the fields
@@ -235,8 +264,14 @@ func (ds *Dataset) Validate() error {
 	if !numeric.Finite(ds.Span) || ds.Span <= 0 {
 		return fail("span: must be a finite number of seconds > 0, got %g", ds.Span)
 	}
+	if ds.Span < MinSpan || ds.Span > MaxSpan {
+		return fail("span: %g s is outside the supported range [%g s (1 day), %g s (1000 yr)]", ds.Span, MinSpan, MaxSpan)
+	}
 	if !numeric.Finite(ds.PriorMin) || !numeric.Finite(ds.PriorMax) || ds.PriorMin >= ds.PriorMax {
 		return fail("prior range: need finite lo < hi, got [%g, %g]", ds.PriorMin, ds.PriorMax)
+	}
+	if msg := checkPriorWidth(ds.PriorMin, ds.PriorMax); msg != "" {
+		return fail("prior range: %s", msg)
 	}
 	if len(ds.Freqs) == 0 {
 		return fail("no frequency bins")
@@ -277,6 +312,24 @@ func checkFreq(f []float64, i int, span float64, irregular bool) string {
 	return ""
 }
 
+// checkPriorWidth returns what is wrong with the prior range [lo, hi]
+// (lo < hi, both finite) beyond its order, or "".
+func checkPriorWidth(lo, hi float64) string {
+	if w := hi - lo; !(w <= MaxPriorDecades) {
+		return fmt.Sprintf("[%g, %g] is more than %g decades wide; the prior of log10 rho under which free spectra are made spans a few decades, e.g. [-9, -5]", lo, hi, MaxPriorDecades)
+	}
+	return ""
+}
+
+// checkSpread returns what is wrong with samples (not all equal) that
+// spread over too small a part of the prior range [lo, hi], or "".
+func checkSpread(s []float64, lo, hi float64) string {
+	if d := spread(s); d < MinSpreadFraction*(hi-lo) {
+		return fmt.Sprintf("the samples spread over %.3g dex, less than %g of the prior range [%g, %g]; no density table over that range can resolve them: narrow the prior", d, MinSpreadFraction, lo, hi)
+	}
+	return ""
+}
+
 var errNoData = errors.New("no data")
 
 // check validates one bin's data against the prior range.
@@ -297,6 +350,9 @@ func (b *Bin) check(lo, hi float64) error {
 		}
 		if spread(b.Samples) <= 0 {
 			return fmt.Errorf("all samples are equal; no density can be estimated")
+		}
+		if msg := checkSpread(b.Samples, lo, hi); msg != "" {
+			return errors.New(msg)
 		}
 	case Grid:
 		if len(b.Grid) < 2 || len(b.Grid) != len(b.Density) {

@@ -23,6 +23,8 @@ const (
 	// maxAbove caps the distance above the prior range entering the
 	// penalty, so that the result stays finite for any input.
 	maxAbove = 1e6
+	// maxTableCells caps bins x table points (8 bytes each: 1 GiB).
+	maxTableCells = 1 << 27
 )
 
 // Bandwidth rules for samples.
@@ -113,6 +115,12 @@ func NewFreeSpectrum(ds *Dataset, opt Options) (*FreeSpectrum, error) {
 	}
 	if opt.TableSize < 16 || opt.TableSize > 1<<22 {
 		return nil, fmt.Errorf("likelihood: table size: must be in [16, %d], got %d", 1<<22, opt.TableSize)
+	}
+	// Every size below derives from the input: refuse before allocating
+	// one that cannot fit (the parser caps bins at 65536, which with the
+	// default table size is exactly maxTableCells).
+	if n := len(ds.Bins); n > maxTableCells/opt.TableSize {
+		return nil, fmt.Errorf("likelihood: %d bins of %d table points is more than the %d table cells supported", n, opt.TableSize, maxTableCells)
 	}
 	if !(opt.Penalty >= 0) || math.IsInf(opt.Penalty, 0) {
 		return nil, fmt.Errorf("likelihood: penalty: must be finite and >= 0 (0: exact), got %g", opt.Penalty)

@@ -9,7 +9,6 @@ import (
 	"fmt"
 	"io"
 	"io/fs"
-	"os"
 	"path"
 	"path/filepath"
 	"regexp"
@@ -19,6 +18,7 @@ import (
 	"gopkg.in/yaml.v3"
 
 	"tautline/internal/numeric"
+	"tautline/internal/safeio"
 	"tautline/models/gw"
 )
 
@@ -55,6 +55,9 @@ var keySets = map[string]struct{ prefix, known string }{
 
 var unknownField = regexp.MustCompile(`^line (\d+): field (.*) not found in type (\S+)$`)
 
+// utf8BOM is the UTF-8 encoding of U+FEFF, the byte-order mark.
+var utf8BOM = []byte("\xef\xbb\xbf")
+
 // Table headers of the three representations.
 var (
 	headerSamples  = []string{"bin", "log10_rho"}
@@ -64,8 +67,12 @@ var (
 
 // Load reads the data set described by the YAML file at path; table paths in
 // it are resolved against the file's directory.
+//
+// Only regular files are read (a named pipe or a device such as /dev/zero
+// is refused without being opened for long), the description up to
+// safeio.LimitDescription bytes and each table up to safeio.LimitTable.
 func Load(path string) (*Dataset, error) {
-	data, err := os.ReadFile(path)
+	data, err := safeio.ReadFile(path, safeio.LimitDescription)
 	if err != nil {
 		return nil, fmt.Errorf("likelihood: %w", err)
 	}
@@ -75,23 +82,24 @@ func Load(path string) (*Dataset, error) {
 		if !filepath.IsAbs(p) {
 			p = filepath.Join(dir, filepath.FromSlash(rel))
 		}
-		b, err := os.ReadFile(p)
+		b, err := safeio.ReadFile(p, safeio.LimitTable)
 		return p, b, err
 	}
 	return parse(path, data, read)
 }
 
 // LoadFS is Load reading from fsys; path and the table paths use forward
-// slashes, tables relative to the description's directory.
+// slashes, tables relative to the description's directory. The same file
+// types and size limits as Load's apply.
 func LoadFS(fsys fs.FS, name string) (*Dataset, error) {
-	data, err := fs.ReadFile(fsys, name)
+	data, err := safeio.ReadFileFS(fsys, name, safeio.LimitDescription)
 	if err != nil {
 		return nil, fmt.Errorf("likelihood: %w", err)
 	}
 	dir := path.Dir(name)
 	read := func(rel string) (string, []byte, error) {
 		p := path.Join(dir, rel)
-		b, err := fs.ReadFile(fsys, p)
+		b, err := safeio.ReadFileFS(fsys, p, safeio.LimitTable)
 		return p, b, err
 	}
 	return parse(name, data, read)
@@ -105,6 +113,8 @@ type parser struct {
 	hi   float64
 	prLn int // line of the prior range
 	bins []binAcc
+	// warns are the doubtful inputs accepted, for Dataset.Warnings.
+	warns []string
 }
 
 // binAcc accumulates one bin's rows.
@@ -205,6 +215,7 @@ func parse(name string, data []byte, read func(string) (string, []byte, error)) 
 		ds.Bins[i] = Bin{Kind: a.kind, Samples: a.samples, Grid: a.grid, Density: a.dens, Mean: a.mean, SD: a.sd}
 	}
 	ds.SHA256 = hex.EncodeToString(h.Sum(nil))
+	ds.Warnings = p.warns
 	return ds, nil
 }
 
@@ -264,6 +275,12 @@ func (p *parser) float(n *yaml.Node, key string) (float64, error) {
 	if n.Kind != yaml.ScalarNode || n.Tag == "!!null" {
 		return 0, p.errf(n.Line, key, "must be a number")
 	}
+	if strings.Contains(n.Value, "_") {
+		// yaml.v3 drops "_" between digits as YAML 1.1 did, where YAML
+		// 1.2 and most other readers take the scalar for a string: refuse
+		// a number whose value depends on the reader.
+		return 0, p.errf(n.Line, key, "must be a number, got %q: YAML readers disagree on \"_\" between digits (YAML 1.1 drops it, YAML 1.2 reads a string); write %s", n.Value, strings.ReplaceAll(n.Value, "_", ""))
+	}
 	var v float64
 	if err := n.Decode(&v); err != nil {
 		var perr error
@@ -296,6 +313,12 @@ func (p *parser) span(raw *rawDesc, ds *Dataset) error {
 	}
 	if v <= 0 {
 		return p.errf(n.Line, key, "must be > 0, got %g", v)
+	}
+	if t := v * unit; !(t >= MinSpan && t <= MaxSpan) {
+		if y.Kind != 0 {
+			return p.errf(n.Line, key, "%g yr is outside the supported range [%.4g yr (1 day), %g yr]", v, MinSpan/unit, MaxSpan/unit)
+		}
+		return p.errf(n.Line, key, "%g s is outside the supported range [%g s (1 day), %g s (1000 yr)]", v, MinSpan, MaxSpan)
 	}
 	ds.Span = v * unit
 	return nil
@@ -369,6 +392,9 @@ func (p *parser) prior(n *yaml.Node, ds *Dataset) error {
 	if lo >= hi {
 		return p.errf(n.Line, key, "lo must be below hi, got [%g, %g]", lo, hi)
 	}
+	if msg := checkPriorWidth(lo, hi); msg != "" {
+		return p.errf(n.Line, key, "%s", msg)
+	}
 	ds.PriorMin, ds.PriorMax = lo, hi
 	p.lo, p.hi, p.prLn = lo, hi, n.Line
 	return nil
@@ -379,7 +405,9 @@ func (p *parser) table(file string, data []byte, kind Representation, header []s
 	errf := func(line int, format string, a ...any) error {
 		return fmt.Errorf("likelihood: %s: line %d: %s", file, line, fmt.Sprintf(format, a...))
 	}
-	r := csv.NewReader(bytes.NewReader(data))
+	// A byte-order mark, which some spreadsheet programs write before the
+	// header, is no part of the first field.
+	r := csv.NewReader(bytes.NewReader(bytes.TrimPrefix(data, utf8BOM)))
 	r.Comment = '#'
 	r.TrimLeadingSpace = true
 	r.FieldsPerRecord = len(header)
@@ -498,12 +526,18 @@ func (p *parser) table(file string, data []byte, kind Representation, header []s
 			if spread(a.samples) <= 0 {
 				return errf(a.line, "bin %d: all samples are equal; no density can be estimated", i+1)
 			}
+			if msg := checkSpread(a.samples, p.lo, p.hi); msg != "" {
+				return errf(a.line, "bin %d: %s (log10_rho_prior, %s line %d)", i+1, msg, p.name, p.prLn)
+			}
 		case Grid:
 			if len(a.grid) < 2 {
 				return errf(a.line, "bin %d: the grid needs at least 2 points, got %d", i+1, len(a.grid))
 			}
 			if gridCDF(a.grid, a.dens) == nil {
 				return errf(a.line, "bin %d: the density has no positive mass", i+1)
+			}
+			if len(a.grid) == 2 {
+				p.warns = append(p.warns, fmt.Sprintf("%s: line %d: bin %d: the grid has only 2 points, so its log density is taken as a straight line between them; check that the table is complete", file, a.line, i+1))
 			}
 		}
 	}

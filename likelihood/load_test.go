@@ -270,6 +270,8 @@ func TestValidate(t *testing.T) {
 	}{
 		{"valid", func(*Dataset) {}, ""},
 		{"span", func(d *Dataset) { d.Span = math.Inf(1) }, `likelihood: data set "v": span: must be a finite number of seconds > 0, got +Inf`},
+		{"span-short", func(d *Dataset) { d.Span = 3600; d.Freqs = []float64{1.0 / 3600, 2.0 / 3600} }, `likelihood: data set "v": span: 3600 s is outside the supported range [86400 s (1 day), 3.15576e+10 s (1000 yr)]`},
+		{"span-long", func(d *Dataset) { d.Span = 1e12; d.Irregular = true }, `likelihood: data set "v": span: 1e+12 s is outside the supported range [86400 s (1 day), 3.15576e+10 s (1000 yr)]`},
 		{"prior", func(d *Dataset) { d.PriorMax = math.NaN() }, `likelihood: data set "v": prior range: need finite lo < hi, got [-9, NaN]`},
 		{"count", func(d *Dataset) { d.Bins = d.Bins[:1] }, `likelihood: data set "v": 1 bins for 2 frequencies`},
 		{"harmonic", func(d *Dataset) { d.Freqs[1] = 2.1e-8 }, `likelihood: data set "v": bin 2: frequency: 2.1e-08 Hz differs from 2/T = 2e-08 Hz by more than the relative tolerance 1e-06 (declare irregular frequencies if they are not harmonics of 1/T)`},

@@ -9,6 +9,7 @@ import (
 	"strings"
 
 	"tautline/chains"
+	"tautline/internal/safeio"
 )
 
 // Kinds of run folder.
@@ -107,7 +108,7 @@ func loadFit(dir, metaPath string, traces bool) (*Run, error) {
 			Steps int `json:"steps"`
 		} `json:"sampling"`
 	}
-	if raw, err := os.ReadFile(metaPath); err == nil {
+	if raw, err := safeio.ReadFile(metaPath, safeio.LimitJSON); err == nil {
 		_ = json.Unmarshal(raw, &status)
 	}
 	cfg, err := json.Marshal(m.Config)
@@ -155,7 +156,7 @@ func (rm *Model) readSamples() error {
 }
 
 func loadCompare(dir, cmpPath string) (*Run, error) {
-	raw, err := os.ReadFile(cmpPath)
+	raw, err := safeio.ReadFile(cmpPath, safeio.LimitJSON)
 	if err != nil {
 		return nil, err
 	}
@@ -201,7 +202,7 @@ func loadCompare(dir, cmpPath string) (*Run, error) {
 func findPart(dir, model string) (*Part, error) {
 	matches, _ := PartFiles(dir)
 	for _, m := range matches {
-		raw, err := os.ReadFile(m)
+		raw, err := safeio.ReadFile(m, safeio.LimitPart)
 		if err != nil {
 			return nil, err
 		}

@@ -7,6 +7,7 @@ import (
 	"strings"
 
 	"tautline/chains"
+	"tautline/internal/safeio"
 	"tautline/sampler"
 	"tautline/sampler/evidence"
 )
@@ -98,6 +99,17 @@ func (p *Part) Seed() (uint64, error) {
 		return 0, err
 	}
 	return c.Sampler.Seed, nil
+}
+
+// ReadPart reads and checks the part.json at path (see DecodePart). Only a
+// regular file of at most safeio.LimitPart bytes is read: a named pipe in
+// its place is refused at once instead of blocking the reader.
+func ReadPart(path string) (*Part, error) {
+	raw, err := safeio.ReadFile(path, safeio.LimitPart)
+	if err != nil {
+		return nil, err
+	}
+	return DecodePart(path, raw)
 }
 
 // DecodePart reads one part.json (name names it in errors) and checks that

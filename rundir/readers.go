@@ -4,11 +4,11 @@ import (
 	"bufio"
 	"encoding/json"
 	"fmt"
-	"os"
 	"slices"
 	"strconv"
 	"strings"
 
+	"tautline/internal/safeio"
 	"tautline/sampler/evidence"
 )
 
@@ -17,7 +17,7 @@ import (
 // 1+2 every, ... of every walker. The result is indexed [parameter][walker]
 // and holds the kept values in step order.
 func ReadTraces(path string, names []string, every int) ([][][]float64, error) {
-	f, err := os.Open(path)
+	f, err := safeio.Open(path)
 	if err != nil {
 		return nil, err
 	}
@@ -82,7 +82,7 @@ func ReadTraces(path string, names []string, every int) ([][][]float64, error) {
 // ReadEvidenceCurve reads the ln L-versus-beta curve of an evidence.json:
 // beta, the mean of ln L and its standard error per rung.
 func ReadEvidenceCurve(path string) (beta, mean, se []float64, err error) {
-	raw, err := os.ReadFile(path)
+	raw, err := safeio.ReadFile(path, safeio.LimitJSON)
 	if err != nil {
 		return nil, nil, nil, err
 	}
@@ -99,7 +99,9 @@ func ReadEvidenceCurve(path string) (beta, mean, se []float64, err error) {
 // ReadCurve reads the beta, mean_ln_like and mean_err columns of
 // lnl_beta.csv.
 func ReadCurve(path string) (beta, mean, se []float64, err error) {
-	raw, err := os.ReadFile(path)
+	// lnl_beta.csv holds one short row per rung: the JSON metadata's
+	// limit is ample for it.
+	raw, err := safeio.ReadFile(path, safeio.LimitJSON)
 	if err != nil {
 		return nil, nil, nil, err
 	}

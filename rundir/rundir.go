@@ -17,6 +17,7 @@ import (
 	"strings"
 
 	"tautline/chains"
+	"tautline/internal/safeio"
 )
 
 // File names of a fit folder.
@@ -91,7 +92,7 @@ func CopyFile(src, dst string) error {
 	if a == b {
 		return nil
 	}
-	in, err := os.Open(src)
+	in, err := safeio.Open(src)
 	if err != nil {
 		return err
 	}

@@ -166,7 +166,7 @@ func CheckRegular(path string, info fs.FileInfo) error {
 func Open(path string) (*os.File, error) {
 	st, err := os.Stat(path)
 	if err != nil {
-		return nil, err
+		return nil, asOpenError(err)
 	}
 	if err := CheckRegular(path, st); err != nil {
 		return nil, err
@@ -207,7 +207,7 @@ func ReadFile(path string, limit int64) ([]byte, error) {
 func ReadFileFS(fsys fs.FS, name string, limit int64) ([]byte, error) {
 	st, err := fs.Stat(fsys, name)
 	if err != nil {
-		return nil, err
+		return nil, asOpenError(err)
 	}
 	if err := CheckRegular(name, st); err != nil {
 		return nil, err
@@ -225,6 +225,17 @@ func ReadFileFS(fsys fs.FS, name string, limit int64) ([]byte, error) {
 		return nil, err
 	}
 	return readLimited(name, f, st.Size(), limit)
+}
+
+// asOpenError reports a failed stat as the failed open it stands for, so
+// that a missing file reads "open PATH: no such file or directory" as it
+// does with os.Open, whichever call found it missing.
+func asOpenError(err error) error {
+	var pe *fs.PathError
+	if errors.As(err, &pe) && pe.Op == "stat" {
+		return &fs.PathError{Op: "open", Path: pe.Path, Err: pe.Err}
+	}
+	return err
 }
 
 // readLimited reads r whole but never more than limit+1 bytes, so that a

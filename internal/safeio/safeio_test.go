@@ -78,7 +78,7 @@ func TestReadFile(t *testing.T) {
 		{"socket", sock, 100, 0, ErrNotRegular, "sock: is a socket"},
 		{"/dev/zero", "/dev/zero", 100, 0, ErrNotRegular, "/dev/zero: is a character device"},
 		{"/dev/null", "/dev/null", 100, 0, ErrNotRegular, "/dev/null: is a character device"},
-		{"missing", filepath.Join(dir, "nope"), 100, 0, fs.ErrNotExist, "no such file"},
+		{"missing", filepath.Join(dir, "nope"), 100, 0, fs.ErrNotExist, "open " + filepath.Join(dir, "nope") + ": no such file or directory"},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
@@ -177,7 +177,7 @@ func TestReadFileFS(t *testing.T) {
 		{mfs, "d/sub", 100, "", ErrNotRegular, "d/sub: is a directory"},
 		{mfs, "d/pipe", 100, "", ErrNotRegular, "d/pipe: is a named pipe (FIFO)"},
 		{mfs, "d/dev", 100, "", ErrNotRegular, "d/dev: is a character device"},
-		{mfs, "d/none", 100, "", fs.ErrNotExist, "d/none"},
+		{mfs, "d/none", 100, "", fs.ErrNotExist, "open d/none: file does not exist"},
 		{os.DirFS(dir), "fifo", 100, "", ErrNotRegular, "fifo: is a named pipe (FIFO)"},
 		{os.DirFS(dir), "f", 3, "abc", nil, ""},
 		{os.DirFS(dir), "f", 2, "", ErrTooLarge, "f: 3 B is more than the 2 B limit"},

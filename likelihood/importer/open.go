@@ -3,8 +3,9 @@ package importer
 import (
 	"fmt"
 	"io"
-	"io/fs"
 	"os"
+
+	"tautline/internal/safeio"
 )
 
 // Read limits.
@@ -17,51 +18,23 @@ const (
 )
 
 // openRegular opens path for reading after checking that it is a regular
-// file of at most limit bytes; it returns the file and its size.
+// file (safeio.Open: never blocking on a named pipe) of at most limit
+// bytes; it returns the file and its size.
 func openRegular(path string, limit int64) (*os.File, int64, error) {
-	st, err := os.Stat(path)
+	f, err := safeio.Open(path)
 	if err != nil {
 		return nil, 0, fmt.Errorf("importer: %w", err)
 	}
-	if err := checkRegular(path, st, limit); err != nil {
-		return nil, 0, err
-	}
-	f, err := os.Open(path)
-	if err != nil {
-		return nil, 0, fmt.Errorf("importer: %w", err)
-	}
-	// The file may have been replaced between Stat and Open.
-	st, err = f.Stat()
-	if err == nil {
-		err = checkRegular(path, st, limit)
-	}
+	st, err := f.Stat()
 	if err != nil {
 		f.Close()
-		return nil, 0, err
-	}
-	return f, st.Size(), nil
-}
-
-func checkRegular(path string, st fs.FileInfo, limit int64) error {
-	m := st.Mode()
-	if !m.IsRegular() {
-		what := "not a regular file"
-		switch {
-		case m.IsDir():
-			what = "a directory"
-		case m&fs.ModeNamedPipe != 0:
-			what = "a named pipe"
-		case m&fs.ModeDevice != 0:
-			what = "a device"
-		case m&fs.ModeSocket != 0:
-			what = "a socket"
-		}
-		return fmt.Errorf("importer: %s: is %s; give a regular file", path, what)
+		return nil, 0, fmt.Errorf("importer: %w", err)
 	}
 	if st.Size() > limit {
-		return fmt.Errorf("importer: %s: %d bytes is more than the limit of %s", path, st.Size(), byteSize(limit))
+		f.Close()
+		return nil, 0, fmt.Errorf("importer: %w", &safeio.LimitError{Path: path, Limit: limit, Size: st.Size()})
 	}
-	return nil
+	return f, st.Size(), nil
 }
 
 // byteSize writes n as a whole number of GiB, MiB or KiB when it is one.
@@ -90,7 +63,7 @@ func (c *capped) Read(p []byte) (int, error) {
 	if c.left <= 0 {
 		var one [1]byte
 		if n, _ := c.r.Read(one[:]); n > 0 {
-			return 0, fmt.Errorf("importer: %s: more than the limit of %s", c.file, byteSize(c.limit))
+			return 0, fmt.Errorf("importer: %w", &safeio.LimitError{Path: c.file, Limit: c.limit, Size: -1})
 		}
 		return 0, io.EOF
 	}

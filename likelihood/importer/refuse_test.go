@@ -166,14 +166,14 @@ func TestRefused(t *testing.T) {
 		{"unknown version", matrix("v4.npy", append([]byte("\x93NUMPY\x04\x00"), make([]byte, 60)...), three),
 			"importer: DIR/v4.npy: .npy format version 4.0 is not supported (1.0, 2.0 and 3.0 are)"},
 		{"named pipe", func() error { _, err := ReadNPY(fifo, 0); return err },
-			"importer: DIR/pipe.npy: is a named pipe; give a regular file"},
+			"importer: DIR/pipe.npy: is a named pipe (FIFO), not a regular file"},
 		{"device", func() error { _, err := ReadText("/dev/zero", 0); return err },
-			"importer: /dev/zero: is a device; give a regular file"},
+			"importer: /dev/zero: is a character device, not a regular file"},
 		{"over the limit", func() error {
 			p := writeFile(t, dir, "big.npy", npyBytes("<f8", false, good))
 			_, err := ReadNPY(p, 1<<10)
 			return err
-		}, "importer: DIR/big.npy: 2528 bytes is more than the limit of 1 KiB"},
+		}, "importer: DIR/big.npy: 2.5 KiB is more than the 1 KiB limit for this kind of file"},
 		{"ragged text", matrix("ragged.txt", []byte("-7 -7 -7\n-7 -7\n"), three),
 			"importer: DIR/ragged.txt: line 2: 2 fields, but the first row has 3"},
 		{"burn-in of 1", matrix("burn.npy", npyBytes("<f8", false, good), MatrixOptions{Meta: meta("m", 3), BurnIn: 1}),
