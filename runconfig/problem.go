@@ -43,12 +43,20 @@ func (c Config) LoadParts(load Loader) ([]Data, []likelihood.Part, error) {
 }
 
 // LoadProblem loads the data sets and builds the model of c and joins
-// them. logf, if not nil, receives log lines while a string-spectrum table
-// is built.
+// them. logf, if not nil, receives each data set's warnings (what was
+// accepted but assumed, such as a two-point grid) and log lines while a
+// string-spectrum table is built.
 func (c Config) LoadProblem(load Loader, logf registry.Logf) (*Problem, error) {
 	data, parts, err := c.LoadParts(load)
 	if err != nil {
 		return nil, err
+	}
+	if logf != nil {
+		for _, d := range data {
+			for _, w := range d.Set.Warnings {
+				logf("data set %s: warning: %s", d.Set.Name, w)
+			}
+		}
 	}
 	m, err := registry.Build(c.ModelSettings(), logf)
 	if err != nil {

@@ -21,11 +21,7 @@ import (
 // address-space cap, so that a hang, a panic or a runaway allocation is
 // seen for what it is rather than stalling or crashing the test binary.
 //
-// A case whose expectation tautline does not meet yet carries fixedBy:
-// "todo"; it is skipped, naming the failure, so the suite stays green
-// while the fixes land. TAUTLINE_ATTACK_TODO=1 runs those cases too (they
-// are then expected to fail), and TAUTLINE_ATTACK_RECORD=1 logs what
-// every case did.
+// TAUTLINE_ATTACK_RECORD=1 logs what every case did.
 
 // attack is one hostile input and what tautline must do with it.
 type attack struct {
@@ -46,10 +42,6 @@ type attack struct {
 	check func(t *testing.T, b *attackEnv) error
 	// timeout overrides the default deadline.
 	timeout time.Duration
-	// fixedBy is "todo" for an expectation that tautline fails today.
-	fixedBy string
-	// item is the attack report's failure number (1-6), 0 for the rest.
-	item int
 }
 
 // attackEnv is what a case's setup and check work with.
@@ -275,10 +267,6 @@ func attacks() []attack {
 	accept := func(name string, args []string, want ...string) attack {
 		return attack{name: name, args: args, code: 0, want: want}
 	}
-	todo := func(a attack, item int) attack {
-		a.fixedBy, a.item = "todo", item
-		return a
-	}
 	quick := func(a attack, d time.Duration) attack {
 		a.timeout = d
 		return a
@@ -363,7 +351,7 @@ func attacks() []attack {
 		accept("hex span is a YAML integer", inspect("span-hex.yaml"), "(1e+08 s)"),
 		accept("octal span is a YAML integer", inspect("span-octal.yaml"), "(1e+08 s)"),
 		refuse("underscored span", inspect("span-underscore.yaml"), `span-underscore.yaml: line 4: span_seconds: must be a number, got "100_000_000": YAML readers disagree on "_" between digits (YAML 1.1 drops it, YAML 1.2 reads a string); write 100000000`),
-		todo(accept("grid bin of two points", inspect("grid-two.yaml"), "only 2 points"), 5),
+		accept("grid bin of two points", inspect("grid-two.yaml"), "only 2 points"),
 		accept("quoted CSV fields (RFC 4180)", inspect("csv-quoted.yaml"), "total: 3 bins"),
 		refuse("empty CSV value", inspect("csv-empty-value.yaml"), `samples-empty-value.csv: line 6: log10_rho: must be a number, got ""`),
 		// Outside the string table's band fit refuses and names the way out.
@@ -657,7 +645,6 @@ func TestAttack(t *testing.T) {
 		t.Fatal(err)
 	}
 	bin := buildAttackBinary(t, t.TempDir())
-	runTodo := os.Getenv("TAUTLINE_ATTACK_TODO") == "1"
 	record := os.Getenv("TAUTLINE_ATTACK_RECORD") == "1"
 	all := append(attacks(), broadAttacks()...)
 	seen := map[string]bool{}
@@ -667,10 +654,6 @@ func TestAttack(t *testing.T) {
 		}
 		seen[a.name] = true
 		t.Run(a.name, func(t *testing.T) {
-			if a.fixedBy != "" && !runTodo {
-				t.Skipf("known failure (fixedBy %s, attack item %d): %s is expected to exit %d with %q",
-					a.fixedBy, a.item, strings.Join(a.args, " "), a.code, a.want)
-			}
 			b := &attackEnv{bin: bin, tmp: t.TempDir(), data: filepath.Join(root, "data"), config: filepath.Join(root, "config"), parts: filepath.Join(root, "parts")}
 			if a.setup != nil {
 				a.setup(t, b)

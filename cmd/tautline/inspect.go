@@ -41,6 +41,7 @@ type inspectOut struct {
 	SHA256        string       `json:"sha256"`
 	Bins          []inspectRow `json:"bins"`
 	Total         int          `json:"total_bins"`
+	Warnings      []string     `json:"warnings,omitempty"`
 }
 
 func runInspect(_ context.Context, e *env, args []string) error {
@@ -60,7 +61,7 @@ func runInspect(_ context.Context, e *env, args []string) error {
 		}
 		out := inspectOut{
 			Name: ds.Name, Provenance: ds.Provenance, SpanSeconds: ds.Span, SpanYears: ds.Span / gw.JulianYear,
-			PriorLog10Rho: [2]float64{ds.PriorMin, ds.PriorMax}, SHA256: ds.SHA256,
+			PriorLog10Rho: [2]float64{ds.PriorMin, ds.PriorMax}, SHA256: ds.SHA256, Warnings: ds.Warnings,
 		}
 		for _, b := range ds.Summary() {
 			out.Bins = append(out.Bins, inspectRow{
@@ -93,6 +94,9 @@ func runInspect(_ context.Context, e *env, args []string) error {
 			return err
 		}
 		fmt.Fprintf(e.stdout, "\ntotal: %d bins\n", out.Total)
+		for _, w := range out.Warnings {
+			fmt.Fprintf(e.stdout, "warning: %s\n", w)
+		}
 	}
 	return nil
 }
