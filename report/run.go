@@ -94,12 +94,19 @@ type reportWriter struct {
 	o        RunOptions
 	run      *rundir.Run
 	smoothed bool
-	files    []string      // written, relative to o.out
-	bands    [][]ModelBand // [model][data set]
-	excl     []NamedExclusion
-	exclTop  float64
+	files    []string          // written, relative to o.out
+	bands    [][]ModelBand     // [model][data set]
+	excl     []*exclusionGroup // one figure per slicing parameter, in the order first seen
 	data     []*likelihood.Dataset
-	exclLbl  [2]string
+}
+
+// exclusionGroup collects the exclusion curves of the models that slice
+// log10_Gmu by the same parameter, which share one figure.
+type exclusionGroup struct {
+	x      string // the slicing parameter
+	curves []NamedExclusion
+	top    float64
+	labels [2]string
 }
 
 func (w *reportWriter) add(paths ...string) {
@@ -161,8 +168,12 @@ func (w *reportWriter) write() error {
 			return err
 		}
 	}
-	if len(w.excl) > 0 {
-		files, err := ExclusionFigure(filepath.Join(w.o.Out, "exclusion"), w.exclLbl[0], w.exclLbl[1], w.excl, w.exclTop, w.figOpts())
+	for _, g := range w.excl {
+		stem := "exclusion"
+		if g.x != exclusionX[0] {
+			stem += "_" + FileStem(g.x)
+		}
+		files, err := ExclusionFigure(filepath.Join(w.o.Out, stem), g.labels[0], g.labels[1], g.curves, g.top, w.figOpts())
 		if err != nil {
 			return err
 		}
@@ -176,11 +187,13 @@ func (w *reportWriter) write() error {
 	return w.writeIndex()
 }
 
-// Names of the parameters of the exclusion curve.
-const (
-	reportExclY = "log10_Gmu"
-	reportExclX = "log10_alpha"
-)
+// reportExclY is the parameter whose one-sided upper limit the exclusion
+// curve gives, in slices of the first of exclusionX that the model samples:
+// the loop size of the one-scale model, the decay parameter of metastable
+// strings, the reconnection probability of the calibrated-loop model.
+const reportExclY = "log10_Gmu"
+
+var exclusionX = [...]string{"log10_alpha", "sqrt_kappa_m", "log10_P"}
 
 func (w *reportWriter) writeModel(m *rundir.Model) error {
 	dir := filepath.Join(w.o.Out, m.Stem)
@@ -327,9 +340,16 @@ func (w *reportWriter) writeSamples(dir string, meta Metadata, m *rundir.Model) 
 }
 
 // writeExclusion writes the conditional upper limit on log10_Gmu in slices
-// of log10_alpha when the model has both.
+// of the model's slicing parameter (exclusionX) when it samples both.
 func (w *reportWriter) writeExclusion(dir string, meta Metadata, m *rundir.Model, ps []stats.Param) error {
-	ix, iy := slices.Index(m.Names, reportExclX), slices.Index(m.Names, reportExclY)
+	iy := slices.Index(m.Names, reportExclY)
+	ix, reportExclX := -1, ""
+	for _, name := range exclusionX {
+		if ix = slices.Index(m.Names, name); ix >= 0 {
+			reportExclX = name
+			break
+		}
+	}
 	if ix < 0 || iy < 0 {
 		return nil
 	}
@@ -360,9 +380,19 @@ func (w *reportWriter) writeExclusion(dir string, meta Metadata, m *rundir.Model
 		w.lg.WithField("model", m.Name).Warnf("exclusion curve: no slice of %s holds enough samples for a limit; no figure", reportExclX)
 		return nil
 	}
-	w.excl = append(w.excl, NamedExclusion{Name: m.Name, Points: pts, Mass: w.o.LimitMass, Prior: m.Priors[iy]})
-	w.exclTop = y.Bounds[1]
-	w.exclLbl = [2]string{AxisLabel(reportLabel(x.Label, x.Name), x.Unit), AxisLabel(reportLabel(y.Label, y.Name), y.Unit)}
+	var g *exclusionGroup
+	for _, e := range w.excl {
+		if e.x == reportExclX {
+			g = e
+		}
+	}
+	if g == nil {
+		g = &exclusionGroup{x: reportExclX}
+		w.excl = append(w.excl, g)
+	}
+	g.curves = append(g.curves, NamedExclusion{Name: m.Name, Points: pts, Mass: w.o.LimitMass, Prior: m.Priors[iy]})
+	g.top = y.Bounds[1]
+	g.labels = [2]string{AxisLabel(reportLabel(x.Label, x.Name), x.Unit), AxisLabel(reportLabel(y.Label, y.Name), y.Unit)}
 	return nil
 }
 
