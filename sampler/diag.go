@@ -173,7 +173,8 @@ func autocorrDirect(x []float64, steps, walkers int) (tau float64, err error, ok
 }
 
 // ESS returns the effective sample size steps x walkers / tau of one
-// parameter, with tau from AutocorrTime (and its error).
+// parameter, with tau from AutocorrTime (and its error): the ensemble's
+// ESS of Goodman & Weare (2010), see the definitions in ensdiag.go.
 func ESS(x []float64, steps, walkers int) (float64, error) {
 	tau, err := AutocorrTime(x, steps, walkers)
 	return float64(steps*walkers) / tau, err
@@ -243,7 +244,8 @@ func rhat(c []float64, n, m int) float64 {
 }
 
 // SplitRhat returns the rank-normalised split R-hat of Vehtari et al.
-// (2021), eq. 14-15: each walker's chain is split in halves, draws are
+// (2021), eq. 14-15, treating every walker as an independent chain (for
+// independent runs; the diagnostics of an ensemble use EnsembleRhat): each walker's chain is split in halves, draws are
 // replaced by normal scores of their pooled ranks, and the result is the
 // larger of R-hat for these scores and for the scores of the folded draws
 // |x - median|. It is NaN for fewer than 4 steps.
@@ -435,7 +437,8 @@ func geyerESS(n, m int, c0, means []float64, acovSum func(t int) (float64, bool)
 }
 
 // BulkESS returns the bulk effective sample size of Vehtari et al. (2021):
-// the multi-chain ESS of the rank-normalised split chains. It is NaN for
+// the multi-chain ESS of the rank-normalised split chains, every walker
+// taken as an independent chain (an ensemble's is EnsembleBulkESS). It is NaN for
 // fewer than 8 steps.
 func BulkESS(x []float64, steps, walkers int) float64 {
 	if checkLayout(x, steps, walkers) != nil || steps < 8 {
@@ -447,7 +450,8 @@ func BulkESS(x []float64, steps, walkers int) float64 {
 
 // TailESS returns the tail effective sample size of Vehtari et al. (2021):
 // the smaller of the multi-chain ESS of the indicators I(x <= q05) and
-// I(x <= q95) over the split chains. It is NaN for fewer than 8 steps.
+// I(x <= q95) over the split chains, every walker taken as an independent
+// chain (an ensemble's is EnsembleTailESS). It is NaN for fewer than 8 steps.
 func TailESS(x []float64, steps, walkers int) float64 {
 	if checkLayout(x, steps, walkers) != nil || steps < 8 {
 		return math.NaN()
@@ -473,18 +477,6 @@ func tailESS(c, s []float64, n, m int) float64 {
 		out = math.Min(out, multiESS(ind, n, m))
 	}
 	return out
-}
-
-// vehtari returns split R-hat, bulk ESS and tail ESS of one parameter,
-// sharing the split, sort and rank normalisation between them.
-func vehtari(r *ranker, x []float64, steps, walkers int) (rh, bulk, tail float64) {
-	if steps < 8 {
-		return splitRhatOf(r, x, steps, walkers), math.NaN(), math.NaN()
-	}
-	c, n, m := splitChains(x, steps, walkers)
-	z := r.normalize(c, nil)
-	s := slices.Clone(r.sorted)
-	return splitRhat(r, c, z, quantile(s, 0.5), n, m), multiESS(z, n, m), tailESS(c, s, n, m)
 }
 
 // StuckWalkers returns the indices of walkers whose acceptance fraction,
@@ -532,7 +524,10 @@ type Report struct {
 }
 
 // Diagnose computes the diagnostics of a chain of positions laid out as
-// pos[(s*walkers+w)*dim+k] (as History.Positions), for every parameter k.
+// pos[(s*walkers+w)*dim+k] (as History.Positions), for every parameter k:
+// tau and ESS by AutocorrTime, R-hat by EnsembleRhat, bulk and tail ESS
+// by EnsembleBulkESS and EnsembleTailESS (the ensemble-aware definitions
+// at the top of ensdiag.go).
 // acc, the per-walker acceptance fractions, may be nil; names, if not nil,
 // label the parameters.
 func Diagnose(pos []float64, steps, walkers, dim int, acc []float64, names []string) (Report, error) {
@@ -557,11 +552,7 @@ func diagnose(pos []float64, steps, walkers, dim int, acc []float64, names []str
 		}
 		tau, err := AutocorrTime(x, steps, walkers)
 		p := ParamReport{Index: k, Tau: tau, TauReliable: err == nil, ESS: float64(steps*walkers) / tau}
-		if tails {
-			p.Rhat, p.BulkESS, p.TailESS = vehtari(&rk, x, steps, walkers)
-		} else {
-			p.Rhat, p.BulkESS, p.TailESS = splitRhatOf(&rk, x, steps, walkers), math.NaN(), math.NaN()
-		}
+		p.Rhat, p.BulkESS, p.TailESS = ensembleVehtari(&rk, x, steps, walkers, tails)
 		if names != nil {
 			p.Name = names[k]
 		}

@@ -188,7 +188,7 @@ func (h *History) thinnedTau(from, k int) float64 {
 type Criteria struct {
 	ESS         float64 // least effective sample size of every parameter after burn-in
 	TauMultiple float64 // least post-burn-in chain length in autocorrelation times
-	Rhat        float64 // largest split R-hat of every parameter
+	Rhat        float64 // largest ensemble R-hat (EnsembleRhat) of every parameter
 }
 
 // RunOptions control Run. Step counts are ensemble step counts (as
@@ -222,7 +222,7 @@ type Progress struct {
 	Rate      float64       // steps per second during this Run
 	MaxTau    float64       // largest autocorrelation time
 	MinESS    float64       // smallest ESS after burn-in
-	MaxRhat   float64       // largest split R-hat (bulk and tail ESS are left for the Result)
+	MaxRhat   float64       // largest ensemble R-hat (bulk and tail ESS are left for the Result)
 	Burn      int           // burn-in chosen at this check
 	Converged bool          // all criteria hold
 	ETA       time.Duration // estimated time to convergence; -1 if unknown

@@ -40,17 +40,32 @@ func New(n int) *Work {
 // acov[0:len(series)] and returns the series' mean. series must not be
 // longer than the n given to New, nor acov shorter than series.
 func (a *Work) Autocov(series, acov []float64) (mean float64) {
+	for _, v := range series {
+		mean += v
+	}
+	if len(series) > 0 {
+		mean /= float64(len(series))
+	}
+	a.AutocovAbout(series, mean, acov)
+	return mean
+}
+
+// AutocovAbout is Autocov with the deviations taken from the given centre
+// instead of the series' own mean:
+//
+//	C(k) = (1/n) sum_{t=0}^{n-1-k} (x_t - c)(x_{t+k} - c).
+//
+// Several series of one ensemble centred at their common mean keep the
+// differences between their means in C(k).
+func (a *Work) AutocovAbout(series []float64, centre float64, acov []float64) {
 	n := len(series)
 	if n > a.max || len(acov) < n {
 		panic("acf: series longer than the Work or acov too short")
 	}
 	if n == 0 {
-		return 0
+		return
 	}
-	for _, v := range series {
-		mean += v
-	}
-	mean /= float64(n)
+	mean := centre
 	for i := range a.buf {
 		a.buf[i] = 0
 	}
@@ -67,5 +82,4 @@ func (a *Work) Autocov(series, acov []float64) (mean float64) {
 	for k := range n {
 		acov[k] = a.out[k] * scale
 	}
-	return mean
 }
