@@ -61,11 +61,7 @@ func runCalibrate(ctx context.Context, e *env, args []string) error {
 	formats := fs.String("formats", "png,svg", "figure formats: png, svg, both (comma-separated) or none")
 	out := fs.String("out", "", "output folder; empty means runs/calibrate-MODEL")
 	resume := fs.Bool("resume", false, "continue the calibration in --out, skipping the replicates already written")
-	pulsars := fs.Int("pulsars", 40, "number of invented pulsars")
-	spanYr := fs.Float64("span-yr", 15, "observing span T in years (bins at f_i = i/T)")
-	cadenceDays := fs.Float64("cadence-days", 14, "days between observations of each pulsar")
-	sigmaNs := fs.Float64("sigma-ns", 500, "white timing noise per observation, rms, in nanoseconds")
-	bins := fs.Int("bins", 15, "number of frequency bins")
+	arr := runconfig.BindArray(fs)
 	rhoMin := fs.Float64("log10-rho-min", -12, "lower end of the simulated data's log10 rho grid (rho in s)")
 	rhoMax := fs.Float64("log10-rho-max", 0, "upper end of the log10 rho grid (rho in s); it must lie above what the prior predicts")
 	gridPoints := fs.Int("grid-points", 1201, "points of the log10 rho grid of every bin")
@@ -88,8 +84,7 @@ func runCalibrate(ctx context.Context, e *env, args []string) error {
 		return fmt.Errorf("%w: %v", errUsage, err)
 	}
 	prob := calibrate.Problem{
-		Array: simulate.Array{Pulsars: *pulsars, Span: *spanYr * gw.JulianYear, Cadence: *cadenceDays * 86400,
-			Sigma: *sigmaNs * 1e-9, Bins: *bins},
+		Array:    arr.Array(),
 		H0:       gw.H0SI(*h0),
 		Grid:     simulate.GridOptions{Min: *rhoMin, Max: *rhoMax, Points: *gridPoints},
 		Describe: map[string]any{"model": *model, "fix_gamma": *fixGamma, "h0_km_s_mpc": *h0},
