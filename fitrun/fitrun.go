@@ -20,7 +20,6 @@ import (
 
 	"tautline/chains"
 	"tautline/internal/safeio"
-	"tautline/report"
 	"tautline/rundir"
 	"tautline/sampler"
 )
@@ -183,7 +182,7 @@ func Run(ctx context.Context, p Problem, s Settings) (*Result, error) {
 	if err := chains.WriteNPY(paths.Posterior, n, dim, post); err != nil {
 		return nil, err
 	}
-	sum := report.FitSummary(p.Names, post, n, dim)
+	sum := FitSummary(p.Names, post, n, dim)
 	if err := rundir.WriteJSON(paths.Summary, rundir.Summary{Params: sum, Samples: n, Burn: res.Burn, Thin: res.Thin}); err != nil {
 		return nil, err
 	}

@@ -1,6 +1,10 @@
 package runconfig
 
-import "fmt"
+import (
+	"fmt"
+
+	"tautline/sampler"
+)
 
 // CheckSampler refuses sampler settings that could only fail after the
 // sampling: no steps, a burn-in that keeps nothing, a negative thinning,
@@ -23,4 +27,27 @@ func (c Config) CheckSampler() error {
 		return fmt.Errorf("--checkpoint-every and --flush-every must be >= 0")
 	}
 	return nil
+}
+
+// SamplerConfig turns the sampler keys into the ensemble's configuration
+// for a target of dim sampled parameters: the move mixture (--moves, read
+// by sampler.ParseMoves) and, with more than one temperature, the
+// geometric ladder of --temperatures rungs down to --beta-min. fingerprint
+// identifies the run in its checkpoints (Fingerprint). The messages name
+// the flags.
+func (c Config) SamplerConfig(dim int, fingerprint string) (sampler.Config, error) {
+	sc := c.Sampler
+	moves, err := sampler.ParseMoves(sc.Moves, dim)
+	if err != nil {
+		return sampler.Config{}, fmt.Errorf("--moves %q: %v", sc.Moves, err)
+	}
+	out := sampler.Config{Walkers: sc.Walkers, Seed: sc.Seed, Moves: moves, Workers: sc.Workers, Fingerprint: fingerprint}
+	if n := sc.Temperatures; n > 1 {
+		if out.Betas, err = sampler.GeometricLadder(n, sc.BetaMin); err != nil {
+			return sampler.Config{}, fmt.Errorf("--temperatures %d --beta-min %g: %v", n, sc.BetaMin, err)
+		}
+	} else if n < 1 {
+		return sampler.Config{}, fmt.Errorf("--temperatures must be >= 1, got %d", n)
+	}
+	return out, nil
 }

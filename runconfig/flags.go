@@ -3,6 +3,9 @@ package runconfig
 import (
 	"flag"
 	"strings"
+
+	"tautline/likelihood/simulate"
+	"tautline/models/gw"
 )
 
 // Demos lists the embedded simulated demo data sets, as named after
@@ -129,4 +132,29 @@ func bindSampler(fs *flag.FlagSet, cfg *Config, compare bool) {
 	fs.IntVar(&cfg.Sampler.Thin, "thin", cfg.Sampler.Thin, "keep every n-th step in the posterior samples; 0 chooses from the autocorrelation time")
 	fs.Uint64Var(&cfg.Sampler.Seed, "seed", cfg.Sampler.Seed, "random seed; the same seed gives byte-identical chains")
 	fs.IntVar(&cfg.Sampler.Workers, "workers", cfg.Sampler.Workers, "goroutines evaluating walkers; 0 uses every CPU (results do not depend on it)")
+}
+
+// ArrayFlags are the options of an invented timing array (simulate,
+// calibrate), in the units a user gives them.
+type ArrayFlags struct {
+	Pulsars, Bins                int
+	SpanYr, CadenceDays, SigmaNs float64
+}
+
+// BindArray registers the invented array's options: --pulsars, --span-yr,
+// --cadence-days, --sigma-ns and --bins.
+func BindArray(fs *flag.FlagSet) *ArrayFlags {
+	a := &ArrayFlags{}
+	fs.IntVar(&a.Pulsars, "pulsars", 40, "number of invented pulsars")
+	fs.Float64Var(&a.SpanYr, "span-yr", 15, "observing span T in years (bins at f_i = i/T)")
+	fs.Float64Var(&a.CadenceDays, "cadence-days", 14, "days between observations of each pulsar")
+	fs.Float64Var(&a.SigmaNs, "sigma-ns", 500, "white timing noise per observation, rms, in nanoseconds")
+	fs.IntVar(&a.Bins, "bins", 15, "number of frequency bins")
+	return a
+}
+
+// Array converts the options to SI units.
+func (a ArrayFlags) Array() simulate.Array {
+	return simulate.Array{Pulsars: a.Pulsars, Span: a.SpanYr * gw.JulianYear, Cadence: a.CadenceDays * 86400,
+		Sigma: a.SigmaNs * 1e-9, Bins: a.Bins}
 }

@@ -4,17 +4,17 @@ import (
 	"context"
 	"fmt"
 	"io"
+	"maps"
 	"path/filepath"
 	"strings"
 	"time"
 
 	"tautline/calibrate"
 	"tautline/cmd/tautline/internal/cli"
-	"tautline/likelihood"
 	"tautline/likelihood/simulate"
-	"tautline/models/cosmicstrings"
 	"tautline/models/gw"
 	"tautline/models/registry"
+	"tautline/runconfig"
 )
 
 const calibrateHelp = `
@@ -61,11 +61,7 @@ func runCalibrate(ctx context.Context, e *env, args []string) error {
 	formats := fs.String("formats", "png,svg", "figure formats: png, svg, both (comma-separated) or none")
 	out := fs.String("out", "", "output folder; empty means runs/calibrate-MODEL")
 	resume := fs.Bool("resume", false, "continue the calibration in --out, skipping the replicates already written")
-	pulsars := fs.Int("pulsars", 40, "number of invented pulsars")
-	spanYr := fs.Float64("span-yr", 15, "observing span T in years (bins at f_i = i/T)")
-	cadenceDays := fs.Float64("cadence-days", 14, "days between observations of each pulsar")
-	sigmaNs := fs.Float64("sigma-ns", 500, "white timing noise per observation, rms, in nanoseconds")
-	bins := fs.Int("bins", 15, "number of frequency bins")
+	arr := runconfig.BindArray(fs)
 	rhoMin := fs.Float64("log10-rho-min", -12, "lower end of the simulated data's log10 rho grid (rho in s)")
 	rhoMax := fs.Float64("log10-rho-max", 0, "upper end of the log10 rho grid (rho in s); it must lie above what the prior predicts")
 	gridPoints := fs.Int("grid-points", 1201, "points of the log10 rho grid of every bin")
@@ -75,104 +71,61 @@ func runCalibrate(ctx context.Context, e *env, args []string) error {
 	if fs.NArg() != 0 {
 		return fmt.Errorf("%w: unexpected argument %q", errUsage, fs.Arg(0))
 	}
-	simSpec, err := priorMap(pri, "--prior")
+	simSpec, err := priorSpecs(pri, "--prior", "log10_A=uniform(-16,-13)")
 	if err != nil {
 		return err
 	}
-	fitSpec, err := priorMap(fitPri, "--fit-prior")
+	fitSpec, err := priorSpecs(fitPri, "--fit-prior", "log10_A=uniform(-16,-13)")
 	if err != nil {
 		return err
 	}
-	var figs []string
-	for _, f := range strings.Split(*formats, ",") {
-		switch f = strings.TrimSpace(f); f {
-		case "none", "":
-		case "png", "svg":
-			figs = append(figs, f)
-		default:
-			return fmt.Errorf("%w: --formats %q: want png, svg or none", errUsage, *formats)
-		}
-	}
-	if figs == nil {
-		figs = []string{}
-	}
-	switch {
-	case *replicates < 1:
-		return fmt.Errorf("%w: --replicates must be >= 1, got %d", errUsage, *replicates)
-	case *draws < 1:
-		return fmt.Errorf("%w: --draws must be >= 1, got %d", errUsage, *draws)
-	case *steps < 1 || *burn < -1 || *burn >= *steps:
-		return fmt.Errorf("%w: need --steps >= 1 and --burn -1 or below --steps, got %d and %d", errUsage, *steps, *burn)
-	case *thin < 0:
-		return fmt.Errorf("%w: --thin must be >= 0, got %d", errUsage, *thin)
-	case !(*level > 0 && *level < 1):
-		return fmt.Errorf("%w: --level must be in (0, 1), got %g", errUsage, *level)
-	case *rankBins != 0 && (*rankBins < 2 || (*draws+1)%*rankBins != 0):
-		return fmt.Errorf("%w: --rank-bins must divide --draws + 1 = %d and be >= 2, got %d", errUsage, *draws+1, *rankBins)
-	case *rankBins == 0 && calibrate.AutoBins(*replicates, *draws) == 0:
-		return fmt.Errorf("%w: %d replicates are too few for a rank histogram of %d draws (at least 2 bins of 10 expected replicates); give more --replicates", errUsage, *replicates, *draws)
-	case *pulsars < 1 || *bins < 1 || !(*spanYr > 0) || !(*cadenceDays > 0) || !(*sigmaNs >= 0):
-		return fmt.Errorf("%w: need --pulsars >= 1, --bins >= 1, --span-yr > 0, --cadence-days > 0 and --sigma-ns >= 0", errUsage)
-	case !(*rhoMin < *rhoMax) || *gridPoints < 2:
-		return fmt.Errorf("%w: need --log10-rho-min < --log10-rho-max and --grid-points >= 2", errUsage)
-	}
-	cs := cosmicstrings.DefaultSettings()
-	rs := registry.Settings{
-		Name:     *model,
-		Binaries: registry.Binaries{FixGamma: *fixGamma, Turnover: "none"},
-		Strings: registry.Strings{Q: cs.Q, Gamma: cs.Gamma, F: cs.F, CEff: cs.CEff, Kappa: cs.Kappa, Modes: cs.Modes,
-			DOF: cs.Cosmology.DOF},
-		Cosmology: registry.Cosmology{H0: *h0, OmegaM: cs.Cosmology.OmegaM, TCMB: cs.Cosmology.TCMB, Neff: cs.Cosmology.Neff},
-	}
-	m, err := registry.Build(rs, stderrLog(e))
+	figs, err := calibrate.ParseFormats(*formats)
 	if err != nil {
+		return fmt.Errorf("%w: %v", errUsage, err)
+	}
+	prob := calibrate.Problem{
+		Array:    arr.Array(),
+		H0:       gw.H0SI(*h0),
+		Grid:     simulate.GridOptions{Min: *rhoMin, Max: *rhoMax, Points: *gridPoints},
+		Describe: map[string]any{"model": *model, "fix_gamma": *fixGamma, "h0_km_s_mpc": *h0},
+	}
+	set := calibrate.Settings{
+		Replicates: *replicates, Draws: *draws, Walkers: *walkers, Steps: *steps, Burn: *burn, Thin: *thin,
+		Seed: *seed, Workers: *workers, RankBins: *rankBins, Level: *level, FigureFormats: figs, Resume: *resume,
+	}
+	if err := calibrate.CheckOptions(prob, set); err != nil {
+		return fmt.Errorf("%w: %v", errUsage, err)
+	}
+	cfg := runconfig.Default()
+	cfg.Model.Name, cfg.Model.FixGamma, cfg.Cosmology.H0 = *model, *fixGamma, *h0
+	if prob.Model, err = registry.Build(cfg.ModelSettings(), stderrLog(e)); err != nil {
 		return err
 	}
-	simPri, err := registry.ResolvePriors(m, simSpec)
-	if err != nil {
+	if prob.Simulate, err = registry.ResolvePriors(prob.Model, simSpec); err != nil {
 		return err
 	}
-	both := map[string]string{}
-	for k, v := range simSpec {
-		both[k] = v
-	}
-	for k, v := range fitSpec {
-		both[k] = v
-	}
-	fitPriors, err := registry.ResolvePriors(m, both)
-	if err != nil {
+	both := maps.Clone(simSpec)
+	maps.Copy(both, fitSpec) // the fits' own priors replace the simulation's
+	if prob.Fit, err = registry.ResolvePriors(prob.Model, both); err != nil {
 		return err
 	}
 	if *out == "" {
 		*out = filepath.Join("runs", "calibrate-"+strings.ReplaceAll(*model, "+", "-"))
 	}
-	prob := calibrate.Problem{
-		Model: m, Simulate: simPri, Fit: fitPriors,
-		Array: simulate.Array{Pulsars: *pulsars, Span: *spanYr * gw.JulianYear, Cadence: *cadenceDays * 86400,
-			Sigma: *sigmaNs * 1e-9, Bins: *bins},
-		H0:         gw.H0SI(*h0),
-		Grid:       simulate.GridOptions{Min: *rhoMin, Max: *rhoMax, Points: *gridPoints},
-		Likelihood: likelihood.Options{},
-		Describe:   map[string]any{"model": *model, "fix_gamma": *fixGamma, "h0_km_s_mpc": *h0},
-	}
 	t0 := time.Now()
 	every := max(1, *replicates/20)
-	set := calibrate.Settings{
-		Replicates: *replicates, Draws: *draws, Walkers: *walkers, Steps: *steps, Burn: *burn, Thin: *thin,
-		Seed: *seed, Workers: *workers, RankBins: *rankBins, Level: *level, FigureFormats: figs,
-		Out: *out, Resume: *resume,
-		Progress: func(p calibrate.Progress) {
-			if p.Replicate == -1 {
-				fmt.Fprintf(e.stderr, "calibrate: resuming: %d of %d replicates already in %s\n", p.Resumed, p.Total, *out)
-				return
-			}
-			if fresh := p.Done - p.Resumed; fresh%every == 0 || p.Done == p.Total {
-				el := time.Since(t0)
-				left := time.Duration(float64(el) / float64(fresh) * float64(p.Total-p.Done))
-				fmt.Fprintf(e.stderr, "calibrate: %d/%d replicates (%s, about %s left)\n", p.Done, p.Total,
-					el.Round(100*time.Millisecond), left.Round(time.Second))
-			}
-		},
+	set.Out = *out
+	set.Progress = func(p calibrate.Progress) {
+		if p.Replicate == -1 {
+			fmt.Fprintf(e.stderr, "calibrate: resuming: %d of %d replicates already in %s\n", p.Resumed, p.Total, *out)
+			return
+		}
+		if fresh := p.Done - p.Resumed; fresh%every == 0 || p.Done == p.Total {
+			el := time.Since(t0)
+			left := time.Duration(float64(el) / float64(fresh) * float64(p.Total-p.Done))
+			fmt.Fprintf(e.stderr, "calibrate: %d/%d replicates (%s, about %s left)\n", p.Done, p.Total,
+				el.Round(100*time.Millisecond), left.Round(time.Second))
+		}
 	}
 	res, err := calibrate.Run(ctx, prob, set)
 	if err != nil {
@@ -181,21 +134,17 @@ func runCalibrate(ctx context.Context, e *env, args []string) error {
 		}
 		return err
 	}
-	printCalibration(e.stdout, m.Name(), res, *out, time.Since(t0))
+	printCalibration(e.stdout, prob.Model.Name(), res, *out, time.Since(t0))
 	return nil
 }
 
-// priorMap reads repeated NAME=SPEC options.
-func priorMap(list []string, flagName string) (map[string]string, error) {
-	out := map[string]string{}
-	for _, p := range list {
-		k, v, ok := strings.Cut(p, "=")
-		if !ok || strings.TrimSpace(k) == "" {
-			return nil, fmt.Errorf("%w: %s %q: want NAME=SPEC, e.g. log10_A=uniform(-16,-13)", errUsage, flagName, p)
-		}
-		out[strings.TrimSpace(k)] = strings.TrimSpace(v)
+// priorSpecs reads repeated NAME=SPEC options.
+func priorSpecs(list []string, flagName, example string) (map[string]string, error) {
+	m, err := registry.ParseSpecs(list)
+	if err != nil {
+		return nil, fmt.Errorf("%w: %s %v, e.g. %s", errUsage, flagName, err, example)
 	}
-	return out, nil
+	return m, nil
 }
 
 func printCalibration(w io.Writer, model string, res *calibrate.Result, out string, took time.Duration) {

@@ -6,19 +6,15 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
-	"slices"
 	"strconv"
-	"strings"
 	"time"
 
 	"github.com/sirupsen/logrus"
 
 	"tautline/cmd/tautline/internal/cli"
 	"tautline/compare"
-	"tautline/models/registry"
 	"tautline/runconfig"
 	"tautline/rundir"
-	"tautline/sampler"
 )
 
 const compareHelp = `
@@ -46,43 +42,23 @@ parts of all tasks into exactly the result one process gives. Rung blocks
 (--rung-blocks) are independent ensembles: no swaps cross a block boundary, in
 a single process as in split runs.`
 
-// compareOpts are compare's options that are not configuration keys.
-type compareOpts struct {
-	models    string
-	reference string
-	rungs     int
-	exponent  float64
-	blocks    int
-	target    float64
-	maxSteps  int
-	maxRungs  int
-	task      int
-	tasks     int
-	swapEvery int
-	adapt     bool
-	cmdline   string
-	// priorDraws estimates ln P_prior(R), the log prior mass of the region
-	// of finite likelihood.
-	priorDraws int
-}
-
 func runCompare(ctx context.Context, e *env, args []string) error {
-	var co compareOpts
-	d := compare.DefaultSettings()
+	var models, reference string
+	cs := compare.DefaultSettings()
 	extra := func(fs *flag.FlagSet) {
-		fs.StringVar(&co.models, "models", "smbhb,strings,strings+smbhb", "comma-separated models to compare")
-		fs.StringVar(&co.reference, "reference", "smbhb", "model that ln B is computed against")
-		fs.IntVar(&co.rungs, "rungs", d.Rungs, "rungs of the temperature ladder, beta_k = (k/(K-1))^exponent from 0 to 1")
-		fs.Float64Var(&co.exponent, "ladder-exponent", d.Exponent, "exponent of the power-law ladder (dense near beta = 0)")
-		fs.IntVar(&co.blocks, "rung-blocks", 1, "split the ladder into this many independent blocks (no swaps across blocks) so that tasks can run them apart")
-		fs.Float64Var(&co.target, "evidence-error", 0, "keep running until the total error of every ln Z is below this (0: one pass)")
-		fs.IntVar(&co.maxSteps, "max-steps", d.MaxSteps, "cap on steps per rung with --evidence-error")
-		fs.IntVar(&co.maxRungs, "max-rungs", d.MaxRungs, "cap on rungs with --evidence-error")
-		fs.IntVar(&co.task, "task", -1, "run only slice TASK (0-based) of --tasks; -1 runs everything; the environment variable SLURM_ARRAY_TASK_ID is used when set and --task is not")
-		fs.IntVar(&co.tasks, "tasks", 1, "number of slices the work is split into")
-		fs.IntVar(&co.swapEvery, "swap-every", 1, "steps between swap rounds of neighbouring rungs")
-		fs.IntVar(&co.priorDraws, "prior-draws", d.PriorDraws, "independent prior draws that estimate the prior mass of the region where the model stays within every bin's log10 rho range (its binomial error is the '± mass' term of ln Z)")
-		fs.BoolVar(&co.adapt, "adapt-ladder", false, "adapt the inner rungs' temperatures during burn-in to even out swap acceptance (Vousden, Farr & Mandel 2016); the ladder is frozen after burn-in and only later samples enter ln Z")
+		fs.StringVar(&models, "models", "smbhb,strings,strings+smbhb", "comma-separated models to compare")
+		fs.StringVar(&reference, "reference", "smbhb", "model that ln B is computed against")
+		fs.IntVar(&cs.Rungs, "rungs", cs.Rungs, "rungs of the temperature ladder, beta_k = (k/(K-1))^exponent from 0 to 1")
+		fs.Float64Var(&cs.Exponent, "ladder-exponent", cs.Exponent, "exponent of the power-law ladder (dense near beta = 0)")
+		fs.IntVar(&cs.Blocks, "rung-blocks", 1, "split the ladder into this many independent blocks (no swaps across blocks) so that tasks can run them apart")
+		fs.Float64Var(&cs.ErrorTarget, "evidence-error", 0, "keep running until the total error of every ln Z is below this (0: one pass)")
+		fs.IntVar(&cs.MaxSteps, "max-steps", cs.MaxSteps, "cap on steps per rung with --evidence-error")
+		fs.IntVar(&cs.MaxRungs, "max-rungs", cs.MaxRungs, "cap on rungs with --evidence-error")
+		fs.IntVar(&cs.Task, "task", -1, "run only slice TASK (0-based) of --tasks; -1 runs everything; the environment variable SLURM_ARRAY_TASK_ID is used when set and --task is not")
+		fs.IntVar(&cs.Tasks, "tasks", 1, "number of slices the work is split into")
+		fs.IntVar(&cs.SwapEvery, "swap-every", 1, "steps between swap rounds of neighbouring rungs")
+		fs.IntVar(&cs.PriorDraws, "prior-draws", cs.PriorDraws, "independent prior draws that estimate the prior mass of the region where the model stays within every bin's log10 rho range (its binomial error is the '± mass' term of ln Z)")
+		fs.BoolVar(&cs.AdaptLadder, "adapt-ladder", false, "adapt the inner rungs' temperatures during burn-in to even out swap acceptance (Vousden, Farr & Mandel 2016); the ladder is frozen after burn-in and only later samples enter ln Z")
 	}
 	cfg, rf, fs, err := resolveConfig(e, "compare", "[options]", compareHelp, args, runconfig.CompareDefault, runconfig.BindCompare, extra)
 	if err != nil {
@@ -90,9 +66,9 @@ func runCompare(ctx context.Context, e *env, args []string) error {
 	}
 	explicit := map[string]bool{}
 	fs.Visit(func(f *flag.Flag) { explicit[f.Name] = true })
-	if co.task < 0 && !explicit["task"] {
+	if cs.Task < 0 && !explicit["task"] {
 		if s := os.Getenv("SLURM_ARRAY_TASK_ID"); s != "" {
-			if co.task, err = strconv.Atoi(s); err != nil {
+			if cs.Task, err = strconv.Atoi(s); err != nil {
 				return fmt.Errorf("%w: SLURM_ARRAY_TASK_ID=%q is not an integer", errUsage, s)
 			}
 		}
@@ -100,63 +76,45 @@ func runCompare(ctx context.Context, e *env, args []string) error {
 	if rf.printConfig {
 		fmt.Fprint(e.stdout, runconfig.Marshal(cfg))
 		fmt.Fprintf(e.stdout, "# compare: models %s, reference %s, %d rungs (exponent %g) in %d block(s), swap every %d, adapt ladder %v, evidence error %g (caps: %d steps, %d rungs)\n",
-			co.models, co.reference, co.rungs, co.exponent, co.blocks, co.swapEvery, co.adapt, co.target, co.maxSteps, co.maxRungs)
+			models, reference, cs.Rungs, cs.Exponent, cs.Blocks, cs.SwapEvery, cs.AdaptLadder, cs.ErrorTarget, cs.MaxSteps, cs.MaxRungs)
 		return nil
 	}
 	lg, err := cli.NewLogger(e.stderr, rf.logLevel, rf.logFormat)
 	if err != nil {
 		return err
 	}
-	co.cmdline = strings.Join(append([]string{"tautline", "compare"}, args...), " ")
-	return compareRun(ctx, e, lg, cfg, co)
+	return compareRun(ctx, e, lg, cfg, models, reference, cs)
 }
 
-func compareRun(ctx context.Context, e *env, lg *logrus.Logger, cfg runconfig.Config, co compareOpts) error {
+func compareRun(ctx context.Context, e *env, lg *logrus.Logger, cfg runconfig.Config, list, reference string, cs compare.Settings) error {
 	started := time.Now()
-	models := cli.SplitList(co.models)
+	models := cli.SplitList(list)
 	if len(models) == 0 {
 		return fmt.Errorf("%w: --models is empty", errUsage)
 	}
-	if co.tasks < 1 || co.task >= co.tasks {
+	if cs.Tasks < 1 || cs.Task >= cs.Tasks {
 		hint := ""
 		if os.Getenv("SLURM_ARRAY_TASK_ID") != "" {
 			hint = " (SLURM_ARRAY_TASK_ID is set: pass --tasks N, the size of the job array)"
 		}
-		return fmt.Errorf("%w: want 0 <= --task < --tasks, got --task %d --tasks %d%s", errUsage, co.task, co.tasks, hint)
+		return fmt.Errorf("%w: want 0 <= --task < --tasks, got --task %d --tasks %d%s", errUsage, cs.Task, cs.Tasks, hint)
 	}
-	if co.target > 0 && co.blocks > 1 {
-		return fmt.Errorf("%w: --evidence-error needs the whole ladder in one block (--rung-blocks 1)", errUsage)
-	}
-	for _, m := range models {
-		if !slices.Contains(registry.Names(), m) {
-			return fmt.Errorf("%w: --models: unknown model %q; want some of %s", errUsage, m, strings.Join(registry.Names(), ", "))
-		}
-	}
-	if err := cfg.CheckSampler(); err != nil {
+	if err := cfg.CheckCompare(models, list, reference, cs); err != nil {
 		return fmt.Errorf("%w: %v", errUsage, err)
-	}
-	if !slices.Contains(models, co.reference) {
-		return fmt.Errorf("%w: --reference %q is not among --models %s", errUsage, co.reference, co.models)
-	}
-	if _, err := sampler.PowerLadder(co.rungs, co.exponent); err != nil {
-		return fmt.Errorf("%w: --rungs/--ladder-exponent: %v", errUsage, err)
-	}
-	if co.blocks < 1 || co.blocks > co.rungs {
-		return fmt.Errorf("%w: --rung-blocks must be between 1 and --rungs (%d), got %d", errUsage, co.rungs, co.blocks)
 	}
 	data, parts, err := cfg.LoadParts(loadData)
 	if err != nil {
 		return err
 	}
 	id := runconfig.DataIdentity(data)
-	pr := compare.Problem{DataName: id.Name, DataSHA256: id.SHA256, Datasets: runconfig.DataRecords(data), Reference: co.reference, ID: comparisonID(cfg, co, id.SHA256)}
+	pr := compare.Problem{DataName: id.Name, DataSHA256: id.SHA256, Datasets: runconfig.DataRecords(data), Reference: reference, ID: cfg.ComparisonID(list, reference, cs, id.SHA256)}
 	if err := compare.CheckOut(cfg.Output.Dir, pr.ID); err != nil {
 		return err
 	}
 	if pr.Models, err = cfg.CompareModels(models, data, parts, lg.Infof); err != nil {
 		return err
 	}
-	rep := compare.Reporter{
+	cs.Reporter = compare.Reporter{
 		Warnf: lg.Warnf,
 		Sampling: func(u rundir.Unit, steps int, shared bool) (func(int), func()) {
 			ue := e
@@ -171,32 +129,18 @@ func compareRun(ctx context.Context, e *env, lg *logrus.Logger, cfg runconfig.Co
 		},
 	}
 	sc := cfg.Sampler
-	res, err := compare.Run(ctx, pr, compare.Settings{
-		Rungs: co.rungs, Exponent: co.exponent, Blocks: co.blocks,
-		Walkers: sc.Walkers, Steps: sc.Steps, Burn: sc.Burn, Thin: sc.Thin, Seed: sc.Seed, SwapEvery: co.swapEvery, AdaptLadder: co.adapt,
-		ErrorTarget: co.target, MaxSteps: co.maxSteps, MaxRungs: co.maxRungs, Task: co.task, Tasks: co.tasks,
-		Workers: sc.Workers, Out: cfg.Output.Dir, Version: version, Reporter: rep, PriorDraws: co.priorDraws,
-	})
+	cs.Walkers, cs.Steps, cs.Burn, cs.Thin, cs.Seed, cs.Workers = sc.Walkers, sc.Steps, sc.Burn, sc.Thin, sc.Seed, sc.Workers
+	cs.Out, cs.Version = cfg.Output.Dir, version
+	res, err := compare.Run(ctx, pr, cs)
 	if err != nil {
 		return err
 	}
-	if co.task >= 0 {
+	if cs.Task >= 0 {
 		fmt.Fprintf(e.stdout, "task %d of %d done: parts in %s; combine all tasks with: tautline merge --out DIR %s ...\n",
-			co.task, co.tasks, filepath.Join(cfg.Output.Dir, "parts"), cfg.Output.Dir)
+			cs.Task, cs.Tasks, filepath.Join(cfg.Output.Dir, "parts"), cfg.Output.Dir)
 		return nil
 	}
 	lg.WithField("seconds", fmt.Sprintf("%.1f", time.Since(started).Seconds())).Info("compare done")
 	compare.WriteTable(e.stdout, res, cfg.Output.Dir)
 	return nil
-}
-
-// comparisonID hashes everything that decides a comparison's result: the
-// data, the configuration and the compare options, but not the task split
-// or where the output goes.
-func comparisonID(cfg runconfig.Config, co compareOpts, dataSHA string) string {
-	c := cfg
-	c.Output, c.Sampler.Workers = runconfig.OutputConfig{}, 0
-	o := co
-	o.task, o.tasks, o.cmdline = 0, 0, ""
-	return rundir.Fingerprint(dataSHA, fmt.Sprintf("%s\n%+v", runconfig.Marshal(c), o))
 }

@@ -78,27 +78,16 @@ func fit(ctx context.Context, e *env, lg *logrus.Logger, cfg runconfig.Config, r
 		return err
 	}
 	names := pb.Target.FreeNames()
-	moves, err := sampler.ParseMoves(cfg.Sampler.Moves, len(names))
+	scfg, err := cfg.SamplerConfig(len(names), cfg.Fingerprint(runconfig.DataIdentity(pb.Data).SHA256))
 	if err != nil {
-		return fmt.Errorf("%w: --moves %q: %v", errUsage, cfg.Sampler.Moves, err)
+		return fmt.Errorf("%w: %v", errUsage, err)
 	}
 	lg.WithFields(logrus.Fields{"data": pb.Name(), "bins": pb.NumBins(), "model": pb.Model.Name(), "params": strings.Join(names, ",")}).Info("fit")
-	scfg := sampler.Config{
-		Walkers: cfg.Sampler.Walkers, Seed: cfg.Sampler.Seed, Moves: moves, Workers: cfg.Sampler.Workers,
-		Fingerprint: cfg.Fingerprint(runconfig.DataIdentity(pb.Data).SHA256),
-	}
-	if n := cfg.Sampler.Temperatures; n > 1 {
-		if scfg.Betas, err = sampler.GeometricLadder(n, cfg.Sampler.BetaMin); err != nil {
-			return fmt.Errorf("%w: --temperatures %d --beta-min %g: %v", errUsage, n, cfg.Sampler.BetaMin, err)
-		}
-	} else if n < 1 {
-		return fmt.Errorf("%w: --temperatures must be >= 1, got %d", errUsage, n)
-	}
 	prog := newProgress(e, lg, cfg.Sampler.Steps)
 	rule, bw, penalty := pb.Likelihood()
 	st := fitrun.Settings{
 		Sampler: scfg, Steps: cfg.Sampler.Steps, Burn: cfg.Sampler.Burn, Thin: cfg.Sampler.Thin,
-		Until: sampler.Criteria{ESS: until.ESS, TauMultiple: until.TauMultiple, Rhat: until.Rhat}, UntilSpec: cfg.Sampler.Until,
+		Until: until, UntilSpec: cfg.Sampler.Until,
 		CheckpointEvery: cfg.Sampler.CheckpointEvery, FlushEvery: cfg.Output.FlushEvery, Out: cfg.Output.Dir, Resume: resume,
 		Reporter: fitrun.Reporter{
 			Infof: lg.Infof, Warnf: lg.Warnf,

@@ -63,16 +63,9 @@ func runImport(_ context.Context, e *env, args []string) error {
 	fs.Float64Var(&r.LimitLevel, "limit-level", 0.95, "summary: probability below the upper limits, in (0.5, 1)")
 
 	// Flags may come before, between or after SHAPE and FILE.
-	var pos []string
-	for {
-		if err := cli.Parse(fs, args); err != nil {
-			return err
-		}
-		if fs.NArg() == 0 {
-			break
-		}
-		pos = append(pos, fs.Arg(0))
-		args = fs.Args()[1:]
+	pos, err := cli.ParseInterspersed(fs, args)
+	if err != nil {
+		return err
 	}
 	if len(pos) != 2 {
 		return fmt.Errorf("%w: want a shape (samples, grid or summary) and a file, got %d arguments", errUsage, len(pos))

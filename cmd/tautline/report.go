@@ -2,10 +2,8 @@ package main
 
 import (
 	"context"
-	"encoding/json"
 	"fmt"
 	"path/filepath"
-	"slices"
 	"strings"
 	"time"
 
@@ -15,7 +13,6 @@ import (
 	"tautline/report"
 	"tautline/runconfig"
 	"tautline/rundir"
-	"tautline/stats"
 )
 
 const reportHelp = `
@@ -46,104 +43,52 @@ and tautline version. The data set and model are rebuilt from the run's
 configuration for the spectrum figure, so run the report from the folder the
 run was started in when the data set was given by a relative path.`
 
-// reportOpts are report's options.
-type reportOpts struct {
-	out        string
-	formats    []string
-	dpi        int
-	masses     []float64
-	truths     map[string]float64
-	draws      int
-	binDraws   int
-	sig        int
-	slices     int
-	limitMass  float64
-	noSpectrum bool
-}
-
 func runReport(_ context.Context, e *env, args []string) error {
 	fs := newFlagSet(e, "report", "RUNDIR [options]", reportHelp)
 	var (
-		o                  reportOpts
-		formats, masses    string
-		sigma2d            bool
-		truths             cli.Multi
-		logLevel, logFrmt  string
-		smoothed, noTraces bool
+		o                             report.RunOptions
+		formats, masses               string
+		sigma2d, noSpectrum, noTraces bool
+		truths                        cli.Multi
+		logLevel, logFrmt             string
 	)
-	fs.StringVar(&o.out, "out", "", "folder for the report (default RUNDIR/report)")
+	fs.StringVar(&o.Out, "out", "", "folder for the report (default RUNDIR/report)")
 	fs.StringVar(&formats, "formats", "png,svg", "comma-separated figure formats among png, svg, pdf")
-	fs.IntVar(&o.dpi, "dpi", 300, "resolution of PNG figures, dots per inch")
+	fs.IntVar(&o.DPI, "dpi", 300, "resolution of PNG figures, dots per inch")
 	fs.StringVar(&masses, "masses", "", "comma-separated credible masses of the 2-D contours, as fractions or percentages (default 0.68,0.95)")
 	fs.BoolVar(&sigma2d, "sigma2d", false, "draw the 2-D \"1 and 2 sigma\" regions, masses 0.393 and 0.865, instead of 68 % and 95 %")
-	fs.BoolVar(&smoothed, "smoothed-mass", false, "place contour levels by the mass of the smoothed density instead of the mass of the samples")
+	fs.BoolVar(&o.SmoothedMass, "smoothed-mass", false, "place contour levels by the mass of the smoothed density instead of the mass of the samples")
 	fs.Var(&truths, "truth", "NAME=VALUE: mark a true (injected) parameter value in the corner figure; repeatable")
-	fs.IntVar(&o.draws, "draws", 400, "posterior draws pushed through each model for the posterior-predictive spectrum")
-	fs.IntVar(&o.binDraws, "bin-draws", 400, "quantile samples per frequency bin drawn for bins given as a grid or a normal summary")
-	fs.IntVar(&o.sig, "sig", 2, "significant figures of the smaller error in LaTeX tables")
-	fs.IntVar(&o.slices, "slices", 16, "slices of log10_alpha in the exclusion curve")
-	fs.Float64Var(&o.limitMass, "limit-mass", 0.95, "credible mass of the exclusion curve's upper limit on log10_Gmu")
-	fs.BoolVar(&o.noSpectrum, "no-spectrum", false, "skip the spectrum figure (which rebuilds the data set and model)")
+	fs.IntVar(&o.Draws, "draws", 400, "posterior draws pushed through each model for the posterior-predictive spectrum")
+	fs.IntVar(&o.BinDraws, "bin-draws", 400, "quantile samples per frequency bin drawn for bins given as a grid or a normal summary")
+	fs.IntVar(&o.Sig, "sig", 2, "significant figures of the smaller error in LaTeX tables")
+	fs.IntVar(&o.Slices, "slices", 16, "slices of log10_alpha in the exclusion curve")
+	fs.Float64Var(&o.LimitMass, "limit-mass", 0.95, "credible mass of the exclusion curve's upper limit on log10_Gmu")
+	fs.BoolVar(&noSpectrum, "no-spectrum", false, "skip the spectrum figure (which rebuilds the data set and model)")
 	fs.BoolVar(&noTraces, "no-trace", false, "skip the trace figure of fit runs (which reads the whole chain.csv)")
 	fs.StringVar(&logLevel, "log-level", "info", "progress messages on stderr: debug, info, warn or error")
 	fs.StringVar(&logFrmt, "log-format", "text", "progress message format: text or json")
 
 	// Flags may come before or after RUNDIR.
-	var pos []string
-	for {
-		if err := cli.Parse(fs, args); err != nil {
-			return err
-		}
-		if fs.NArg() == 0 {
-			break
-		}
-		pos = append(pos, fs.Arg(0))
-		args = fs.Args()[1:]
+	pos, err := cli.ParseInterspersed(fs, args)
+	if err != nil {
+		return err
 	}
 	if len(pos) != 1 {
 		return fmt.Errorf("%w: want exactly one run folder, got %d arguments", errUsage, len(pos))
 	}
 	dir := filepath.Clean(pos[0])
-	if o.out == "" {
-		o.out = filepath.Join(dir, "report")
+	if o.Out == "" {
+		o.Out = filepath.Join(dir, "report")
 	}
-	for _, f := range cli.SplitList(formats) {
-		switch f {
-		case "png", "svg", "pdf":
-			o.formats = append(o.formats, f)
-		default:
-			return fmt.Errorf("%w: --formats: %q is not png, svg or pdf", errUsage, f)
-		}
+	if err := o.SetFigures(formats, masses, sigma2d); err != nil {
+		return fmt.Errorf("%w: %v", errUsage, err)
 	}
-	if len(o.formats) == 0 {
-		return fmt.Errorf("%w: --formats: name at least one of png, svg, pdf", errUsage)
-	}
-	var err error
-	if o.masses, err = stats.ParseMasses(masses); err != nil {
-		return fmt.Errorf("%w: --masses: %v", errUsage, err)
-	}
-	if sigma2d {
-		if masses != "" {
-			return fmt.Errorf("%w: --sigma2d and --masses both set the contour masses; give one", errUsage)
-		}
-		o.masses = []float64{stats.Mass1Sigma2D, stats.Mass2Sigma2D}
-	}
-	if o.truths, err = registry.ParseAssignments(truths); err != nil {
+	if o.Truths, err = registry.ParseAssignments(truths); err != nil {
 		return fmt.Errorf("%w: --truth %v", errUsage, err)
 	}
-	switch {
-	case o.dpi < 30 || o.dpi > 2400:
-		return fmt.Errorf("%w: --dpi must be between 30 and 2400, got %d", errUsage, o.dpi)
-	case o.draws < 1:
-		return fmt.Errorf("%w: --draws must be >= 1, got %d", errUsage, o.draws)
-	case o.binDraws < 2:
-		return fmt.Errorf("%w: --bin-draws must be >= 2, got %d", errUsage, o.binDraws)
-	case o.slices < 1:
-		return fmt.Errorf("%w: --slices must be >= 1, got %d", errUsage, o.slices)
-	case !(o.limitMass > 0 && o.limitMass < 1):
-		return fmt.Errorf("%w: --limit-mass must be in (0, 1), got %g", errUsage, o.limitMass)
-	case o.sig < 1 || o.sig > 6:
-		return fmt.Errorf("%w: --sig must be between 1 and 6, got %d", errUsage, o.sig)
+	if err := o.Check(); err != nil {
+		return fmt.Errorf("%w: %v", errUsage, err)
 	}
 	lg, err := cli.NewLogger(e.stderr, logLevel, logFrmt)
 	if err != nil {
@@ -154,39 +99,29 @@ func runReport(_ context.Context, e *env, args []string) error {
 	if err != nil {
 		return err
 	}
-	cfgs, err := reportConfigs(run)
+	cfgs, err := runconfig.RunConfigs(run)
 	if err != nil {
 		return err
 	}
-	var known []string
-	for _, m := range run.Models {
-		known = append(known, m.Names...)
+	if err := o.CheckTruths(run); err != nil {
+		return fmt.Errorf("%w: %v", errUsage, err)
 	}
-	for name := range o.truths {
-		if !slices.Contains(known, name) {
-			return fmt.Errorf("%w: --truth %s: no model of the run has that parameter; they have %s", errUsage, name, strings.Join(slices.Compact(slices.Sorted(slices.Values(known))), ", "))
+	o.Version, o.Log = versionString(), lg
+	o.Params = func(m *rundir.Model) ([]models.Param, error) {
+		md, err := registry.Build(cfgs[m].ModelSettings(), lg.Debugf)
+		if err != nil {
+			return nil, err
 		}
+		return md.Params(), nil
 	}
-	ro := report.RunOptions{
-		Out: o.out, Formats: o.formats, DPI: o.dpi, Masses: o.masses, SmoothedMass: smoothed, Truths: o.truths,
-		Draws: o.draws, BinDraws: o.binDraws, Sig: o.sig, Slices: o.slices, LimitMass: o.limitMass,
-		Version: versionString(), Log: lg,
-		Params: func(m *rundir.Model) ([]models.Param, error) {
-			md, err := registry.Build(cfgs[m].ModelSettings(), lg.Debugf)
-			if err != nil {
-				return nil, err
-			}
-			return md.Params(), nil
-		},
+	if !noSpectrum {
+		o.Rebuild = reportRebuild{cfgs: cfgs, logf: lg.Infof}
 	}
-	if !o.noSpectrum {
-		ro.Rebuild = reportRebuild{cfgs: cfgs, logf: lg.Infof}
-	}
-	files, err := report.WriteRun(run, ro)
+	files, err := report.WriteRun(run, o)
 	if err != nil {
 		return err
 	}
-	printReportSummary(e, run, o.out, files, start)
+	printReportSummary(e, run, o.Out, files, start)
 	return nil
 }
 
@@ -207,22 +142,6 @@ func (r reportRebuild) Problem(m *rundir.Model) (report.Rebuilt, error) {
 	out := report.Rebuilt{Posts: pb.Target.Parts(), SHA256: runconfig.DataIdentity(pb.Data).SHA256}
 	for _, d := range pb.Data {
 		out.Data = append(out.Data, d.Set)
-	}
-	return out, nil
-}
-
-// reportConfigs decodes the configuration each model of run recorded.
-func reportConfigs(run *rundir.Run) (map[*rundir.Model]runconfig.Config, error) {
-	out := map[*rundir.Model]runconfig.Config{}
-	for _, m := range run.Models {
-		cfg := runconfig.Default()
-		if err := json.Unmarshal(m.Config, &cfg); err != nil {
-			if run.Kind == rundir.KindFit {
-				return nil, fmt.Errorf("%s: config: %w", filepath.Join(run.Dir, rundir.MetaFile), err)
-			}
-			return nil, fmt.Errorf("%s: part.json of model %s: config: %w", run.Dir, m.Name, err)
-		}
-		out[m] = cfg
 	}
 	return out, nil
 }

@@ -2,8 +2,7 @@ package main
 
 import (
 	"flag"
-	"fmt"
-	"strings"
+	"maps"
 
 	"tautline/cmd/tautline/internal/cli"
 	"tautline/models/registry"
@@ -63,16 +62,14 @@ func resolveConfig(e *env, name, synopsis, description string, args []string, de
 	if err := cli.Parse(fs2, args); err != nil {
 		return runconfig.Config{}, nil, nil, err
 	}
-	for _, p := range rf2.priors {
-		k, v, ok := strings.Cut(p, "=")
-		if !ok || strings.TrimSpace(k) == "" {
-			return runconfig.Config{}, nil, nil, fmt.Errorf("%w: --prior %q: want NAME=SPEC, e.g. log10_A=uniform(-18,-11)", errUsage, p)
-		}
-		if cfg.Model.Priors == nil {
-			cfg.Model.Priors = map[string]string{}
-		}
-		cfg.Model.Priors[strings.TrimSpace(k)] = strings.TrimSpace(v)
+	given, err := priorSpecs(rf2.priors, "--prior", "log10_A=uniform(-18,-11)")
+	if err != nil {
+		return runconfig.Config{}, nil, nil, err
 	}
+	if len(given) > 0 && cfg.Model.Priors == nil {
+		cfg.Model.Priors = map[string]string{}
+	}
+	maps.Copy(cfg.Model.Priors, given)
 	if len(cfg.Data) == 0 || (len(cfg.Data) == 1 && cfg.Data[0] == "") {
 		cfg.Data = runconfig.DataList{registry.DefaultData(cfg.Model.Name)}
 	}

@@ -31,11 +31,7 @@ func runSimulate(_ context.Context, e *env, args []string) error {
 	runconfig.BindModel(fs, &cfg)
 	var params cli.Multi
 	fs.Var(&params, "param", "model parameter NAME=VALUE, e.g. log10_A=-14.6 (fractions like 13/3 allowed); repeatable")
-	pulsars := fs.Int("pulsars", 40, "number of invented pulsars")
-	spanYr := fs.Float64("span-yr", 15, "observing span T in years (bins at f_i = i/T)")
-	cadenceDays := fs.Float64("cadence-days", 14, "days between observations of each pulsar")
-	sigmaNs := fs.Float64("sigma-ns", 500, "white timing noise per observation, rms, in nanoseconds")
-	bins := fs.Int("bins", 15, "number of frequency bins")
+	arr := runconfig.BindArray(fs)
 	seed := fs.Uint64("seed", 1, "random seed")
 	out := fs.String("out", "", "output folder (required); created if missing")
 	name := fs.String("name", "simulated", "data-set name, also the YAML file's base name")
@@ -47,21 +43,17 @@ func runSimulate(_ context.Context, e *env, args []string) error {
 		return fmt.Errorf("%w: --out is required", errUsage)
 	}
 	if err := cli.First(cli.Require(fs.NArg() == 0, "unexpected argument %q", fs.Arg(0)),
-		cli.Require(*bins >= 1, "--bins must be >= 1, got %d", *bins),
-		cli.Require(*bins <= simulate.MaxBins, "--bins %d is more than the %d bins a data set may hold", *bins, simulate.MaxBins),
-		cli.Require(*samples <= simulate.MaxSamples/max(*bins, 1), "--samples %d x --bins %d is more than the %d samples a data set may store", *samples, *bins, simulate.MaxSamples),
-		cli.Require(*spanYr > 0 && !math.IsInf(*spanYr, 0), "--span-yr must be a positive number of years, got %g", *spanYr)); err != nil {
+		cli.Require(arr.Bins >= 1, "--bins must be >= 1, got %d", arr.Bins),
+		cli.Require(arr.Bins <= simulate.MaxBins, "--bins %d is more than the %d bins a data set may hold", arr.Bins, simulate.MaxBins),
+		cli.Require(*samples <= simulate.MaxSamples/max(arr.Bins, 1), "--samples %d x --bins %d is more than the %d samples a data set may store", *samples, arr.Bins, simulate.MaxSamples),
+		cli.Require(arr.SpanYr > 0 && !math.IsInf(arr.SpanYr, 0), "--span-yr must be a positive number of years, got %g", arr.SpanYr)); err != nil {
 		return err
 	}
-	arr := simulate.Array{
-		Pulsars: *pulsars, Span: *spanYr * gw.JulianYear, Cadence: *cadenceDays * 86400,
-		Sigma: *sigmaNs * 1e-9, Bins: *bins,
-	}
-	m, theta, lnOmega, err := modelAt(cfg, params, gw.BinFrequencies(arr.Bins, arr.Span), stderrLog(e))
+	m, theta, lnOmega, err := modelAt(cfg, params, gw.BinFrequencies(arr.Bins, arr.Array().Span), stderrLog(e))
 	if err != nil {
 		return err
 	}
-	ds, err := simulate.Run(lnOmega, arr, gw.H0SI(cfg.Cosmology.H0), *seed, simulate.GridOptions{Samples: *samples})
+	ds, err := simulate.Run(lnOmega, arr.Array(), gw.H0SI(cfg.Cosmology.H0), *seed, simulate.GridOptions{Samples: *samples})
 	if err != nil {
 		return err
 	}

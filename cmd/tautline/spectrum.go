@@ -6,7 +6,6 @@ import (
 	"encoding/json"
 	"fmt"
 	"strconv"
-	"strings"
 	"text/tabwriter"
 
 	"tautline/cmd/tautline/internal/cli"
@@ -51,9 +50,9 @@ func runSpectrum(_ context.Context, e *env, args []string) error {
 	if fs.NArg() != 0 {
 		return fmt.Errorf("%w: unexpected argument %q", errUsage, fs.Arg(0))
 	}
-	freqs, err := spectrumFreqs(*freqList, *fmin, *fmax, *n)
+	freqs, err := runconfig.Frequencies(*freqList, *fmin, *fmax, *n)
 	if err != nil {
-		return err
+		return fmt.Errorf("%w: %v", errUsage, err)
 	}
 	if *spanYr <= 0 {
 		return fmt.Errorf("%w: --span-yr must be > 0, got %g", errUsage, *spanYr)
@@ -102,28 +101,3 @@ func runSpectrum(_ context.Context, e *env, args []string) error {
 }
 
 func g(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }
-
-// spectrumFreqs returns the listed frequencies or a logarithmic grid.
-func spectrumFreqs(list string, fmin, fmax float64, n int) ([]float64, error) {
-	if strings.TrimSpace(list) != "" {
-		var fs []float64
-		for _, s := range strings.Split(list, ",") {
-			f, err := registry.ParseNumber(s)
-			if err != nil || f <= 0 {
-				return nil, fmt.Errorf("%w: --freqs: %q is not a positive frequency in Hz", errUsage, s)
-			}
-			if len(fs) > 0 && f <= fs[len(fs)-1] {
-				return nil, fmt.Errorf("%w: --freqs: must increase, got %g after %g", errUsage, f, fs[len(fs)-1])
-			}
-			fs = append(fs, f)
-		}
-		return fs, nil
-	}
-	if n > gw.MaxLogFrequencies {
-		return nil, fmt.Errorf("%w: --n %d is more than the %d frequencies a grid may have", errUsage, n, gw.MaxLogFrequencies)
-	}
-	if !(fmin > 0) || !(fmax > fmin) || n < 1 {
-		return nil, fmt.Errorf("%w: want 0 < --fmin < --fmax and --n >= 1, got %g, %g, %d", errUsage, fmin, fmax, n)
-	}
-	return gw.LogFrequencies(fmin, fmax, n), nil
-}

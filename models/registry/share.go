@@ -31,6 +31,22 @@ func SharePriors(names []string, built []models.Model, priors map[string]string)
 	return shares, nil
 }
 
+// ParseSpecs reads NAME=SPEC pairs, such as repeated prior options, into
+// the map ResolvePriors takes; names and specs are trimmed, a later pair
+// replaces an earlier one of the same name, and SPEC is not read here.
+// Errors start with the pair at fault.
+func ParseSpecs(list []string) (map[string]string, error) {
+	out := map[string]string{}
+	for _, s := range list {
+		name, spec, ok := strings.Cut(s, "=")
+		if !ok || strings.TrimSpace(name) == "" {
+			return nil, fmt.Errorf("%q: want NAME=SPEC", s)
+		}
+		out[strings.TrimSpace(name)] = strings.TrimSpace(spec)
+	}
+	return out, nil
+}
+
 // ParseAssignments reads NAME=VALUE pairs into a map; VALUE is a number as
 // ParseNumber reads it (a fraction such as 13/3 is allowed). Errors start
 // with the pair or the name at fault.

@@ -2,6 +2,7 @@ package registry
 
 import (
 	"errors"
+	"fmt"
 	"math"
 	"strings"
 	"testing"
@@ -48,6 +49,46 @@ func TestParseAssignments(t *testing.T) {
 			t.Errorf("ParseAssignments(%q): %v, want prefix %q", in, err, want)
 		}
 	}
+}
+
+// TestParseSpecs covers the NAME=SPEC syntax: trimming, a later pair
+// replacing an earlier one, an empty SPEC kept for ResolvePriors to
+// refuse, and the refusal of a pair without a name or '='.
+func TestParseSpecs(t *testing.T) {
+	got, err := ParseSpecs([]string{" log10_A = uniform(-16,-13) ", "gamma=fixed(1)", "gamma=fixed(13/3)", "x="})
+	want := map[string]string{"log10_A": "uniform(-16,-13)", "gamma": "fixed(13/3)", "x": ""}
+	if err != nil || len(got) != len(want) {
+		t.Fatalf("got %v, %v; want %v", got, err, want)
+	}
+	for k, v := range want {
+		if got[k] != v {
+			t.Errorf("%s: got %q, want %q", k, got[k], v)
+		}
+	}
+	for _, in := range []string{"gamma", "=uniform(0,1)", " =x"} {
+		if _, err := ParseSpecs([]string{in}); err == nil || err.Error() != fmt.Sprintf("%q: want NAME=SPEC", in) {
+			t.Errorf("ParseSpecs(%q): %v", in, err)
+		}
+	}
+}
+
+// FuzzParseSpecs checks that NAME=SPEC lists (entries separated by ';'
+// here) never panic and give only non-empty, trimmed names.
+func FuzzParseSpecs(f *testing.F) {
+	for _, s := range []string{"log10_A=uniform(-16,-13)", "a=1;b=2", "=1", "a=", "a", " a = b "} {
+		f.Add(s)
+	}
+	f.Fuzz(func(t *testing.T, s string) {
+		got, err := ParseSpecs(strings.Split(s, ";"))
+		if err != nil {
+			return
+		}
+		for k := range got {
+			if k == "" || k != strings.TrimSpace(k) {
+				t.Fatalf("%q gave name %q", s, k)
+			}
+		}
+	})
 }
 
 // FuzzParseAssignments checks that NAME=VALUE lists (entries separated by

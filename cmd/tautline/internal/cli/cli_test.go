@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"errors"
 	"flag"
+	"io"
 	"strings"
 	"testing"
 )
@@ -98,5 +99,21 @@ func TestRequireFirst(t *testing.T) {
 	}
 	if First(nil, nil) != nil {
 		t.Error("First of nils is not nil")
+	}
+}
+
+// TestParseInterspersed checks that options are read before, between and
+// after the positional arguments, which come back in order.
+func TestParseInterspersed(t *testing.T) {
+	fs := flag.NewFlagSet("t", flag.ContinueOnError)
+	fs.SetOutput(io.Discard)
+	n := fs.Int("n", 0, "")
+	v := fs.Bool("v", false, "")
+	pos, err := ParseInterspersed(fs, []string{"-n", "3", "a", "-v", "b", "--", "-c", "-n", "4"})
+	if err != nil || *n != 4 || !*v || strings.Join(pos, " ") != "a b -c" {
+		t.Errorf("got %q, n %d, v %v, %v", pos, *n, *v, err)
+	}
+	if _, err := ParseInterspersed(fs, []string{"a", "-x"}); !errors.Is(err, ErrSilent) {
+		t.Errorf("unknown option: %v, want ErrSilent", err)
 	}
 }

@@ -146,6 +146,24 @@ func Parse(fs *flag.FlagSet, args []string) error {
 	return nil
 }
 
+// ParseInterspersed parses args as Parse does, but lets options come
+// before, between and after the positional arguments, which it returns in
+// order. A "--" ends the options for the argument after it only, as the
+// flag package does.
+func ParseInterspersed(fs *flag.FlagSet, args []string) ([]string, error) {
+	var pos []string
+	for {
+		if err := Parse(fs, args); err != nil {
+			return nil, err
+		}
+		if fs.NArg() == 0 {
+			return pos, nil
+		}
+		pos = append(pos, fs.Arg(0))
+		args = fs.Args()[1:]
+	}
+}
+
 // Multi collects a repeatable string option.
 type Multi []string
 
