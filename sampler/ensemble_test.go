@@ -231,7 +231,7 @@ func TestTemperingBimodal(t *testing.T) {
 		t.Fatal(err)
 	}
 	pt, e := collect(t, tg, Config{Walkers: walkers, Seed: 21, Betas: ladder}, 0, 1000, 6000)
-	// Tolerance 0.05 as the task specifies; the Monte-Carlo error of the
+	// Tolerance 0.05, the accuracy asked of the default settings; the Monte-Carlo error of the
 	// weight with this many swaps is about 0.01.
 	t.Logf("tempered weight %.4f, swap acceptance %.3f", weight(pt), e.SwapAcceptance())
 	if got := weight(pt); math.Abs(got-w2) > 0.05 {

@@ -29,7 +29,7 @@ func benchPosterior(b *testing.B, model string) (*runconfig.Problem, [][]float64
 
 // BenchmarkLogLike compares one full log-likelihood evaluation (model
 // spectrum, conversion to log10 rho, free-spectrum lookup) across models on
-// the same 30-bin data set; the issue target is strings <= 3 x smbhb.
+// the same 30-bin data set; the target is every string model <= 3 x smbhb.
 func BenchmarkLogLike(b *testing.B) {
 	for _, model := range registry.Names() {
 		b.Run(model, func(b *testing.B) {

@@ -40,7 +40,7 @@ type evQuad struct {
 // parameters, with L = exp(post.LogLike) and π = exp(post.LogPrior)
 // exactly as the sampler sees them, and the n at which it converged.
 // Doubling n (gonum has no adaptive rule) is the convergence test that
-// PHYSICS.md section 7 prescribes.
+// docs/physics.md section 7 prescribes.
 func evQuadLnZ(t *testing.T, pb *runconfig.Problem, q evQuad) (float64, int) {
 	t.Helper()
 	post := pb.Target
@@ -176,7 +176,7 @@ var fixedAlphaP = map[string]string{"log10_alpha": "fixed(-1)", "log10_P": "fixe
 // derivative-corrected thermodynamic integration it reports, and
 // stepping-stone) against nested Gauss-Legendre quadrature with gonum's
 // quad.Fixed (reference: an independent general-purpose library; method
-// as PHYSICS.md section 7).
+// as docs/physics.md section 7).
 func TestEvidenceAgainstQuadrature(t *testing.T) {
 	cases := []struct {
 		name, data, model string

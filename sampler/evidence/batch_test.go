@@ -21,7 +21,7 @@ func ar1(r *rand.Rand, n int, phi float64) []float64 {
 }
 
 // TestAutocorrTimeAR1 checks Sokal's windowed estimate against the AR(1)
-// closed form tau = (1 + phi)/(1 - phi) (PHYSICS.md section 6; Sokal 1997).
+// closed form tau = (1 + phi)/(1 - phi) (docs/physics.md section 6; Sokal 1997).
 func TestAutocorrTimeAR1(t *testing.T) {
 	const n = 200000
 	for i, phi := range []float64{0, 0.5, 0.9, -0.3} {

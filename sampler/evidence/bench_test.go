@@ -3,7 +3,7 @@ package evidence
 import "testing"
 
 // benchRungs is a 21-rung (k/20)^5 ladder of 2000 steps x 32 walkers on the
-// 6-D Gaussian box: the realistic size the brief names.
+// 6-D Gaussian box: the size of a realistic joint model.
 func benchRungs() []Rung {
 	return newGaussBox(6, 5).draw(1, powerLadder(20, 5), 2000, 32, 0.5)
 }

@@ -77,7 +77,7 @@ func (g bimodal) draw(seed uint64, betas []float64, steps, walkers int) []Rung {
 
 // TestBimodalQuadrature checks TI and stepping-stone on a likelihood without
 // closed-form evidence against nested Gauss-Legendre quadrature over the
-// prior box (PHYSICS.md section 7; gonum integrate/quad).
+// prior box (docs/physics.md section 7; gonum integrate/quad).
 func TestBimodalQuadrature(t *testing.T) {
 	var g bimodal
 	truth := g.lnZ(t)

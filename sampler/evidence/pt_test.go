@@ -117,7 +117,7 @@ func TestParallelTemperingGaussianBox(t *testing.T) {
 					t.Errorf("%s: ln Z = %.4f, closed form %.4f: off by %.4f > 3 x reported total error %.4f",
 						est.name, got.LnZ, want, diff, got.Total)
 				}
-				// The accuracy the issue asks of the default settings:
+				// The accuracy asked of the default settings:
 				// 0.1 in ln Z (a tenth of the weakest Kass & Raftery 1995
 				// grade, ln B = 1).
 				if math.Abs(diff) > 0.1 {
