@@ -95,20 +95,25 @@ type Result struct {
 func checkEvery(steps int) int { return max(100, min(500, steps/10)) }
 
 // Run samples p into the fit folder s.Out and writes chain.csv,
-// checkpoint.bin, posterior.npy, summary.json and meta.json. When ctx is
+// checkpoint.bin, posterior.npy, summary.json, meta.json and, with
+// tempering, rungs_lnl.bin. When ctx is
 // cancelled it saves a checkpoint, marks meta.json interrupted and returns
 // an error saying how to resume.
 func Run(ctx context.Context, p Problem, s Settings) (*Result, error) {
 	paths := rundir.FitPaths(s.Out)
 	columns := append([]string{"step", "walker", "ln_post", "ln_like"}, p.Names...)
-	ens, w, err := open(p, s, paths, columns)
+	ens, w, hot, err := open(p, s, paths, columns)
 	if err != nil {
 		return nil, err
 	}
 	defer ens.Close()
 	defer w.Close()
+	defer hot.Close()
 
 	meta := &rundir.Meta{Meta: p.Meta}
+	if hot != nil {
+		meta.Outputs = append(meta.Outputs[:len(meta.Outputs):len(meta.Outputs)], rundir.RungsOutput())
+	}
 	meta.Status = "running"
 	if err := rundir.WriteMeta(paths.Meta, meta); err != nil {
 		return nil, err
@@ -120,6 +125,11 @@ func Run(ctx context.Context, p Problem, s Settings) (*Result, error) {
 		off, err := w.Flush()
 		if err != nil {
 			return err
+		}
+		if hot != nil {
+			if err := hot.flush(); err != nil {
+				return err
+			}
 		}
 		state, err := en.MarshalBinary()
 		if err != nil {
@@ -134,6 +144,11 @@ func Run(ctx context.Context, p Problem, s Settings) (*Result, error) {
 			row[1], row[2], row[3] = float64(k), lpost[k], ll[k]
 			copy(row[4:], pos[k*dim:(k+1)*dim])
 			if err := w.Append(row); err != nil {
+				return err
+			}
+		}
+		if hot != nil {
+			if err := hot.append(en); err != nil {
 				return err
 			}
 		}
@@ -167,6 +182,9 @@ func Run(ctx context.Context, p Problem, s Settings) (*Result, error) {
 	if err := w.Close(); err != nil {
 		return nil, err
 	}
+	if err := hot.Close(); err != nil {
+		return nil, err
+	}
 	if runErr != nil {
 		meta.Status = "interrupted"
 		meta.End = time.Now()
@@ -196,40 +214,66 @@ func Run(ctx context.Context, p Problem, s Settings) (*Result, error) {
 	return &Result{Sampler: res, Summary: sum, Samples: n}, nil
 }
 
-// open starts the ensemble and the chain file: new ones, or, with
-// s.Resume, the checkpoint's state and the chain cut back to the length
-// the checkpoint recorded.
-func open(p Problem, s Settings, paths rundir.Fit, columns []string) (*sampler.Ensemble, *chains.Writer, error) {
+// open starts the ensemble, the chain file and, with tempering, the rungs
+// file: new ones, or, with s.Resume, the checkpoint's state with the
+// history read back from the chain (and rungs) file, both files cut back
+// to the length the checkpoint recorded.
+func open(p Problem, s Settings, paths rundir.Fit, columns []string) (*sampler.Ensemble, *chains.Writer, *rungsFile, error) {
 	if !s.Resume {
 		if _, err := os.Stat(paths.Checkpoint); err == nil {
-			return nil, nil, fmt.Errorf("%s exists: this folder holds a run already; continue it with --resume or choose another --out", paths.Checkpoint)
+			return nil, nil, nil, fmt.Errorf("%s exists: this folder holds a run already; continue it with --resume or choose another --out", paths.Checkpoint)
 		}
 		ens, err := sampler.New(p.Target, s.Sampler)
 		if err != nil {
-			return nil, nil, err
+			return nil, nil, nil, err
 		}
 		w, err := chains.Create(paths.Chain, columns)
 		if err != nil {
 			ens.Close()
-			return nil, nil, err
+			return nil, nil, nil, err
 		}
-		return ens, w, nil
+		var hot *rungsFile
+		if ens.Rungs() > 1 {
+			if hot, err = createRungs(paths.Rungs, ens.Rungs()-1, ens.Walkers()); err != nil {
+				w.Close()
+				ens.Close()
+				return nil, nil, nil, err
+			}
+		}
+		return ens, w, hot, nil
 	}
 	ck, err := rundir.ReadCheckpoint(paths.Checkpoint)
 	if err != nil {
-		return nil, nil, err
+		return nil, nil, nil, err
 	}
-	ens, err := sampler.Restore(p.Target, s.Sampler, ck.State)
+	recorded := 0
+	var loadErr error
+	load := historyLoader(paths.Chain, paths.Rungs, ck.ChainOffset, columns, &recorded)
+	ens, err := sampler.Restore(p.Target, s.Sampler, ck.State, func(h *sampler.History, steps int) error {
+		loadErr = load(h, steps)
+		return loadErr
+	})
+	if loadErr != nil {
+		return nil, nil, nil, fmt.Errorf("resuming from %s: the run's history cannot be read back: %w", paths.Checkpoint, loadErr)
+	}
 	if err != nil {
-		return nil, nil, fmt.Errorf("%s: %w (was the configuration or data changed since the run started?)", paths.Checkpoint, err)
+		return nil, nil, nil, fmt.Errorf("%s: %w (was the configuration or data changed since the run started?)", paths.Checkpoint, err)
 	}
 	w, err := chains.Resume(paths.Chain, columns, ck.ChainOffset)
 	if err != nil {
 		ens.Close()
-		return nil, nil, err
+		return nil, nil, nil, err
+	}
+	var hot *rungsFile
+	if ens.Rungs() > 1 {
+		if hot, err = resumeRungs(paths.Rungs, ens.Rungs()-1, ens.Walkers(), recorded); err != nil {
+			w.Close()
+			ens.Close()
+			return nil, nil, nil, err
+		}
 	}
 	if s.Reporter.Infof != nil {
 		s.Reporter.Infof("resuming from step %d (%s)", ens.Steps(), paths.Checkpoint)
 	}
-	return ens, w, nil
+	return ens, w, hot, nil
 }
