@@ -257,9 +257,56 @@ func ReadCSV(path string) (columns []string, rows [][]float64, err error) {
 	return columns, rows, nil
 }
 
+// ScanCSV reads the first limit bytes of a chain file written by a Writer
+// (a length returned by Flush, such as a checkpoint's), checks that its
+// header names columns, and calls fn with each row in order. The row slice
+// is reused between calls. It reads a long chain in constant memory, which
+// ReadCSV does not. Errors name the file and line at fault.
+func ScanCSV(path string, limit int64, columns []string, fn func(row []float64) error) error {
+	f, err := os.Open(path)
+	if err != nil {
+		return fmt.Errorf("chains: %w", err)
+	}
+	defer f.Close()
+	want := strings.Join(columns, ",")
+	err = scanCSV(bufio.NewReaderSize(io.LimitReader(f, limit), 1<<16), func(cols []string) error {
+		if got := strings.Join(cols, ","); got != want {
+			return fmt.Errorf("1: header %q does not match the expected columns %q", got, want)
+		}
+		return nil
+	}, fn)
+	if err != nil {
+		return fmt.Errorf("chains: %s:%w", path, err)
+	}
+	return nil
+}
+
 // readCSV parses a chain; its errors start with "line N: " (ReadCSV adds
 // the file name before them).
 func readCSV(r *bufio.Reader) ([]string, [][]float64, error) {
+	var (
+		columns []string
+		rows    [][]float64
+		data    []float64
+	)
+	err := scanCSV(r, func(c []string) error { columns = c; return nil }, func(row []float64) error {
+		if len(data)+len(row) > cap(data) {
+			data = make([]float64, 0, max(1024*len(row), 2*cap(data)))
+		}
+		start := len(data)
+		data = append(data, row...)
+		rows = append(rows, data[start:len(data):len(data)])
+		return nil
+	})
+	if err != nil {
+		return nil, nil, err
+	}
+	return columns, rows, nil
+}
+
+// scanCSV parses a chain, passing its column names to head and each row
+// (a reused slice) to fn; its errors start with "N: ", the line number.
+func scanCSV(r *bufio.Reader, head func([]string) error, fn func([]float64) error) error {
 	lineNo := 0
 	next := func() (string, bool, error) {
 		s, err := r.ReadString('\n')
@@ -278,46 +325,43 @@ func readCSV(r *bufio.Reader) ([]string, [][]float64, error) {
 	}
 	h, ok, err := next()
 	if err != nil {
-		return nil, nil, err
+		return err
 	}
 	if !ok {
-		return nil, nil, errors.New("1: empty file, want a header line \"# name,name,...\"")
+		return errors.New("1: empty file, want a header line \"# name,name,...\"")
 	}
 	if !strings.HasPrefix(h, "#") {
-		return nil, nil, fmt.Errorf("1: header must start with '#', got %.40q", h)
+		return fmt.Errorf("1: header must start with '#', got %.40q", h)
 	}
 	columns := strings.Split(strings.TrimSpace(h[1:]), ",")
 	if _, err := header(columns); err != nil {
-		return nil, nil, fmt.Errorf("1: header: %w", err)
+		return fmt.Errorf("1: header: %w", err)
 	}
-	var (
-		rows [][]float64
-		data []float64
-	)
+	if err := head(columns); err != nil {
+		return err
+	}
+	row := make([]float64, len(columns))
 	for {
 		s, ok, err := next()
 		if err != nil {
-			return nil, nil, err
+			return err
 		}
 		if !ok {
-			break
+			return nil
 		}
-		if len(data)+len(columns) > cap(data) {
-			data = make([]float64, 0, max(1024*len(columns), 2*cap(data)))
-		}
-		start := len(data)
 		fields := strings.Split(s, ",")
 		if len(fields) != len(columns) {
-			return nil, nil, fmt.Errorf("%d: %d fields, want %d", lineNo, len(fields), len(columns))
+			return fmt.Errorf("%d: %d fields, want %d", lineNo, len(fields), len(columns))
 		}
 		for k, tok := range fields {
 			v, err := strconv.ParseFloat(tok, 64)
 			if err != nil {
-				return nil, nil, fmt.Errorf("%d: field %d (%s): %.40q is not a number", lineNo, k+1, columns[k], tok)
+				return fmt.Errorf("%d: field %d (%s): %.40q is not a number", lineNo, k+1, columns[k], tok)
 			}
-			data = append(data, v)
+			row[k] = v
 		}
-		rows = append(rows, data[start:len(data):len(data)])
+		if err := fn(row); err != nil {
+			return fmt.Errorf("%d: %w", lineNo, err)
+		}
 	}
-	return columns, rows, nil
 }

@@ -96,7 +96,8 @@ type Result struct {
 func checkEvery(steps int) int { return max(100, min(500, steps/10)) }
 
 // Run samples p into the fit folder s.Out and writes chain.csv,
-// checkpoint.bin, posterior.npy, summary.json and meta.json. When ctx is
+// checkpoint.bin, posterior.npy, summary.json, meta.json and, with
+// tempering, rungs_lnl.bin. When ctx is
 // cancelled it saves a checkpoint, marks meta.json interrupted and returns
 // an error saying how to resume.
 func Run(ctx context.Context, p Problem, s Settings) (*Result, error) {
@@ -105,14 +106,18 @@ func Run(ctx context.Context, p Problem, s Settings) (*Result, error) {
 		return nil, err
 	}
 	columns := append([]string{"step", "walker", "ln_post", "ln_like"}, p.Names...)
-	ens, w, err := open(p, s, paths, columns)
+	ens, w, hot, err := open(p, s, paths, columns)
 	if err != nil {
 		return nil, err
 	}
 	defer ens.Close()
 	defer w.Close()
+	defer hot.Close()
 
 	meta := &rundir.Meta{Meta: p.Meta}
+	if hot != nil {
+		meta.Outputs = append(meta.Outputs[:len(meta.Outputs):len(meta.Outputs)], rundir.RungsOutput())
+	}
 	meta.Status = "running"
 	if err := rundir.WriteMeta(paths.Meta, meta); err != nil {
 		return nil, err
@@ -124,6 +129,11 @@ func Run(ctx context.Context, p Problem, s Settings) (*Result, error) {
 		off, err := w.Flush()
 		if err != nil {
 			return err
+		}
+		if hot != nil {
+			if err := hot.flush(); err != nil {
+				return err
+			}
 		}
 		state, err := en.MarshalBinary()
 		if err != nil {
@@ -138,6 +148,11 @@ func Run(ctx context.Context, p Problem, s Settings) (*Result, error) {
 			row[1], row[2], row[3] = float64(k), lpost[k], ll[k]
 			copy(row[4:], pos[k*dim:(k+1)*dim])
 			if err := w.Append(row); err != nil {
+				return err
+			}
+		}
+		if hot != nil {
+			if err := hot.append(en); err != nil {
 				return err
 			}
 		}
@@ -169,6 +184,9 @@ func Run(ctx context.Context, p Problem, s Settings) (*Result, error) {
 		return nil, fmt.Errorf("checkpoint: %w", err)
 	}
 	if err := w.Close(); err != nil {
+		return nil, err
+	}
+	if err := hot.Close(); err != nil {
 		return nil, err
 	}
 	if runErr != nil {
@@ -214,43 +232,69 @@ func removeStale(s Settings, started time.Time) error {
 	return nil
 }
 
-// open starts the ensemble and the chain file: new ones, or, with
-// s.Resume, the checkpoint's state and the chain cut back to the length
-// the checkpoint recorded.
-func open(p Problem, s Settings, paths rundir.Fit, columns []string) (*sampler.Ensemble, *chains.Writer, error) {
+// open starts the ensemble, the chain file and, with tempering, the rungs
+// file: new ones, or, with s.Resume, the checkpoint's state with the
+// history read back from the chain (and rungs) file, both files cut back
+// to the length the checkpoint recorded.
+func open(p Problem, s Settings, paths rundir.Fit, columns []string) (*sampler.Ensemble, *chains.Writer, *rungsFile, error) {
 	if !s.Resume {
 		if _, err := os.Stat(paths.Checkpoint); err == nil {
-			return nil, nil, fmt.Errorf("%s exists: this folder holds a run already; continue it with --resume or choose another --out", paths.Checkpoint)
+			return nil, nil, nil, fmt.Errorf("%s exists: this folder holds a run already; continue it with --resume or choose another --out", paths.Checkpoint)
 		}
 		t0 := time.Now()
 		ens, err := sampler.New(p.Target, s.Sampler)
 		if err != nil {
-			return nil, nil, err
+			return nil, nil, nil, err
 		}
 		// New evaluates every walker of every rung at least once.
 		s.warnLong(len(p.Names), time.Since(t0)/time.Duration(ens.Walkers()*ens.Rungs()), 0)
 		w, err := chains.Create(paths.Chain, columns)
 		if err != nil {
 			ens.Close()
-			return nil, nil, err
+			return nil, nil, nil, err
 		}
-		return ens, w, nil
+		var hot *rungsFile
+		if ens.Rungs() > 1 {
+			if hot, err = createRungs(paths.Rungs, ens.Rungs()-1, ens.Walkers()); err != nil {
+				w.Close()
+				ens.Close()
+				return nil, nil, nil, err
+			}
+		}
+		return ens, w, hot, nil
 	}
 	ck, err := rundir.ReadCheckpointLimit(paths.Checkpoint, s.checkpointLimit(len(p.Names)))
 	if err != nil {
-		return nil, nil, err
+		return nil, nil, nil, err
 	}
-	ens, err := sampler.Restore(p.Target, s.Sampler, ck.State)
+	recorded := 0
+	var loadErr error
+	load := historyLoader(paths.Chain, paths.Rungs, ck.ChainOffset, columns, &recorded)
+	ens, err := sampler.Restore(p.Target, s.Sampler, ck.State, func(h *sampler.History, steps int) error {
+		loadErr = load(h, steps)
+		return loadErr
+	})
+	if loadErr != nil {
+		return nil, nil, nil, fmt.Errorf("resuming from %s: the run's history cannot be read back: %w", paths.Checkpoint, loadErr)
+	}
 	if err != nil {
-		return nil, nil, fmt.Errorf("%s: %w (was the configuration or data changed since the run started?)", paths.Checkpoint, err)
+		return nil, nil, nil, fmt.Errorf("%s: %w (was the configuration or data changed since the run started?)", paths.Checkpoint, err)
 	}
 	w, err := chains.Resume(paths.Chain, columns, ck.ChainOffset)
 	if err != nil {
 		ens.Close()
-		return nil, nil, err
+		return nil, nil, nil, err
+	}
+	var hot *rungsFile
+	if ens.Rungs() > 1 {
+		if hot, err = resumeRungs(paths.Rungs, ens.Rungs()-1, ens.Walkers(), recorded); err != nil {
+			w.Close()
+			ens.Close()
+			return nil, nil, nil, err
+		}
 	}
 	if s.Reporter.Infof != nil {
 		s.Reporter.Infof("resuming from step %d (%s)", ens.Steps(), paths.Checkpoint)
 	}
-	return ens, w, nil
+	return ens, w, hot, nil
 }

@@ -121,17 +121,11 @@ type BinSummary struct {
 	Index int
 	// Freq is the bin frequency in Hz.
 	Freq float64
-	// Median, Lo68 and Hi68 are the 50 %, 15.87 % and 84.13 % quantiles
-	// of log10 rho.
+	// Median, Lo68 and Hi68 are the 0.5, Phi(-1) and Phi(1) quantiles of
+	// log10 rho (the "68 %" interval of docs/physics.md section 8).
 	Median, Lo68, Hi68 float64
 	Kind               Representation
 }
-
-// Central 68 % quantile levels: Phi(-1) and Phi(1).
-var (
-	pLo68 = 0.5 * math.Erfc(1/math.Sqrt2)
-	pHi68 = 1 - 0.5*math.Erfc(1/math.Sqrt2)
-)
 
 // Summary returns the median and central 68 % interval of log10 rho for each
 // bin, computed from its representation: empirical quantiles (linear
@@ -144,7 +138,7 @@ func (ds *Dataset) Summary() []BinSummary {
 	q := make([]float64, 3)
 	for i := range ds.Bins {
 		b := &ds.Bins[i]
-		b.Quantiles(ds.PriorMin, ds.PriorMax, []float64{0.5, pLo68, pHi68}, q)
+		b.Quantiles(ds.PriorMin, ds.PriorMax, []float64{0.5, numeric.P68Lo, numeric.P68Hi}, q)
 		f := math.NaN()
 		if i < len(ds.Freqs) {
 			f = ds.Freqs[i]

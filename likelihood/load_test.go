@@ -220,6 +220,8 @@ func TestSummary(t *testing.T) {
 	sum := ds.Summary()
 	nGrid := distuv.Normal{Mu: -7, Sigma: 0.3}
 	nGauss := distuv.Normal{Mu: -6.5, Sigma: 0.25}
+	// The "68 %" levels, Phi(-1) and Phi(1), from gonum's normal.
+	pLo68, pHi68 := distuv.UnitNormal.CDF(-1), distuv.UnitNormal.CDF(1)
 	for _, tc := range []struct {
 		name     string
 		got      float64

@@ -478,8 +478,8 @@ func (w *reportWriter) addBands(m *rundir.Model, r Rebuilt) error {
 }
 
 // reportProbs are the quantiles of the spectrum files: the 95 % and 68 %
-// central intervals and the median.
-var reportProbs = []float64{0.025, 0.16, 0.5, 0.84, 0.975}
+// central intervals (stats.P95Lo ... stats.P95Hi) and the median.
+var reportProbs = bandProbs[:]
 
 // spectrumSet is one data set's bins and the models' bands at its
 // frequencies, for SpectrumFigure.
@@ -656,7 +656,7 @@ func (w *reportWriter) writeIndex() error {
 
 func (w *reportWriter) masses() []float64 {
 	if len(w.o.Masses) == 0 {
-		return []float64{0.68, 0.95}
+		return []float64{stats.Mass68, stats.Mass95}
 	}
 	return w.o.Masses
 }

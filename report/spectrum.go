@@ -58,8 +58,12 @@ func setInk(k int) (fill, line color.NRGBA) {
 	return c[0], c[1]
 }
 
-// bandQuantiles returns, for every frequency, the 2.5, 16, 50, 84 and
-// 97.5 % quantiles of the curves.
+// bandProbs are the probabilities of a band's quantiles: the ends of the
+// "95 %" and "68 %" intervals and the median.
+var bandProbs = [5]float64{stats.P95Lo, stats.P68Lo, 0.5, stats.P68Hi, stats.P95Hi}
+
+// bandQuantiles returns, for every frequency, the bandProbs quantiles of
+// the curves.
 func bandQuantiles(m ModelBand) ([5][]float64, error) {
 	var q [5][]float64
 	nf := len(m.Freq)
@@ -78,7 +82,7 @@ func bandQuantiles(m ModelBand) ([5][]float64, error) {
 			}
 		}
 		slices.Sort(col)
-		for i, p := range []float64{0.025, 0.16, 0.5, 0.84, 0.975} {
+		for i, p := range bandProbs {
 			q[i][k] = stats.Quantile(col, p)
 		}
 	}

@@ -13,9 +13,11 @@ import (
 	"tautline/internal/safeio"
 )
 
-// Checkpoint is checkpoint.bin. The file holds the sampler's complete state and the length of
-// chain.csv when it was taken, so that --resume truncates the chain to that
-// length and continues byte for byte. Layout: the magic "tautline-ckpt 1\n",
+// Checkpoint is checkpoint.bin. The file holds the sampler's state (not
+// its history, which --resume reads back from chain.csv and, in a tempered
+// fit, RungsFile, so that the file's size does not grow with the run) and
+// the length of chain.csv when it was taken, so that --resume truncates the
+// chain to that length and continues byte for byte. Layout: the magic "tautline-ckpt 1\n",
 // the chain length (8 bytes, little-endian), the state's length (8 bytes),
 // the state (the sampler's own checksummed encoding), and a CRC-32 (IEEE)
 // of everything before it.

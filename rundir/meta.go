@@ -21,9 +21,15 @@ func FitOutputs() []chains.Output {
 		{File: ChainFile, Description: "every walker at every step: step, walker, ln_post, ln_like, then the sampled parameters"},
 		{File: PosteriorFile, Description: "burned-in, thinned posterior samples (float64, one row per sample, columns in the order of the free parameters)"},
 		{File: SummaryFile, Description: "median, 68 % and 95 % equal-tailed intervals, mean and std per parameter"},
-		{File: CheckpointFile, Description: "complete sampler state for --resume"},
+		{File: CheckpointFile, Description: "sampler state for --resume (the history is read back from chain.csv)"},
 		{File: MetaFile, Description: "this file"},
 	}
+}
+
+// RungsOutput describes RungsFile, which only a tempered fit writes, for
+// meta.json.
+func RungsOutput() chains.Output {
+	return chains.Output{File: RungsFile, Description: "ln likelihood of every walker of the rungs with beta < 1 at every step (float64 little-endian after a 24-byte header), for --resume"}
 }
 
 // WriteMeta writes m to path with the current schema version.

@@ -27,6 +27,9 @@ const (
 	SummaryFile    = "summary.json"
 	MetaFile       = "meta.json"
 	CheckpointFile = "checkpoint.bin"
+	// RungsFile holds, in a tempered fit, the ln likelihoods of the rungs
+	// with beta < 1 at every step (chain.csv holds the cold rung's).
+	RungsFile = "rungs_lnl.bin"
 )
 
 // File and folder names of a comparison folder.
@@ -43,7 +46,7 @@ const (
 
 // Fit names the files of a fit folder.
 type Fit struct {
-	Chain, Posterior, Summary, Meta, Checkpoint string
+	Chain, Posterior, Summary, Meta, Checkpoint, Rungs string
 }
 
 // FitPaths returns the files of the fit folder dir.
@@ -54,6 +57,7 @@ func FitPaths(dir string) Fit {
 		Summary:    filepath.Join(dir, SummaryFile),
 		Meta:       filepath.Join(dir, MetaFile),
 		Checkpoint: filepath.Join(dir, CheckpointFile),
+		Rungs:      filepath.Join(dir, RungsFile),
 	}
 }
 

@@ -15,9 +15,12 @@ import (
 //
 //	magic [8]byte "TLSMPCKP" | version uint32 | total length uint64 |
 //	body | SHA-256 of everything before it [32]byte
+//
+// Version 2 records only the span of Run's history (its start and length),
+// not its values, so that a checkpoint's size does not grow with the run.
 const (
 	ckMagic   = "TLSMPCKP"
-	ckVersion = 1
+	ckVersion = 2
 	ckHeader  = 8 + 4 + 8
 	ckSum     = sha256.Size
 )
@@ -151,17 +154,19 @@ func (e *Ensemble) configKey(w *enc) {
 	w.str(moveKey(e.moves))
 }
 
-// MarshalBinary serialises the complete state: positions, densities,
-// every random stream, counters, the ladder and Run's history, under a
-// header with a format version, the configuration's Fingerprint and a
-// SHA-256 checksum. Restore continues from it bit-identically.
+// MarshalBinary serialises the sampler's state: positions, densities,
+// every random stream, counters, the ladder and its adaptation, and the
+// span of Run's history (the ensemble step it starts after and the number
+// of steps recorded), under a header with a format version, the
+// configuration's Fingerprint and a SHA-256 checksum. The history's values
+// are not included: they are the record of the run, which the caller
+// writes as it goes (one row per walker and step) and hands back to
+// Restore. The encoding's size is therefore independent of the run's
+// length, and Restore with the same history continues bit-identically.
 func (e *Ensemble) MarshalBinary() ([]byte, error) {
 	size := 1024
 	for r := range e.rungs {
 		size += 8 * (len(e.rungs[r].pos) + 4*e.nw)
-	}
-	if h := e.hist; h != nil {
-		size += 8 * (len(h.pos) + len(h.ll))
 	}
 	w := &enc{b: make([]byte, 0, size+64*e.nw*len(e.rungs))}
 	w.b = append(w.b, ckMagic...)
@@ -197,8 +202,6 @@ func (e *Ensemble) MarshalBinary() ([]byte, error) {
 		w.int(1)
 		w.int(h.start)
 		w.int(h.n)
-		w.floats(h.pos)
-		w.floats(h.ll)
 	} else {
 		w.int(0)
 	}
@@ -207,13 +210,43 @@ func (e *Ensemble) MarshalBinary() ([]byte, error) {
 	return append(w.b, sum[:]...), nil
 }
 
+// A HistoryLoader gives Restore back the history a checkpoint recorded:
+// it must Append steps steps to h, the first being ensemble step
+// h.Start()+1, exactly as Run recorded them (the cold rung's positions and
+// every rung's ln likelihood).
+type HistoryLoader func(h *History, steps int) error
+
+// NewHistory returns an empty history of an ensemble of walkers walkers
+// per rung, dim parameters and rungs rungs, whose first recorded step is
+// ensemble step start+1; for a HistoryLoader's tests and tools.
+func NewHistory(start, walkers, dim, rungs int) *History {
+	return &History{start: start, walkers: walkers, dim: dim, rungs: rungs}
+}
+
+// Append records one more step: pos holds the cold rung's positions
+// (walkers x dim, walker-major) and ll every rung's ln likelihood (rungs x
+// walkers, rung-major), as Run records them.
+func (h *History) Append(pos, ll []float64) error {
+	if len(pos) != h.walkers*h.dim || len(ll) != h.walkers*h.rungs {
+		return fmt.Errorf("sampler: history step %d: %d positions and %d ln likelihoods, want %d and %d",
+			h.start+h.n+1, len(pos), len(ll), h.walkers*h.dim, h.walkers*h.rungs)
+	}
+	h.pos = append(h.pos, pos...)
+	h.ll = append(h.ll, ll...)
+	h.n++
+	return nil
+}
+
 // Restore rebuilds an Ensemble from MarshalBinary output. t and cfg must be
-// those of the original run (Workers and MinBatch may differ). It refuses,
-// with errors wrapping ErrCheckpointTruncated, ErrCheckpointCorrupt,
-// ErrCheckpointFormat, ErrCheckpointFingerprint or ErrCheckpointConfig,
-// data that are cut short, fail the checksum, are not a checkpoint, carry
-// another fingerprint, or were written under another configuration.
-func Restore(t Target, cfg Config, data []byte) (*Ensemble, error) {
+// those of the original run (Workers and MinBatch may differ). If the
+// checkpoint recorded a history, load supplies its values (load may be nil
+// only when it did not). Restore refuses, with errors wrapping
+// ErrCheckpointTruncated, ErrCheckpointCorrupt, ErrCheckpointFormat,
+// ErrCheckpointFingerprint or ErrCheckpointConfig, data that are cut
+// short, fail the checksum, are not a checkpoint, carry another
+// fingerprint, or were written under another configuration, and returns
+// load's errors wrapped.
+func Restore(t Target, cfg Config, data []byte, load HistoryLoader) (*Ensemble, error) {
 	if len(data) < ckHeader+ckSum {
 		return nil, fmt.Errorf("%w: %d bytes, less than the %d-byte header and checksum", ErrCheckpointTruncated, len(data), ckHeader+ckSum)
 	}
@@ -270,22 +303,38 @@ func Restore(t Target, cfg Config, data []byte) (*Ensemble, error) {
 	r.intsInto(e.swapAcc, "swap counts")
 	r.intsInto(e.swapTry, "swap counts")
 	r.floatsInto(e.roundAcc, "swap round")
-	if r.int() == 1 {
-		h := newHistory(e)
-		h.start = r.int()
-		h.n = r.int()
-		h.pos = r.floats()
-		h.ll = r.floats()
-		if r.err == nil && (len(h.pos) != h.n*h.walkers*h.dim || len(h.ll) != h.n*h.walkers*h.rungs) {
-			r.err = fmt.Errorf("%w: history sizes inconsistent", ErrCheckpointFormat)
+	hasHist := r.int()
+	start, n := 0, 0
+	if hasHist == 1 {
+		start, n = r.int(), r.int()
+		// Run records every step after the history's start.
+		if r.err == nil && (start < 0 || n < 0 || start+n != e.steps) {
+			r.err = fmt.Errorf("%w: history of %d steps after step %d does not end at step %d", ErrCheckpointFormat, n, start, e.steps)
 		}
-		e.hist = h
+	} else if r.err == nil && hasHist != 0 {
+		r.err = fmt.Errorf("%w: history flag %d", ErrCheckpointFormat, hasHist)
 	}
 	if r.err == nil && len(r.b) != 0 {
 		r.err = fmt.Errorf("%w: %d unread bytes", ErrCheckpointFormat, len(r.b))
 	}
 	if r.err != nil {
 		return nil, r.err
+	}
+	if hasHist == 1 {
+		h := NewHistory(start, e.nw, e.dim, len(e.rungs))
+		switch {
+		case n > 0 && load == nil:
+			return nil, fmt.Errorf("sampler: checkpoint records a history of %d steps and no history was supplied", n)
+		case n > 0:
+			h.reserve(n)
+			if err := load(h, n); err != nil {
+				return nil, fmt.Errorf("sampler: history of the checkpoint: %w", err)
+			}
+		}
+		if h.n != n {
+			return nil, fmt.Errorf("sampler: history of the checkpoint: %d steps supplied, the checkpoint records %d", h.n, n)
+		}
+		e.hist = h
 	}
 	e.calibrate()
 	e.startPool()

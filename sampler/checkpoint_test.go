@@ -6,6 +6,7 @@ import (
 	"encoding/binary"
 	"encoding/json"
 	"errors"
+	"fmt"
 	"math"
 	"os"
 	"path/filepath"
@@ -84,7 +85,10 @@ func TestResumeBitIdentical(t *testing.T) {
 	}
 	rcfg := cfg
 	rcfg.Workers, rcfg.MinBatch = 2, 1
-	resumed, err := Restore(tg, rcfg, data)
+	if n := len(data); n > 4096 {
+		t.Errorf("checkpoint of %d steps has %d bytes; the history's values do not belong in it", k, n)
+	}
+	resumed, err := Restore(tg, rcfg, data, replay(first.hist))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -130,7 +134,7 @@ func TestResumeAtCheck(t *testing.T) {
 	if _, err := Run(context.Background(), first, snap); err != nil {
 		t.Fatal(err)
 	}
-	resumed, err := Restore(tg, cfg, data)
+	resumed, err := Restore(tg, cfg, data, replay(first.hist))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -179,14 +183,82 @@ func TestCorruptCheckpoint(t *testing.T) {
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
-			_, err := Restore(tg, tc.cfg, tc.data)
+			_, err := Restore(tg, tc.cfg, tc.data, nil)
 			if !errors.Is(err, tc.want) || !strings.Contains(err.Error(), tc.text) {
 				t.Errorf("Restore: error %v, want %v containing %q", err, tc.want, tc.text)
 			}
 		})
 	}
-	if _, err := Restore(tg, cfg, data); err != nil {
+	if _, err := Restore(tg, cfg, data, nil); err != nil {
 		t.Errorf("intact checkpoint refused: %v", err)
+	}
+}
+
+// replay is the HistoryLoader that hands back src's recorded steps, as a
+// caller that wrote them out would read them back.
+func replay(src *History) HistoryLoader {
+	return func(h *History, steps int) error {
+		if h.Start() != src.Start() || steps > src.Len() {
+			return fmt.Errorf("history from step %d, %d steps: src has %d from %d", h.Start(), steps, src.Len(), src.Start())
+		}
+		row := src.Walkers() * src.Dim()
+		pos := src.Positions(0)
+		ll := make([][]float64, src.Rungs())
+		for r := range ll {
+			ll[r] = src.LnLike(r, 0)
+		}
+		step := make([]float64, 0, src.Rungs()*src.Walkers())
+		for s := range steps {
+			step = step[:0]
+			for r := range ll {
+				step = append(step, ll[r][s*src.Walkers():(s+1)*src.Walkers()]...)
+			}
+			if err := h.Append(pos[s*row:(s+1)*row], step); err != nil {
+				return err
+			}
+		}
+		return nil
+	}
+}
+
+// TestRestoreHistory: a checkpoint written during Run records the span of
+// its history; Restore refuses a missing, short or failing loader, and a
+// step of the wrong shape.
+func TestRestoreHistory(t *testing.T) {
+	tg, cfg := checkpointSetup(t)
+	e, err := New(tg, cfg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer e.Close()
+	if _, err := Run(context.Background(), e, RunOptions{MaxSteps: 30, CheckEvery: 10}); err != nil {
+		t.Fatal(err)
+	}
+	data, err := e.MarshalBinary()
+	if err != nil {
+		t.Fatal(err)
+	}
+	boom := errors.New("chain unreadable")
+	tests := []struct {
+		name string
+		load HistoryLoader
+		text string
+	}{
+		{"no loader", nil, "records a history of 30 steps and no history was supplied"},
+		{"short", func(h *History, steps int) error { return replay(e.hist)(h, steps-1) }, "29 steps supplied, the checkpoint records 30"},
+		{"failing", func(*History, int) error { return boom }, "chain unreadable"},
+		{"wrong shape", func(h *History, _ int) error { return h.Append(make([]float64, 3), nil) }, "3 positions and 0 ln likelihoods, want 16 and 32"},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			_, err := Restore(tg, cfg, data, tc.load)
+			if err == nil || !strings.Contains(err.Error(), tc.text) {
+				t.Errorf("Restore: %v, want an error containing %q", err, tc.text)
+			}
+		})
+	}
+	if _, err := Restore(tg, cfg, data, replay(e.hist)); err != nil {
+		t.Errorf("Restore with the history: %v", err)
 	}
 }
 
@@ -196,9 +268,22 @@ func TestCorruptCheckpoint(t *testing.T) {
 func FuzzRestore(f *testing.F) {
 	tg := funcTarget{dim: 1, draw: boxDraw(0, 1), prior: boxPrior(0, 1), like: func(x []float64) float64 { return -x[0] * x[0] }}
 	cfg := Config{Walkers: 4, Seed: 1, Betas: []float64{1, 0.5}, Workers: 1, Fingerprint: "fuzz"}
+	// zeros supplies a history of zeros, refusing long ones so that a
+	// fuzzed step count cannot exhaust memory.
+	zeros := func(h *History, steps int) error {
+		if steps > 1000 {
+			return errors.New("history too long for the fuzz test")
+		}
+		for range steps {
+			if err := h.Append(make([]float64, h.Walkers()*h.Dim()), make([]float64, h.Walkers()*h.Rungs())); err != nil {
+				return err
+			}
+		}
+		return nil
+	}
 	f.Fuzz(func(t *testing.T, data []byte) {
 		try := func(d []byte) {
-			e, err := Restore(tg, cfg, d)
+			e, err := Restore(tg, cfg, d, zeros)
 			if err != nil {
 				return
 			}

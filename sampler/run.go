@@ -94,16 +94,6 @@ func (h *History) LnLike(r, from int) []float64 {
 	return out
 }
 
-// maxTau estimates the largest autocorrelation time over the parameters
-// for recorded steps [from, Len()), in steps; NaN if there are too few.
-// To keep checks cheap on long histories it first thins the chain to about
-// coarseSteps steps and refines the thinning to floor(tau/10) until the
-// thinning is at most a tenth of tau, where thinning changes the estimate
-// by less than 0.5 % (see evaluate). The result depends only on the history.
-func (h *History) maxTau(from int) float64 {
-	return h.maxTauThinned(from, finalThinning)
-}
-
 // A thinning sets how far evaluate thins the history: the chain is first
 // thinned to about Coarse steps, then by floor(tau/Divisor) of the slowest
 // parameter, and never to fewer than about Steps steps unless that would
@@ -141,7 +131,13 @@ func (th thinning) interval(n int, tau float64) int {
 	return max(k, 1)
 }
 
-// maxTauThinned is maxTau with the thinning th.
+// maxTauThinned estimates the largest autocorrelation time over the
+// parameters for recorded steps [from, Len()), in steps; NaN if there are
+// too few. To keep checks cheap on long histories it first thins the chain
+// to about th.Coarse steps and refines the thinning to th.interval until
+// the thinning is at most tau/th.Divisor, where (for the final thinning,
+// tau/10) thinning changes the estimate by less than 0.5 % (see evaluate).
+// The result depends only on the history.
 func (h *History) maxTauThinned(from int, th thinning) float64 {
 	n := h.n - from
 	if n < 4 {

@@ -156,3 +156,9 @@ func TestIsCheckStep(t *testing.T) {
 		t.Errorf("%d checks between steps 3200 and 6400, want 4", n)
 	}
 }
+
+// maxTau is the largest autocorrelation time of recorded steps [from,
+// Len()) with the final report's thinning (tau/10).
+func (h *History) maxTau(from int) float64 {
+	return h.maxTauThinned(from, finalThinning)
+}

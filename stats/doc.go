@@ -11,7 +11,10 @@
 //
 //     Q(p) = x_(j) + (h - j) (x_(j+1) - x_(j)),  h = (n-1) p, j = floor(h)
 //
-//     and equal-tailed intervals [Q((1-p)/2), Q((1+p)/2)] from them.
+//     and equal-tailed intervals [Q((1-p)/2), Q((1+p)/2)] from them. An
+//     interval called "68 %" is [Q(Phi(-1)), Q(Phi(1))], of mass
+//     erf(1/sqrt 2) = 0.6827, one called "95 %" [Q(0.025), Q(0.975)]
+//     (Central68, Central95; docs/physics.md section 8).
 //
 //   - Highest-density intervals as the shortest interval holding a fraction
 //     p of the sorted samples (Chen & Shao 1999). This assumes a unimodal

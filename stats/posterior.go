@@ -28,8 +28,8 @@ type Param struct {
 type Options struct {
 	One Options1D
 	Two Options2D
-	// Masses are the credible masses of the 2-D contours (default 0.68,
-	// 0.95; use Mass1Sigma2D, Mass2Sigma2D for the 2-D sigma regions).
+	// Masses are the credible masses of the 2-D contours (default Mass68,
+	// Mass95; use Mass1Sigma2D, Mass2Sigma2D for the 2-D sigma regions).
 	Masses []float64
 	// SmoothedMass selects Density2D.Levels (mass of the smoothed
 	// density) over the default Density2D.SampleLevels (mass of the
@@ -97,7 +97,7 @@ func Analyze(ps []Param, o Options, progress func(done, total int)) (*Posterior,
 	}
 	masses := o.Masses
 	if len(masses) == 0 {
-		masses = []float64{0.68, 0.95}
+		masses = []float64{Mass68, Mass95}
 	}
 	for _, m := range masses {
 		if !(m > 0 && m < 1) {

@@ -5,6 +5,8 @@ import (
 	"fmt"
 	"math"
 	"slices"
+
+	"tautline/internal/numeric"
 )
 
 var (
@@ -33,20 +35,26 @@ func sortedFinite(x []float64) []float64 {
 }
 
 // Quantile returns the p-quantile of the sorted samples s by linear
-// interpolation between order statistics (Hyndman & Fan 1996, definition 7).
+// interpolation between order statistics (Hyndman & Fan 1996, definition
+// 7), the one sample-quantile definition of tautline (numeric.Quantile).
 // It returns NaN when s is empty or p lies outside [0, 1].
-func Quantile(s []float64, p float64) float64 {
-	n := len(s)
-	if n == 0 || !(p >= 0 && p <= 1) {
-		return math.NaN()
-	}
-	h := float64(n-1) * p
-	j := int(math.Floor(h))
-	if j >= n-1 {
-		return s[n-1]
-	}
-	return s[j] + (h-float64(j))*(s[j+1]-s[j])
-}
+func Quantile(s []float64, p float64) float64 { return numeric.Quantile(s, p) }
+
+// The probability levels of the intervals tautline reports (docs/physics.md
+// section 8): "68 %" runs from the Phi(-1) to the Phi(1) quantile (mass
+// Mass68 = erf(1/sqrt 2) = 0.6827), "95 %" from the 0.025 to the 0.975
+// quantile (mass Mass95 = 0.95).
+const (
+	P68Lo, P68Hi, Mass68 = numeric.P68Lo, numeric.P68Hi, numeric.Mass68
+	P95Lo, P95Hi, Mass95 = numeric.P95Lo, numeric.P95Hi, numeric.Mass95
+)
+
+// Central68 and Central95 return the "68 %" and "95 %" intervals of the
+// sorted samples s: [Q(P68Lo), Q(P68Hi)] and [Q(P95Lo), Q(P95Hi)].
+func Central68(s []float64) Interval { return Interval{Quantile(s, P68Lo), Quantile(s, P68Hi)} }
+
+// Central95 is Central68 for "95 %".
+func Central95(s []float64) Interval { return Interval{Quantile(s, P95Lo), Quantile(s, P95Hi)} }
 
 // EqualTailed returns the central interval holding mass p of the sorted
 // samples s, with (1-p)/2 of the mass beyond each end.

@@ -245,3 +245,35 @@ func TestKDE1DAgainstNormal(t *testing.T) {
 		t.Errorf("histogram integrates to %g", s)
 	}
 }
+
+// TestConvention: Marginalize's "68 %" and "95 %" intervals of the normal
+// quantile sample x_k = Phi^-1((k+0.5)/n) (gonum's UnitNormal.Quantile)
+// are the normal's [-1, 1] and [Phi^-1(0.025), Phi^-1(0.975)] =
+// [-1.95996, 1.95996]; the HDIs, of masses Mass68 and Mass95, are the
+// same intervals for a symmetric unimodal density. The tolerance, 2e-3, is
+// a few sample spacings 1/(n phi(x)) at |x| <= 2 for n = 20001.
+func TestConvention(t *testing.T) {
+	const n = 20001
+	x := make([]float64, n)
+	for k := range x {
+		x[k] = distuv.UnitNormal.Quantile((float64(k) + 0.5) / n)
+	}
+	m, err := Marginalize("x", x, [2]float64{-10, 10}, Options1D{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	z95 := distuv.UnitNormal.Quantile(0.975)
+	sm := m.Summary
+	for _, c := range []struct {
+		name   string
+		got    Interval
+		lo, hi float64
+	}{
+		{"ET68", sm.ET68, -1, 1}, {"HDI68", sm.HDI68, -1, 1},
+		{"ET95", sm.ET95, -z95, z95}, {"HDI95", sm.HDI95, -z95, z95},
+	} {
+		if math.Abs(c.got.Lo-c.lo) > 2e-3 || math.Abs(c.got.Hi-c.hi) > 2e-3 {
+			t.Errorf("%s = [%.5f, %.5f], want [%.5f, %.5f]", c.name, c.got.Lo, c.got.Hi, c.lo, c.hi)
+		}
+	}
+}

@@ -37,8 +37,9 @@ type Summary struct {
 	// Median, Mean and Std are the sample median, mean and standard
 	// deviation; Mode is the peak of the smoothed density.
 	Median, Mean, Std, Mode float64
-	// ET68 and ET95 are the equal-tailed intervals; HDI68 and HDI95 the
-	// shortest intervals of the same mass (see HDI).
+	// ET68 and ET95 are the equal-tailed "68 %" and "95 %" intervals
+	// (Central68, Central95); HDI68 and HDI95 the shortest intervals of
+	// the same masses, Mass68 and Mass95 (see HDI).
 	ET68, ET95, HDI68, HDI95 Interval
 	// EdgeRatio holds the smoothed density at the lower and upper prior
 	// edge divided by its peak; NaN where the grid does not reach the edge
@@ -80,10 +81,9 @@ func Marginalize(name string, x []float64, bounds [2]float64, o Options1D) (Marg
 	sm.Mean, sm.Std = meanStd(s)
 	var pk float64
 	sm.Mode, pk = d.Peak()
-	sm.ET68, _ = EqualTailed(s, 0.68)
-	sm.ET95, _ = EqualTailed(s, 0.95)
-	sm.HDI68, _ = HDI(s, 0.68)
-	sm.HDI95, _ = HDI(s, 0.95)
+	sm.ET68, sm.ET95 = Central68(s), Central95(s)
+	sm.HDI68, _ = HDI(s, Mass68)
+	sm.HDI95, _ = HDI(s, Mass95)
 	sm.EdgeRatio = [2]float64{math.NaN(), math.NaN()}
 	lo := d.Reflect[0] && d.P[0] >= o.RailFraction*pk
 	hi := d.Reflect[1] && d.P[len(d.P)-1] >= o.RailFraction*pk

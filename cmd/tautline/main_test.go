@@ -141,30 +141,65 @@ func TestFitDeterministic(t *testing.T) {
 	}
 }
 
-// TestConvert checks the conversions the command prints against the check
-// values of PHYSICS.md section 9 (1.35e17 kg/m and 0.52 mas at Gmu = 1e-10;
-// eta ~ 1e16 GeV at Gmu = 1e-6, common practice) and that the caveat is
+// TestConvert checks the conversions the command prints against values
+// computed here from the constants: mu = Gmu c^2 / G, the deficit angle
+// 8 pi Gmu (Vilenkin 1981) in milliarcseconds, eta = M_Planck sqrt(Gmu)
+// (common practice), with c = 299792458 m/s (exact by the SI definition),
+// G = 6.67430e-11 m^3 kg^-1 s^-2 and M_Planck = sqrt(hbar c / G) =
+// 1.220890e19 GeV (CODATA 2018), and each inverse conversion; then the
+// check values of docs/physics.md sections 1 and 9 to the digits quoted
+// there (1.35e17 kg/m and 0.52 mas at Gmu = 1e-10), and that the caveat is
 // printed.
 func TestConvert(t *testing.T) {
-	cases := []struct {
-		args []string
-		want []string
-	}{
-		{[]string{"--gmu", "1e-10"}, []string{"1.34659e+17", "0.5184", "order-of-magnitude"}},
-		{[]string{"--gmu", "1e-6"}, []string{"1.221e+16"}},
-		{[]string{"--mu", "1.34659e17"}, []string{"log10 = -10.0000"}},
-		{[]string{"--separation", "0.5184", "--json"}, []string{`"max_image_separation_mas": 0.5184`, `"eta_caveat"`}},
-	}
-	for _, c := range cases {
-		code, out, errs := runCLI(t, append([]string{"convert"}, c.args...)...)
+	const (
+		cLight      = 299792458.0 // m/s, exact (SI)
+		gNewton     = 6.67430e-11 // m^3 kg^-1 s^-2, CODATA 2018
+		mPlanckGeV  = 1.220890e19 // GeV, CODATA 2018
+		masPerRad   = 180 / math.Pi * 3600 * 1e3
+		relTol      = 1e-12 // a few float64 roundings of each formula
+		gmuChecked  = 1e-10
+		muQuoted    = 1.35e17 // kg/m at Gmu = 1e-10, docs/physics.md section 1, 3 digits
+		sepQuoted   = 0.52    // mas at Gmu = 1e-10, docs/physics.md section 9, 2 digits
+		gmuOfEtaRef = 1e-6
+	)
+	convert := func(args ...string) conversion {
+		t.Helper()
+		code, out, errs := runCLI(t, append(append([]string{"convert"}, args...), "--json")...)
 		if code != 0 {
-			t.Fatalf("convert %v: exit %d: %s", c.args, code, errs)
+			t.Fatalf("convert %v: exit %d: %s", args, code, errs)
 		}
-		for _, w := range c.want {
-			if !strings.Contains(out, w) {
-				t.Errorf("convert %v: output lacks %q:\n%s", c.args, w, out)
-			}
+		var c conversion
+		if err := json.Unmarshal([]byte(out), &c); err != nil {
+			t.Fatalf("convert %v: %v\n%s", args, err, out)
 		}
+		return c
+	}
+	near := func(what string, got, want, tol float64) {
+		t.Helper()
+		if !(math.Abs(got-want) <= tol*math.Abs(want)) {
+			t.Errorf("%s = %.10g, want %.10g (relative tolerance %g)", what, got, want, tol)
+		}
+	}
+	g := gmuChecked
+	c := convert("--gmu", "1e-10")
+	near("mu", c.MuKgPerM, g*cLight*cLight/gNewton, relTol)
+	near("deficit angle", c.DeficitRad, 8*math.Pi*g, relTol)
+	near("image separation", c.MaxSeparationMs, 8*math.Pi*g*masPerRad, relTol)
+	near("eta", c.EtaGeV, mPlanckGeV*math.Sqrt(g), relTol)
+	near("mu (quoted value)", c.MuKgPerM, muQuoted, 0.005)
+	near("image separation (quoted value)", c.MaxSeparationMs, sepQuoted, 0.01)
+	// The inverses, from inputs computed with the same constants.
+	mu := g * cLight * cLight / gNewton
+	sep := 8 * math.Pi * g * masPerRad
+	eta := mPlanckGeV * math.Sqrt(gmuOfEtaRef)
+	near("Gmu from mu", convert("--mu", strconv.FormatFloat(mu, 'g', -1, 64)).Gmu, g, relTol)
+	near("Gmu from separation", convert("--separation", strconv.FormatFloat(sep, 'g', -1, 64)).Gmu, g, relTol)
+	near("Gmu from eta", convert("--eta", strconv.FormatFloat(eta, 'g', -1, 64)).Gmu, gmuOfEtaRef, relTol)
+	if c.Caveat == "" {
+		t.Error("convert --json has no eta caveat")
+	}
+	if code, out, errs := runCLI(t, "convert", "--gmu", "1e-10"); code != 0 || !strings.Contains(out, "order-of-magnitude") {
+		t.Errorf("convert --gmu 1e-10: exit %d, no caveat in\n%s%s", code, out, errs)
 	}
 	if code, _, errs := runCLI(t, "convert", "--gmu", "1e-10", "--mu", "3"); code != 2 || !strings.Contains(errs, "exactly one") {
 		t.Errorf("two inputs: exit %d, %s", code, errs)

@@ -55,7 +55,7 @@ func runReport(_ context.Context, e *env, args []string) error {
 	fs.StringVar(&o.Out, "out", "", "folder for the report (default RUNDIR/report)")
 	fs.StringVar(&formats, "formats", "png,svg", "comma-separated figure formats among png, svg, pdf")
 	fs.IntVar(&o.DPI, "dpi", 300, "resolution of PNG figures, dots per inch")
-	fs.StringVar(&masses, "masses", "", "comma-separated credible masses of the 2-D contours, as fractions or percentages (default 0.68,0.95)")
+	fs.StringVar(&masses, "masses", "", "comma-separated credible masses of the 2-D contours, as fractions or percentages (default 68 % and 95 %: 0.682689,0.95)")
 	fs.BoolVar(&sigma2d, "sigma2d", false, "draw the 2-D \"1 and 2 sigma\" regions, masses 0.393 and 0.865, instead of 68 % and 95 %")
 	fs.BoolVar(&o.SmoothedMass, "smoothed-mass", false, "place contour levels by the mass of the smoothed density instead of the mass of the samples")
 	fs.Var(&truths, "truth", "NAME=VALUE: mark a true (injected) parameter value in the corner figure; repeatable")

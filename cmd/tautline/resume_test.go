@@ -23,20 +23,12 @@ func buildBinary(t *testing.T) string {
 	return bin
 }
 
-// TestKillAndResume starts a fit as a subprocess, kills it with SIGKILL at
-// a random moment after its first checkpoint, resumes it with --resume, and
-// requires the chain and posterior to be byte-identical to those of a run
-// that was never interrupted. --flush-every 1 makes every step reach the
-// disk (and slows the run enough to be killed mid-way).
-func TestKillAndResume(t *testing.T) {
-	if testing.Short() {
-		t.Skip("builds the binary and runs three fits")
-	}
-	bin := buildBinary(t)
-	args := func(dir string) []string {
-		return []string{"fit", "--steps", "1500", "--walkers", "16", "--seed", "5",
-			"--checkpoint-every", "100", "--flush-every", "1", "--log-level", "warn", "--out", dir}
-	}
+// killAndResume runs the fit args(dir) as a subprocess, kills it with
+// SIGKILL at a random moment after its first checkpoint, resumes it with
+// --resume, and requires the chain and posterior to be byte-identical to
+// those of a run that was never interrupted.
+func killAndResume(t *testing.T, bin string, args func(dir string) []string, maxDelay time.Duration) {
+	t.Helper()
 	ref := t.TempDir()
 	if out, err := exec.Command(bin, args(ref)...).CombinedOutput(); err != nil {
 		t.Fatalf("uninterrupted run: %v\n%s", err, out)
@@ -44,7 +36,7 @@ func TestKillAndResume(t *testing.T) {
 
 	killed := t.TempDir()
 	seed := uint64(time.Now().UnixNano())
-	delay := time.Duration(rand.New(rand.NewPCG(seed, 1)).IntN(400)) * time.Millisecond
+	delay := time.Duration(rand.New(rand.NewPCG(seed, 1)).Int64N(int64(maxDelay)))
 	t.Logf("kill delay after the first checkpoint: %v (seed %d)", delay, seed)
 	cmd := exec.Command(bin, args(killed)...)
 	if err := cmd.Start(); err != nil {
@@ -52,18 +44,7 @@ func TestKillAndResume(t *testing.T) {
 	}
 	done := make(chan error, 1)
 	go func() { done <- cmd.Wait() }()
-	ck := filepath.Join(killed, "checkpoint.bin")
-	deadline := time.Now().Add(60 * time.Second)
-	for {
-		if _, err := os.Stat(ck); err == nil {
-			break
-		}
-		if time.Now().After(deadline) {
-			_ = cmd.Process.Kill()
-			t.Fatal("no checkpoint appeared within 60 s")
-		}
-		time.Sleep(2 * time.Millisecond)
-	}
+	waitForFile(t, cmd, filepath.Join(killed, "checkpoint.bin"))
 	time.Sleep(delay)
 	_ = cmd.Process.Kill() // SIGKILL
 	finished := (<-done) == nil
@@ -83,6 +64,50 @@ func TestKillAndResume(t *testing.T) {
 			t.Errorf("%s differs between the uninterrupted and the killed-and-resumed run (%d vs %d bytes)", f, len(a), len(b))
 		}
 	}
+}
+
+// waitForFile waits up to 60 s for path to appear while cmd runs.
+func waitForFile(t *testing.T, cmd *exec.Cmd, path string) {
+	t.Helper()
+	for deadline := time.Now().Add(60 * time.Second); ; time.Sleep(time.Millisecond) {
+		if _, err := os.Stat(path); err == nil {
+			return
+		}
+		if time.Now().After(deadline) {
+			_ = cmd.Process.Kill()
+			t.Fatalf("no %s appeared within 60 s", filepath.Base(path))
+		}
+	}
+}
+
+// TestKillAndResume: kill -9 and --resume of a short fit. --flush-every 1
+// makes every step reach the disk (and slows the run enough to be killed
+// mid-way).
+func TestKillAndResume(t *testing.T) {
+	if testing.Short() {
+		t.Skip("builds the binary and runs three fits")
+	}
+	bin := buildBinary(t)
+	killAndResume(t, bin, func(dir string) []string {
+		return []string{"fit", "--steps", "1500", "--walkers", "16", "--seed", "5",
+			"--checkpoint-every", "100", "--flush-every", "1", "--log-level", "warn", "--out", dir}
+	}, 400*time.Millisecond)
+}
+
+// TestKillAndResumeLong: kill -9 and --resume of a 20000-step fit, whose
+// resume reads a history of thousands of steps back from chain.csv (the
+// checkpoint holds none of it), and whose chain is flushed only at the
+// checkpoints, so that the killed run leaves rows after the checkpoint's
+// offset for --resume to cut.
+func TestKillAndResumeLong(t *testing.T) {
+	if testing.Short() {
+		t.Skip("builds the binary and runs three fits")
+	}
+	bin := buildBinary(t)
+	killAndResume(t, bin, func(dir string) []string {
+		return []string{"fit", "--steps", "20000", "--walkers", "16", "--seed", "11",
+			"--checkpoint-every", "1000", "--log-level", "warn", "--out", dir}
+	}, 500*time.Millisecond)
 }
 
 // TestResumeRefusesOtherConfig: a checkpoint from one configuration is not
@@ -125,17 +150,19 @@ func flipBit(b []byte, i int) []byte {
 	return c
 }
 
-// TestInterruptWritesCheckpoint sends SIGTERM to a running fit: it must
-// exit with status 1 after writing a checkpoint, and --resume must finish
-// the run with the same chain as an uninterrupted one.
+// TestInterruptWritesCheckpoint sends SIGTERM to a running fit once its
+// first checkpoint (step 100 of 30000) exists: it must exit with status 1
+// after writing a checkpoint, and --resume must finish the run with the
+// same chain as an uninterrupted one. The run is long enough (about 300
+// times the steps before the signal) that finishing first is a failure.
 func TestInterruptWritesCheckpoint(t *testing.T) {
 	if testing.Short() {
 		t.Skip("builds the binary and runs three fits")
 	}
 	bin := buildBinary(t)
 	args := func(dir string) []string {
-		return []string{"fit", "--steps", "1500", "--walkers", "16", "--seed", "9",
-			"--checkpoint-every", "1000", "--flush-every", "1", "--log-level", "warn", "--out", dir}
+		return []string{"fit", "--steps", "30000", "--walkers", "16", "--seed", "9",
+			"--checkpoint-every", "100", "--log-level", "warn", "--out", dir}
 	}
 	ref := t.TempDir()
 	if out, err := exec.Command(bin, args(ref)...).CombinedOutput(); err != nil {
@@ -148,20 +175,11 @@ func TestInterruptWritesCheckpoint(t *testing.T) {
 	if err := cmd.Start(); err != nil {
 		t.Fatal(err)
 	}
-	chain := filepath.Join(dir, "chain.csv")
-	for deadline := time.Now().Add(60 * time.Second); ; time.Sleep(time.Millisecond) {
-		if fi, err := os.Stat(chain); err == nil && fi.Size() > 20000 {
-			break
-		}
-		if time.Now().After(deadline) {
-			_ = cmd.Process.Kill()
-			t.Fatal("the run wrote no chain within 60 s")
-		}
-	}
+	waitForFile(t, cmd, filepath.Join(dir, "checkpoint.bin"))
 	_ = cmd.Process.Signal(syscall.SIGTERM)
 	err := cmd.Wait()
 	if err == nil {
-		t.Skip("the run finished before the signal arrived")
+		t.Fatal("the run finished before SIGTERM interrupted it")
 	}
 	if ee, ok := err.(*exec.ExitError); !ok || ee.ExitCode() != 1 || !bytes.Contains(stderr.Bytes(), []byte("--resume")) {
 		t.Fatalf("interrupted run: %v, stderr %s", err, stderr.String())
@@ -170,7 +188,7 @@ func TestInterruptWritesCheckpoint(t *testing.T) {
 		t.Fatalf("resumed run: %v\n%s", err, out)
 	}
 	a, _ := os.ReadFile(filepath.Join(ref, "chain.csv"))
-	b, _ := os.ReadFile(chain)
+	b, _ := os.ReadFile(filepath.Join(dir, "chain.csv"))
 	if !bytes.Equal(a, b) {
 		t.Errorf("chain after SIGTERM and --resume differs from the uninterrupted one (%d vs %d bytes)", len(a), len(b))
 	}

@@ -141,3 +141,23 @@ func TestQuantileAgainstGonum(t *testing.T) {
 }
 
 func ulp(x float64) float64 { return math.Nextafter(math.Abs(x), math.Inf(1)) - math.Abs(x) }
+
+// TestLevels: the "68 %" levels are Phi(-1) and Phi(1) as NormCDF and the
+// standard library's erf compute them (to 2e-16, a few roundings of
+// numbers below 1), and "95 %" holds mass 0.95.
+func TestLevels(t *testing.T) {
+	for _, c := range []struct {
+		name      string
+		got, want float64
+	}{
+		{"P68Lo = Phi(-1)", P68Lo, NormCDF(-1)},
+		{"P68Hi = Phi(1)", P68Hi, NormCDF(1)},
+		{"Mass68 = erf(1/sqrt 2)", Mass68, math.Erf(1 / math.Sqrt2)},
+		{"Mass95", Mass95, 0.95},
+		{"P95Lo", P95Lo, (1 - 0.95) / 2},
+	} {
+		if math.Abs(c.got-c.want) > 2e-16 {
+			t.Errorf("%s: %.17g, want %.17g", c.name, c.got, c.want)
+		}
+	}
+}

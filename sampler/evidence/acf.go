@@ -21,8 +21,9 @@ func newACF(n int) *acf {
 }
 
 // tau returns the integrated autocorrelation time of g with Sokal's
-// automatic window, exactly as autocorrTime does lag by lag, and whether
-// the window closed before lag len(g)/2.
+// automatic window, tau = 1 + 2 sum_{t=1}^{M} rho(t) (the first lag M with
+// M >= sokalWindow tau), the autocovariances coming from an FFT, and
+// whether the window closed before lag len(g)/2.
 func (a *acf) tau(g []float64) (tau float64, ok bool) {
 	n := len(g)
 	if n < 2 {

@@ -112,3 +112,56 @@ func TestACFMatchesDirect(t *testing.T) {
 		}
 	}
 }
+
+// varOfMean estimates the variance of the mean of g with overlapping batch
+// means of length ceil(factor * tau), tau being g's own autocorrelation
+// time, as the influence series are treated.
+func varOfMean(g []float64, factor float64) seriesVar {
+	tau, ok := autocorrTime(g)
+	b, short := batchLen(tau, ok, len(g), factor)
+	return seriesVar{varMean: obmVarOfMean(g, b), tau: tau, batch: b, short: short}
+}
+
+// autocorrTime returns the integrated autocorrelation time
+//
+//	tau = 1 + 2 sum_{t=1}^{M} rho(t)
+//
+// of g with Sokal's automatic window, and whether the window closed before
+// lag len(g)/2 (if not, tau is a lower bound). A constant series has tau = 1.
+// Autocovariances are computed lag by lag, O(len(g) M) with M a few tau:
+// the reference the FFT version (acf.tau) is checked against.
+func autocorrTime(g []float64) (tau float64, ok bool) {
+	n := len(g)
+	if n < 2 {
+		return 1, false
+	}
+	var mean float64
+	for _, v := range g {
+		mean += v
+	}
+	mean /= float64(n)
+	var c0 float64
+	for _, v := range g {
+		d := v - mean
+		c0 += d * d
+	}
+	if c0 == 0 || math.IsNaN(c0) {
+		return 1, true
+	}
+	tau = 1
+	for t := 1; t < n/2; t++ {
+		var ct float64
+		for i := 0; i+t < n; i++ {
+			ct += (g[i] - mean) * (g[i+t] - mean)
+		}
+		tau += 2 * ct / c0
+		if float64(t) >= sokalWindow*tau {
+			if tau < 1/float64(n) {
+				// Strongly anticorrelated series: keep the error positive.
+				tau = 1 / float64(n)
+			}
+			return tau, true
+		}
+	}
+	return math.Max(tau, 1/float64(n)), false
+}
