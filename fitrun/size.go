@@ -75,8 +75,8 @@ func (s Settings) warnLong(dim int, perEval time.Duration, done int) {
 const checkpointSlack = 1 << 20
 
 // checkpointLimit is the largest checkpoint.bin that s can have written:
-// twice the sampler's bound at s.Steps (a resume may name fewer steps than
-// the run that wrote it) plus checkpointSlack.
+// twice the sampler's bound (which does not depend on the steps, since the
+// history is read back from the chain) plus checkpointSlack.
 func (s Settings) checkpointLimit(dim int) int64 {
 	b := 2*s.Footprint(dim).Checkpoint() + checkpointSlack
 	if b > 1<<62 {

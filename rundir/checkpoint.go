@@ -93,7 +93,7 @@ func readCheckpointFile(path string, limit int64) ([]byte, error) {
 	if fi, err := f.Stat(); err == nil && fi.Size() > outer {
 		return nil, &safeio.LimitError{Path: path, Limit: outer, Size: fi.Size()}
 	} else if err == nil && fi.Size() > limit {
-		return nil, fmt.Errorf("%w (the most this run's walkers, steps and rungs can write; was --steps lowered?)", &safeio.LimitError{Path: path, Limit: limit, Size: fi.Size()})
+		return nil, fmt.Errorf("%w (the most this run's walkers, parameters and rungs can write: is it another run's checkpoint?)", &safeio.LimitError{Path: path, Limit: limit, Size: fi.Size()})
 	}
 	raw, err := io.ReadAll(io.LimitReader(f, limit+1))
 	if err != nil {

@@ -69,7 +69,7 @@ func TestReadCheckpointRefuses(t *testing.T) {
 		{"FIFO", func() error { _, err := ReadCheckpoint(fifo); return err }, safeio.ErrNotRegular, fifo + ": is a named pipe (FIFO), not a regular file"},
 		{"/dev/zero", func() error { _, err := ReadCheckpoint("/dev/zero"); return err }, safeio.ErrNotRegular, "/dev/zero: is a character device, not a regular file"},
 		{"sparse 8 GiB", func() error { _, err := ReadCheckpoint(sparse); return err }, safeio.ErrTooLarge, sparse + ": 8 GiB is more than the 4 GiB limit for this kind of file"},
-		{"over the settings' limit", func() error { _, err := ReadCheckpointLimit(small, 1024); return err }, safeio.ErrTooLarge, small + ": 4.0 KiB is more than the 1 KiB limit for this kind of file (the most this run's walkers, steps and rungs can write; was --steps lowered?)"},
+		{"over the settings' limit", func() error { _, err := ReadCheckpointLimit(small, 1024); return err }, safeio.ErrTooLarge, small + ": 4.0 KiB is more than the 1 KiB limit for this kind of file (the most this run's walkers, parameters and rungs can write: is it another run's checkpoint?)"},
 		{"missing", func() error { _, err := ReadCheckpoint(filepath.Join(dir, "none")); return err }, os.ErrNotExist, filepath.Join(dir, "none") + ": no checkpoint to resume from (run without --resume first)"},
 	} {
 		var err error

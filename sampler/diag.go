@@ -8,6 +8,7 @@ import (
 	"math/bits"
 	"slices"
 
+	"tautline/internal/numeric"
 	"tautline/sampler/internal/acf"
 )
 
@@ -292,16 +293,6 @@ func median(v []float64) float64 {
 	return (s[n/2-1] + s[n/2]) / 2
 }
 
-// quantile returns the type-7 (linear interpolation) sample quantile.
-func quantile(sorted []float64, p float64) float64 {
-	h := p * float64(len(sorted)-1)
-	i := int(math.Floor(h))
-	if i >= len(sorted)-1 {
-		return sorted[len(sorted)-1]
-	}
-	return sorted[i] + (h-float64(i))*(sorted[i+1]-sorted[i])
-}
-
 // multiESS is the multi-chain effective sample size of Vehtari et al.
 // (2021), eq. 10-11, with Geyer's (1992) initial monotone sequence
 // truncation of the combined autocorrelation estimate.
@@ -467,7 +458,7 @@ func tailESS(c, s []float64, n, m int) float64 {
 	ind := make([]float64, len(c))
 	out := math.Inf(1)
 	for _, p := range []float64{0.05, 0.95} {
-		q := quantile(s, p)
+		q := numeric.Quantile(s, p)
 		for i, v := range c {
 			ind[i] = 0
 			if v <= q {

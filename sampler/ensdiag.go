@@ -4,6 +4,7 @@ import (
 	"math"
 	"slices"
 
+	"tautline/internal/numeric"
 	"tautline/sampler/internal/acf"
 )
 
@@ -111,7 +112,7 @@ func ensembleVehtari(r *ranker, x []float64, steps, walkers int, ess bool) (rh, 
 	ind := f // the folded draws are no longer needed
 	tail = math.Inf(1)
 	for _, p := range []float64{0.05, 0.95} {
-		q := quantile(sorted, p)
+		q := numeric.Quantile(sorted, p)
 		for i, v := range xs {
 			ind[i] = 0
 			if v <= q {

@@ -36,13 +36,14 @@ func (f Footprint) History() float64 {
 	return float64(f.Steps) * float64(f.Walkers) * float64(f.Dim+f.Rungs) * 8
 }
 
-// Checkpoint bounds the length of MarshalBinary's output after Steps
-// steps: the history, every rung's positions and four per-walker arrays,
-// the random streams, and 4 kB for the header, ladder counters and
-// lengths (plus 8 bytes per rung for the ladder and swap counters).
+// Checkpoint bounds the length of MarshalBinary's output: every rung's
+// positions and four per-walker arrays, the random streams, and 4 kB for
+// the header, ladder counters and lengths (plus 8 bytes per rung for the
+// ladder and swap counters). The history is not in it (it is read back
+// from the chain on resume), so the bound does not grow with Steps.
 func (f Footprint) Checkpoint() float64 {
 	perRung := float64(f.Walkers)*(float64(f.Dim+4)*8+pcgEncoded) + 6*8 + 4*8
-	return f.History() + float64(f.Rungs)*perRung + 4096
+	return float64(f.Rungs)*perRung + 4096
 }
 
 // Peak is the largest memory a run holds: the state and three copies of

@@ -207,7 +207,7 @@ func TestConvert(t *testing.T) {
 }
 
 // TestSpectrumSMBHB checks `spectrum` against the closed form of the power
-// law (PHYSICS.md section 4): at f = f_yr, h_c = A, and log10 rho follows
+// law (docs/physics.md section 4): at f = f_yr, h_c = A, and log10 rho follows
 // from S = h_c^2/(12 pi^2 f^3), rho^2 = S/T (section 5), computed here by hand.
 func TestSpectrumSMBHB(t *testing.T) {
 	fyr := 1 / gw.JulianYear
@@ -312,7 +312,7 @@ func TestCompareRefusesOtherComparison(t *testing.T) {
 }
 
 // TestFitTurnover: --turnover fit samples the bend frequency and shape of
-// the SMBHB spectrum (PHYSICS.md section 4) next to log10_A and gamma.
+// the SMBHB spectrum (docs/physics.md section 4) next to log10_A and gamma.
 func TestFitTurnover(t *testing.T) {
 	dir := t.TempDir()
 	code, out, errs := runCLI(t, "fit", "--turnover", "fit", "--steps", "200", "--walkers", "16", "--out", dir, "--log-level", "warn")

@@ -9,6 +9,7 @@ import (
 	"strconv"
 	"strings"
 
+	"tautline/internal/numeric"
 	"tautline/likelihood"
 )
 
@@ -344,15 +345,13 @@ func list(b []int) string {
 	return strings.Join(out, ",")
 }
 
-func normQuantile(p float64) float64 { return -math.Sqrt2 * math.Erfcinv(2*p) }
-
 // splitQ is the quantile of a split normal with mode 0, total width
 // s1+s2 = 1 and left share r = s1/(s1+s2), at probability p.
 func splitQ(p, r float64) float64 {
 	if p < r {
-		return r * normQuantile(p/(2*r))
+		return r * numeric.NormQuantile(p/(2*r))
 	}
-	return (1 - r) * normQuantile(1-(1-p)/(2*(1-r)))
+	return (1 - r) * numeric.NormQuantile(1-(1-p)/(2*(1-r)))
 }
 
 // splitNormal returns the split normal whose median and pl, pu quantiles
