@@ -30,7 +30,7 @@ import (
 )
 
 // DefaultH0 is the Hubble constant, in km/s/Mpc, used when Options.H0 is
-// zero (Planck 2018 value, as in docs/physics.md section 2).
+// zero (Aghanim et al. 2020 value, as in docs/physics.md section 2).
 const DefaultH0 = 67.4
 
 // Gamma0 is the spectral index of GW-driven circular binaries, 13/3.

@@ -36,9 +36,9 @@ type BOSSettings struct {
 }
 
 // DefaultBOSSettings returns cusps, Gamma = 50, kappa = 1, 1e5 modes and
-// the Planck 2018 background with Standard Model degrees of freedom.
+// the fiducial background (Aghanim et al. 2020) with Standard Model degrees of freedom.
 func DefaultBOSSettings() BOSSettings {
-	return BOSSettings{Q: QCusps, Gamma: 50, Kappa: 1, Modes: 100000, Cosmology: cosmology.Planck18()}
+	return BOSSettings{Q: QCusps, Gamma: 50, Kappa: 1, Modes: 100000, Cosmology: cosmology.Fiducial()}
 }
 
 // Validate reports the first invalid field.

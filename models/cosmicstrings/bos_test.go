@@ -32,7 +32,7 @@ func bosPlateau(gamma, omegaR, gmu float64) float64 {
 // exist) with bosPlateau, corrected for the N = 1e5 mode truncation as in
 // TestPlateau.
 func TestBOSPlateau(t *testing.T) {
-	r := planckRadiation(t)
+	r := fiducialRadiation(t)
 	for _, modes := range []int{0, 100000} {
 		s := DefaultBOSSettings()
 		s.Modes = modes
@@ -122,9 +122,9 @@ func bosOmegaKGonum(bg *cosmology.Background, s BOSSettings, k int, f, gmu float
 }
 
 // TestBOSAgainstGonum compares the adaptive path's harmonics (through the
-// mode identity) with gonum quad.Fixed on the Planck 2018 background.
+// mode identity) with gonum quad.Fixed on the fiducial background (Aghanim et al. 2020).
 func TestBOSAgainstGonum(t *testing.T) {
-	bg, err := cosmology.New(cosmology.Planck18())
+	bg, err := cosmology.New(cosmology.Fiducial())
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -24,7 +24,7 @@ var plateauPairs = []struct{ gmu, eps float64 }{
 // constant degrees of freedom against docs/physics.md section 3's closed form
 // (128 pi/9) F C_r Omega_r (Gmu/eps) ((1+eps)^(3/2) - 1).
 func TestPlateau(t *testing.T) {
-	r := planckRadiation(t)
+	r := fiducialRadiation(t)
 	for _, modes := range []int{0, 100000} {
 		s := DefaultSettings()
 		s.CEff = CEffStep // Teq is infinite here: C_eff = 5.4 throughout
@@ -141,7 +141,7 @@ func omegaKGonum(bg *cosmology.Background, s Settings, c func(lnti float64) floa
 // gonum quad.Fixed at increasing n, checking both the adaptive quadrature and
 // the mode identity Omega^(k)(f) = (Gamma_k/Gamma_1) Omega^(1)(f/k).
 func TestOmega1AgainstGonum(t *testing.T) {
-	bg, err := cosmology.New(cosmology.Planck18())
+	bg, err := cosmology.New(cosmology.Fiducial())
 	if err != nil {
 		t.Fatal(err)
 	}

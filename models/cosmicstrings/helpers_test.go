@@ -20,9 +20,9 @@ func (r radiationOnly) LnTimeRange() (float64, float64) {
 func (r radiationOnly) H0SI() float64 { return r.h0 }
 func (r radiationOnly) Teq() float64  { return math.Inf(1) }
 
-func planckRadiation(t testing.TB) radiationOnly {
+func fiducialRadiation(t testing.TB) radiationOnly {
 	t.Helper()
-	bg, err := cosmology.New(cosmology.Planck18())
+	bg, err := cosmology.New(cosmology.Fiducial())
 	if err != nil {
 		t.Fatal(err)
 	}

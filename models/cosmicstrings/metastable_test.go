@@ -14,7 +14,7 @@ import (
 // never switches there, t_eq being infinite).
 func radiationMetastable(t testing.TB, modes int) (*MetastableDirect, radiationOnly) {
 	t.Helper()
-	r := planckRadiation(t)
+	r := fiducialRadiation(t)
 	s := DefaultMetastableSettings()
 	s.CEff = CEffStep
 	s.Modes = modes
@@ -200,7 +200,7 @@ func metaOmegaKGonum(bg *cosmology.Background, n *network, s MetastableSettings,
 // Gauss-Kronrod path through the mode identity
 // Omega^(k)(f) = k^-q Omega^(1)(f/k).
 func TestMetastableAgainstGonum(t *testing.T) {
-	bg, err := cosmology.New(cosmology.Planck18())
+	bg, err := cosmology.New(cosmology.Fiducial())
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -129,7 +129,7 @@ func TestMetastableTableAgainstDirect(t *testing.T) {
 // cutoff 2 a(t_s)/(alpha t_s) is above the band's 1e-5 Hz, so the model
 // returns -Inf there without the table.
 func TestMetastableTableBelowYLo(t *testing.T) {
-	bg, err := cosmology.New(cosmology.Planck18())
+	bg, err := cosmology.New(cosmology.Fiducial())
 	if err != nil {
 		t.Fatal(err)
 	}

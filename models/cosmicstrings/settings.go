@@ -60,12 +60,12 @@ type Settings struct {
 }
 
 // DefaultSettings returns cusps (q = 4/3), Gamma = 50, F = 0.1, kappa = 1,
-// VOS loop production, 1e5 modes and the Planck 2018 background with
+// VOS loop production, 1e5 modes and the fiducial background (Aghanim et al. 2020) with
 // Standard Model degrees of freedom.
 func DefaultSettings() Settings {
 	return Settings{
 		Q: QCusps, Gamma: 50, F: 0.1, Kappa: 1, CEff: CEffVOS, Modes: 100000,
-		Cosmology: cosmology.Planck18(),
+		Cosmology: cosmology.Fiducial(),
 	}
 }
 

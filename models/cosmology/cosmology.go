@@ -67,10 +67,10 @@ type Params struct {
 	DOF string
 }
 
-// Planck18 returns the default parameters: H0 = 67.4 km/s/Mpc,
+// Fiducial returns the default parameters: H0 = 67.4 km/s/Mpc,
 // Omega_m = 0.315, T_CMB = 2.7255 K, N_eff = 3.046, standard-model
-// degrees of freedom (Planck 2018 results VI, from memory).
-func Planck18() Params {
+// degrees of freedom (Aghanim et al. 2020, A&A 641, A6, from memory).
+func Fiducial() Params {
 	return Params{H0: 67.4, OmegaM: 0.315, TCMB: 2.7255, Neff: 3.046, DOF: DOFStandardModel}
 }
 

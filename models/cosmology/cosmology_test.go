@@ -5,9 +5,9 @@ import (
 	"testing"
 )
 
-func planck(t testing.TB, dof string) *Background {
+func fiducial(t testing.TB, dof string) *Background {
 	t.Helper()
-	p := Planck18()
+	p := Fiducial()
 	p.DOF = dof
 	b, err := New(p)
 	if err != nil {
@@ -16,10 +16,10 @@ func planck(t testing.TB, dof string) *Background {
 	return b
 }
 
-// TestAgeAndEquality compares with Planck 2018 results VI (docs/physics.md
+// TestAgeAndEquality compares with Aghanim et al. 2020, A&A 641, A6 (docs/physics.md
 // section 2): t0 = 13.787 +- 0.020 Gyr, z_eq = 3387 +- 21.
 func TestAgeAndEquality(t *testing.T) {
-	b := planck(t, DOFStandardModel)
+	b := fiducial(t, DOFStandardModel)
 	tests := []struct {
 		name      string
 		got, want float64
@@ -54,7 +54,7 @@ func TestAgeAndEquality(t *testing.T) {
 // with constant degrees of freedom, at redshifts where Lambda contributes
 // less than 1e-5 of H^2.
 func TestTimeClosedForm(t *testing.T) {
-	b := planck(t, DOFConstant)
+	b := fiducial(t, DOFConstant)
 	om, or := b.Params().OmegaM, b.OmegaR()
 	for _, z := range []float64{100, 1000, 3000, 1e4, 1e6, 1e9} {
 		a := 1 / (1 + z)
@@ -82,7 +82,7 @@ func TestTimeClosedForm(t *testing.T) {
 // TestPowerLaws checks a propto t^(1/2) deep in radiation domination and
 // t^(2/3) in matter domination, from finite differences of LnA.
 func TestPowerLaws(t *testing.T) {
-	b := planck(t, DOFConstant)
+	b := fiducial(t, DOFConstant)
 	slope := func(z float64) float64 {
 		lt := math.Log(b.Time(z))
 		return (b.LnA(lt+1e-3) - b.LnA(lt-1e-3)) / 2e-3
@@ -112,7 +112,7 @@ func TestPowerLaws(t *testing.T) {
 // TestGStarLimits checks the Standard Model limits of docs/physics.md section 2
 // (standard textbook values, e.g. Kolb & Turner 1990, ch. 3).
 func TestGStarLimits(t *testing.T) {
-	b := planck(t, DOFStandardModel)
+	b := fiducial(t, DOFStandardModel)
 	tests := []struct {
 		name string
 		got  float64
@@ -145,7 +145,7 @@ func TestGStarLimits(t *testing.T) {
 	// covers the Lagrange interpolation of the tabulated g*s (exact on a
 	// constant) and float rounding.
 	for _, neff := range []float64{3, 3.046, 3.5, 2} {
-		p := Planck18()
+		p := Fiducial()
 		p.DOF = DOFStandardModel
 		p.Neff = neff
 		bn, err := New(p)
@@ -215,7 +215,7 @@ func TestBadParams(t *testing.T) {
 		func(p *Params) { p.Neff = math.NaN() },
 		func(p *Params) { p.DOF = "bogus" },
 	} {
-		p := Planck18()
+		p := Fiducial()
 		mod(&p)
 		if _, err := New(p); err == nil {
 			t.Errorf("New(%+v) succeeded, want error", p)
@@ -242,14 +242,14 @@ func TestThermoTable(t *testing.T) {
 
 func BenchmarkNew(b *testing.B) {
 	for b.Loop() {
-		if _, err := New(Planck18()); err != nil {
+		if _, err := New(Fiducial()); err != nil {
 			b.Fatal(err)
 		}
 	}
 }
 
 func BenchmarkLnAHT(b *testing.B) {
-	bg := planck(b, DOFStandardModel)
+	bg := fiducial(b, DOFStandardModel)
 	var s float64
 	for i := 0; b.Loop(); i++ {
 		la, ht := bg.LnAHT(float64(i%40) + 0.37)
