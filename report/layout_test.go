@@ -323,6 +323,7 @@ func TestTextHandler(t *testing.T) {
 		{`$f_\mathrm{bend}$ [Hz]`, "fbend [Hz]", func(r []glyphRun) bool { return r[1].s == "bend" && !r[1].italic && r[1].dy < 0 }},
 		{`$\Omega_{\rm GW}$`, "ΩGW", func(r []glyphRun) bool { return !r[0].italic && r[1].s == "GW" }},
 		{`$-3\times 10^{-9}$`, "−3×10−9", func(r []glyphRun) bool { return r[len(r)-1].dy > 0 && r[len(r)-1].s == "−9" }},
+		{`$\sqrt{\kappa}$`, "√κ", func(r []glyphRun) bool { return len(r) == 2 && !r[0].italic && r[1].italic && r[1].dx > r[0].dx }},
 		{`plain_text $`, "plain_text ", nil},
 		{`$\frac{1}{2$ \unknown {`, "frac12 \\unknown {", nil},
 		{`$^^__{{}}\$`, "", nil}, // every $ delimits math, escaped or not

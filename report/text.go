@@ -17,7 +17,7 @@ import (
 // smaller size on a shifted baseline; Greek letters and common symbols by
 // name; Latin letters and lower-case Greek in italics as TeX sets them,
 // digits, upper-case Greek and operator names (\log, \ln, \exp) upright;
-// \mathrm, \rm and \text upright; \, \; \: as spaces; "-" as a true minus.
+// \mathrm, \rm and \text upright; \sqrt{x} as a radical sign before x; \, \; \: as spaces; "-" as a true minus.
 // Unknown macros are written as their name. Text outside dollar signs is
 // drawn as it is. It never fails, whatever the input.
 //
@@ -255,6 +255,18 @@ func (l *texLayout) math(s string, scale float64, dy vg.Length, upright bool) {
 				}
 				continue
 			case name == "left" || name == "right":
+				continue
+			case name == "sqrt":
+				// \sqrt{x}: a radical sign before its argument (no vinculum).
+				for i < len(s) && s[i] == ' ' {
+					i++
+				}
+				l.emit("√", false, scale, dy)
+				if i < len(s) && s[i] == '{' {
+					arg, n := scriptArg(s[i:])
+					l.math(arg, scale, dy, upright)
+					i += n
+				}
 				continue
 			}
 			sym, ok := texSymbols[name]
