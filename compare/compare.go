@@ -77,7 +77,7 @@ type Problem struct {
 	// Reference is the model the Bayes factors are computed against.
 	Reference string
 	// ID identifies the whole comparison (data, every setting that changes
-	// the result, the seed) but not the task split or the output folder:
+	// the result, the seed) but not the --tasks split or the output folder:
 	// parts merge only with parts of the same ID.
 	ID string
 }

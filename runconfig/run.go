@@ -65,7 +65,7 @@ func (c Config) CheckCompare(models []string, list, reference string, s compare.
 // ComparisonID hashes everything that decides a comparison's result: the
 // data (dataSHA), the configuration c, the models (as listed by the
 // --models option), the reference and the ladder, error-target and
-// prior-mass settings of s, but not the task split, the workers or where
+// prior-mass settings of s, but not the --tasks split, the workers or where
 // the output goes. The text hashed is fixed, so that parts written by
 // earlier versions keep their identity.
 func (c Config) ComparisonID(list, reference string, s compare.Settings, dataSHA string) string {

@@ -11,7 +11,7 @@ import (
 
 // TestComparisonIDText checks that ComparisonID hashes the text earlier
 // versions hashed: the configuration, then the compare options printed
-// with %+v from a struct of these field names and order, with the task
+// with %+v from a struct of these field names and order, with the --tasks
 // split and the command line cleared. Parts written before must keep
 // their identity, so this text may not change.
 func TestComparisonIDText(t *testing.T) {
