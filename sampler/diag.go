@@ -211,8 +211,7 @@ func rhat(c []float64, n, m int) float64 {
 	if n < 2 || m < 2 {
 		return math.NaN()
 	}
-	var W, mm, mv float64
-	means := make([]float64, m)
+	means, ss := make([]float64, m), make([]float64, m)
 	for j := range m {
 		ch := c[j*n : (j+1)*n]
 		mu := 0.0
@@ -224,9 +223,22 @@ func rhat(c []float64, n, m int) float64 {
 		for _, v := range ch {
 			s2 += (v - mu) * (v - mu)
 		}
-		W += s2 / float64(n-1)
-		means[j] = mu
-		mm += mu
+		means[j], ss[j] = mu, s2
+	}
+	return rhatMoments(means, ss, n)
+}
+
+// rhatMoments is the potential scale reduction factor of m chains of n
+// draws each (Gelman & Rubin 1992; Vehtari et al. 2021, eq. 3-4) from each
+// chain's mean and sum of squared deviations about it: W the mean
+// within-chain variance, B the between-chain variance times n, and
+// R-hat = sqrt(((n-1)/n W + B/n) / W); +Inf when only B is positive.
+func rhatMoments(means, ss []float64, n int) float64 {
+	m := len(means)
+	var W, mm, mv float64
+	for j := range m {
+		W += ss[j] / float64(n-1)
+		mm += means[j]
 	}
 	W /= float64(m)
 	mm /= float64(m)

@@ -153,24 +153,7 @@ func walkerHalvesRhat(z []float64, steps, walkers int) float64 {
 			ss[h+w] += d * d
 		}
 	}
-	var W, mm, mv float64
-	for j := range m {
-		W += ss[j] / float64(n-1)
-		mm += sum[j]
-	}
-	W /= float64(m)
-	mm /= float64(m)
-	for _, mu := range sum {
-		mv += (mu - mm) * (mu - mm)
-	}
-	B := float64(n) * mv / float64(m-1)
-	if !(W > 0) {
-		if B > 0 {
-			return math.Inf(1)
-		}
-		return math.NaN()
-	}
-	return math.Sqrt((float64(n-1)/float64(n)*W + B/float64(n)) / W)
+	return rhatMoments(sum, ss, n)
 }
 
 // ensembleTau is the integrated autocorrelation time, Sokal's window c =
