@@ -462,6 +462,22 @@ type exactTarget struct {
 
 func (t exactTarget) LogLike(x []float64) float64 { return t.e.LogLikeExact(x) }
 
+// ExactLikeMaker is an ExactLiker that also hands out evaluators of
+// LogLikeExact with scratch of their own, one per sampler worker (see
+// sampler.LogLikeMaker).
+type ExactLikeMaker interface {
+	NewLogLikeExact() (func(x []float64) float64, error)
+}
+
+// NewLogLike implements sampler.LogLikeMaker: per-worker evaluators of the
+// exact likelihood where the target has them, else LogLike itself.
+func (t exactTarget) NewLogLike() (func(x []float64) float64, error) {
+	if m, ok := t.e.(ExactLikeMaker); ok {
+		return m.NewLogLikeExact()
+	}
+	return t.LogLike, nil
+}
+
 // exact returns t with its exact likelihood when it has one.
 func exact(t sampler.Target) sampler.Target {
 	if e, ok := t.(ExactLiker); ok {

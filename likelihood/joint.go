@@ -93,6 +93,35 @@ func (j *Joint) LogLikeExact(x []float64) float64 {
 	return s
 }
 
+// NewLogLike returns an evaluator of LogLike with scratch of its own for
+// every data set, for one goroutine at a time (sampler.LogLikeMaker).
+func (j *Joint) NewLogLike() (func(x []float64) float64, error) {
+	return j.newEval((*Posterior).NewLogLike)
+}
+
+// NewLogLikeExact is NewLogLike for LogLikeExact.
+func (j *Joint) NewLogLikeExact() (func(x []float64) float64, error) {
+	return j.newEval((*Posterior).NewLogLikeExact)
+}
+
+func (j *Joint) newEval(mk func(*Posterior) (func([]float64) float64, error)) (func(x []float64) float64, error) {
+	fs := make([]func([]float64) float64, len(j.parts))
+	for k, p := range j.parts {
+		f, err := mk(p)
+		if err != nil {
+			return nil, err
+		}
+		fs[k] = f
+	}
+	return func(x []float64) float64 {
+		s := 0.0
+		for _, f := range fs {
+			s += f(x)
+		}
+		return s
+	}, nil
+}
+
 // Parts returns the per-data-set posteriors, in the order given, for
 // per-data-set products (posterior-predictive spectra, say).
 func (j *Joint) Parts() []*Posterior { return append([]*Posterior(nil), j.parts...) }

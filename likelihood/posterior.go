@@ -38,7 +38,10 @@ type Posterior struct {
 	freqs  []float64
 	c      []float64 // per-bin log10 rho offset: 0.5 log10(H0^2/(8 pi^4 f^5 T))
 	fs     *FreeSpectrum
-	pool   sync.Pool
+	// mu guards shared, the scratch of direct LogLike calls; samplers take
+	// evaluators of their own (NewLogLike) and never wait on it.
+	mu     sync.Mutex
+	shared *scratch
 }
 
 type scratch struct {
@@ -114,18 +117,10 @@ func NewPosterior(m models.Model, pri []priors.Prior, ds *Dataset, fs *FreeSpect
 	for i, f := range ds.Freqs {
 		p.c[i] = gw.Log10RhoOffset(f, h0, ds.Span)
 	}
-	first, err := p.newScratch()
-	if err != nil {
+	var err error
+	if p.shared, err = p.newScratch(); err != nil {
 		return nil, fmt.Errorf("likelihood: model %s: %w", m.Name(), err)
 	}
-	p.pool.New = func() any {
-		s, err := p.newScratch()
-		if err != nil {
-			return (*scratch)(nil)
-		}
-		return s
-	}
-	p.pool.Put(first)
 	return p, nil
 }
 
@@ -165,23 +160,44 @@ func (p *Posterior) LogPrior(x []float64) float64 {
 // LogLike returns the free-spectrum log likelihood of the free parameters
 // x: -Inf outside the model's domain and where the model lies above the
 // data's prior range in some bin (unless the free spectrum was built with
-// a penalty, see Options.Penalty). It does not allocate in steady state.
-func (p *Posterior) LogLike(x []float64) float64 { return p.logLike(x, false) }
+// a penalty, see Options.Penalty). It is safe for concurrent use but
+// serialises callers on one scratch; a sampler takes one evaluator per
+// goroutine instead (NewLogLike). It does not allocate.
+func (p *Posterior) LogLike(x []float64) float64 {
+	p.mu.Lock()
+	defer p.mu.Unlock()
+	return p.logLike(p.shared, x, false)
+}
 
 // LogLikeExact is LogLike with the exact rule above the prior range (-Inf)
 // whatever penalty the free spectrum carries: evidence calculations use it
 // (docs/physics.md section 7), so that ln Z depends on no tuning constant.
-func (p *Posterior) LogLikeExact(x []float64) float64 { return p.logLike(x, true) }
+func (p *Posterior) LogLikeExact(x []float64) float64 {
+	p.mu.Lock()
+	defer p.mu.Unlock()
+	return p.logLike(p.shared, x, true)
+}
 
-func (p *Posterior) logLike(x []float64, exact bool) float64 {
+// NewLogLike returns an evaluator of LogLike with scratch of its own, for
+// one goroutine at a time (sampler.LogLikeMaker); the model's At is called
+// here, once, and its error returned.
+func (p *Posterior) NewLogLike() (func(x []float64) float64, error) { return p.newEval(false) }
+
+// NewLogLikeExact is NewLogLike for LogLikeExact.
+func (p *Posterior) NewLogLikeExact() (func(x []float64) float64, error) { return p.newEval(true) }
+
+func (p *Posterior) newEval(exact bool) (func(x []float64) float64, error) {
+	s, err := p.newScratch()
+	if err != nil {
+		return nil, fmt.Errorf("likelihood: model %s: %w", p.model.Name(), err)
+	}
+	return func(x []float64) float64 { return p.logLike(s, x, exact) }, nil
+}
+
+func (p *Posterior) logLike(s *scratch, x []float64, exact bool) float64 {
 	if len(x) != len(p.free) {
 		return math.Inf(-1)
 	}
-	s, _ := p.pool.Get().(*scratch)
-	if s == nil {
-		return math.Inf(-1)
-	}
-	defer p.pool.Put(s)
 	for k, j := range p.free {
 		s.theta[j] = x[k]
 	}

@@ -111,9 +111,13 @@ type Ensemble struct {
 	workers  int
 	minBatch int
 	hist     *History
-	pool     *pool
-	wg       sync.WaitGroup
-	half     int // the half being updated, read by workers
+	// evals holds one log-likelihood evaluator per batch of an update
+	// (see LogLikeMaker): batch b, whichever goroutine runs it, uses
+	// evals[b].
+	evals []func(x []float64) float64
+	pool  *pool
+	wg    sync.WaitGroup
+	half  int // the half being updated, read by workers
 }
 
 // splitmix64 is the SplitMix64 output function (Steele, Lea & Flood 2014),
@@ -249,6 +253,18 @@ func build(t Target, cfg Config) (*Ensemble, error) {
 		workers:  workers,
 		minBatch: minBatch,
 	}
+	e.evals = make([]func([]float64) float64, max(workers, 1))
+	for b := range e.evals {
+		if mk, ok := t.(LogLikeMaker); ok {
+			f, err := mk.NewLogLike()
+			if err != nil {
+				return nil, fmt.Errorf("sampler: log-likelihood evaluator %d: %w", b, err)
+			}
+			e.evals[b] = f
+		} else {
+			e.evals[b] = t.LogLike
+		}
+	}
 	nw := cfg.Walkers
 	for r := range e.rungs {
 		g := &e.rungs[r]
@@ -270,14 +286,15 @@ func build(t Target, cfg Config) (*Ensemble, error) {
 	return e, nil
 }
 
-// density evaluates ln prior and ln likelihood at x. ok is false when either
-// is not finite (LogLike is not called when the prior is not).
-func (e *Ensemble) density(x []float64) (lp, ll float64, ok bool) {
+// density evaluates ln prior and ln likelihood at x with batch b's
+// evaluator. ok is false when either is not finite (the likelihood is not
+// evaluated when the prior is not).
+func (e *Ensemble) density(b int, x []float64) (lp, ll float64, ok bool) {
 	lp = e.t.LogPrior(x)
 	if math.IsNaN(lp) || math.IsInf(lp, 0) {
 		return lp, math.Inf(-1), false
 	}
-	ll = e.t.LogLike(x)
+	ll = e.evals[b](x)
 	if math.IsNaN(ll) || math.IsInf(ll, 0) {
 		return lp, ll, false
 	}
@@ -303,7 +320,7 @@ func (e *Ensemble) initialise() error {
 			ok := false
 			for range maxInitTries {
 				e.t.Draw(rng, x)
-				lp, ll, fine := e.density(x)
+				lp, ll, fine := e.density(0, x)
 				if fine {
 					g.lp[w], g.ll[w] = lp, ll
 					g.lpost[w] = lnPost(e.betas[r], lp, ll)
@@ -335,7 +352,7 @@ func (e *Ensemble) calibrate() {
 	g := &e.rungs[0]
 	t0 := time.Now()
 	for w := range e.nw {
-		e.density(g.pos[w*d : w*d+d])
+		e.density(0, g.pos[w*d:w*d+d])
 	}
 	per := time.Since(t0) / time.Duration(e.nw)
 	e.minBatch = max(1, int(BatchWork/max(per, time.Nanosecond)))
@@ -375,7 +392,7 @@ func (e *Ensemble) updateHalf(h int) {
 	nb := min(e.workers, (total+e.minBatch-1)/e.minBatch)
 	e.half = h
 	if nb <= 1 || e.pool == nil {
-		e.updateRange(0, total)
+		e.updateRange(0, 0, total)
 		return
 	}
 	size := (total + nb - 1) / nb
@@ -383,14 +400,15 @@ func (e *Ensemble) updateHalf(h int) {
 	for b := 1; b < nb; b++ {
 		lo := b * size
 		hi := min(lo+size, total)
-		e.pool.jobs <- job{e: e, lo: lo, hi: hi}
+		e.pool.jobs <- job{e: e, b: b, lo: lo, hi: hi}
 	}
-	e.updateRange(0, min(size, total))
+	e.updateRange(0, 0, min(size, total))
 	e.wg.Wait()
 }
 
-// updateRange updates flattened (rung, walker-of-half) indices [lo, hi).
-func (e *Ensemble) updateRange(lo, hi int) {
+// updateRange updates flattened (rung, walker-of-half) indices [lo, hi) as
+// batch b.
+func (e *Ensemble) updateRange(b, lo, hi int) {
 	hw := e.nw / 2
 	d := e.dim
 	h := e.half
@@ -414,7 +432,7 @@ func (e *Ensemble) updateRange(lo, hi int) {
 		x := g.pos[w*d : w*d+d]
 		y := g.prop[w*d : w*d+d]
 		lnf := m.Propose(rng, x, others, hw, y)
-		lp, ll, ok := e.density(y)
+		lp, ll, ok := e.density(b, y)
 		if !ok {
 			continue
 		}
@@ -537,8 +555,8 @@ func (e *Ensemble) Close() {
 
 // A job is a contiguous batch of walker updates.
 type job struct {
-	e      *Ensemble
-	lo, hi int
+	e         *Ensemble
+	b, lo, hi int
 }
 
 // pool is a set of long-lived goroutines so that Step does not allocate.
@@ -559,7 +577,7 @@ func (e *Ensemble) startPool() {
 	for range e.workers - 1 {
 		go func(jobs <-chan job) {
 			for j := range jobs {
-				j.e.updateRange(j.lo, j.hi)
+				j.e.updateRange(j.b, j.lo, j.hi)
 				j.e.wg.Done()
 			}
 		}(p.jobs)

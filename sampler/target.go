@@ -20,3 +20,15 @@ type Target interface {
 	// but should be finite inside the prior support.
 	LogLike(x []float64) float64
 }
+
+// A LogLikeMaker is a Target whose LogLike needs scratch memory of its own
+// per goroutine (a model's spectrum buffers, say). The ensemble then asks
+// it once, when it is built, for one evaluator per worker and calls each
+// from one goroutine at a time, so the evaluators need no locks or pools
+// and allocate nothing; an error (for example a model that cannot be
+// evaluated at the data's frequencies) fails New or Restore instead of
+// turning into -Inf later. Each evaluator must return what LogLike
+// returns.
+type LogLikeMaker interface {
+	NewLogLike() (func(x []float64) float64, error)
+}
