@@ -274,11 +274,16 @@ func runUnits(ctx context.Context, p Problem, s Settings, units []rundir.Unit) e
 	errs := make([]error, len(units))
 	sem := make(chan struct{}, par)
 	var wg sync.WaitGroup
-	for i, u := range units {
+	cost := make([]float64, len(units))
+	if par > 1 && len(units) > par {
+		cost = unitCosts(p, units)
+	}
+	for _, i := range longestFirst(cost, par) {
+		u := units[i]
+		sem <- struct{}{}
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
-			sem <- struct{}{}
 			defer func() { <-sem }()
 			if ctx.Err() != nil {
 				return
@@ -301,6 +306,76 @@ func runUnits(ctx context.Context, p Problem, s Settings, units []rundir.Unit) e
 		}
 	}
 	return ctx.Err()
+}
+
+// unitCosts estimates each unit's cost for longestFirst: its rungs times
+// the measured time of one prior and likelihood evaluation of its model at
+// a few prior draws. Timing decides only when a unit runs, never its
+// result: every unit has its own seed and its own files.
+func unitCosts(p Problem, units []rundir.Unit) []float64 {
+	perEval := make(map[int]float64)
+	cost := make([]float64, len(units))
+	for i, u := range units {
+		c, ok := perEval[u.Index]
+		if !ok {
+			c = evalSeconds(p.Models[u.Index].Target)
+			perEval[u.Index] = c
+		}
+		cost[i] = c * float64(len(u.Betas))
+	}
+	return cost
+}
+
+// longestFirst returns the order in which to start units of the given
+// costs when par of them run side by side: the most expensive first, ties
+// in their given order (the longest-processing-time rule, Graham 1969),
+// so that the slowest model does not start last and then run alone on one
+// core while the others idle.
+func longestFirst(cost []float64, par int) []int {
+	order := make([]int, len(cost))
+	for i := range order {
+		order[i] = i
+	}
+	if par <= 1 || len(cost) <= par {
+		return order
+	}
+	slices.SortStableFunc(order, func(a, b int) int { return -cmpFloat(cost[a], cost[b]) })
+	return order
+}
+
+func cmpFloat(a, b float64) int {
+	switch {
+	case a < b:
+		return -1
+	case a > b:
+		return 1
+	}
+	return 0
+}
+
+// evalSeconds is the mean wall time of one LogPrior and LogLike call of t
+// over costDraws prior draws from a fixed seed (a likelihood that is zero
+// at a draw counts as what it cost).
+func evalSeconds(t sampler.Target) float64 {
+	const costDraws = 64
+	r := rand.New(rand.NewPCG(1, 2))
+	xs := make([][]float64, costDraws)
+	for i := range xs {
+		xs[i] = make([]float64, t.Dim())
+		t.Draw(r, xs[i])
+	}
+	for _, x := range xs[:1] { // warm-up: a lazily built table, caches
+		if !math.IsInf(t.LogPrior(x), -1) {
+			t.LogLike(x)
+		}
+	}
+	start := time.Now()
+	for _, x := range xs {
+		if !math.IsInf(t.LogPrior(x), -1) {
+			t.LogLike(x)
+		}
+	}
+	return time.Since(start).Seconds() / costDraws
 }
 
 // runUnit samples one unit, with more steps or rungs until the error

@@ -12,6 +12,7 @@ import (
 	"time"
 
 	"tautline/chains"
+	"tautline/rundir"
 )
 
 // gauss is a one-dimensional target: a uniform prior on [-a, a] and a
@@ -253,5 +254,55 @@ func TestMergeHugeBlockCount(t *testing.T) {
 		}
 	case <-time.After(5 * time.Second):
 		t.Fatal("Merge did not return within 5 s")
+	}
+}
+
+// TestLongestFirst checks the start order of units run side by side: the
+// longest-processing-time rule (Graham 1969) starts the costliest first,
+// keeps ties in their given order, and leaves the order alone when every
+// unit starts at once or units run one at a time.
+func TestLongestFirst(t *testing.T) {
+	for _, c := range []struct {
+		cost []float64
+		par  int
+		want []int
+	}{
+		{[]float64{1, 1, 2}, 2, []int{2, 0, 1}},
+		{[]float64{3, 1, 2, 5}, 2, []int{3, 0, 2, 1}},
+		{[]float64{1, 2, 2, 0.5}, 3, []int{1, 2, 0, 3}},
+		{[]float64{1, 1, 2}, 1, []int{0, 1, 2}},
+		{[]float64{1, 1, 2}, 3, []int{0, 1, 2}},
+		{nil, 2, []int{}},
+	} {
+		if got := longestFirst(c.cost, c.par); !slices.Equal(got, c.want) {
+			t.Errorf("longestFirst(%v, %d) = %v, want %v", c.cost, c.par, got, c.want)
+		}
+	}
+}
+
+// slowTarget is a one-dimensional uniform target whose LogLike sleeps.
+type slowTarget struct{ d time.Duration }
+
+func (slowTarget) Dim() int                       { return 1 }
+func (slowTarget) Draw(r *rand.Rand, x []float64) { x[0] = r.Float64() }
+func (slowTarget) LogPrior(x []float64) float64   { return 0 }
+func (s slowTarget) LogLike(x []float64) float64  { time.Sleep(s.d); return 0 }
+
+// TestUnitCostsRankSlowModelFirst: a model whose likelihood takes a
+// millisecond is ranked above a free one even with fewer rungs, so it
+// starts first.
+func TestUnitCostsRankSlowModelFirst(t *testing.T) {
+	p := Problem{Models: []Model{{Name: "fast", Target: slowTarget{}}, {Name: "slow", Target: slowTarget{time.Millisecond}}}}
+	units := []rundir.Unit{
+		{Model: "fast", Index: 0, Betas: []float64{1, 0.5, 0}},
+		{Model: "fast", Index: 0, Betas: []float64{1, 0.5, 0}},
+		{Model: "slow", Index: 1, Betas: []float64{1, 0}},
+	}
+	cost := unitCosts(p, units)
+	if !(cost[2] > cost[0]) || cost[0] != cost[1] {
+		t.Fatalf("costs %v: want the slow model's unit costliest and the fast model's two equal", cost)
+	}
+	if got := longestFirst(cost, 2); got[0] != 2 {
+		t.Errorf("start order %v: want the slow model's unit (2) first", got)
 	}
 }

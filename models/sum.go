@@ -5,6 +5,8 @@ import (
 	"fmt"
 	"math"
 	"strings"
+
+	"tautline/internal/numeric"
 )
 
 // Sum returns the model whose spectrum is the sum of the parts' spectra,
@@ -126,8 +128,8 @@ func (s *sumSpectrum) LnOmega(theta, out []float64) error {
 	// out holds part 0; fold in the others one frequency at a time:
 	// ln(sum_k e^{x_k}) = m + ln(sum_k e^{x_k - m}), m = max_k x_k.
 	if len(s.parts) == 2 {
-		// Two parts (the usual case): m + log1p(e^{-|a-b|}) needs one
-		// exponential and one logarithm per frequency.
+		// Two parts (the usual case): m + ln(1 + e^{-|a-b|}), the
+		// softplus by table (numeric.Softplus, a few ulp).
 		b := s.scratch[1]
 		for i, a := range out {
 			m, d := a, b[i]-a
@@ -138,7 +140,7 @@ func (s *sumSpectrum) LnOmega(theta, out []float64) error {
 				out[i] = math.Max(a, b[i]) // zero spectra, or an Inf/NaN part
 				continue
 			}
-			out[i] = m + math.Log1p(math.Exp(d))
+			out[i] = m + numeric.Softplus(d)
 		}
 		return nil
 	}

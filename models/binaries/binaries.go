@@ -196,9 +196,4 @@ func (s *spectrum) LnOmega(theta, out []float64) error {
 }
 
 // softplus returns ln(1 + e^x) without overflow.
-func softplus(x float64) float64 {
-	if x > 0 {
-		return x + math.Log1p(math.Exp(-x))
-	}
-	return math.Log1p(math.Exp(x))
-}
+func softplus(x float64) float64 { return numeric.Softplus(x) }
