@@ -30,8 +30,8 @@ var softplusTab = func() *[softplusNodes][2]float64 {
 // For x <= 0 it evaluates the degree-5 Taylor polynomial of the function
 // about the nearest node of a table with spacing h = 1/128: the
 // derivatives of softplus are polynomials in the sigmoid s = 1/(1 + e^-x)
-// (with t = s(1 - s): f' = s, f” = t, f”' = t(1 - 2s),
-// f”” = t(1 - 6t), f””' = t(1 - 2s)(1 - 12t)), and the remainder is
+// (with t = s(1 - s): f^(1) = s, f^(2) = t, f^(3) = t(1 - 2s),
+// f^(4) = t(1 - 6t), f^(5) = t(1 - 2s)(1 - 12t)), and the remainder is
 // below (h/2)^6/720 max|f^(6)| < 1e-17. Below x = -40 it returns e^x;
 // for x > 0 it uses ln(1 + e^x) = x + ln(1 + e^-x).
 func Softplus(x float64) float64 {
