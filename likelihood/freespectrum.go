@@ -4,8 +4,10 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"runtime"
 	"slices"
 	"sort"
+	"sync"
 
 	"gonum.org/v1/gonum/stat"
 )
@@ -140,7 +142,10 @@ func NewFreeSpectrum(ds *Dataset, opt Options) (*FreeSpectrum, error) {
 	for k := range x {
 		x[k] = f.node(k)
 	}
-	for i := range ds.Bins {
+	// Bins are independent: build their tables side by side, bin i by
+	// goroutine i mod P, each writing only its own row, bandwidth and
+	// method (the same bytes for any P).
+	build := func(i int) {
 		b := &ds.Bins[i]
 		row := f.table[i*m : (i+1)*m]
 		switch b.Kind {
@@ -157,6 +162,18 @@ func NewFreeSpectrum(ds *Dataset, opt Options) (*FreeSpectrum, error) {
 			f.method[i] = "gaussian"
 		}
 	}
+	par := max(1, min(runtime.GOMAXPROCS(0), n))
+	var wg sync.WaitGroup
+	for g := range par {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for i := g; i < n; i += par {
+				build(i)
+			}
+		}()
+	}
+	wg.Wait()
 	return f, nil
 }
 

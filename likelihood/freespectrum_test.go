@@ -3,6 +3,8 @@ package likelihood
 import (
 	"math"
 	"math/rand/v2"
+	"runtime"
+	"slices"
 	"testing"
 
 	"gonum.org/v1/gonum/integrate"
@@ -426,5 +428,30 @@ func BenchmarkKDETables(b *testing.B) {
 		if _, err := NewFreeSpectrum(ds, Options{}); err != nil {
 			b.Fatal(err)
 		}
+	}
+}
+
+// TestTablesIndependentOfProcs: the bins' tables are built side by side;
+// with one processor and with four they are the same bits.
+func TestTablesIndependentOfProcs(t *testing.T) {
+	const lo, hi = -10.0, -4.0
+	ds := &Dataset{Name: "p", Span: 5e8, PriorMin: lo, PriorMax: hi}
+	for i := range 7 {
+		ds.Freqs = append(ds.Freqs, float64(i+1)/ds.Span)
+		ds.Bins = append(ds.Bins, Bin{Kind: Samples, Samples: normalSamples(500, -6.5-0.2*float64(i), 0.05+0.1*float64(i), lo, hi, uint64(i))})
+	}
+	ds.Bins[3] = Bin{Kind: Gaussian, Mean: -7, SD: 0.3}
+	defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(0))
+	var tabs [2]*FreeSpectrum
+	for k, p := range []int{1, 4} {
+		runtime.GOMAXPROCS(p)
+		f, err := NewFreeSpectrum(ds, Options{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		tabs[k] = f
+	}
+	if !slices.Equal(tabs[0].table, tabs[1].table) || !slices.Equal(tabs[0].bw, tabs[1].bw) || !slices.Equal(tabs[0].method, tabs[1].method) {
+		t.Error("tables, bandwidths or methods differ between GOMAXPROCS 1 and 4")
 	}
 }
