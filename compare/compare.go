@@ -430,15 +430,18 @@ func runUnit(ctx context.Context, p Problem, s Settings, u rundir.Unit, workers 
 			rep.Warnf("model %s, rung block %d: burn-in of %d steps is under 5 autocorrelation times (tau %.0f); give more --steps", u.Model, u.Block, burn, t)
 		}
 		betas = res.Betas // the frozen ladder, when it adapted
-		ev, evErr := integrate(rungsOf(res, betas), pm)
-		if s.ErrorTarget > 0 && evErr == nil {
-			grown := false
-			betas, steps, grown, passes = advance(s, ev, pass, steps, betas, passes)
-			if rep.Pass != nil {
-				rep.Pass(u, passes[len(passes)-1])
-			}
-			if grown {
-				continue
+		// Without an error target the evidence is computed once, by Merge
+		// from the part written here.
+		if s.ErrorTarget > 0 {
+			if ev, err := integrate(rungsOf(res, betas), pm); err == nil {
+				var grown bool
+				betas, steps, grown, passes = advance(s, ev, pass, steps, betas, passes)
+				if rep.Pass != nil {
+					rep.Pass(u, passes[len(passes)-1])
+				}
+				if grown {
+					continue
+				}
 			}
 		}
 		return writePart(p, s, u, workers, betas, steps, res, passes, pm)
