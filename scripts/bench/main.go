@@ -318,7 +318,7 @@ func fitSharesOnce(p *likelihood.Posterior, steps int, write bool) (shares, erro
 
 // compareBeforeAfter builds the command at commit before in a temporary
 // git worktree and this tree's command, runs the default `compare` (three
-// models, 16 rungs x 32 walkers x 3000 steps) with each, twice in
+// models, each with its own default ladder) with each, twice in
 // alternation, and prints the faster wall time of each and the largest
 // total ln Z (TI) error of each.
 func compareBeforeAfter(before string) error {
