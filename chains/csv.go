@@ -41,7 +41,10 @@ type Writer struct {
 	done  chan struct{}    // closed when the goroutine has returned
 
 	bgErr atomic.Pointer[error] // the goroutine's first error
-	syncs atomic.Uint64         // flush requests handed over so far
+	syncs atomic.Uint64         // flush requests made so far
+	// pending is the number of a StartFlush request that waits in batch
+	// for the batch to be handed over, or 0.
+	pending uint64
 
 	err error // first error the caller saw; every later call returns it
 }
@@ -63,13 +66,19 @@ type flushResult struct {
 
 // batchFloats is the size of a batch in values (64 KiB): 1365 rows of the
 // smbhb model's 6 columns, about 43 steps of a 32-walker ensemble, formatted
-// into one write of about 115 KB. batchesInFlight batches circulate: one
-// being filled by Append, the others queued for or being written by the
-// goroutine, enough to absorb an fsync's delay (about a millisecond) at a
-// fast model's pace.
+// into one write of about 115 KB. batchesInFlight batches circulate (512
+// KiB, made once per Writer): one being filled by Append, the others queued
+// for or being written by the goroutine, enough for the caller to go on
+// through the goroutine's fsyncs (a few milliseconds for a few MB) at a fast
+// model's pace.
+//
+// writebackBytes is how much the goroutine writes before it fsyncs on its
+// own when it has nothing else to do, so that the data reach the disk while
+// the caller works and the fsync of the next Flush or of Close is short.
 const (
 	batchFloats     = 1 << 13
-	batchesInFlight = 4
+	batchesInFlight = 8
+	writebackBytes  = 2 << 20
 )
 
 // maxValueText is the longest text appendFloat writes for one value, that
@@ -80,13 +89,14 @@ const maxValueText = 24
 
 // formatter is the state of a Writer's goroutine.
 type formatter struct {
-	path string
-	f    *os.File
-	ncol int
-	off  int64  // bytes of the file written so far
-	out  []byte // a batch's text; its capacity fits the longest batch
-	err  error  // first write or fsync error; later batches are dropped
-	memo floatMemo
+	path  string
+	f     *os.File
+	ncol  int
+	off   int64  // bytes of the file written so far
+	dirty int64  // bytes written since the last fsync
+	out   []byte // a batch's text; its capacity fits the longest batch
+	err   error  // first write or fsync error; later batches are dropped
+	memo  floatMemo
 }
 
 // run serves the Writer's messages until work is closed. An error is
@@ -101,8 +111,12 @@ func (fm *formatter) run(w *Writer) {
 		switch {
 		case m.wait:
 			fm.sync()
-		case m.sync && w.syncs.Load() == m.seq:
-			fm.sync() // no later request queued, which would fsync for both
+		case m.sync && (w.syncs.Load() == m.seq || fm.dirty >= writebackBytes):
+			// A later request, made already, would fsync for both; but
+			// not if its turn could be put off again and again.
+			fm.sync()
+		case fm.dirty >= writebackBytes && len(w.work) == 0:
+			fm.sync() // on its own, while idle
 		}
 		if fm.err != nil && w.bgErr.Load() == nil {
 			err := fm.err
@@ -134,6 +148,7 @@ func (fm *formatter) write(rows []float64) {
 	}
 	n, err := fm.f.Write(b)
 	fm.off += int64(n)
+	fm.dirty += int64(n)
 	if err != nil {
 		fm.err = fmt.Errorf("chains: %s: %w", fm.path, err)
 	}
@@ -145,7 +160,9 @@ func (fm *formatter) sync() {
 	}
 	if err := fm.f.Sync(); err != nil {
 		fm.err = fmt.Errorf("chains: %s: %w", fm.path, err)
+		return
 	}
+	fm.dirty = 0
 }
 
 var errClosed = errors.New("chains: writer is closed")
@@ -199,7 +216,7 @@ func newWriter(path string, f *os.File, ncol int, off int64, rows int) *Writer {
 		f:     f,
 		ncol:  ncol,
 		batch: make([]float64, 0, rows*ncol),
-		work:  make(chan message, batchesInFlight),
+		work:  make(chan message, 2*batchesInFlight),
 		free:  make(chan []float64, batchesInFlight),
 		reply: make(chan flushResult, 1),
 		done:  make(chan struct{}),
@@ -324,7 +341,8 @@ func (w *Writer) Append(row []float64) error {
 	}
 	w.batch = append(w.batch, row...)
 	if len(w.batch) == cap(w.batch) {
-		w.work <- message{rows: w.batch}
+		w.work <- message{rows: w.batch, sync: w.pending != 0, seq: w.pending}
+		w.pending = 0
 		w.batch = <-w.free
 	}
 	return nil
@@ -339,23 +357,14 @@ func (w *Writer) failed() error {
 	return nil
 }
 
-// handOver hands the rows appended so far, if any, to the goroutine with
-// the request m.
-func (w *Writer) handOver(m message) {
-	if len(w.batch) == 0 {
-		w.work <- m
-		return
-	}
-	m.rows = w.batch
-	w.work <- m
-	w.batch = <-w.free
-}
-
 // StartFlush is Flush without the wait: it asks the goroutine to write
 // everything appended so far and fsync the file, and returns at once. The
-// fsync is skipped if a later StartFlush or Flush is already queued, whose
-// fsync covers these rows too. It returns an error the goroutine met
-// before; a later call returns an error of this flush.
+// rows go with the request now if the goroutine has a batch to give back,
+// else (the goroutine is behind) with the batch once it is full, or with
+// the next Flush or Close. Once written they are fsynced for this request,
+// or for a later one already made, or at the latest once writebackBytes
+// more have been written. It returns an error the goroutine met before; a
+// later call returns an error met by this flush.
 func (w *Writer) StartFlush() error {
 	if w.err != nil {
 		return w.err
@@ -363,7 +372,25 @@ func (w *Writer) StartFlush() error {
 	if err := w.failed(); err != nil {
 		return err
 	}
-	w.handOver(message{sync: true, seq: w.syncs.Add(1)})
+	m := message{sync: true, seq: w.syncs.Add(1)}
+	if len(w.batch) == 0 {
+		select {
+		case w.work <- m:
+			w.pending = 0
+			return nil
+		default:
+		}
+	} else {
+		select {
+		case next := <-w.free:
+			m.rows = w.batch
+			w.work <- m // room for every batch: waits at most for a request's turn
+			w.batch, w.pending = next, 0
+			return nil
+		default:
+		}
+	}
+	w.pending = m.seq
 	return nil
 }
 
@@ -374,8 +401,16 @@ func (w *Writer) Flush() (offset int64, err error) {
 	if w.err != nil {
 		return 0, w.err
 	}
-	w.handOver(message{wait: true, seq: w.syncs.Add(1)})
+	m := message{wait: true, seq: w.syncs.Add(1)}
+	if len(w.batch) > 0 {
+		m.rows = w.batch
+	}
+	w.work <- m
+	w.pending = 0
 	r := <-w.reply
+	if m.rows != nil {
+		w.batch = <-w.free // back before the reply
+	}
 	if r.err != nil {
 		w.err = r.err
 		return 0, r.err

@@ -525,3 +525,54 @@ func BenchmarkWriterStream(b *testing.B) {
 		})
 	}
 }
+
+// TestStartFlushWhenBehind: with every batch held up (as when the
+// goroutine is behind), StartFlush does not wait; its request travels
+// with the batch once Append fills it, and the file still holds exactly
+// strconv's text.
+func TestStartFlushWhenBehind(t *testing.T) {
+	const batch = 5
+	p := filepath.Join(t.TempDir(), "c.csv")
+	w := createBatched(t, p, cols, batch)
+	want := []byte("# step,walker,ln_post,ln_like,log10_A,gamma\n")
+	if _, err := w.Flush(); err != nil {
+		t.Fatal(err)
+	}
+	var held [][]float64
+	for range batchesInFlight - 1 {
+		held = append(held, <-w.free)
+	}
+	for i := range 2 * batch {
+		r := row(i, 3)
+		if err := w.Append(r); err != nil {
+			t.Fatal(err)
+		}
+		want = strconvRows(want, r)
+		if i == 1 {
+			if err := w.StartFlush(); err != nil {
+				t.Fatal(err)
+			}
+			if w.pending == 0 || len(w.batch) != 2*len(cols) {
+				t.Fatalf("StartFlush with no batch to spare: pending %d, %d values in the batch; want the request kept with the 2 rows", w.pending, len(w.batch))
+			}
+		}
+		if i == batch-2 {
+			for _, b := range held { // the goroutine catches up
+				w.free <- b
+			}
+		}
+		if i == batch-1 && w.pending != 0 {
+			t.Fatal("the full batch went without the waiting request")
+		}
+	}
+	if err := w.Close(); err != nil {
+		t.Fatal(err)
+	}
+	got, err := os.ReadFile(p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !bytes.Equal(got, want) {
+		t.Errorf("file differs from strconv's formatting (%d vs %d bytes)", len(got), len(want))
+	}
+}
