@@ -455,27 +455,36 @@ func spin(n int) float64 {
 var spinSink float64
 
 // BenchmarkWriterStream writes the rows of 2000 ensemble steps (64,000
-// rows, about 5.5 MB) per iteration, formatted in the caller (serial) or
-// through the Writer (batched), alone or with a stand-in for the sampler's
-// work per step (work: about as long as formatting the step's rows, as in
-// the smbhb fit on one worker), and fsyncs at the end. With work, the
-// batched writer's time above the work alone is what writing adds to a
-// fit's wall time when a second core is free.
+// rows, 5.4 MB) per iteration, formatted in the caller (serial, the Writer
+// before it had a goroutine: a bufio.Writer and Flush with fsync) or
+// through the Writer (batched, with StartFlush), alone or with a stand-in
+// for the sampler's work per step (work: about 1.5 times the formatting of
+// the step's rows, as in the smbhb fit on one worker; workonly is that
+// work alone), with no flush before the last or one every 100 steps (the
+// command's --flush-every default), and fsyncs at the end. With work, the
+// time above workonly is what writing adds to a fit's wall time; batched
+// hides the formatting when a second core is free.
 func BenchmarkWriterStream(b *testing.B) {
 	rows := ensembleStream(2000)
 	const walkers = 32
+	var text int64
+	for _, r := range rows {
+		text += int64(len(strconvRows(nil, r)))
+	}
 	for _, c := range []struct {
-		name string
-		work int
-	}{{"alone", 0}, {"work", 8600}} {
-		b.Run(c.name+"/workonly", func(b *testing.B) {
-			for b.Loop() {
-				for i := 0; i < len(rows); i += walkers {
-					spinSink += spin(c.work)
+		name        string
+		work, flush int // spin iterations per step; steps between flushes
+	}{{"alone", 0, 0}, {"work", 5000, 0}, {"work/flush100", 5000, 100}} {
+		if c.work > 0 && c.flush == 0 {
+			b.Run(c.name+"/workonly", func(b *testing.B) {
+				for b.Loop() {
+					for i := 0; i < len(rows); i += walkers {
+						spinSink += spin(c.work)
+					}
 				}
-			}
-			b.SetBytes(5_500_000)
-		})
+				b.SetBytes(text)
+			})
+		}
 		b.Run(c.name+"/serial", func(b *testing.B) {
 			p := filepath.Join(b.TempDir(), "c.csv")
 			for b.Loop() {
@@ -487,6 +496,14 @@ func BenchmarkWriterStream(b *testing.B) {
 				for i, r := range rows {
 					if i%walkers == 0 {
 						spinSink += spin(c.work)
+						if step := i / walkers; c.flush > 0 && step > 0 && step%c.flush == 0 {
+							if err := s.bw.Flush(); err != nil {
+								b.Fatal(err)
+							}
+							if err := f.Sync(); err != nil {
+								b.Fatal(err)
+							}
+						}
 					}
 					if err := s.append(r); err != nil {
 						b.Fatal(err)
@@ -500,7 +517,7 @@ func BenchmarkWriterStream(b *testing.B) {
 				}
 				f.Close()
 			}
-			b.SetBytes(5_500_000)
+			b.SetBytes(text)
 		})
 		b.Run(c.name+"/batched", func(b *testing.B) {
 			p := filepath.Join(b.TempDir(), "c.csv")
@@ -512,6 +529,11 @@ func BenchmarkWriterStream(b *testing.B) {
 				for i, r := range rows {
 					if i%walkers == 0 {
 						spinSink += spin(c.work)
+						if step := i / walkers; c.flush > 0 && step > 0 && step%c.flush == 0 {
+							if err := w.StartFlush(); err != nil {
+								b.Fatal(err)
+							}
+						}
 					}
 					if err := w.Append(r); err != nil {
 						b.Fatal(err)
@@ -521,7 +543,7 @@ func BenchmarkWriterStream(b *testing.B) {
 					b.Fatal(err)
 				}
 			}
-			b.SetBytes(5_500_000)
+			b.SetBytes(text)
 		})
 	}
 }
