@@ -10,20 +10,159 @@ import (
 	"os"
 	"strconv"
 	"strings"
+	"sync/atomic"
 
 	"tautline/internal/safeio"
 )
 
-// A Writer appends rows to a chain file. It is not safe for concurrent use.
+// A Writer appends rows to a chain file. Append only copies a row into a
+// batch of rows; a full batch is handed to the Writer's one background
+// goroutine, which formats the batches in order and writes each with one
+// write call, so that formatting runs beside the caller's work (on another
+// core when one is free) while the bytes are exactly those of formatting
+// every value on the spot. A fixed number of batches (batchesInFlight)
+// circulate between the two, which bounds the memory and how far the
+// goroutine may fall behind: Append waits when they are all in use.
+//
+// Flush waits until everything appended is written and fsynced. An error
+// met by the goroutine (a failed write or fsync) is returned by the next
+// Append, StartFlush, Flush or Close; rows appended after it are dropped.
+// A Writer is not safe for concurrent use. Close must be called, also after
+// an error, to stop the goroutine and close the file.
 type Writer struct {
-	path string
-	f    *os.File
-	bw   *bufio.Writer
-	ncol int
-	off  int64  // file length once everything appended is flushed
-	line []byte // formatting scratch, reused
-	err  error  // first write error; later calls return it
-	memo *floatMemo
+	path  string
+	f     *os.File // written only by the goroutine until it has stopped
+	ncol  int
+	batch []float64 // rows appended since the last hand-over
+
+	work  chan message     // batches and flush requests, in order, to the goroutine
+	free  chan []float64   // emptied batches, back from the goroutine
+	reply chan flushResult // the goroutine's answer to a waiting Flush
+	done  chan struct{}    // closed when the goroutine has returned
+
+	bgErr atomic.Pointer[error] // the goroutine's first error
+	syncs atomic.Uint64         // flush requests made so far
+	// pending is the number of a StartFlush request that waits in batch
+	// for the batch to be handed over, or 0.
+	pending uint64
+
+	err error // first error the caller saw; every later call returns it
+}
+
+// A message hands the goroutine a batch of rows (rows may be empty) and
+// says what to do once they are written: nothing, fsync (sync, for the
+// flush request number seq; a later request makes it redundant), or fsync
+// and answer on reply (wait).
+type message struct {
+	rows       []float64
+	sync, wait bool
+	seq        uint64
+}
+
+type flushResult struct {
+	off int64
+	err error
+}
+
+// batchFloats is the size of a batch in values (64 KiB): 1365 rows of the
+// smbhb model's 6 columns, about 43 steps of a 32-walker ensemble, formatted
+// into one write of about 115 KB. batchesInFlight batches circulate (512
+// KiB, made once per Writer): one being filled by Append, the others queued
+// for or being written by the goroutine, enough for the caller to go on
+// through the goroutine's fsyncs (a few milliseconds for a few MB) at a fast
+// model's pace.
+//
+// writebackBytes is how much the goroutine writes before it fsyncs on its
+// own when it has nothing else to do, so that the data reach the disk while
+// the caller works and the fsync of the next Flush or of Close is short.
+const (
+	batchFloats     = 1 << 13
+	batchesInFlight = 8
+	writebackBytes  = 2 << 20
+)
+
+// maxValueText is the longest text appendFloat writes for one value, that
+// of a negative 17-digit number with a three-digit exponent such as
+// -2.2250738585072014e-308 (strconv's shortest 'g' format has at most 17
+// significant digits, and float64 exponents at most three digits).
+const maxValueText = 24
+
+// formatter is the state of a Writer's goroutine.
+type formatter struct {
+	path  string
+	f     *os.File
+	ncol  int
+	off   int64  // bytes of the file written so far
+	dirty int64  // bytes written since the last fsync
+	out   []byte // a batch's text; its capacity fits the longest batch
+	err   error  // first write or fsync error; later batches are dropped
+	memo  floatMemo
+}
+
+// run serves the Writer's messages until work is closed. An error is
+// published in w.bgErr before the batch that met it goes back on w.free,
+// so the Append that takes that batch back sees it.
+func (fm *formatter) run(w *Writer) {
+	defer close(w.done)
+	for m := range w.work {
+		if len(m.rows) > 0 {
+			fm.write(m.rows)
+		}
+		switch {
+		case m.wait:
+			fm.sync()
+		case m.sync && (w.syncs.Load() == m.seq || fm.dirty >= writebackBytes):
+			// A later request, made already, would fsync for both; but
+			// not if its turn could be put off again and again.
+			fm.sync()
+		case fm.dirty >= writebackBytes && len(w.work) == 0:
+			fm.sync() // on its own, while idle
+		}
+		if fm.err != nil && w.bgErr.Load() == nil {
+			err := fm.err
+			w.bgErr.Store(&err)
+		}
+		if m.rows != nil {
+			w.free <- m.rows[:0]
+		}
+		if m.wait {
+			w.reply <- flushResult{fm.off, fm.err}
+		}
+	}
+}
+
+// write formats rows, ncol values each, and writes them with one call.
+func (fm *formatter) write(rows []float64) {
+	if fm.err != nil {
+		return
+	}
+	b := fm.out[:0]
+	for i := 0; i+fm.ncol <= len(rows); i += fm.ncol {
+		for j, v := range rows[i : i+fm.ncol] {
+			if j > 0 {
+				b = append(b, ',')
+			}
+			b = fm.memo.appendFloat(b, v)
+		}
+		b = append(b, '\n')
+	}
+	n, err := fm.f.Write(b)
+	fm.off += int64(n)
+	fm.dirty += int64(n)
+	if err != nil {
+		fm.err = fmt.Errorf("chains: %s: %w", fm.path, err)
+	}
+}
+
+func (fm *formatter) sync() {
+	if fm.err != nil {
+		return
+	}
+	if err := fm.f.Sync(); err != nil {
+		fm.err = fmt.Errorf("chains: %s: %w", fm.path, err)
+		return
+	}
+	fm.dirty = 0
 }
 
 var errClosed = errors.New("chains: writer is closed")
@@ -62,25 +201,32 @@ func Create(path string, columns []string) (*Writer, error) {
 	if err != nil {
 		return nil, fmt.Errorf("chains: %w", err)
 	}
-	w := newWriter(path, f, len(columns), 0)
-	if _, err := w.bw.Write(h); err != nil {
+	if _, err := f.Write(h); err != nil {
 		f.Close()
 		return nil, fmt.Errorf("chains: %s: %w", path, err)
 	}
-	w.off = int64(len(h))
-	return w, nil
+	return newWriter(path, f, len(columns), int64(len(h)), max(1, batchFloats/len(columns))), nil
 }
 
-func newWriter(path string, f *os.File, ncol int, off int64) *Writer {
-	return &Writer{
-		path: path,
-		f:    f,
-		bw:   bufio.NewWriterSize(f, 1<<16),
-		ncol: ncol,
-		off:  off,
-		line: make([]byte, 0, 32*ncol+1),
-		memo: new(floatMemo),
+// newWriter starts the Writer of f, whose length is off, with batches of
+// rows rows, and its goroutine.
+func newWriter(path string, f *os.File, ncol int, off int64, rows int) *Writer {
+	w := &Writer{
+		path:  path,
+		f:     f,
+		ncol:  ncol,
+		batch: make([]float64, 0, rows*ncol),
+		work:  make(chan message, 2*batchesInFlight),
+		free:  make(chan []float64, batchesInFlight),
+		reply: make(chan flushResult, 1),
+		done:  make(chan struct{}),
 	}
+	for range batchesInFlight - 1 {
+		w.free <- make([]float64, 0, rows*ncol)
+	}
+	fm := &formatter{path: path, f: f, ncol: ncol, off: off, out: make([]byte, 0, rows*ncol*(maxValueText+1))}
+	go fm.run(w)
+	return w
 }
 
 // memoBits is log2 of the number of formatted values a Writer remembers:
@@ -176,11 +322,13 @@ func Resume(path string, columns []string, offset int64) (*Writer, error) {
 	if err := f.Sync(); err != nil {
 		return fail("%w", err)
 	}
-	return newWriter(path, f, len(columns), offset), nil
+	return newWriter(path, f, len(columns), offset, max(1, batchFloats/len(columns))), nil
 }
 
 // Append adds one row, which must have one value per column. Rows are
-// buffered; call Flush to make them durable. Append does not allocate.
+// buffered and written in the background; call Flush to make them durable.
+// Append returns an error the background met since the last call. It does
+// not allocate.
 func (w *Writer) Append(row []float64) error {
 	if w.err != nil {
 		return w.err
@@ -188,47 +336,97 @@ func (w *Writer) Append(row []float64) error {
 	if len(row) != w.ncol {
 		return fmt.Errorf("chains: %s: row has %d values, want %d", w.path, len(row), w.ncol)
 	}
-	b := w.line[:0]
-	for j, v := range row {
-		if j > 0 {
-			b = append(b, ',')
-		}
-		b = w.memo.appendFloat(b, v)
+	if err := w.failed(); err != nil {
+		return err
 	}
-	b = append(b, '\n')
-	w.line = b
-	if _, err := w.bw.Write(b); err != nil {
-		w.err = fmt.Errorf("chains: %s: %w", w.path, err)
-		return w.err
+	w.batch = append(w.batch, row...)
+	if len(w.batch) == cap(w.batch) {
+		w.work <- message{rows: w.batch, sync: w.pending != 0, seq: w.pending}
+		w.pending = 0
+		w.batch = <-w.free
 	}
-	w.off += int64(len(b))
 	return nil
 }
 
-// Flush writes the buffered rows and fsyncs the file. It returns the file
-// length, the offset at which Resume can continue.
+// failed records and returns the goroutine's error, if it has met one.
+func (w *Writer) failed() error {
+	if p := w.bgErr.Load(); p != nil {
+		w.err = *p
+		return w.err
+	}
+	return nil
+}
+
+// StartFlush is Flush without the wait: it asks the goroutine to write
+// everything appended so far and fsync the file, and returns at once. The
+// rows go with the request now if the goroutine has a batch to give back,
+// else (the goroutine is behind) with the batch once it is full, or with
+// the next Flush or Close. Once written they are fsynced for this request,
+// or for a later one already made, or at the latest once writebackBytes
+// more have been written. It returns an error the goroutine met before; a
+// later call returns an error met by this flush.
+func (w *Writer) StartFlush() error {
+	if w.err != nil {
+		return w.err
+	}
+	if err := w.failed(); err != nil {
+		return err
+	}
+	m := message{sync: true, seq: w.syncs.Add(1)}
+	if len(w.batch) == 0 {
+		select {
+		case w.work <- m:
+			w.pending = 0
+			return nil
+		default:
+		}
+	} else {
+		select {
+		case next := <-w.free:
+			m.rows = w.batch
+			w.work <- m // room for every batch: waits at most for a request's turn
+			w.batch, w.pending = next, 0
+			return nil
+		default:
+		}
+	}
+	w.pending = m.seq
+	return nil
+}
+
+// Flush writes everything appended so far, fsyncs the file and returns its
+// length, the offset at which Resume can continue. It waits for the
+// goroutine, and returns the first error the goroutine met.
 func (w *Writer) Flush() (offset int64, err error) {
 	if w.err != nil {
 		return 0, w.err
 	}
-	if err := w.bw.Flush(); err != nil {
-		w.err = fmt.Errorf("chains: %s: %w", w.path, err)
-		return 0, w.err
+	m := message{wait: true, seq: w.syncs.Add(1)}
+	if len(w.batch) > 0 {
+		m.rows = w.batch
 	}
-	if err := w.f.Sync(); err != nil {
-		w.err = fmt.Errorf("chains: %s: %w", w.path, err)
-		return 0, w.err
+	w.work <- m
+	w.pending = 0
+	r := <-w.reply
+	if m.rows != nil {
+		w.batch = <-w.free // back before the reply
 	}
-	return w.off, nil
+	if r.err != nil {
+		w.err = r.err
+		return 0, r.err
+	}
+	return r.off, nil
 }
 
-// Close flushes and closes the file. Later calls to any method return an
-// error.
+// Close flushes and closes the file and stops the goroutine, also after an
+// error. Later calls to any method return an error.
 func (w *Writer) Close() error {
 	if w.err == errClosed {
 		return errClosed
 	}
 	_, ferr := w.Flush()
+	close(w.work)
+	<-w.done
 	cerr := w.f.Close()
 	w.err = errClosed
 	if ferr != nil {

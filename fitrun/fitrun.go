@@ -161,8 +161,20 @@ func Run(ctx context.Context, p Problem, s Settings) (*Result, error) {
 			if err := writeCheckpoint(en); err != nil {
 				return fmt.Errorf("checkpoint: %w", err)
 			}
-		} else if fe := s.FlushEvery; fe > 0 && n%fe == 0 {
+		} else if fe := s.FlushEvery; fe == 1 {
+			// Every step on disk before the next one starts.
 			if _, err := w.Flush(); err != nil {
+				return err
+			}
+		} else if fe > 1 && n%fe == 0 {
+			// Without waiting for the fsync, which at a fast model's pace
+			// costs more than the steps between flushes: the rows reach the
+			// disk while the next steps run (chains.Writer.StartFlush: when
+			// its goroutine is behind, a crash also loses what it has not
+			// written or fsynced yet, a few MB at most), and its errors come
+			// back from a later Append, Flush or Close. A checkpoint, which
+			// records the chain's length, waits (Flush).
+			if err := w.StartFlush(); err != nil {
 				return err
 			}
 		}
