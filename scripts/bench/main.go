@@ -304,6 +304,7 @@ func fitSharesOnce(p *likelihood.Posterior, steps int, write bool) (shares, erro
 		},
 	})
 	if err != nil {
+		w.Close()
 		return shares{}, err
 	}
 	t := time.Now()
