@@ -20,6 +20,15 @@ type History struct {
 	rungs   int
 	pos     []float64 // n x walkers x dim, cold rung
 	ll      []float64 // n x rungs x walkers
+	diag    *diagPool // the diagnostics' buffers, reused by every check
+}
+
+// pool returns the diagnostics' goroutines and buffers of h.
+func (h *History) pool() *diagPool {
+	if h.diag == nil {
+		h.diag = newDiagPool()
+	}
+	return h.diag
 }
 
 func newHistory(e *Ensemble) *History {
@@ -155,6 +164,11 @@ func (h *History) maxTauThinned(from int, th thinning) float64 {
 	return h.thinnedTau(from, k)
 }
 
+// view is the chain of ns recorded steps from, from+k, ..., read in place.
+func (h *History) view(from, k, ns int) chainView {
+	return chainView{pos: h.pos[from*h.walkers*h.dim:], steps: ns, walkers: h.walkers, dim: h.dim, stride: k}
+}
+
 // thinnedTau is the largest autocorrelation time over the parameters of
 // the chain of recorded steps from, from+k, ..., in unthinned steps.
 func (h *History) thinnedTau(from, k int) float64 {
@@ -162,16 +176,14 @@ func (h *History) thinnedTau(from, k int) float64 {
 	if ns < 4 {
 		return math.NaN()
 	}
-	x := make([]float64, ns*h.walkers)
+	v := h.view(from, k, ns)
+	taus := make([]float64, h.dim)
+	h.pool().each(h.dim, func(sc *diagScratch, p int) {
+		sc.a = v.gather(sc.a, p)
+		taus[p], _ = sc.autocorr(sc.a, ns, h.walkers)
+	})
 	tau := math.NaN()
-	for p := range h.dim {
-		for i := range ns {
-			s := from + i*k
-			for w := range h.walkers {
-				x[i*h.walkers+w] = h.pos[(s*h.walkers+w)*h.dim+p]
-			}
-		}
-		t, _ := AutocorrTime(x, ns, h.walkers)
+	for _, t := range taus {
 		if !math.IsNaN(t) && !(t*float64(k) <= tau) {
 			tau = t * float64(k)
 		}
@@ -424,15 +436,7 @@ func evaluate(e *Ensemble, opt RunOptions, final bool) evaluation {
 	if ns < 8 {
 		return ev
 	}
-	row := h.walkers * h.dim
-	pos := make([]float64, 0, ns*row)
-	for s := ev.burnIndex; s < h.n; s += k {
-		pos = append(pos, h.pos[s*row:(s+1)*row]...)
-	}
-	rep, err := diagnose(pos, ns, h.walkers, h.dim, e.AcceptanceFractions(0), nil, final)
-	if err != nil {
-		return ev
-	}
+	rep := h.pool().diagnose(h.view(ev.burnIndex, k, ns), e.AcceptanceFractions(0), nil, final)
 	rep.Steps = n
 	rep.MaxTau, rep.MinESS = math.Inf(-1), math.Inf(1)
 	for i := range rep.Params {
