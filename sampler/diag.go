@@ -747,7 +747,7 @@ func diagnose(pos []float64, steps, walkers, dim int, acc []float64, names []str
 		return Report{}, fmt.Errorf("sampler: Diagnose: %d names for %d parameters", len(names), dim)
 	}
 	v := chainView{pos: pos, steps: steps, walkers: walkers, dim: dim, stride: 1}
-	return newDiagPool().diagnose(v, acc, names, tails), nil
+	return newDiagPool().diagnose(v, acc, names, true, tails), nil
 }
 
 // A chainView is a chain of positions read in place: the value of
@@ -771,20 +771,23 @@ func (v chainView) gather(dst []float64, k int) []float64 {
 	return dst
 }
 
-// diagnose is Diagnose of the chain v (which the caller has checked).
-func (p *diagPool) diagnose(v chainView, acc []float64, names []string, tails bool) Report {
+// diagnose is Diagnose of the chain v (which the caller has checked);
+// without rhat it leaves R-hat, BulkESS and TailESS NaN (see rhats).
+func (p *diagPool) diagnose(v chainView, acc []float64, names []string, rhat, tails bool) Report {
 	steps, walkers := v.steps, v.walkers
 	rep := Report{Steps: steps, Walkers: walkers, MaxTau: math.Inf(-1), MinESS: math.Inf(1), MaxRhat: math.Inf(-1)}
-	if steps >= 2*rhatSegments {
-		// Every parameter ranks the same number of draws (see vehtari).
-		p.tab.set((steps-steps%rhatSegments)*walkers, len(p.workers) > 1)
+	if rhat {
+		p.setScores(v)
 	}
 	rep.Params = make([]ParamReport, v.dim)
 	p.each(v.dim, func(sc *diagScratch, k int) {
 		sc.a = v.gather(sc.a, k)
 		tau, err := sc.autocorr(sc.a, steps, walkers)
 		pr := ParamReport{Index: k, Tau: tau, TauReliable: err == nil, ESS: float64(steps*walkers) / tau}
-		pr.Rhat, pr.BulkESS, pr.TailESS = sc.vehtari(sc.a, steps, walkers, tails)
+		pr.Rhat, pr.BulkESS, pr.TailESS = math.NaN(), math.NaN(), math.NaN()
+		if rhat {
+			pr.Rhat, pr.BulkESS, pr.TailESS = sc.vehtari(sc.a, steps, walkers, tails)
+		}
 		if names != nil {
 			pr.Name = names[k]
 		}
@@ -803,6 +806,25 @@ func (p *diagPool) diagnose(v chainView, acc []float64, names []string, tails bo
 		rep.StuckWalkers = StuckWalkers(acc, steps)
 	}
 	return rep
+}
+
+// setScores prepares the shared scores for the chain v: every parameter
+// ranks the same number of draws (see vehtari).
+func (p *diagPool) setScores(v chainView) {
+	if v.steps >= 2*rhatSegments {
+		p.tab.set((v.steps-v.steps%rhatSegments)*v.walkers, len(p.workers) > 1)
+	}
+}
+
+// rhats returns the ensemble R-hat (EnsembleRhat) of every parameter of v.
+func (p *diagPool) rhats(v chainView) []float64 {
+	p.setScores(v)
+	rh := make([]float64, v.dim)
+	p.each(v.dim, func(sc *diagScratch, k int) {
+		sc.a = v.gather(sc.a, k)
+		rh[k], _, _ = sc.vehtari(sc.a, v.steps, v.walkers, false)
+	})
+	return rh
 }
 
 // nanMax and nanMin propagate NaN so that an undefined diagnostic is not

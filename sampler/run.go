@@ -5,7 +5,6 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"slices"
 	"time"
 )
 
@@ -53,9 +52,22 @@ func (h *History) reserve(steps int) {
 	per := h.walkers * (h.dim + h.rungs)
 	steps = min(steps, maxReserve/(8*max(per, 1)))
 	if steps > 0 {
-		h.pos = slices.Grow(h.pos, steps*h.walkers*h.dim)
-		h.ll = slices.Grow(h.ll, steps*h.walkers*h.rungs)
+		h.pos = grown(h.pos, steps*h.walkers*h.dim)
+		h.ll = grown(h.ll, steps*h.walkers*h.rungs)
 	}
+}
+
+// grown is s with room for n more values. Unlike slices.Grow it does not
+// clear the new room: fresh memory from the system is zero already, and
+// is then touched only as the history is recorded (not at all by a run
+// that converges early).
+func grown(s []float64, n int) []float64 {
+	if cap(s)-len(s) >= n {
+		return s
+	}
+	g := make([]float64, len(s), len(s)+n)
+	copy(g, s)
+	return g
 }
 
 // Start returns the ensemble step count before the first recorded step.
@@ -400,7 +412,17 @@ type evaluation struct {
 	report                Report
 	converged             bool
 	needSteps             float64 // post-burn steps the criteria need (estimate)
+	// rhatExact says that the R-hat of a check is that of the checked
+	// chain (it decided); otherwise it is the estimate shown as progress.
+	rhatExact bool
 }
+
+// rhatShowThin is the further thinning of the chain from which a check
+// estimates an R-hat that decides nothing: a check thins to at most tau/4
+// (checkThinning), so this spaces the draws about one autocorrelation time
+// apart, which keeps most of the information in the chain at a quarter of
+// the cost.
+const rhatShowThin = 4
 
 // evaluate applies the burn-in, thinning and convergence rules to the
 // history; it depends on nothing but the history and options.
@@ -436,7 +458,9 @@ func evaluate(e *Ensemble, opt RunOptions, final bool) evaluation {
 	if ns < 8 {
 		return ev
 	}
-	rep := h.pool().diagnose(h.view(ev.burnIndex, k, ns), e.AcceptanceFractions(0), nil, final)
+	pool := h.pool()
+	view := h.view(ev.burnIndex, k, ns)
+	rep := pool.diagnose(view, e.AcceptanceFractions(0), nil, final, final)
 	rep.Steps = n
 	rep.MaxTau, rep.MinESS = math.Inf(-1), math.Inf(1)
 	for i := range rep.Params {
@@ -447,7 +471,6 @@ func evaluate(e *Ensemble, opt RunOptions, final bool) evaluation {
 		rep.MinESS = nanMin(rep.MinESS, p.ESS)
 	}
 	rep.StuckWalkers = StuckWalkers(e.AcceptanceFractions(0), e.steps)
-	ev.report = rep
 	if opt.Thin == 0 && rep.MaxTau > 0 {
 		ev.thin = max(1, int(rep.MaxTau/2))
 	}
@@ -462,9 +485,26 @@ func evaluate(e *Ensemble, opt RunOptions, final bool) evaluation {
 		ok = ok && float64(n) >= c.TauMultiple*rep.MaxTau
 		need = math.Max(need, c.TauMultiple*rep.MaxTau)
 	}
+	if !final {
+		// A check's R-hat decides only when every other condition holds;
+		// otherwise it only shows progress, and is estimated from the
+		// chain thinned rhatShowThin times more, which costs a fraction.
+		ev.rhatExact = c.Rhat > 0 && ok
+		rv := view
+		if k2 := k * rhatShowThin; !ev.rhatExact && (n+k2-1)/k2 >= 2*rhatSegments {
+			rv = h.view(ev.burnIndex, k2, (n+k2-1)/k2)
+		}
+		rh := pool.rhats(rv)
+		rep.MaxRhat = math.Inf(-1)
+		for i, r := range rh {
+			rep.Params[i].Rhat = r
+			rep.MaxRhat = nanMax(rep.MaxRhat, r)
+		}
+	}
 	if c.Rhat > 0 {
 		ok = ok && rep.MaxRhat <= c.Rhat
 	}
+	ev.report = rep
 	ev.converged = ok
 	if c.ESS > 0 || c.TauMultiple > 0 {
 		ev.needSteps = need
