@@ -747,7 +747,7 @@ func diagnose(pos []float64, steps, walkers, dim int, acc []float64, names []str
 		return Report{}, fmt.Errorf("sampler: Diagnose: %d names for %d parameters", len(names), dim)
 	}
 	v := chainView{pos: pos, steps: steps, walkers: walkers, dim: dim, stride: 1}
-	return newDiagPool().diagnose(v, acc, names, true, tails), nil
+	return newDiagPool().diagnose(v, acc, names, true, tails, 1), nil
 }
 
 // A chainView is a chain of positions read in place: the value of
@@ -771,13 +771,25 @@ func (v chainView) gather(dst []float64, k int) []float64 {
 	return dst
 }
 
-// diagnose is Diagnose of the chain v (which the caller has checked);
-// without rhat it leaves R-hat, BulkESS and TailESS NaN (see rhats).
-func (p *diagPool) diagnose(v chainView, acc []float64, names []string, rhat, tails bool) Report {
+// diagnose is Diagnose of the chain v (which the caller has checked).
+// Without rhat it leaves BulkESS and TailESS NaN, and R-hat too unless
+// show > 1, when R-hat is that of every show-th step of v (the chain
+// thinned show times more, taken from the values already read), if that
+// leaves at least 8 steps, else of v.
+func (p *diagPool) diagnose(v chainView, acc []float64, names []string, rhat, tails bool, show int) Report {
 	steps, walkers := v.steps, v.walkers
 	rep := Report{Steps: steps, Walkers: walkers, MaxTau: math.Inf(-1), MinESS: math.Inf(1), MaxRhat: math.Inf(-1)}
+	rsteps := steps // steps R-hat is computed from
+	if !rhat && show > 1 {
+		if t := (steps + show - 1) / show; t >= 2*rhatSegments {
+			rsteps = t
+		}
+		rhat = true
+	} else {
+		show = 1
+	}
 	if rhat {
-		p.setScores(v)
+		p.setScores(rsteps, walkers)
 	}
 	rep.Params = make([]ParamReport, v.dim)
 	p.each(v.dim, func(sc *diagScratch, k int) {
@@ -786,7 +798,17 @@ func (p *diagPool) diagnose(v chainView, acc []float64, names []string, rhat, ta
 		pr := ParamReport{Index: k, Tau: tau, TauReliable: err == nil, ESS: float64(steps*walkers) / tau}
 		pr.Rhat, pr.BulkESS, pr.TailESS = math.NaN(), math.NaN(), math.NaN()
 		if rhat {
-			pr.Rhat, pr.BulkESS, pr.TailESS = sc.vehtari(sc.a, steps, walkers, tails)
+			if rsteps < steps {
+				// Every show-th step, compacted in place (the
+				// destination never passes the source).
+				x := sc.a
+				for w := range walkers {
+					for s := range rsteps {
+						x[w*rsteps+s] = x[w*steps+s*show]
+					}
+				}
+			}
+			pr.Rhat, pr.BulkESS, pr.TailESS = sc.vehtari(sc.a, rsteps, walkers, tails)
 		}
 		if names != nil {
 			pr.Name = names[k]
@@ -808,17 +830,17 @@ func (p *diagPool) diagnose(v chainView, acc []float64, names []string, rhat, ta
 	return rep
 }
 
-// setScores prepares the shared scores for the chain v: every parameter
-// ranks the same number of draws (see vehtari).
-func (p *diagPool) setScores(v chainView) {
-	if v.steps >= 2*rhatSegments {
-		p.tab.set((v.steps-v.steps%rhatSegments)*v.walkers, len(p.workers) > 1)
+// setScores prepares the shared scores for chains of steps x walkers:
+// every parameter ranks the same number of draws (see vehtari).
+func (p *diagPool) setScores(steps, walkers int) {
+	if steps >= 2*rhatSegments {
+		p.tab.set((steps-steps%rhatSegments)*walkers, len(p.workers) > 1)
 	}
 }
 
 // rhats returns the ensemble R-hat (EnsembleRhat) of every parameter of v.
 func (p *diagPool) rhats(v chainView) []float64 {
-	p.setScores(v)
+	p.setScores(v.steps, v.walkers)
 	rh := make([]float64, v.dim)
 	p.each(v.dim, func(sc *diagScratch, k int) {
 		sc.a = v.gather(sc.a, k)

@@ -315,7 +315,7 @@ func TestDiagnoseSchedulingIndependent(t *testing.T) {
 					t.Errorf("tau with shared lag sums %v: %v vs %v", par, tau, tau2)
 				}
 			}
-			reports = append(reports, p.diagnose(v, e.AcceptanceFractions(0), nil, true, true))
+			reports = append(reports, p.diagnose(v, e.AcceptanceFractions(0), nil, true, true, 1))
 		}
 	}
 	for i, r := range reports[1:] {

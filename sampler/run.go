@@ -460,7 +460,11 @@ func evaluate(e *Ensemble, opt RunOptions, final bool) evaluation {
 	}
 	pool := h.pool()
 	view := h.view(ev.burnIndex, k, ns)
-	rep := pool.diagnose(view, e.AcceptanceFractions(0), nil, final, final)
+	show := rhatShowThin // a check's R-hat, if it does not decide (below)
+	if final {
+		show = 1
+	}
+	rep := pool.diagnose(view, e.AcceptanceFractions(0), nil, final, final, show)
 	rep.Steps = n
 	rep.MaxTau, rep.MinESS = math.Inf(-1), math.Inf(1)
 	for i := range rep.Params {
@@ -487,18 +491,17 @@ func evaluate(e *Ensemble, opt RunOptions, final bool) evaluation {
 	}
 	if !final {
 		// A check's R-hat decides only when every other condition holds;
-		// otherwise it only shows progress, and is estimated from the
-		// chain thinned rhatShowThin times more, which costs a fraction.
-		ev.rhatExact = c.Rhat > 0 && ok
-		rv := view
-		if k2 := k * rhatShowThin; !ev.rhatExact && (n+k2-1)/k2 >= 2*rhatSegments {
-			rv = h.view(ev.burnIndex, k2, (n+k2-1)/k2)
+		// otherwise it only shows progress, and diagnose estimated it from
+		// the chain thinned rhatShowThin times more, which costs a
+		// fraction. When it decides, it is that of the checked chain.
+		if ev.rhatExact = c.Rhat > 0 && ok; ev.rhatExact {
+			for i, r := range pool.rhats(view) {
+				rep.Params[i].Rhat = r
+			}
 		}
-		rh := pool.rhats(rv)
 		rep.MaxRhat = math.Inf(-1)
-		for i, r := range rh {
-			rep.Params[i].Rhat = r
-			rep.MaxRhat = nanMax(rep.MaxRhat, r)
+		for _, p := range rep.Params {
+			rep.MaxRhat = nanMax(rep.MaxRhat, p.Rhat)
 		}
 	}
 	if c.Rhat > 0 {
