@@ -238,11 +238,15 @@ type RunOptions struct {
 
 // Progress is what Run reports at every check.
 type Progress struct {
-	Steps     int           // ensemble steps so far
-	Rate      float64       // steps per second during this Run
-	MaxTau    float64       // largest autocorrelation time
-	MinESS    float64       // smallest ESS after burn-in
-	MaxRhat   float64       // largest ensemble R-hat (bulk and tail ESS are left for the Result)
+	Steps  int     // ensemble steps so far
+	Rate   float64 // steps per second during this Run
+	MaxTau float64 // largest autocorrelation time
+	MinESS float64 // smallest ESS after burn-in
+	// MaxRhat is the largest ensemble R-hat (bulk and tail ESS are left
+	// for the Result). At a check where it decides nothing (another
+	// criterion fails, or there are none) it is estimated from the checked
+	// chain thinned 4 times more.
+	MaxRhat   float64
 	Burn      int           // burn-in chosen at this check
 	Converged bool          // all criteria hold
 	ETA       time.Duration // estimated time to convergence; -1 if unknown
@@ -425,7 +429,9 @@ type evaluation struct {
 const rhatShowThin = 4
 
 // evaluate applies the burn-in, thinning and convergence rules to the
-// history; it depends on nothing but the history and options.
+// history; it depends on nothing but the history and options. The
+// diagnostics reuse the history's buffers (History.pool), and run the
+// parameters concurrently, with results that do not depend on it.
 func evaluate(e *Ensemble, opt RunOptions, final bool) evaluation {
 	h := e.hist
 	ev := evaluation{thin: max(opt.Thin, 1), needSteps: math.NaN()}
