@@ -661,3 +661,13 @@ func (l *refLags) Block(k0 int, out []float64) {
 		}
 	}
 }
+
+// medianSorted is the median of sorted values, the mean of the middle two
+// for an even count.
+func medianSorted(s []float64) float64 {
+	n := len(s)
+	if n%2 == 1 {
+		return s[n/2]
+	}
+	return (s[n/2-1] + s[n/2]) / 2
+}

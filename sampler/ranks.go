@@ -94,7 +94,7 @@ func (r *ranker) load(n int, v func(i int) float64) {
 func (r *ranker) at(p int) float64 { return keyValue(r.keys[p]) }
 
 // median is the median of the ordered values, the mean of the middle two
-// for an even count (as medianSorted).
+// for an even count.
 func (r *ranker) median() float64 {
 	n := len(r.keys)
 	if n%2 == 1 {
@@ -307,14 +307,4 @@ func growF64(p []float64, n int) []float64 {
 		return make([]float64, n)
 	}
 	return p[:n]
-}
-
-// medianSorted is the median of sorted values, the mean of the middle two
-// for an even count.
-func medianSorted(s []float64) float64 {
-	n := len(s)
-	if n%2 == 1 {
-		return s[n/2]
-	}
-	return (s[n/2-1] + s[n/2]) / 2
 }

@@ -43,20 +43,6 @@ func (l *Lags) LoadInterleaved(x []float64, n, m int) {
 	}
 }
 
-// LoadInterleavedAbout is LoadInterleaved with every series centred at
-// centre instead of its own mean (as Work.AutocovAbout); Mean then returns
-// centre for every series.
-func (l *Lags) LoadInterleavedAbout(x []float64, n, m int, centre float64) {
-	l.resize(n, m)
-	for j := range m {
-		d := l.dev[j*n : (j+1)*n]
-		for t := range d {
-			d[t] = x[t*m+j] - centre
-		}
-		l.mean[j] = centre
-	}
-}
-
 func (l *Lags) resize(n, m int) {
 	l.n, l.m = n, m
 	if cap(l.dev) < n*m {
