@@ -6,7 +6,10 @@ import (
 	"fmt"
 	"math"
 	"math/bits"
+	"runtime"
 	"slices"
+	"sync"
+	"sync/atomic"
 
 	"tautline/internal/numeric"
 	"tautline/sampler/internal/acf"
@@ -53,19 +56,25 @@ func AutocorrTime(x []float64, steps, walkers int) (float64, error) {
 	if err := checkLayout(x, steps, walkers); err != nil {
 		return math.NaN(), err
 	}
-	if steps < 2 {
-		return math.NaN(), fmt.Errorf("%w: %d step", ErrShortChain, steps)
-	}
-	if steps >= directMinLen {
-		if tau, err, ok := autocorrDirect(x, steps, walkers); ok {
-			return tau, err
+	sc := newDiagScratch()
+	sc.a = transpose(sc.a, x, steps, walkers)
+	return sc.autocorr(sc.a, steps, walkers)
+}
+
+// transpose writes the chain x[s*walkers+w] walker-major, dst[w*steps+s].
+func transpose(dst, x []float64, steps, walkers int) []float64 {
+	dst = growF64(dst, steps*walkers)
+	for s := range steps {
+		row := x[s*walkers : (s+1)*walkers]
+		for w, v := range row {
+			dst[w*steps+s] = v
 		}
 	}
-	return autocorrFFT(x, steps, walkers)
+	return dst
 }
 
 // directMinLen is the series length from which the autocorrelation sums
-// are first tried lag by lag (acf.Lags) rather than by FFT: shorter series
+// are first tried lag by lag (acf.Sums) rather than by FFT: shorter series
 // cost less than a millisecond either way.
 const directMinLen = 1024
 
@@ -76,6 +85,14 @@ const directMinLen = 1024
 // sums below the FFT's cost, and a fallback below twice it.
 func lagBudget(n int) int {
 	return 8 * bits.Len(uint(4*n))
+}
+
+// lagLimit is the first lag the direct sums do not reach: they give way
+// to the FFT at the first lag m whose block of acf.LagBlock lags starts
+// beyond lagBudget, m - m%LagBlock > lagBudget(n).
+func lagLimit(n int) int {
+	const B = acf.LagBlock
+	return (lagBudget(n)/B + 1) * B
 }
 
 // sokalTau applies Sokal's window to the walker-averaged autocorrelation
@@ -100,22 +117,205 @@ func sokalTau(steps, used int, rhoSum func(m int) (float64, bool)) (tau float64,
 
 var errConstant = errors.New("sampler: autocorrelation time of a constant chain is undefined")
 
-// autocorrFFT is AutocorrTime with every walker's autocovariance by FFT.
-func autocorrFFT(x []float64, steps, walkers int) (float64, error) {
-	w := acf.New(steps)
-	series := make([]float64, steps)
-	ac := make([]float64, steps)
-	rho := make([]float64, steps)
+// parMin is the number of values from which the diagnostics share a
+// step's work between two goroutines.
+const parMin = 1 << 14
+
+// both runs f(0) on a new goroutine and f(1) on this one, and waits.
+func both(f func(part int)) {
+	var wg sync.WaitGroup
+	wg.Add(1)
+	go func() {
+		defer wg.Done()
+		f(0)
+	}()
+	f(1)
+	wg.Wait()
+}
+
+// split calls f on [0, n) in two halves, concurrently with par.
+func split(par bool, n int, f func(lo, hi int)) {
+	if !par {
+		f(0, n)
+		return
+	}
+	both(func(part int) {
+		if part == 0 {
+			f(0, n/2)
+		} else {
+			f(n/2, n)
+		}
+	})
+}
+
+// A diagScratch holds the buffers of one goroutine's diagnostics, reused
+// from parameter to parameter and from check to check (freshly allocated
+// memory is slow to touch). With par its lag sums are shared between two
+// goroutines, each summing its own walkers, so the results do not depend
+// on it. A diagScratch is not safe for concurrent use.
+type diagScratch struct {
+	par  bool
+	a    []float64 // one parameter walker-major, then its scores and indicators
+	rk   ranker
+	tab  lagTable
+	c0   []float64
+	mean []float64
+	rho  []float64
+	ac   []float64
+	fft  *acf.Work
+}
+
+func newDiagScratch() *diagScratch {
+	return &diagScratch{par: runtime.GOMAXPROCS(0) > 1}
+}
+
+// maxDiagWorkers bounds the goroutines that diagnose parameters at once;
+// each keeps buffers of about 24 bytes per value of the chain.
+const maxDiagWorkers = 2
+
+// A diagPool diagnoses the parameters of a chain on up to maxDiagWorkers
+// goroutines, each with its own diagScratch, taking the parameters in
+// turn; each parameter's numbers depend on its values only, and the
+// report is assembled in parameter order, so it does not depend on the
+// scheduling. The pool's scratch lives as long as its owner (the history)
+// and is reused by every check. A diagPool is not safe for concurrent use.
+type diagPool struct {
+	workers []*diagScratch
+	tab     scoreTable // shared by the workers' rankers
+}
+
+func newDiagPool() *diagPool {
+	p := &diagPool{}
+	for range max(1, min(runtime.GOMAXPROCS(0), maxDiagWorkers)) {
+		sc := newDiagScratch()
+		sc.rk.tab = &p.tab
+		p.workers = append(p.workers, sc)
+	}
+	return p
+}
+
+// each calls f(sc, k) for every k < n, on up to len(p.workers) goroutines;
+// with one goroutine in use its scratch shares its lag sums between two
+// (the work being one parameter), else not.
+func (p *diagPool) each(n int, f func(sc *diagScratch, k int)) {
+	w := min(len(p.workers), n)
+	par := w == 1 && runtime.GOMAXPROCS(0) > 1
+	for _, sc := range p.workers {
+		sc.par = par
+	}
+	if w <= 1 {
+		for k := range n {
+			f(p.workers[0], k)
+		}
+		return
+	}
+	var next atomic.Int64
+	var wg sync.WaitGroup
+	run := func(sc *diagScratch) {
+		for k := int(next.Add(1) - 1); k < n; k = int(next.Add(1) - 1) {
+			f(sc, k)
+		}
+	}
+	for _, sc := range p.workers[1:w] {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			run(sc)
+		}()
+	}
+	run(p.workers[0])
+	wg.Wait()
+}
+
+// work returns an FFT work space equivalent to acf.New(n).
+func (sc *diagScratch) work(n int) *acf.Work {
+	if !sc.fft.Fits(n) {
+		sc.fft = acf.New(n)
+	}
+	return sc.fft
+}
+
+// A lagTable holds the autocovariances C_w(k) of the walkers' series,
+// computed lazily in chunks of lags for all walkers: a lag's value does
+// not depend on the chunks (acf.Sums), so the chunking is free to follow
+// the need.
+type lagTable struct {
+	n, walkers int
+	limit      int // lags from limit on are not computed
+	have       int // lags [0, have) are in c
+	c          []float64
+	dev        [2][]float64 // a centred series per goroutine
+	par        bool
+	// load writes walker w's series, centred, into dev.
+	load func(w int, dev []float64)
+}
+
+// lagChunk is the number of lags computed at once.
+const lagChunk = 16
+
+func (t *lagTable) reset(n, walkers int, par bool, load func(w int, dev []float64)) {
+	t.n, t.walkers, t.load = n, walkers, load
+	t.limit = min(lagLimit(n), n)
+	t.have = 0
+	t.c = growF64(t.c, walkers*t.limit)
+	t.par = par && n*walkers >= parMin
+	for i := range t.dev {
+		t.dev[i] = growF64(t.dev[i], n)
+	}
+}
+
+// ensure makes lag m available; false if m is at or beyond the limit.
+func (t *lagTable) ensure(m int) bool {
+	for m >= t.have {
+		if t.have >= t.limit {
+			return false
+		}
+		lo, hi := t.have, min(t.have+lagChunk, t.limit)
+		split(t.par, t.walkers, func(w0, w1 int) {
+			dev := t.dev[0]
+			if w0 > 0 {
+				dev = t.dev[1]
+			}
+			for w := w0; w < w1; w++ {
+				t.load(w, dev)
+				acf.Sums(dev, lo, t.c[w*t.limit+lo:w*t.limit+hi])
+			}
+		})
+		t.have = hi
+	}
+	return true
+}
+
+// at returns C_w(k) for a k made available by ensure.
+func (t *lagTable) at(w, k int) float64 { return t.c[w*t.limit+k] }
+
+// autocorr is AutocorrTime of the walker-major chain x[w*n+s].
+func (sc *diagScratch) autocorr(x []float64, n, walkers int) (float64, error) {
+	if n < 2 {
+		return math.NaN(), fmt.Errorf("%w: %d step", ErrShortChain, n)
+	}
+	if n >= directMinLen {
+		if tau, err, ok := sc.autocorrDirect(x, n, walkers); ok {
+			return tau, err
+		}
+	}
+	return sc.autocorrFFT(x, n, walkers)
+}
+
+// autocorrFFT is autocorr with every walker's autocovariance by FFT.
+func (sc *diagScratch) autocorrFFT(x []float64, n, walkers int) (float64, error) {
+	w := sc.work(n)
+	sc.ac = growF64(sc.ac, n)
+	sc.rho = growF64(sc.rho, n)
+	ac, rho := sc.ac, sc.rho
+	clear(rho)
 	used := 0
 	for k := range walkers {
-		for s := range steps {
-			series[s] = x[s*walkers+k]
-		}
-		w.Autocov(series, ac)
+		w.Autocov(x[k*n:(k+1)*n], ac)
 		if !(ac[0] > 0) {
 			continue
 		}
-		for t := range steps {
+		for t := range n {
 			rho[t] += ac[t] / ac[0]
 		}
 		used++
@@ -123,23 +323,35 @@ func autocorrFFT(x []float64, steps, walkers int) (float64, error) {
 	if used == 0 {
 		return math.NaN(), errConstant
 	}
-	tau, err, _ := sokalTau(steps, used, func(m int) (float64, bool) { return rho[m], true })
+	tau, err, _ := sokalTau(n, used, func(m int) (float64, bool) { return rho[m], true })
 	return tau, err
 }
 
-// autocorrDirect is AutocorrTime with the autocovariances summed lag by
-// lag up to the window; ok is false if that would take more than
-// lagBudget lags.
-func autocorrDirect(x []float64, steps, walkers int) (tau float64, err error, ok bool) {
-	var lg acf.Lags
-	lg.LoadInterleaved(x, steps, walkers)
-	const B = acf.LagBlock
-	buf := make([]float64, walkers*B)
-	c0 := make([]float64, walkers)
-	lg.Block(0, buf)
+// autocorrDirect is autocorr with the autocovariances summed lag by lag
+// up to the window; ok is false if that would take lags beyond lagLimit.
+func (sc *diagScratch) autocorrDirect(x []float64, n, walkers int) (tau float64, err error, ok bool) {
+	sc.mean = growF64(sc.mean, walkers)
+	sc.c0 = growF64(sc.c0, walkers)
+	mean, c0 := sc.mean, sc.c0
+	for w := range walkers {
+		// The mean summed in step order, as acf.Lags centres a series.
+		mu := 0.0
+		for _, v := range x[w*n : (w+1)*n] {
+			mu += v
+		}
+		mean[w] = mu / float64(n)
+	}
+	t := &sc.tab
+	t.reset(n, walkers, sc.par, func(w int, dev []float64) {
+		mu := mean[w]
+		for i, v := range x[w*n : (w+1)*n] {
+			dev[i] = v - mu
+		}
+	})
+	t.ensure(0)
 	used := 0
 	for w := range walkers {
-		c0[w] = buf[w*B]
+		c0[w] = t.at(w, 0)
 		if c0[w] > 0 {
 			used++
 		}
@@ -147,29 +359,17 @@ func autocorrDirect(x []float64, steps, walkers int) (tau float64, err error, ok
 	if used == 0 {
 		return math.NaN(), errConstant, true
 	}
-	var rho [B]float64
-	k0 := -B
-	budget := lagBudget(steps)
-	return sokalTau(steps, used, func(m int) (float64, bool) {
-		if m >= k0+B {
-			k0 = m - m%B
-			if k0 > budget {
-				return 0, false
-			}
-			if k0 > 0 {
-				lg.Block(k0, buf)
-			}
-			rho = [B]float64{}
-			for w := range walkers {
-				if !(c0[w] > 0) {
-					continue
-				}
-				for i := range B {
-					rho[i] += buf[w*B+i] / c0[w]
-				}
+	return sokalTau(n, used, func(m int) (float64, bool) {
+		if !t.ensure(m) {
+			return 0, false
+		}
+		r := 0.0
+		for w := range walkers {
+			if c0[w] > 0 {
+				r += t.at(w, m) / c0[w]
 			}
 		}
-		return rho[m-k0], true
+		return r, true
 	})
 }
 
@@ -282,7 +482,7 @@ func splitRhatOf(r *ranker, x []float64, steps, walkers int) float64 {
 // splitRhatRanked is SplitRhat of the split chains c, ranked with r.
 func splitRhatRanked(r *ranker, c []float64, n, m int) float64 {
 	z := r.normalize(c, nil)
-	return splitRhat(r, c, z, medianSorted(r.sorted), n, m)
+	return splitRhat(r, c, z, r.median(), n, m)
 }
 
 // splitRhat combines the bulk R-hat of the rank-normalised split chains z
@@ -546,23 +746,79 @@ func diagnose(pos []float64, steps, walkers, dim int, acc []float64, names []str
 	if names != nil && len(names) != dim {
 		return Report{}, fmt.Errorf("sampler: Diagnose: %d names for %d parameters", len(names), dim)
 	}
+	v := chainView{pos: pos, steps: steps, walkers: walkers, dim: dim, stride: 1}
+	return newDiagPool().diagnose(v, acc, names, true, tails, 1), nil
+}
+
+// A chainView is a chain of positions read in place: the value of
+// parameter k at step s for walker w is pos[(s*stride*walkers+w)*dim+k],
+// so that a view of the history thinned by stride needs no copy.
+type chainView struct {
+	pos                         []float64
+	steps, walkers, dim, stride int
+}
+
+// gather writes parameter k walker-major, dst[w*steps+s].
+func (v chainView) gather(dst []float64, k int) []float64 {
+	dst = growF64(dst, v.steps*v.walkers)
+	row := v.stride * v.walkers * v.dim
+	for s := range v.steps {
+		r := v.pos[s*row : s*row+v.walkers*v.dim]
+		for w := range v.walkers {
+			dst[w*v.steps+s] = r[w*v.dim+k]
+		}
+	}
+	return dst
+}
+
+// diagnose is Diagnose of the chain v (which the caller has checked).
+// Without rhat it leaves BulkESS and TailESS NaN, and R-hat too unless
+// show > 1, when R-hat is that of every show-th step of v (the chain
+// thinned show times more, taken from the values already read), if that
+// leaves at least 8 steps, else of v.
+func (p *diagPool) diagnose(v chainView, acc []float64, names []string, rhat, tails bool, show int) Report {
+	steps, walkers := v.steps, v.walkers
 	rep := Report{Steps: steps, Walkers: walkers, MaxTau: math.Inf(-1), MinESS: math.Inf(1), MaxRhat: math.Inf(-1)}
-	x := make([]float64, steps*walkers)
-	var rk ranker
-	for k := range dim {
-		for i := range x {
-			x[i] = pos[i*dim+k]
+	rsteps := steps // steps R-hat is computed from
+	if !rhat && show > 1 {
+		if t := (steps + show - 1) / show; t >= 2*rhatSegments {
+			rsteps = t
 		}
-		tau, err := AutocorrTime(x, steps, walkers)
-		p := ParamReport{Index: k, Tau: tau, TauReliable: err == nil, ESS: float64(steps*walkers) / tau}
-		p.Rhat, p.BulkESS, p.TailESS = ensembleVehtari(&rk, x, steps, walkers, tails)
+		rhat = true
+	} else {
+		show = 1
+	}
+	if rhat {
+		p.setScores(rsteps, walkers)
+	}
+	rep.Params = make([]ParamReport, v.dim)
+	p.each(v.dim, func(sc *diagScratch, k int) {
+		sc.a = v.gather(sc.a, k)
+		tau, err := sc.autocorr(sc.a, steps, walkers)
+		pr := ParamReport{Index: k, Tau: tau, TauReliable: err == nil, ESS: float64(steps*walkers) / tau}
+		pr.Rhat, pr.BulkESS, pr.TailESS = math.NaN(), math.NaN(), math.NaN()
+		if rhat {
+			if rsteps < steps {
+				// Every show-th step, compacted in place (the
+				// destination never passes the source).
+				x := sc.a
+				for w := range walkers {
+					for s := range rsteps {
+						x[w*rsteps+s] = x[w*steps+s*show]
+					}
+				}
+			}
+			pr.Rhat, pr.BulkESS, pr.TailESS = sc.vehtari(sc.a, rsteps, walkers, tails)
+		}
 		if names != nil {
-			p.Name = names[k]
+			pr.Name = names[k]
 		}
-		rep.Params = append(rep.Params, p)
-		rep.MaxTau = nanMax(rep.MaxTau, p.Tau)
-		rep.MinESS = nanMin(rep.MinESS, p.ESS)
-		rep.MaxRhat = nanMax(rep.MaxRhat, p.Rhat)
+		rep.Params[k] = pr
+	})
+	for _, pr := range rep.Params {
+		rep.MaxTau = nanMax(rep.MaxTau, pr.Tau)
+		rep.MinESS = nanMin(rep.MinESS, pr.ESS)
+		rep.MaxRhat = nanMax(rep.MaxRhat, pr.Rhat)
 	}
 	if acc != nil {
 		for _, a := range acc {
@@ -571,7 +827,26 @@ func diagnose(pos []float64, steps, walkers, dim int, acc []float64, names []str
 		rep.MeanAcceptance /= float64(len(acc))
 		rep.StuckWalkers = StuckWalkers(acc, steps)
 	}
-	return rep, nil
+	return rep
+}
+
+// setScores prepares the shared scores for chains of steps x walkers:
+// every parameter ranks the same number of draws (see vehtari).
+func (p *diagPool) setScores(steps, walkers int) {
+	if steps >= 2*rhatSegments {
+		p.tab.set((steps-steps%rhatSegments)*walkers, len(p.workers) > 1)
+	}
+}
+
+// rhats returns the ensemble R-hat (EnsembleRhat) of every parameter of v.
+func (p *diagPool) rhats(v chainView) []float64 {
+	p.setScores(v.steps, v.walkers)
+	rh := make([]float64, v.dim)
+	p.each(v.dim, func(sc *diagScratch, k int) {
+		sc.a = v.gather(sc.a, k)
+		rh[k], _, _ = sc.vehtari(sc.a, v.steps, v.walkers, false)
+	})
+	return rh
 }
 
 // nanMax and nanMin propagate NaN so that an undefined diagnostic is not

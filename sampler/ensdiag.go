@@ -2,10 +2,7 @@ package sampler
 
 import (
 	"math"
-	"slices"
-
-	"tautline/internal/numeric"
-	"tautline/sampler/internal/acf"
+	"unsafe"
 )
 
 // The walkers of one affine-invariant ensemble are not independent chains:
@@ -51,8 +48,7 @@ func EnsembleRhat(x []float64, steps, walkers int) float64 {
 	if checkLayout(x, steps, walkers) != nil || steps < 2*rhatSegments {
 		return math.NaN()
 	}
-	var r ranker
-	rh, _, _ := ensembleVehtari(&r, x, steps, walkers, false)
+	rh, _, _ := ensembleVehtari(x, steps, walkers, false)
 	return rh
 }
 
@@ -62,8 +58,7 @@ func EnsembleBulkESS(x []float64, steps, walkers int) float64 {
 	if checkLayout(x, steps, walkers) != nil || steps < 8 {
 		return math.NaN()
 	}
-	var r ranker
-	_, bulk, _ := ensembleVehtari(&r, x, steps, walkers, true)
+	_, bulk, _ := ensembleVehtari(x, steps, walkers, true)
 	return bulk
 }
 
@@ -73,60 +68,131 @@ func EnsembleTailESS(x []float64, steps, walkers int) float64 {
 	if checkLayout(x, steps, walkers) != nil || steps < 8 {
 		return math.NaN()
 	}
-	var r ranker
-	_, _, tail := ensembleVehtari(&r, x, steps, walkers, true)
+	_, _, tail := ensembleVehtari(x, steps, walkers, true)
 	return tail
 }
 
-// ensembleVehtari returns the ensemble R-hat and, with ess, the ensemble
-// bulk and tail ESS of one parameter, sharing one rank normalisation of
-// the draws and one of the folded draws between them.
-func ensembleVehtari(r *ranker, x []float64, steps, walkers int, ess bool) (rh, bulk, tail float64) {
+// ensembleVehtari is vehtari of the chain x[s*walkers+w].
+func ensembleVehtari(x []float64, steps, walkers int, ess bool) (rh, bulk, tail float64) {
+	sc := newDiagScratch()
+	sc.a = transpose(sc.a, x, steps, walkers)
+	return sc.vehtari(sc.a, steps, walkers, ess)
+}
+
+// vehtari returns the ensemble R-hat and, with ess, the ensemble bulk and
+// tail ESS of one parameter from its walker-major chain x[w*steps+s],
+// which it overwrites. One ordering of the draws serves every statistic:
+// the normal scores of the draws, the quantiles, the tail indicators, and
+// the scores of the folded draws |x - median| (merged from it).
+func (sc *diagScratch) vehtari(x []float64, steps, walkers int, ess bool) (rh, bulk, tail float64) {
 	bulk, tail = math.NaN(), math.NaN()
 	if steps < 2*rhatSegments {
 		return math.NaN(), bulk, tail
 	}
 	drop := steps % rhatSegments
 	S := steps - drop
-	xs := x[drop*walkers:]
-	z := r.normalize(xs, nil)
-	var sorted []float64
+	N := S * walkers
+	r := &sc.rk
+	// Draw i = w*S+s is step drop+s of walker w; the order of the labels
+	// does not matter to ranks.
+	r.load(N, func(i int) float64 { return x[(i/S)*steps+drop+i%S] })
+	r.sort(asKeys(x)) // the draws are no longer needed: the ranker holds them
+	med := r.median()
+	z := x[:N]
+	r.score(z)
+	rz, hz := segmentRhat(z, S, walkers), walkerHalvesRhat(z, S, walkers)
 	if ess {
-		sorted = slices.Clone(r.sorted)
+		Nf := float64(N)
+		bulk = Nf / sc.ensembleTau(z, S, walkers)
+		// The indicators I(x <= q) are 1 on the positions of the order
+		// from the first non-NaN value to the last one <= q.
+		nan := 0
+		for nan < N && r.keys[nan] == 0 {
+			nan++
+		}
+		tail = math.Inf(1)
+		for _, p := range []float64{0.05, 0.95} {
+			q := r.quantile(p)
+			c, hi := nan, N
+			for c < hi {
+				m := int(uint(c+hi) >> 1)
+				if r.at(m) <= q {
+					c = m + 1
+				} else {
+					hi = m
+				}
+			}
+			ind := z
+			for p, i := range r.idx {
+				ind[i] = 0
+				if p >= nan && p < c {
+					ind[i] = 1
+				}
+			}
+			tail = math.Min(tail, Nf/sc.ensembleTau(ind, S, walkers))
+		}
 	}
-	med := medianSorted(r.sorted)
-	f := make([]float64, len(xs))
-	for i, v := range xs {
-		f[i] = math.Abs(v - med)
+	fz := z
+	if !r.foldScore(fz, med) {
+		// Non-finite draws: rank the folded draws afresh.
+		for p, i := range r.idx {
+			fz[i] = math.Abs(r.at(p) - med)
+		}
+		r.load(N, func(i int) float64 { return fz[i] })
+		r.sort(asKeys(x))
+		r.score(fz)
 	}
-	fz := r.normalize(f, f)
-	n := S / rhatSegments * walkers
 	rh = math.Max(
-		math.Max(rhat(z, n, rhatSegments), rhat(fz, n, rhatSegments)),
-		math.Max(walkerHalvesRhat(z, S, walkers), walkerHalvesRhat(fz, S, walkers)))
-	if !ess {
-		return rh, bulk, tail
+		math.Max(rz, segmentRhat(fz, S, walkers)),
+		math.Max(hz, walkerHalvesRhat(fz, S, walkers)))
+	return rh, bulk, tail
+}
+
+// asKeys is x's memory as uint64 values, a buffer for the sort while x
+// holds nothing needed (the sizes and alignments of the two types agree).
+func asKeys(x []float64) []uint64 {
+	if len(x) == 0 {
+		return nil
 	}
-	N := float64(S * walkers)
-	bulk = N / ensembleTau(z, S, walkers)
-	ind := f // the folded draws are no longer needed
-	tail = math.Inf(1)
-	for _, p := range []float64{0.05, 0.95} {
-		q := numeric.Quantile(sorted, p)
-		for i, v := range xs {
-			ind[i] = 0
-			if v <= q {
-				ind[i] = 1
+	return unsafe.Slice((*uint64)(unsafe.Pointer(&x[0])), len(x))
+}
+
+// segmentRhat is the R-hat of Gelman & Rubin (1992) (Vehtari et al. 2021,
+// eq. 1-4) of rhatSegments chains, consecutive time segments of the whole
+// ensemble, each summed step by step over the walkers, read from the
+// walker-major z[w*steps+s] (steps a multiple of rhatSegments).
+func segmentRhat(z []float64, steps, walkers int) float64 {
+	const m = rhatSegments
+	seg := steps / m
+	n := seg * walkers
+	if n < 2 {
+		return math.NaN()
+	}
+	var means, ss [m]float64
+	for j := range m {
+		mu := 0.0
+		for s := j * seg; s < (j+1)*seg; s++ {
+			for w := range walkers {
+				mu += z[w*steps+s]
 			}
 		}
-		tail = math.Min(tail, N/ensembleTau(ind, S, walkers))
+		mu /= float64(n)
+		s2 := 0.0
+		for s := j * seg; s < (j+1)*seg; s++ {
+			for w := range walkers {
+				d := z[w*steps+s] - mu
+				s2 += d * d
+			}
+		}
+		means[j], ss[j] = mu, s2
 	}
-	return rh, bulk, tail
+	return rhatMoments(means[:], ss[:], n)
 }
 
 // walkerHalvesRhat is the R-hat of Gelman & Rubin (1992) (Vehtari et al.
 // 2021, eq. 1-4) of the 2 x walkers chains made of each walker's first and
-// second half, read in place from the layout z[s*walkers+w] (steps even).
+// second half (chain h*walkers+w), read in place from the walker-major
+// z[w*steps+s] (steps even).
 func walkerHalvesRhat(z []float64, steps, walkers int) float64 {
 	n := steps / 2
 	if n < 2 {
@@ -134,23 +200,21 @@ func walkerHalvesRhat(z []float64, steps, walkers int) float64 {
 	}
 	m := 2 * walkers
 	sum := make([]float64, m)
-	for s := range steps {
-		h := (s / n) * walkers
-		row := z[s*walkers : (s+1)*walkers]
-		for w, v := range row {
-			sum[h+w] += v
-		}
-	}
-	for j := range sum {
-		sum[j] /= float64(n)
-	}
 	ss := make([]float64, m)
-	for s := range steps {
-		h := (s / n) * walkers
-		row := z[s*walkers : (s+1)*walkers]
-		for w, v := range row {
-			d := v - sum[h+w]
-			ss[h+w] += d * d
+	for h := range 2 {
+		for w := range walkers {
+			ch := z[w*steps+h*n : w*steps+(h+1)*n]
+			mu := 0.0
+			for _, v := range ch {
+				mu += v
+			}
+			mu /= float64(n)
+			s2 := 0.0
+			for _, v := range ch {
+				d := v - mu
+				s2 += d * d
+			}
+			sum[h*walkers+w], ss[h*walkers+w] = mu, s2
 		}
 	}
 	return rhatMoments(sum, ss, n)
@@ -163,27 +227,29 @@ func walkerHalvesRhat(z []float64, steps, walkers int) float64 {
 //	C_w(k) = (1/n) sum_t (x_w,t - xbar)(x_w,t+k - xbar),
 //
 // with xbar the mean over all walkers and steps: the walker-averaged
-// autocovariance about the ensemble's mean. NaN for a constant chain.
-func ensembleTau(x []float64, steps, walkers int) float64 {
+// autocovariance about the ensemble's mean, of the walker-major chain
+// x[w*steps+s]. NaN for a constant chain.
+func (sc *diagScratch) ensembleTau(x []float64, steps, walkers int) float64 {
+	// The mean summed step by step over the walkers.
 	mean := 0.0
-	for _, v := range x {
-		mean += v
+	for s := range steps {
+		for w := range walkers {
+			mean += x[w*steps+s]
+		}
 	}
-	mean /= float64(len(x))
+	mean /= float64(steps * walkers)
 	if steps >= directMinLen {
-		if tau, ok := ensembleTauDirect(x, steps, walkers, mean); ok {
+		if tau, ok := sc.ensembleTauDirect(x, steps, walkers, mean); ok {
 			return tau
 		}
 	}
-	w := acf.New(steps)
-	series := make([]float64, steps)
-	ac := make([]float64, steps)
-	sum := make([]float64, steps)
+	w := sc.work(steps)
+	sc.ac = growF64(sc.ac, steps)
+	sc.rho = growF64(sc.rho, steps)
+	ac, sum := sc.ac, sc.rho
+	clear(sum)
 	for k := range walkers {
-		for s := range steps {
-			series[s] = x[s*walkers+k]
-		}
-		w.AutocovAbout(series, mean, ac)
+		w.AutocovAbout(x[k*steps:(k+1)*steps], mean, ac)
 		for t := range steps {
 			sum[t] += ac[t]
 		}
@@ -196,45 +262,31 @@ func ensembleTau(x []float64, steps, walkers int) float64 {
 }
 
 // ensembleTauDirect is ensembleTau with the autocovariances summed lag by
-// lag (acf.Lags); ok is false beyond lagBudget lags.
-func ensembleTauDirect(x []float64, steps, walkers int, mean float64) (float64, bool) {
-	var lg acf.Lags
-	lg.LoadInterleavedAbout(x, steps, walkers, mean)
-	const B = acf.LagBlock
-	buf := make([]float64, walkers*B)
-	lg.Block(0, buf)
+// lag; ok is false beyond lagLimit.
+func (sc *diagScratch) ensembleTauDirect(x []float64, steps, walkers int, mean float64) (float64, bool) {
+	t := &sc.tab
+	t.reset(steps, walkers, sc.par, func(w int, dev []float64) {
+		for i, v := range x[w*steps : (w+1)*steps] {
+			dev[i] = v - mean
+		}
+	})
+	t.ensure(0)
 	c0 := 0.0
 	for w := range walkers {
-		c0 += buf[w*B]
+		c0 += t.at(w, 0)
 	}
 	if !(c0 > 0) {
 		return math.NaN(), true
 	}
-	var rho [B]float64
-	k0 := 0
-	budget := lagBudget(steps)
-	fill := func() {
-		rho = [B]float64{}
-		for w := range walkers {
-			for i := range B {
-				rho[i] += buf[w*B+i]
-			}
-		}
-		for i := range B {
-			rho[i] /= c0
-		}
-	}
-	fill()
 	tau, _, ok := sokalTau(steps, 1, func(m int) (float64, bool) {
-		if m >= k0+B {
-			k0 = m - m%B
-			if k0 > budget {
-				return 0, false
-			}
-			lg.Block(k0, buf)
-			fill()
+		if !t.ensure(m) {
+			return 0, false
 		}
-		return rho[m-k0], true
+		r := 0.0
+		for w := range walkers {
+			r += t.at(w, m)
+		}
+		return r / c0, true
 	})
 	return tau, ok
 }

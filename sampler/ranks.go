@@ -7,22 +7,60 @@ import (
 )
 
 // A ranker computes the normal scores of pooled ranks of Vehtari et al.
-// (2021), eq. 14, reusing its buffers and the scores of integer ranks
-// between calls on samples of one size. It orders the values with a radix
-// sort of their bit patterns (the order of cmp.Compare: NaN first, then
-// increasing), so its scores equal those of a comparison sort.
+// (2021), eq. 14,
+//
+//	z = Phi^-1((r - 3/8)/(S + 1/4)),
+//
+// with average ranks r for ties, reusing its buffers and the scores of
+// untied ranks between calls on samples of one size. It orders the values
+// by an in-place radix sort of their bit patterns (the order of
+// cmp.Compare: NaN first, then increasing), so its scores equal those of a
+// comparison sort, and keeps the ordered values as their sort keys (no
+// copy of the values).
 type ranker struct {
+	own  scoreTable
+	tab  *scoreTable // if not nil, shared scores set up for the sizes ranked
+	keys []uint64    // sortKey of the values, in order after sort
+	idx  []int32     // idx[p] is the index of the value at position p
+	tmpI []int32
+	tmpK []uint64 // the sort's second key buffer, if spare is not given
+}
+
+// A scoreTable holds the normal scores of the untied ranks of size values,
+// scores[i] for rank i+1.
+type scoreTable struct {
 	size   int
-	scores []float64 // score of rank i+1 without ties, for size values
-	keys   []uint64
-	tmpK   []uint64
-	idx    []int32
-	tmpI   []int32
-	sorted []float64 // the values of the last normalize call, in order
+	scores []float64
+}
+
+// set makes t the table for S values, filling it on two goroutines with
+// par.
+func (t *scoreTable) set(S int, par bool) {
+	if t.size == S && t.scores != nil {
+		return
+	}
+	t.size = S
+	t.scores = growF64(t.scores, S)
+	split(par && S >= parMin, S, func(lo, hi int) {
+		for i := lo; i < hi; i++ {
+			rk := float64(i+i)/2 + 1
+			t.scores[i] = distuv.UnitNormal.Quantile((rk - 0.375) / (float64(S) + 0.25))
+		}
+	})
+}
+
+// scores returns the scores of untied ranks for S values: the shared
+// table if it is for S, else the ranker's own.
+func (r *ranker) scores(S int) []float64 {
+	if r.tab != nil && r.tab.size == S && r.tab.scores != nil {
+		return r.tab.scores
+	}
+	r.own.set(S, false)
+	return r.own.scores
 }
 
 // sortKey maps a float64 to a uint64 whose unsigned order is the order of
-// cmp.Compare on the floats (NaNs first).
+// cmp.Compare on the floats (NaNs first, all mapped to 0).
 func sortKey(v float64) uint64 {
 	if v != v {
 		return 0
@@ -34,64 +72,187 @@ func sortKey(v float64) uint64 {
 	return b | 1<<63
 }
 
-// normalize writes into z (allocated if too short) the scores
-// Phi^-1((r - 3/8)/(S + 1/4)) of the pooled ranks r of v, with average
-// ranks for ties, and returns z. Afterwards r.sorted holds v in order.
+// keyValue inverts sortKey (a NaN key gives a NaN).
+func keyValue(k uint64) float64 {
+	if k>>63 != 0 {
+		return math.Float64frombits(k &^ (1 << 63))
+	}
+	return math.Float64frombits(^k)
+}
+
+// load sets the values to rank: n of them, value i being v(i).
+func (r *ranker) load(n int, v func(i int) float64) {
+	r.keys = growU64(r.keys, n)
+	r.idx = growI32(r.idx, n)
+	for i := range n {
+		r.keys[i] = sortKey(v(i))
+		r.idx[i] = int32(i)
+	}
+}
+
+// at returns the value at position p of the order.
+func (r *ranker) at(p int) float64 { return keyValue(r.keys[p]) }
+
+// median is the median of the ordered values, the mean of the middle two
+// for an even count.
+func (r *ranker) median() float64 {
+	n := len(r.keys)
+	if n%2 == 1 {
+		return r.at(n / 2)
+	}
+	return (r.at(n/2-1) + r.at(n/2)) / 2
+}
+
+// quantile is numeric.Quantile (type 7) of the ordered values.
+func (r *ranker) quantile(p float64) float64 {
+	n := len(r.keys)
+	if n == 0 || !(p >= 0 && p <= 1) {
+		return math.NaN()
+	}
+	h := p * float64(n-1)
+	if h <= 0 {
+		return r.at(0)
+	}
+	j := int(h)
+	if j >= n-1 {
+		return r.at(n - 1)
+	}
+	return r.at(j) + (h-float64(j))*(r.at(j+1)-r.at(j))
+}
+
+// normalize writes into z (allocated if too short) the scores of the
+// pooled ranks of v and returns z; afterwards the ranker holds v in order.
 func (r *ranker) normalize(v, z []float64) []float64 {
 	S := len(v)
 	if cap(z) < S {
 		z = make([]float64, S)
 	}
 	z = z[:S]
-	r.sort(v)
-	if r.size != S || r.scores == nil {
-		r.size = S
-		r.scores = make([]float64, S)
-		for i := range r.scores {
-			rk := float64(i+i)/2 + 1
-			r.scores[i] = distuv.UnitNormal.Quantile((rk - 0.375) / (float64(S) + 0.25))
-		}
+	r.load(S, func(i int) float64 { return v[i] })
+	r.sort(nil)
+	r.score(z)
+	return z
+}
+
+// sort orders the loaded values; spare, if at least as long as the
+// values, is overwritten as the sort's second key buffer.
+func (r *ranker) sort(spare []uint64) {
+	n := len(r.keys)
+	if len(spare) < n {
+		r.tmpK = growU64(r.tmpK, n)
+		spare = r.tmpK
 	}
-	s, idx := r.sorted, r.idx
+	r.tmpI = growI32(r.tmpI, n)
+	sortPairs(r.keys, r.idx, spare[:n], r.tmpI)
+}
+
+// tiedScore is the score of the ranks i+1 .. j+1 of S values, sc being
+// the scores of untied ranks.
+func tiedScore(sc []float64, i, j, S int) float64 {
+	if i == j {
+		return sc[i]
+	}
+	rk := float64(i+j)/2 + 1
+	return distuv.UnitNormal.Quantile((rk - 0.375) / (float64(S) + 0.25))
+}
+
+// score writes the score of every loaded, ordered value into z[i] for
+// its index i, with average ranks for equal values.
+func (r *ranker) score(z []float64) {
+	S := len(r.keys)
+	sc := r.scores(S)
+	keys, idx := r.keys, r.idx
 	for i := 0; i < S; {
+		vi := keyValue(keys[i])
 		j := i
-		for j+1 < S && s[j+1] == s[i] {
+		for j+1 < S && keyValue(keys[j+1]) == vi {
 			j++
 		}
-		if i == j {
-			z[idx[i]] = r.scores[i]
-			i++
-			continue
-		}
-		rk := float64(i+j)/2 + 1
-		q := distuv.UnitNormal.Quantile((rk - 0.375) / (float64(S) + 0.25))
+		q := tiedScore(sc, i, j, S)
 		for k := i; k <= j; k++ {
 			z[idx[k]] = q
 		}
 		i = j + 1
 	}
-	return z
 }
 
-// sort fills r.idx with the permutation that orders v and r.sorted with
-// the ordered values: a least-significant-digit radix sort on 11-bit
-// digits of sortKey, skipping digits all keys share.
-func (r *ranker) sort(v []float64) {
-	S := len(v)
-	grow := func(p *[]uint64) { *p = growU64(*p, S) }
-	grow(&r.keys)
-	grow(&r.tmpK)
-	r.idx = growI32(r.idx, S)
-	r.tmpI = growI32(r.tmpI, S)
-	if cap(r.sorted) < S {
-		r.sorted = make([]float64, S)
+// foldScore writes into z[i] the score of |v_i - med| among the folded
+// values, for the ordered values v of the ranker, and reports whether it
+// could: the folded values are ordered by merging those below med
+// (decreasing) with those above (increasing), which needs finite values;
+// it leaves z alone and returns false otherwise. Rounding is monotone, so
+// the merge orders the folded values exactly as sorting them would.
+func (r *ranker) foldScore(z []float64, med float64) bool {
+	S := len(r.keys)
+	if S == 0 || math.IsNaN(med) || math.IsInf(med, 0) {
+		return false
 	}
-	r.sorted = r.sorted[:S]
-	keys, idx, tk, ti := r.keys, r.idx, r.tmpK, r.tmpI
-	for i, x := range v {
-		keys[i] = sortKey(x)
-		idx[i] = int32(i)
+	if lo, hi := r.at(0), r.at(S-1); math.IsNaN(lo) || math.IsInf(lo, 0) || math.IsInf(hi, 0) {
+		return false
 	}
+	sc := r.scores(S)
+	keys, idx := r.keys, r.idx
+	// p0 is the first position whose value is at least med.
+	p0, hi := 0, S
+	for p0 < hi {
+		m := int(uint(p0+hi) >> 1)
+		if keyValue(keys[m]) < med {
+			p0 = m + 1
+		} else {
+			hi = m
+		}
+	}
+	// Merge the run below med, read downwards, with the run above; fl and
+	// fu are the folded values at their heads l and u (+Inf past the end,
+	// with the runs' lengths deciding which is exhausted).
+	l, u := p0-1, p0
+	inf := math.Inf(1)
+	fold := func(p int) float64 { return math.Abs(keyValue(keys[p]) - med) }
+	fl, fu := inf, inf
+	if l >= 0 {
+		fl = fold(l)
+	}
+	if u < S {
+		fu = fold(u)
+	}
+	for rank := 0; rank < S; {
+		g := fu
+		if l >= 0 && (u >= S || fl < fu) {
+			g = fl
+		}
+		l0, u0 := l, u
+		for l >= 0 && fl == g {
+			if l--; l >= 0 {
+				fl = fold(l)
+			}
+		}
+		for u < S && fu == g {
+			if u++; u < S {
+				fu = fold(u)
+			}
+		}
+		n := (l0 - l) + (u - u0)
+		q := tiedScore(sc, rank, rank+n-1, S)
+		for p := l + 1; p <= l0; p++ {
+			z[idx[p]] = q
+		}
+		for p := u0; p < u; p++ {
+			z[idx[p]] = q
+		}
+		rank += n
+	}
+	return true
+}
+
+// sortPairs sorts keys in increasing order, permuting idx alike: a
+// least-significant-digit radix sort on 11-bit digits, skipping digits all
+// keys share, with tk and ti (as long as keys) as its second buffers.
+func sortPairs(keys []uint64, idx []int32, tk []uint64, ti []int32) {
+	S := len(keys)
+	if S == 0 {
+		return
+	}
+	orig := keys
 	const bitsPer, passes = 11, 6 // 6 x 11 >= 64 bits
 	const mask = 1<<bitsPer - 1
 	var count [passes][1 << bitsPer]int
@@ -121,9 +282,9 @@ func (r *ranker) sort(v []float64) {
 		keys, tk = tk, keys
 		idx, ti = ti, idx
 	}
-	r.keys, r.tmpK, r.idx, r.tmpI = keys, tk, idx, ti
-	for i, j := range idx {
-		r.sorted[i] = v[j]
+	if &keys[0] != &orig[0] {
+		copy(tk, keys)
+		copy(ti, idx)
 	}
 }
 
@@ -141,12 +302,9 @@ func growI32(p []int32, n int) []int32 {
 	return p[:n]
 }
 
-// medianSorted is the median of sorted values, the mean of the middle two
-// for an even count.
-func medianSorted(s []float64) float64 {
-	n := len(s)
-	if n%2 == 1 {
-		return s[n/2]
+func growF64(p []float64, n int) []float64 {
+	if cap(p) < n {
+		return make([]float64, n)
 	}
-	return (s[n/2-1] + s[n/2]) / 2
+	return p[:n]
 }

@@ -5,7 +5,6 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"slices"
 	"time"
 )
 
@@ -20,6 +19,15 @@ type History struct {
 	rungs   int
 	pos     []float64 // n x walkers x dim, cold rung
 	ll      []float64 // n x rungs x walkers
+	diag    *diagPool // the diagnostics' buffers, reused by every check
+}
+
+// pool returns the diagnostics' goroutines and buffers of h.
+func (h *History) pool() *diagPool {
+	if h.diag == nil {
+		h.diag = newDiagPool()
+	}
+	return h.diag
 }
 
 func newHistory(e *Ensemble) *History {
@@ -44,9 +52,22 @@ func (h *History) reserve(steps int) {
 	per := h.walkers * (h.dim + h.rungs)
 	steps = min(steps, maxReserve/(8*max(per, 1)))
 	if steps > 0 {
-		h.pos = slices.Grow(h.pos, steps*h.walkers*h.dim)
-		h.ll = slices.Grow(h.ll, steps*h.walkers*h.rungs)
+		h.pos = grown(h.pos, steps*h.walkers*h.dim)
+		h.ll = grown(h.ll, steps*h.walkers*h.rungs)
 	}
+}
+
+// grown is s with room for n more values. Unlike slices.Grow it does not
+// clear the new room: fresh memory from the system is zero already, and
+// is then touched only as the history is recorded (not at all by a run
+// that converges early).
+func grown(s []float64, n int) []float64 {
+	if cap(s)-len(s) >= n {
+		return s
+	}
+	g := make([]float64, len(s), len(s)+n)
+	copy(g, s)
+	return g
 }
 
 // Start returns the ensemble step count before the first recorded step.
@@ -155,6 +176,11 @@ func (h *History) maxTauThinned(from int, th thinning) float64 {
 	return h.thinnedTau(from, k)
 }
 
+// view is the chain of ns recorded steps from, from+k, ..., read in place.
+func (h *History) view(from, k, ns int) chainView {
+	return chainView{pos: h.pos[from*h.walkers*h.dim:], steps: ns, walkers: h.walkers, dim: h.dim, stride: k}
+}
+
 // thinnedTau is the largest autocorrelation time over the parameters of
 // the chain of recorded steps from, from+k, ..., in unthinned steps.
 func (h *History) thinnedTau(from, k int) float64 {
@@ -162,16 +188,14 @@ func (h *History) thinnedTau(from, k int) float64 {
 	if ns < 4 {
 		return math.NaN()
 	}
-	x := make([]float64, ns*h.walkers)
+	v := h.view(from, k, ns)
+	taus := make([]float64, h.dim)
+	h.pool().each(h.dim, func(sc *diagScratch, p int) {
+		sc.a = v.gather(sc.a, p)
+		taus[p], _ = sc.autocorr(sc.a, ns, h.walkers)
+	})
 	tau := math.NaN()
-	for p := range h.dim {
-		for i := range ns {
-			s := from + i*k
-			for w := range h.walkers {
-				x[i*h.walkers+w] = h.pos[(s*h.walkers+w)*h.dim+p]
-			}
-		}
-		t, _ := AutocorrTime(x, ns, h.walkers)
+	for _, t := range taus {
 		if !math.IsNaN(t) && !(t*float64(k) <= tau) {
 			tau = t * float64(k)
 		}
@@ -214,11 +238,15 @@ type RunOptions struct {
 
 // Progress is what Run reports at every check.
 type Progress struct {
-	Steps     int           // ensemble steps so far
-	Rate      float64       // steps per second during this Run
-	MaxTau    float64       // largest autocorrelation time
-	MinESS    float64       // smallest ESS after burn-in
-	MaxRhat   float64       // largest ensemble R-hat (bulk and tail ESS are left for the Result)
+	Steps  int     // ensemble steps so far
+	Rate   float64 // steps per second during this Run
+	MaxTau float64 // largest autocorrelation time
+	MinESS float64 // smallest ESS after burn-in
+	// MaxRhat is the largest ensemble R-hat (bulk and tail ESS are left
+	// for the Result). At a check where it decides nothing (another
+	// criterion fails, or there are none) it is estimated from the checked
+	// chain thinned 4 times more.
+	MaxRhat   float64
 	Burn      int           // burn-in chosen at this check
 	Converged bool          // all criteria hold
 	ETA       time.Duration // estimated time to convergence; -1 if unknown
@@ -388,10 +416,22 @@ type evaluation struct {
 	report                Report
 	converged             bool
 	needSteps             float64 // post-burn steps the criteria need (estimate)
+	// rhatExact says that the R-hat of a check is that of the checked
+	// chain (it decided); otherwise it is the estimate shown as progress.
+	rhatExact bool
 }
 
+// rhatShowThin is the further thinning of the chain from which a check
+// estimates an R-hat that decides nothing: a check thins to at most tau/4
+// (checkThinning), so this spaces the draws about one autocorrelation time
+// apart, which keeps most of the information in the chain at a quarter of
+// the cost.
+const rhatShowThin = 4
+
 // evaluate applies the burn-in, thinning and convergence rules to the
-// history; it depends on nothing but the history and options.
+// history; it depends on nothing but the history and options. The
+// diagnostics reuse the history's buffers (History.pool), and run the
+// parameters concurrently, with results that do not depend on it.
 func evaluate(e *Ensemble, opt RunOptions, final bool) evaluation {
 	h := e.hist
 	ev := evaluation{thin: max(opt.Thin, 1), needSteps: math.NaN()}
@@ -424,15 +464,13 @@ func evaluate(e *Ensemble, opt RunOptions, final bool) evaluation {
 	if ns < 8 {
 		return ev
 	}
-	row := h.walkers * h.dim
-	pos := make([]float64, 0, ns*row)
-	for s := ev.burnIndex; s < h.n; s += k {
-		pos = append(pos, h.pos[s*row:(s+1)*row]...)
+	pool := h.pool()
+	view := h.view(ev.burnIndex, k, ns)
+	show := rhatShowThin // a check's R-hat, if it does not decide (below)
+	if final {
+		show = 1
 	}
-	rep, err := diagnose(pos, ns, h.walkers, h.dim, e.AcceptanceFractions(0), nil, final)
-	if err != nil {
-		return ev
-	}
+	rep := pool.diagnose(view, e.AcceptanceFractions(0), nil, final, final, show)
 	rep.Steps = n
 	rep.MaxTau, rep.MinESS = math.Inf(-1), math.Inf(1)
 	for i := range rep.Params {
@@ -443,7 +481,6 @@ func evaluate(e *Ensemble, opt RunOptions, final bool) evaluation {
 		rep.MinESS = nanMin(rep.MinESS, p.ESS)
 	}
 	rep.StuckWalkers = StuckWalkers(e.AcceptanceFractions(0), e.steps)
-	ev.report = rep
 	if opt.Thin == 0 && rep.MaxTau > 0 {
 		ev.thin = max(1, int(rep.MaxTau/2))
 	}
@@ -458,9 +495,25 @@ func evaluate(e *Ensemble, opt RunOptions, final bool) evaluation {
 		ok = ok && float64(n) >= c.TauMultiple*rep.MaxTau
 		need = math.Max(need, c.TauMultiple*rep.MaxTau)
 	}
+	if !final {
+		// A check's R-hat decides only when every other condition holds;
+		// otherwise it only shows progress, and diagnose estimated it from
+		// the chain thinned rhatShowThin times more, which costs a
+		// fraction. When it decides, it is that of the checked chain.
+		if ev.rhatExact = c.Rhat > 0 && ok; ev.rhatExact {
+			for i, r := range pool.rhats(view) {
+				rep.Params[i].Rhat = r
+			}
+		}
+		rep.MaxRhat = math.Inf(-1)
+		for _, p := range rep.Params {
+			rep.MaxRhat = nanMax(rep.MaxRhat, p.Rhat)
+		}
+	}
 	if c.Rhat > 0 {
 		ok = ok && rep.MaxRhat <= c.Rhat
 	}
+	ev.report = rep
 	ev.converged = ok
 	if c.ESS > 0 || c.TauMultiple > 0 {
 		ev.needSteps = need

@@ -23,10 +23,7 @@ type Work struct {
 
 // New returns a Work for series of up to n values.
 func New(n int) *Work {
-	m := 1
-	for m < 2*n {
-		m *= 2
-	}
+	m := padded(n)
 	return &Work{
 		max:   n,
 		fft:   fourier.NewFFT(m),
@@ -34,6 +31,22 @@ func New(n int) *Work {
 		coeff: make([]complex128, m/2+1),
 		out:   make([]float64, m),
 	}
+}
+
+// padded is the FFT length of New(n): the least power of 2 >= 2n.
+func padded(n int) int {
+	m := 1
+	for m < 2*n {
+		m *= 2
+	}
+	return m
+}
+
+// Fits reports whether a (which may be nil) computes for series of n
+// values exactly what New(n) would: it takes n values and pads them to the
+// same FFT length.
+func (a *Work) Fits(n int) bool {
+	return a != nil && n <= a.max && len(a.buf) == padded(n)
 }
 
 // Autocov writes the biased autocovariance C(k) of series into

@@ -103,3 +103,53 @@ func TestLagsAgainstDirectSum(t *testing.T) {
 		}
 	}
 }
+
+// TestSumsAgainstDirectSum compares Sums, over lag ranges that start and
+// end anywhere (so that both its sixteen-lag kernel and its tail loop
+// run), with the defining sum in the package doc accumulated in t order:
+// the same operations in the same order, so equal to the bit.
+func TestSumsAgainstDirectSum(t *testing.T) {
+	r := rand.New(rand.NewPCG(5, 6))
+	for _, n := range []int{1, 2, 15, 16, 17, 40, 129} {
+		d := make([]float64, n)
+		for i := range d {
+			d[i] = r.NormFloat64()
+		}
+		for _, k0 := range []int{0, 1, 7, 16, n - 1, n, n + 3} {
+			for _, l := range []int{1, 8, 16, 23, 40} {
+				if k0 < 0 {
+					continue
+				}
+				got := make([]float64, l)
+				Sums(d, k0, got)
+				for i, g := range got {
+					k := k0 + i
+					want := 0.0
+					for s := 0; s+k < n; s++ {
+						want += d[s] * d[s+k]
+					}
+					want /= float64(n)
+					if g != want {
+						t.Errorf("n=%d k0=%d len %d: lag %d = %v, want %v", n, k0, l, k, g, want)
+					}
+				}
+			}
+		}
+	}
+}
+
+// TestFits checks that a Work is reused only for series it pads as New
+// would.
+func TestFits(t *testing.T) {
+	var nilWork *Work
+	w := New(300) // FFT length 1024
+	for _, c := range []struct {
+		w    *Work
+		n    int
+		want bool
+	}{{nilWork, 10, false}, {w, 300, true}, {w, 257, true}, {w, 256, false}, {w, 301, false}} {
+		if got := c.w.Fits(c.n); got != c.want {
+			t.Errorf("Fits(%d) = %v, want %v", c.n, got, c.want)
+		}
+	}
+}

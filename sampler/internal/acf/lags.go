@@ -43,20 +43,6 @@ func (l *Lags) LoadInterleaved(x []float64, n, m int) {
 	}
 }
 
-// LoadInterleavedAbout is LoadInterleaved with every series centred at
-// centre instead of its own mean (as Work.AutocovAbout); Mean then returns
-// centre for every series.
-func (l *Lags) LoadInterleavedAbout(x []float64, n, m int, centre float64) {
-	l.resize(n, m)
-	for j := range m {
-		d := l.dev[j*n : (j+1)*n]
-		for t := range d {
-			d[t] = x[t*m+j] - centre
-		}
-		l.mean[j] = centre
-	}
-}
-
 func (l *Lags) resize(n, m int) {
 	l.n, l.m = n, m
 	if cap(l.dev) < n*m {
@@ -94,37 +80,66 @@ func (l *Lags) Block(k0 int, out []float64) {
 	n := l.n
 	nf := float64(n)
 	for j := range l.m {
-		d := l.dev[j*n : (j+1)*n]
-		var s [LagBlock]float64
-		// t below full has every lag of the block inside the series.
-		full := max(n-(k0+LagBlock-1), 0)
-		if full > 0 {
-			a := d[:full]
-			b0, b1, b2, b3 := d[k0:k0+full], d[k0+1:k0+1+full], d[k0+2:k0+2+full], d[k0+3:k0+3+full]
-			b4, b5, b6, b7 := d[k0+4:k0+4+full], d[k0+5:k0+5+full], d[k0+6:k0+6+full], d[k0+7:k0+7+full]
-			var s0, s1, s2, s3, s4, s5, s6, s7 float64
-			for t, v := range a {
-				s0 += v * b0[t]
-				s1 += v * b1[t]
-				s2 += v * b2[t]
-				s3 += v * b3[t]
-				s4 += v * b4[t]
-				s5 += v * b5[t]
-				s6 += v * b6[t]
-				s7 += v * b7[t]
-			}
-			s = [LagBlock]float64{s0, s1, s2, s3, s4, s5, s6, s7}
-		}
-		for t := full; t < n-k0; t++ {
-			for i := range LagBlock {
-				if t+k0+i < n {
-					s[i] += d[t] * d[t+k0+i]
-				}
-			}
-		}
+		s := block(l.dev[j*n:(j+1)*n], k0)
 		o := out[j*LagBlock : (j+1)*LagBlock]
 		for i := range o {
 			o[i] = s[i] / nf
 		}
 	}
+}
+
+// Sums writes the autocovariances of one centred series d (its deviations
+// from its centre) at lags k0, k0+1, ..., k0+len(out)-1 into out:
+//
+//	out[i] = (1/n) sum_{t=0}^{n-1-k} d_t d_{t+k},  k = k0+i, n = len(d),
+//
+// lags at or beyond n being 0. Each sum is accumulated in t order, as
+// Block's, so a lag's value does not depend on the lags computed with it
+// (on amd64 sixteen lags at a time, one per SIMD lane).
+func Sums(d []float64, k0 int, out []float64) {
+	nf := float64(len(d))
+	for i := 0; i < len(out); i += 16 {
+		s := block16(d, k0+i)
+		o := out[i:min(i+16, len(out))]
+		for j := range o {
+			o[j] = s[j] / nf
+		}
+	}
+}
+
+// block returns the unnormalised sums sum_t d_t d_{t+k0+i}, i < LagBlock,
+// each accumulated in t order.
+func block(d []float64, k0 int) [LagBlock]float64 {
+	n := len(d)
+	var s [LagBlock]float64
+	if k0 >= n {
+		return s
+	}
+	// t below full has every lag of the block inside the series.
+	full := max(n-(k0+LagBlock-1), 0)
+	if full > 0 {
+		a := d[:full]
+		b0, b1, b2, b3 := d[k0:k0+full], d[k0+1:k0+1+full], d[k0+2:k0+2+full], d[k0+3:k0+3+full]
+		b4, b5, b6, b7 := d[k0+4:k0+4+full], d[k0+5:k0+5+full], d[k0+6:k0+6+full], d[k0+7:k0+7+full]
+		var s0, s1, s2, s3, s4, s5, s6, s7 float64
+		for t, v := range a {
+			s0 += v * b0[t]
+			s1 += v * b1[t]
+			s2 += v * b2[t]
+			s3 += v * b3[t]
+			s4 += v * b4[t]
+			s5 += v * b5[t]
+			s6 += v * b6[t]
+			s7 += v * b7[t]
+		}
+		s = [LagBlock]float64{s0, s1, s2, s3, s4, s5, s6, s7}
+	}
+	for t := full; t < n-k0; t++ {
+		for i := range LagBlock {
+			if t+k0+i < n {
+				s[i] += d[t] * d[t+k0+i]
+			}
+		}
+	}
+	return s
 }
