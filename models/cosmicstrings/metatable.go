@@ -57,6 +57,9 @@ type MetastableTable struct {
 	s            MetastableSettings
 	bg           *cosmology.Background
 	lnTLo, lnTHi float64
+	// Set by prepare.
+	lnTwoPi, lnPlanckTime, lnAlpha, shift float64
+	logTab                                logTable
 }
 
 // Settings returns the settings the table was built or loaded for.
@@ -72,6 +75,7 @@ func newMetaTable(s MetastableSettings) (*MetastableTable, error) {
 	}
 	t := &MetastableTable{s: s, bg: bg}
 	t.lnTLo, t.lnTHi = bg.LnTimeRange()
+	t.prepare()
 	t.gridTable = gridTable{magic: metaMagic, hash: s.TableHash(), g: newGrid(metaAxes(t.lnTHi)...)}
 	return t, nil
 }
@@ -200,24 +204,20 @@ func (t *MetastableTable) certify(proto *MetastableDirect, opt BuildOptions) (Gr
 		func(i int, f float64) (float64, error) { return t.LnOmega(pts[i].lg, pts[i].sk, f) })
 }
 
+// prepare sets what lnOmega takes from the settings once: the logarithms
+// of the constants in t_s and f_*, the -Kappa ln P shift and the table of
+// log1mx.
+func (t *MetastableTable) prepare() {
+	t.lnTwoPi = math.Log(2 * math.Pi)
+	t.lnPlanckTime = math.Log(PlanckTime)
+	t.lnAlpha = math.Log(t.s.Alpha)
+	t.shift = -t.s.Kappa * math.Log(t.s.P)
+	t.logTab.init()
+}
+
 // ErrOutsideMetastableTable is returned when log10 Gmu is outside
 // [-14, -6] or sqrt(kappa) is negative or not finite.
 var ErrOutsideMetastableTable = errors.New("strings: metastable: parameters outside the tabulated domain (log10_Gmu in [-14, -6], sqrt_kappa_m >= 0)")
-
-// position returns the row coordinates of (log10 Gmu, sqrt(kappa)) and
-// ln f_*, and whether t_s precedes the network (Omega = 0 everywhere).
-func (t *MetastableTable) position(lg, sk float64) (y, lfs float64, none bool, err error) {
-	if !(lg >= tableGLo && lg <= tableGHi && sk >= 0 && sk < math.Inf(1)) {
-		return 0, 0, false, ErrOutsideMetastableTable
-	}
-	// lnDecayTime with ln Gmu = lg ln 10 (no power of ten needed).
-	lts := 0.5*(math.Log(2*math.Pi)-lg*math.Ln10) + 0.5*math.Pi*sk*sk + math.Log(PlanckTime)
-	if lts <= t.lnTLo {
-		return 0, 0, true, nil
-	}
-	lts = math.Min(lts, t.lnTHi)
-	return lts / math.Ln10, t.lnCutoff(lts), false, nil
-}
 
 // LnOmega interpolates ln Omega_GW at one point (-Inf where Omega
 // vanishes); MetastableModel uses the same arithmetic for many frequencies.
@@ -235,58 +235,72 @@ func (t *MetastableTable) LnOmega(log10Gmu, sqrtKappa, f float64) (float64, erro
 
 // lnOmega writes ln Omega at ln f = lnf[i] (1/f = invF[i]) into out,
 // using buf (one entry per node of the v axis) as scratch; it does not
-// allocate. It first combines the 16 (Gmu, t_s) rows of the stencil into
-// one row over the v nodes the frequencies need, then interpolates that
-// row in v at each frequency.
+// allocate. Everything that depends on (Gmu, t_s) alone is done once: the
+// position, f_*, and the combination of the stencil's 16 (Gmu, t_s) rows
+// into one row over the v nodes the frequencies need (4 rows when t_s is
+// at or after today, where the t_s weights are 0, 0, 0, 1). What is left
+// per frequency is the 4-point interpolation of that row in v and the edge
+// term ln(1 - f_*/f).
 func (t *MetastableTable) lnOmega(lg, sk float64, lnf, invF, out, buf []float64) error {
-	y, lfs, none, err := t.position(lg, sk)
-	if err != nil {
-		return err
+	if !(lg >= tableGLo && lg <= tableGHi && sk >= 0 && sk < math.Inf(1)) {
+		return ErrOutsideMetastableTable
 	}
-	shift := -t.s.Kappa * math.Log(t.s.P)
-	ax := t.g.axes
-	vMin, vMax := math.Inf(1), math.Inf(-1)
-	for _, l := range lnf {
-		if v := l - lfs; v > 0 {
-			if v < vMin {
-				vMin = v
-			}
-			if v > vMax {
-				vMax = v
-			}
-		}
-	}
-	if none || y < metaYLo || !(vMax > 0) {
-		if !none && vMax > 0 {
-			return ErrOutsideMetastableTable
-		}
-		for i := range out[:len(lnf)] {
-			out[i] = math.Inf(-1)
-		}
+	out, invF = out[:len(lnf)], invF[:len(lnf)]
+	// lnDecayTime with ln Gmu = lg ln 10 (no power of ten needed).
+	lts := 0.5*(t.lnTwoPi-lg*math.Ln10) + 0.5*math.Pi*sk*sk + t.lnPlanckTime
+	if lts <= t.lnTLo { // t_s precedes the network: Omega = 0
+		fillNegInf(out)
 		return nil
 	}
+	top := lts >= t.lnTHi
+	if top {
+		lts = t.lnTHi
+	}
+	// lnCutoff, with ln alpha taken once.
+	lnA, _ := t.bg.LnAHT(lts)
+	lfs := math.Ln2 + lnA - lts - t.lnAlpha
+	y := lts / math.Ln10
+	// The frequencies above f_* (v = ln f - ln f_* > 0) span [lMin, lMax].
+	lMin, lMax := math.Inf(1), math.Inf(-1)
+	for _, l := range lnf {
+		if l > lfs {
+			if l < lMin {
+				lMin = l
+			}
+			if l > lMax {
+				lMax = l
+			}
+		}
+	}
+	if !(lMax > lfs) {
+		fillNegInf(out)
+		return nil
+	}
+	if y < metaYLo {
+		return ErrOutsideMetastableTable
+	}
+	ax := t.g.axes[:3]
 	ig, wg := ax[0].index(lg)
 	iy, wy := ax[1].index(y)
-	jLo, _ := ax[2].index(vMin)
-	jHi, _ := ax[2].index(vMax)
+	jLo, _ := ax[2].index(lMin - lfs)
+	jHi, _ := ax[2].index(lMax - lfs)
 	jHi += 4
 	nY, m := int(ax[1].N), int(ax[2].N)
 	row := buf[jLo:jHi]
-	clear(row)
-	for a := range 4 {
-		for b := range 4 {
-			w := wg[a] * wy[b]
-			base := ((ig+a)*nY+iy+b)*m + jLo
-			src := t.g.data[base : base+len(row)]
-			for j, d := range src {
-				row[j] += w * float64(d)
-			}
+	for a, w := range wg {
+		src := t.g.data[((ig+a)*nY+iy)*m+jLo:]
+		if top {
+			// At the last node the weights are exactly 0, 0, 0, 1.
+			addRow(row, src[3*m:], w, a == 0)
+		} else {
+			addRows4(row, src, m, w*wy[0], w*wy[1], w*wy[2], w*wy[3], a == 0)
 		}
 	}
 	fs := math.Exp(lfs)
 	// The 4-point Lagrange weights of numeric.Lagrange4Weights, written
-	// out with a multiplication by 1/step.
-	v0, inv, last := ax[2].Lo, 1/ax[2].Step, m-4
+	// out with a multiplication by 1/step; for v > 0, x > -1/2, so that
+	// int(x) - 1 clamps to the same first node as floor(x) - 1.
+	v0, inv, last, shift := ax[2].Lo, 1/ax[2].Step, m-4, t.shift
 	for i, l := range lnf {
 		v := l - lfs
 		if !(v > 0) {
@@ -294,7 +308,7 @@ func (t *MetastableTable) lnOmega(lg, sk float64, lnf, invF, out, buf []float64)
 			continue
 		}
 		x := (v - v0) * inv
-		iv := int(math.Floor(x)) - 1
+		iv := int(x) - 1
 		if iv < 0 {
 			iv = 0
 		} else if iv > last {
@@ -303,20 +317,123 @@ func (t *MetastableTable) lnOmega(lg, sk float64, lnf, invF, out, buf []float64)
 		u := x - float64(iv)
 		r := buf[iv : iv+4 : iv+4]
 		u1, u2, u3 := u-1, u-2, u-3
-		lag := (-r[0]*u1*u2*u3+r[3]*u*u1*u2)/6 + (r[1]*u*u2*u3-r[2]*u*u1*u3)/2
-		out[i] = lag + log1mx(fs*invF[i]) + shift
+		p01, p23 := u*u1, u2*u3
+		lag := (r[3]*p01*u2-r[0]*u1*p23)*(1.0/6) + (r[1]*u*p23-r[2]*p01*u3)*0.5
+		// t.log1mx, with the series written in line.
+		edge := fs * invF[i]
+		if edge < log1mxSwitch {
+			edge = log1mxSeries(edge)
+		} else {
+			edge = t.logTab.log1mx(edge)
+		}
+		out[i] = lag + edge + shift
 	}
 	return nil
 }
 
-// log1mx returns ln(1 - x) for 0 <= x < 1 (the edge term ln(1 - f_*/f) =
-// ln(1 - e^-v)): by its Taylor series -sum x^n/n to n = 8 below x = 0.05
-// (remainder below x^9/(9 (1 - x)) = 2.3e-13), else math.Log1p.
-func log1mx(x float64) float64 {
-	if x < 0.05 {
-		return -x * (1 + x*(1.0/2+x*(1.0/3+x*(1.0/4+x*(1.0/5+x*(1.0/6+x*(1.0/7+x*(1.0/8))))))))
+// addRows4 sets row (first) or adds to it w0 src[j] + w1 src[m+j] +
+// w2 src[2m+j] + w3 src[3m+j]: four consecutive t_s rows at one Gmu node.
+func addRows4(row []float64, src []float32, m int, w0, w1, w2, w3 float64, first bool) {
+	n := len(row)
+	s0, s1, s2, s3 := src[:n], src[m:m+n], src[2*m:2*m+n], src[3*m:3*m+n]
+	if first {
+		for j := range row {
+			row[j] = w0*float64(s0[j]) + w1*float64(s1[j]) + w2*float64(s2[j]) + w3*float64(s3[j])
+		}
+		return
 	}
-	return math.Log1p(-x)
+	for j := range row {
+		row[j] += w0*float64(s0[j]) + w1*float64(s1[j]) + w2*float64(s2[j]) + w3*float64(s3[j])
+	}
+}
+
+// addRow sets row (first) or adds to it w src[j].
+func addRow(row []float64, src []float32, w float64, first bool) {
+	s := src[:len(row)]
+	if first {
+		for j := range row {
+			row[j] = w * float64(s[j])
+		}
+		return
+	}
+	for j := range row {
+		row[j] += w * float64(s[j])
+	}
+}
+
+func fillNegInf(out []float64) {
+	for i := range out {
+		out[i] = math.Inf(-1)
+	}
+}
+
+// log1mx's table: logTabN nodes m_k = 1 + (k + 1/2)/logTabN spanning
+// [1, 2), with 1/m_k and ln(m_k/2).
+const (
+	logTabBits = 7
+	logTabN    = 1 << logTabBits
+	// ln 2 split as in the standard library's math.Log (fdlibm): ln2Hi
+	// has 32 significant bits, so e ln2Hi is exact for the exponents here.
+	ln2Hi = 6.93147180369123816490e-01
+	ln2Lo = 1.90821492927058770002e-10
+	// log1mxSwitch is where log1mx switches from its series to the table.
+	log1mxSwitch = 0x1p-10
+)
+
+type logNode struct{ mk, inv, lnHalf, _ float64 }
+
+// A logTable holds the nodes of log1mx.
+type logTable [logTabN]logNode
+
+func (tab *logTable) init() {
+	for k := range tab {
+		mk := 1 + (float64(k)+0.5)/logTabN // exact: 9 significant bits
+		tab[k] = logNode{mk: mk, inv: 1 / mk, lnHalf: math.Log(mk / 2)}
+	}
+}
+
+// log1mx returns ln(1 - x) for x >= 0 (the edge term ln(1 - f_*/f) =
+// ln(1 - e^-v)), -Inf for x >= 1, within a few ulp. Below x = 2^-10 it
+// sums the Taylor series -sum x^n/n to n = 5 (remainder below
+// x^6/(6 (1 - x)), 1.5e-16 of the value); above, logTable.log1mx.
+func (t *MetastableTable) log1mx(x float64) float64 {
+	if x < log1mxSwitch {
+		return log1mxSeries(x)
+	}
+	return t.logTab.log1mx(x)
+}
+
+// log1mxSeries is -(x + x^2/2 + ... + x^5/5).
+func log1mxSeries(x float64) float64 {
+	return -x * (1 + x*(1.0/2+x*(1.0/3+x*(1.0/4+x*(1.0/5)))))
+}
+
+// log1mx returns ln(1 - x) for x >= 2^-10 (-Inf for x >= 1). With
+// 1 - x = y + dy (y = fl(1 - x), dy exact) and y = 2^e m, m in [1, 2), it
+// takes ln(1 - x) = (e + 1) ln 2 + ln(m_k/2) + ln(1 + r) with
+// r = (m - m_k + 2^-e dy)/m_k, |r| < 2^-8, for the table node m_k nearest
+// m (the table-driven reduction of Tang 1990, ACM TOMS 16, 378, from
+// memory), and ln(1 + r) by its Taylor series to r^6 (remainder below
+// |r|^7/7 < 3e-18). Taking ln(m_k/2) from the table rather than
+// ln m_k - ln 2 keeps the result accurate to a few ulp up to y = 1, and
+// there is no division (math.Log and math.Log1p take one).
+func (tab *logTable) log1mx(x float64) float64 {
+	if !(x < 1) {
+		return math.Inf(-1)
+	}
+	y := 1 - x
+	// Both subtractions are exact (Sterbenz): for x >= 1/2 so is y, and
+	// dy = 0; below, y is in (1/2, 1).
+	dy := (1 - y) - x
+	b := math.Float64bits(y) // y is normal: y >= 2^-53
+	ex := b >> 52            // biased exponent, e + 1023
+	n := &tab[b>>(52-logTabBits)&(logTabN-1)]
+	m := math.Float64frombits(b&(1<<52-1) | 1023<<52)
+	s := math.Float64frombits((2046 - ex) << 52) // 2^-e
+	r := ((m - n.mk) + dy*s) * n.inv             // m - m_k and dy s are exact
+	p := r + r*r*(-1.0/2+r*(1.0/3+r*(-1.0/4+r*(1.0/5+r*(-1.0/6)))))
+	e1 := float64(int(ex) - 1022) // e + 1 <= 0
+	return (e1*ln2Hi + n.lnHalf) + (p + e1*ln2Lo)
 }
 
 func decodeMetaTable(name string, b []byte, s MetastableSettings) (*MetastableTable, error) {
