@@ -1,10 +1,12 @@
 package cosmicstrings
 
 import (
+	"cmp"
 	"errors"
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"slices"
 
 	"tautline/models/cosmology"
 )
@@ -59,6 +61,7 @@ type MetastableTable struct {
 	lnTLo, lnTHi float64
 	// Set by prepare.
 	lnTwoPi, lnPlanckTime, lnAlpha, shift float64
+	invStep                               [3]float64
 	logTab                                logTable
 }
 
@@ -75,8 +78,8 @@ func newMetaTable(s MetastableSettings) (*MetastableTable, error) {
 	}
 	t := &MetastableTable{s: s, bg: bg}
 	t.lnTLo, t.lnTHi = bg.LnTimeRange()
-	t.prepare()
 	t.gridTable = gridTable{magic: metaMagic, hash: s.TableHash(), g: newGrid(metaAxes(t.lnTHi)...)}
+	t.prepare()
 	return t, nil
 }
 
@@ -204,14 +207,17 @@ func (t *MetastableTable) certify(proto *MetastableDirect, opt BuildOptions) (Gr
 		func(i int, f float64) (float64, error) { return t.LnOmega(pts[i].lg, pts[i].sk, f) })
 }
 
-// prepare sets what lnOmega takes from the settings once: the logarithms
-// of the constants in t_s and f_*, the -Kappa ln P shift and the table of
-// log1mx.
+// prepare sets what lnOmega takes from the settings and the axes once: the
+// logarithms of the constants in t_s and f_*, the -Kappa ln P shift, the
+// inverse steps of the axes and the table of the edge term.
 func (t *MetastableTable) prepare() {
 	t.lnTwoPi = math.Log(2 * math.Pi)
 	t.lnPlanckTime = math.Log(PlanckTime)
 	t.lnAlpha = math.Log(t.s.Alpha)
 	t.shift = -t.s.Kappa * math.Log(t.s.P)
+	for i, a := range t.g.axes {
+		t.invStep[i] = 1 / a.Step
+	}
 	t.logTab.init()
 }
 
@@ -226,30 +232,71 @@ func (t *MetastableTable) LnOmega(log10Gmu, sqrtKappa, f float64) (float64, erro
 		return 0, frequencyError{f}
 	}
 	var out [1]float64
-	lf, inv := [1]float64{math.Log(f)}, [1]float64{1 / f}
-	if err := t.lnOmega(log10Gmu, sqrtKappa, lf[:], inv[:], out[:], make([]float64, t.g.axes[2].N)); err != nil {
+	if err := t.lnOmega(log10Gmu, sqrtKappa, t.newFreqs([]float64{f}), out[:]); err != nil {
 		return 0, err
 	}
 	return out[0], nil
 }
 
-// lnOmega writes ln Omega at ln f = lnf[i] (1/f = invF[i]) into out,
-// using buf (one entry per node of the v axis) as scratch; it does not
-// allocate. Everything that depends on (Gmu, t_s) alone is done once: the
-// position, f_*, and the combination of the stencil's 16 (Gmu, t_s) rows
-// into one row over the v nodes the frequencies need (4 rows when t_s is
-// at or after today, where the t_s weights are 0, 0, 0, 1). What is left
-// per frequency is the 4-point interpolation of that row in v and the edge
-// term ln(1 - f_*/f).
-func (t *MetastableTable) lnOmega(lg, sk float64, lnf, invF, out, buf []float64) error {
+// A metaFreqs is one set of frequencies prepared for lnOmega, with the
+// scratch lnOmega needs; it serves one goroutine at a time.
+type metaFreqs struct {
+	lnf, invF []float64 // ln f and 1/f in ascending order of f
+	// perm[k] is the index in the caller's order of the k-th lowest
+	// frequency, nil when the caller's frequencies ascend.
+	perm []int
+	row  []float64 // the combined row, one entry per v node
+	tmp  []float64 // results in ascending order, when perm is not nil
+}
+
+// newFreqs prepares the frequencies f (Hz, positive and finite, in any
+// order).
+func (t *MetastableTable) newFreqs(f []float64) *metaFreqs {
+	fr := &metaFreqs{row: make([]float64, t.g.axes[2].N)}
+	if !slices.IsSorted(f) {
+		fr.perm = make([]int, len(f))
+		for i := range fr.perm {
+			fr.perm[i] = i
+		}
+		slices.SortStableFunc(fr.perm, func(i, j int) int { return cmp.Compare(f[i], f[j]) })
+		fr.tmp = make([]float64, len(f))
+	}
+	fr.lnf, fr.invF = make([]float64, len(f)), make([]float64, len(f))
+	for k := range f {
+		v := f[k]
+		if fr.perm != nil {
+			v = f[fr.perm[k]]
+		}
+		fr.lnf[k], fr.invF[k] = math.Log(v), 1/v
+	}
+	return fr
+}
+
+// lnOmega writes ln Omega at the frequencies fr into out (in the order
+// newFreqs was given them) without allocating. Everything that depends on
+// (Gmu, t_s) alone is done once: the position, f_*, the first frequency
+// above f_*, and the combination of the stencil's 16 (Gmu, t_s) rows into
+// one row over the v nodes the frequencies need (4 rows when t_s is at or
+// after today, where the t_s weights are 0, 0, 0, 1). What is left per
+// frequency is the 4-point interpolation of that row in v and the edge
+// term ln(1 - f_*/f), in loops without branches: the frequencies ascend,
+// so those below f_* come first, then those where the edge term takes the
+// table, then those where it takes the series.
+func (t *MetastableTable) lnOmega(lg, sk float64, fr *metaFreqs, out []float64) error {
 	if !(lg >= tableGLo && lg <= tableGHi && sk >= 0 && sk < math.Inf(1)) {
 		return ErrOutsideMetastableTable
 	}
-	out, invF = out[:len(lnf)], invF[:len(lnf)]
+	lnf := fr.lnf
+	n := len(lnf)
+	invF := fr.invF[:n]
+	dst := out[:n]
+	if fr.perm != nil {
+		dst = fr.tmp[:n]
+	}
 	// lnDecayTime with ln Gmu = lg ln 10 (no power of ten needed).
 	lts := 0.5*(t.lnTwoPi-lg*math.Ln10) + 0.5*math.Pi*sk*sk + t.lnPlanckTime
 	if lts <= t.lnTLo { // t_s precedes the network: Omega = 0
-		fillNegInf(out)
+		fillNegInf(out[:n])
 		return nil
 	}
 	top := lts >= t.lnTHi
@@ -259,76 +306,80 @@ func (t *MetastableTable) lnOmega(lg, sk float64, lnf, invF, out, buf []float64)
 	// lnCutoff, with ln alpha taken once.
 	lnA, _ := t.bg.LnAHT(lts)
 	lfs := math.Ln2 + lnA - lts - t.lnAlpha
-	y := lts / math.Ln10
-	// The frequencies above f_* (v = ln f - ln f_* > 0) span [lMin, lMax].
-	lMin, lMax := math.Inf(1), math.Inf(-1)
-	for _, l := range lnf {
-		if l > lfs {
-			if l < lMin {
-				lMin = l
-			}
-			if l > lMax {
-				lMax = l
-			}
-		}
+	k0 := 0 // the first frequency above f_*
+	for k0 < n && !(lnf[k0] > lfs) {
+		k0++
 	}
-	if !(lMax > lfs) {
-		fillNegInf(out)
+	if k0 == n {
+		fillNegInf(out[:n])
 		return nil
 	}
+	y := lts / math.Ln10
 	if y < metaYLo {
 		return ErrOutsideMetastableTable
 	}
 	ax := t.g.axes[:3]
-	ig, wg := ax[0].index(lg)
-	iy, wy := ax[1].index(y)
-	jLo, _ := ax[2].index(lMin - lfs)
-	jHi, _ := ax[2].index(lMax - lfs)
-	jHi += 4
 	nY, m := int(ax[1].N), int(ax[2].N)
-	row := buf[jLo:jHi]
-	for a, w := range wg {
-		src := t.g.data[((ig+a)*nY+iy)*m+jLo:]
-		if top {
+	// The stencil in v of a frequency (the Lagrange4Weights stencil, with
+	// a multiplication by 1/step; v > 0 makes x > -1/2, where int(x) - 1
+	// clamps to the same node as floor(x) - 1). The stencils of all
+	// frequencies lie in [jLo, jHi), since vNode does not decrease with v.
+	v0, inv, last := ax[2].Lo, t.invStep[2], m-4
+	vNode := func(x float64) int { return min(max(int(x)-1, 0), last) }
+	jLo := vNode((lnf[k0] - lfs - v0) * inv)
+	jHi := vNode((lnf[n-1]-lfs-v0)*inv) + 4
+	// Both coordinates are above their axes' first nodes (lg >= -14,
+	// y >= metaYLo), so int truncates like floor.
+	ig, wg := lagrangeWeights((lg-ax[0].Lo)*t.invStep[0], int(ax[0].N))
+	iy, wy := lagrangeWeights((y-ax[1].Lo)*t.invStep[1], nY)
+	row := fr.row[jLo:jHi]
+	if top {
+		for a, w := range wg {
 			// At the last node the weights are exactly 0, 0, 0, 1.
-			addRow(row, src[3*m:], w, a == 0)
-		} else {
-			addRows4(row, src, m, w*wy[0], w*wy[1], w*wy[2], w*wy[3], a == 0)
+			addRow(row, t.g.data[((ig+a)*nY+iy+3)*m+jLo:], w, a == 0)
 		}
+	} else {
+		base := (ig*nY+iy)*m + jLo
+		addRows8(row, t.g.data[base:], m, nY*m, wg[0], wg[1], wy, true)
+		addRows8(row, t.g.data[base+2*nY*m:], m, nY*m, wg[2], wg[3], wy, false)
 	}
-	fs := math.Exp(lfs)
-	// The 4-point Lagrange weights of numeric.Lagrange4Weights, written
-	// out with a multiplication by 1/step; for v > 0, x > -1/2, so that
-	// int(x) - 1 clamps to the same first node as floor(x) - 1.
-	v0, inv, last, shift := ax[2].Lo, 1/ax[2].Step, m-4, t.shift
-	for i, l := range lnf {
-		v := l - lfs
-		if !(v > 0) {
-			out[i] = math.Inf(-1)
-			continue
-		}
-		x := (v - v0) * inv
-		iv := int(x) - 1
-		if iv < 0 {
-			iv = 0
-		} else if iv > last {
-			iv = last
-		}
+	fillNegInf(dst[:k0])
+	buf, shift := fr.row, t.shift
+	for k := k0; k < n; k++ {
+		x := (lnf[k] - lfs - v0) * inv
+		iv := vNode(x)
 		u := x - float64(iv)
 		r := buf[iv : iv+4 : iv+4]
 		u1, u2, u3 := u-1, u-2, u-3
 		p01, p23 := u*u1, u2*u3
-		lag := (r[3]*p01*u2-r[0]*u1*p23)*(1.0/6) + (r[1]*u*p23-r[2]*p01*u3)*0.5
-		// t.log1mx, with the series written in line.
-		edge := fs * invF[i]
-		if edge < log1mxSwitch {
-			edge = log1mxSeries(edge)
-		} else {
-			edge = t.logTab.log1mx(edge)
+		dst[k] = (r[3]*p01*u2-r[0]*u1*p23)*(1.0/6) + (r[1]*u*p23-r[2]*p01*u3)*0.5 + shift
+	}
+	// The edge term: the table while f_*/f >= 2^-10, then the series.
+	fs := math.Exp(lfs)
+	k1 := k0
+	for k1 < n && fs*invF[k1] >= log1mxSwitch {
+		k1++
+	}
+	t.logTab.addLog1mx(dst[k0:k1], invF[k0:k1], fs)
+	for k := k1; k < n; k++ {
+		dst[k] += log1mxSeries(fs * invF[k])
+	}
+	if fr.perm != nil {
+		for k, i := range fr.perm[:n] {
+			out[i] = dst[k]
 		}
-		out[i] = lag + edge + shift
 	}
 	return nil
+}
+
+// lagrangeWeights is numeric.Lagrange4Weights for s >= 0, with the
+// divisions by 6 and 2 made multiplications.
+func lagrangeWeights(s float64, n int) (int, [4]float64) {
+	i := min(max(int(s)-1, 0), n-4)
+	u := s - float64(i)
+	u1, u2, u3 := u-1, u-2, u-3
+	p01, p23 := u*u1, u2*u3
+	return i, [4]float64{-u1 * p23 * (1.0 / 6), u * p23 * 0.5, -p01 * u3 * 0.5, p01 * u2 * (1.0 / 6)}
 }
 
 // addRows4 sets row (first) or adds to it w0 src[j] + w1 src[m+j] +
@@ -344,6 +395,24 @@ func addRows4(row []float64, src []float32, m int, w0, w1, w2, w3 float64, first
 	}
 	for j := range row {
 		row[j] += w0*float64(s0[j]) + w1*float64(s1[j]) + w2*float64(s2[j]) + w3*float64(s3[j])
+	}
+}
+
+// addRows8 sets row (first) or adds to it the rows src[g+bm:] (b = 0..3,
+// g = 0 and gs) with weights wa wy[b] (g = 0) and wb wy[b] (g = gs).
+func addRows8(row []float64, src []float32, m, gs int, wa, wb float64, wy [4]float64, first bool) {
+	n := len(row)
+	a0, a1, a2, a3 := src[:n], src[m:m+n], src[2*m:2*m+n], src[3*m:3*m+n]
+	b0, b1, b2, b3 := src[gs:gs+n], src[gs+m:gs+m+n], src[gs+2*m:gs+2*m+n], src[gs+3*m:gs+3*m+n]
+	wa0, wa1, wa2, wa3 := wa*wy[0], wa*wy[1], wa*wy[2], wa*wy[3]
+	wb0, wb1, wb2, wb3 := wb*wy[0], wb*wy[1], wb*wy[2], wb*wy[3]
+	for j := range row {
+		v := wa0*float64(a0[j]) + wa1*float64(a1[j]) + wa2*float64(a2[j]) + wa3*float64(a3[j]) +
+			wb0*float64(b0[j]) + wb1*float64(b1[j]) + wb2*float64(b2[j]) + wb3*float64(b3[j])
+		if !first {
+			v += row[j]
+		}
+		row[j] = v
 	}
 }
 
@@ -392,23 +461,16 @@ func (tab *logTable) init() {
 	}
 }
 
-// log1mx returns ln(1 - x) for x >= 0 (the edge term ln(1 - f_*/f) =
-// ln(1 - e^-v)), -Inf for x >= 1, within a few ulp. Below x = 2^-10 it
-// sums the Taylor series -sum x^n/n to n = 5 (remainder below
-// x^6/(6 (1 - x)), 1.5e-16 of the value); above, logTable.log1mx.
-func (t *MetastableTable) log1mx(x float64) float64 {
-	if x < log1mxSwitch {
-		return log1mxSeries(x)
-	}
-	return t.logTab.log1mx(x)
-}
-
-// log1mxSeries is -(x + x^2/2 + ... + x^5/5).
+// log1mxSeries is ln(1 - x) for 0 <= x < 2^-10: the Taylor series
+// -(x + x^2/2 + ... + x^5/5) (remainder below x^6/(6 (1 - x)), 1.5e-16 of
+// the value).
 func log1mxSeries(x float64) float64 {
 	return -x * (1 + x*(1.0/2+x*(1.0/3+x*(1.0/4+x*(1.0/5)))))
 }
 
-// log1mx returns ln(1 - x) for x >= 2^-10 (-Inf for x >= 1). With
+// addLog1mx adds ln(1 - x), x = c invF[k], to dst[k] for x >= 2^-10 (-Inf
+// for x >= 1), within a few ulp (the edge term ln(1 - f_*/f) =
+// ln(1 - e^-v) above f = 1024 f_*; log1mxSeries takes over below). With
 // 1 - x = y + dy (y = fl(1 - x), dy exact) and y = 2^e m, m in [1, 2), it
 // takes ln(1 - x) = (e + 1) ln 2 + ln(m_k/2) + ln(1 + r) with
 // r = (m - m_k + 2^-e dy)/m_k, |r| < 2^-8, for the table node m_k nearest
@@ -417,23 +479,28 @@ func log1mxSeries(x float64) float64 {
 // |r|^7/7 < 3e-18). Taking ln(m_k/2) from the table rather than
 // ln m_k - ln 2 keeps the result accurate to a few ulp up to y = 1, and
 // there is no division (math.Log and math.Log1p take one).
-func (tab *logTable) log1mx(x float64) float64 {
-	if !(x < 1) {
-		return math.Inf(-1)
+func (tab *logTable) addLog1mx(dst, invF []float64, c float64) {
+	invF = invF[:len(dst)]
+	for k := range dst {
+		x := c * invF[k]
+		if !(x < 1) {
+			dst[k] = math.Inf(-1)
+			continue
+		}
+		y := 1 - x
+		// Both subtractions are exact (Sterbenz): for x >= 1/2 so is y, and
+		// dy = 0; below, y is in (1/2, 1).
+		dy := (1 - y) - x
+		b := math.Float64bits(y) // y is normal: y >= 2^-53
+		ex := b >> 52            // biased exponent, e + 1023
+		n := &tab[b>>(52-logTabBits)&(logTabN-1)]
+		m := math.Float64frombits(b&(1<<52-1) | 1023<<52)
+		s := math.Float64frombits((2046 - ex) << 52) // 2^-e
+		r := ((m - n.mk) + dy*s) * n.inv             // m - m_k and dy s are exact
+		p := r + r*r*(-1.0/2+r*(1.0/3+r*(-1.0/4+r*(1.0/5+r*(-1.0/6)))))
+		e1 := float64(int(ex) - 1022) // e + 1 <= 0
+		dst[k] += (e1*ln2Hi + n.lnHalf) + (p + e1*ln2Lo)
 	}
-	y := 1 - x
-	// Both subtractions are exact (Sterbenz): for x >= 1/2 so is y, and
-	// dy = 0; below, y is in (1/2, 1).
-	dy := (1 - y) - x
-	b := math.Float64bits(y) // y is normal: y >= 2^-53
-	ex := b >> 52            // biased exponent, e + 1023
-	n := &tab[b>>(52-logTabBits)&(logTabN-1)]
-	m := math.Float64frombits(b&(1<<52-1) | 1023<<52)
-	s := math.Float64frombits((2046 - ex) << 52) // 2^-e
-	r := ((m - n.mk) + dy*s) * n.inv             // m - m_k and dy s are exact
-	p := r + r*r*(-1.0/2+r*(1.0/3+r*(-1.0/4+r*(1.0/5+r*(-1.0/6)))))
-	e1 := float64(int(ex) - 1022) // e + 1 <= 0
-	return (e1*ln2Hi + n.lnHalf) + (p + e1*ln2Lo)
 }
 
 func decodeMetaTable(name string, b []byte, s MetastableSettings) (*MetastableTable, error) {
