@@ -62,7 +62,11 @@ type MetastableTable struct {
 	// Set by prepare.
 	lnTwoPi, lnPlanckTime, lnAlpha, shift float64
 	invStep                               [3]float64
+	lfsTop, fsTop                         float64 // ln f_* and f_* for t_s >= t0
 	logTab                                logTable
+	// data holds the grid's values as float64 (set by widen): lnOmega
+	// adds 16 rows of it per call, with one conversion less per value.
+	data []float64
 }
 
 // Settings returns the settings the table was built or loaded for.
@@ -157,6 +161,7 @@ func BuildMetastableTable(s MetastableSettings, opt BuildOptions) (*MetastableTa
 	if err != nil {
 		return nil, err
 	}
+	t.widen()
 	if opt.CertPoints < 0 {
 		return t, nil // uncertified, for tests of the layout
 	}
@@ -218,7 +223,19 @@ func (t *MetastableTable) prepare() {
 	for i, a := range t.g.axes {
 		t.invStep[i] = 1 / a.Step
 	}
+	lnA, _ := t.bg.LnAHT(t.lnTHi)
+	t.lfsTop = math.Ln2 + lnA - t.lnTHi - t.lnAlpha
+	t.fsTop = math.Exp(t.lfsTop)
 	t.logTab.init()
+}
+
+// widen copies the grid's values into t.data; it is called once the grid
+// is built or decoded.
+func (t *MetastableTable) widen() {
+	t.data = make([]float64, len(t.g.data))
+	for i, v := range t.g.data {
+		t.data[i] = float64(v)
+	}
 }
 
 // ErrOutsideMetastableTable is returned when log10 Gmu is outside
@@ -242,17 +259,20 @@ func (t *MetastableTable) LnOmega(log10Gmu, sqrtKappa, f float64) (float64, erro
 // scratch lnOmega needs; it serves one goroutine at a time.
 type metaFreqs struct {
 	lnf, invF []float64 // ln f and 1/f in ascending order of f
+	xs        []float64 // ln f over the step of the v axis
 	// perm[k] is the index in the caller's order of the k-th lowest
 	// frequency, nil when the caller's frequencies ascend.
 	perm []int
 	row  []float64 // the combined row, one entry per v node
+	coef []float64 // the cubic of each stencil of the row, 4 per node
 	tmp  []float64 // results in ascending order, when perm is not nil
 }
 
 // newFreqs prepares the frequencies f (Hz, positive and finite, in any
 // order).
 func (t *MetastableTable) newFreqs(f []float64) *metaFreqs {
-	fr := &metaFreqs{row: make([]float64, t.g.axes[2].N)}
+	m := int(t.g.axes[2].N)
+	fr := &metaFreqs{row: make([]float64, m), coef: make([]float64, 4*m)}
 	if !slices.IsSorted(f) {
 		fr.perm = make([]int, len(f))
 		for i := range fr.perm {
@@ -261,13 +281,14 @@ func (t *MetastableTable) newFreqs(f []float64) *metaFreqs {
 		slices.SortStableFunc(fr.perm, func(i, j int) int { return cmp.Compare(f[i], f[j]) })
 		fr.tmp = make([]float64, len(f))
 	}
-	fr.lnf, fr.invF = make([]float64, len(f)), make([]float64, len(f))
+	fr.lnf, fr.invF, fr.xs = make([]float64, len(f)), make([]float64, len(f)), make([]float64, len(f))
 	for k := range f {
 		v := f[k]
 		if fr.perm != nil {
 			v = f[fr.perm[k]]
 		}
 		fr.lnf[k], fr.invF[k] = math.Log(v), 1/v
+		fr.xs[k] = fr.lnf[k] * t.invStep[2]
 	}
 	return fr
 }
@@ -299,13 +320,16 @@ func (t *MetastableTable) lnOmega(lg, sk float64, fr *metaFreqs, out []float64) 
 		fillNegInf(out[:n])
 		return nil
 	}
+	// lnCutoff, with ln alpha taken once and its value at today kept.
 	top := lts >= t.lnTHi
+	lfs, fs := t.lfsTop, t.fsTop
 	if top {
 		lts = t.lnTHi
+	} else {
+		lnA, _ := t.bg.LnAHT(lts)
+		lfs = math.Ln2 + lnA - lts - t.lnAlpha
+		fs = math.Exp(lfs)
 	}
-	// lnCutoff, with ln alpha taken once.
-	lnA, _ := t.bg.LnAHT(lts)
-	lfs := math.Ln2 + lnA - lts - t.lnAlpha
 	k0 := 0 // the first frequency above f_*
 	for k0 < n && !(lnf[k0] > lfs) {
 		k0++
@@ -320,14 +344,15 @@ func (t *MetastableTable) lnOmega(lg, sk float64, fr *metaFreqs, out []float64) 
 	}
 	ax := t.g.axes[:3]
 	nY, m := int(ax[1].N), int(ax[2].N)
-	// The stencil in v of a frequency (the Lagrange4Weights stencil, with
-	// a multiplication by 1/step; v > 0 makes x > -1/2, where int(x) - 1
-	// clamps to the same node as floor(x) - 1). The stencils of all
-	// frequencies lie in [jLo, jHi), since vNode does not decrease with v.
-	v0, inv, last := ax[2].Lo, t.invStep[2], m-4
-	vNode := func(x float64) int { return min(max(int(x)-1, 0), last) }
-	jLo := vNode((lnf[k0] - lfs - v0) * inv)
-	jHi := vNode((lnf[n-1]-lfs-v0)*inv) + 4
+	// The stencil in v of a frequency is that of Lagrange4Weights, at
+	// x = (v - v0)/step = xs[k] - c; v > 0 makes x > -1/2, where int(x) - 1
+	// clamps to the same node as floor(x) - 1. The stencils of all
+	// frequencies lie in [jLo, jHi), since the stencil does not move down
+	// as x grows.
+	xs := fr.xs[:n]
+	c, last := (lfs+ax[2].Lo)*t.invStep[2], m-4
+	jLo := min(max(int(xs[k0]-c)-1, 0), last)
+	jHi := min(max(int(xs[n-1]-c)-1, 0), last) + 4
 	// Both coordinates are above their axes' first nodes (lg >= -14,
 	// y >= metaYLo), so int truncates like floor.
 	ig, wg := lagrangeWeights((lg-ax[0].Lo)*t.invStep[0], int(ax[0].N))
@@ -336,33 +361,38 @@ func (t *MetastableTable) lnOmega(lg, sk float64, fr *metaFreqs, out []float64) 
 	if top {
 		for a, w := range wg {
 			// At the last node the weights are exactly 0, 0, 0, 1.
-			addRow(row, t.g.data[((ig+a)*nY+iy+3)*m+jLo:], w, a == 0)
+			addRow(row, t.data[((ig+a)*nY+iy+3)*m+jLo:], w, a == 0)
 		}
 	} else {
 		base := (ig*nY+iy)*m + jLo
-		addRows8(row, t.g.data[base:], m, nY*m, wg[0], wg[1], wy, true)
-		addRows8(row, t.g.data[base+2*nY*m:], m, nY*m, wg[2], wg[3], wy, false)
+		addRows8(row, t.data[base:], m, nY*m, wg[0], wg[1], wy, true)
+		addRows8(row, t.data[base+2*nY*m:], m, nY*m, wg[2], wg[3], wy, false)
 	}
+	// The cubic through the 4 nodes of each stencil, in powers of
+	// t = x - (first node + 1): what 4-point Lagrange interpolation
+	// evaluates, with the per-node work done once per stencil rather than
+	// once per frequency.
+	cubics(fr.coef[4*jLo:4*(jHi-3)], row)
 	fillNegInf(dst[:k0])
-	buf, shift := fr.row, t.shift
-	for k := k0; k < n; k++ {
-		x := (lnf[k] - lfs - v0) * inv
-		iv := vNode(x)
-		u := x - float64(iv)
-		r := buf[iv : iv+4 : iv+4]
-		u1, u2, u3 := u-1, u-2, u-3
-		p01, p23 := u*u1, u2*u3
-		dst[k] = (r[3]*p01*u2-r[0]*u1*p23)*(1.0/6) + (r[1]*u*p23-r[2]*p01*u3)*0.5 + shift
+	// The edge term ln(1 - f_*/f): the table for the frequencies where
+	// f_*/f >= 2^-10, the first ones above f_*, then the series.
+	k1 := k0 + t.logTab.log1mxRun(dst[k0:], invF[k0:], fs)
+	coef, shift := fr.coef, t.shift
+	for k := k0; k < k1; k++ {
+		dst[k] += cubicAt(coef, xs[k]-c, last) + shift
 	}
-	// The edge term: the table while f_*/f >= 2^-10, then the series.
-	fs := math.Exp(lfs)
-	k1 := k0
-	for k1 < n && fs*invF[k1] >= log1mxSwitch {
-		k1++
-	}
-	t.logTab.addLog1mx(dst[k0:k1], invF[k0:k1], fs)
-	for k := k1; k < n; k++ {
-		dst[k] += log1mxSeries(fs * invF[k])
+	if k1 < n && int(xs[k1]-c) >= 1 && int(xs[n-1]-c)-1 <= last {
+		// No stencil from k1 on clamps (they do not move down as x
+		// grows): the common case, since f > 1024 f_* puts x above 34.
+		for k := k1; k < n; k++ {
+			x := xs[k] - c
+			iv := int(x) - 1
+			dst[k] = cubicFrom(coef, iv, x-float64(iv+1)) + log1mxSeries(fs*invF[k]) + shift
+		}
+	} else {
+		for k := k1; k < n; k++ {
+			dst[k] = cubicAt(coef, xs[k]-c, last) + log1mxSeries(fs*invF[k]) + shift
+		}
 	}
 	if fr.perm != nil {
 		for k, i := range fr.perm[:n] {
@@ -370,6 +400,34 @@ func (t *MetastableTable) lnOmega(lg, sk float64, fr *metaFreqs, out []float64) 
 		}
 	}
 	return nil
+}
+
+// cubics writes, for each run of 4 consecutive values r0..r3 of row, the
+// coefficients (r1, c1, c2, c3) of the cubic p(t) = r1 + c1 t + c2 t^2 +
+// c3 t^3 with p(-1) = r0, p(0) = r1, p(1) = r2, p(2) = r3 (solved from the
+// sum and difference of p(1) and p(-1) and from p(2)) into coef, 4 per run.
+func cubics(coef, row []float64) {
+	for j := 0; j+3 < len(row); j++ {
+		r := row[j : j+4 : j+4]
+		c2 := 0.5*(r[0]+r[2]) - r[1]
+		c3 := (r[3]-r[0])*(1.0/6) + 0.5*(r[1]-r[2])
+		q := coef[4*j : 4*j+4 : 4*j+4]
+		q[0], q[1], q[2], q[3] = r[1], (r[2]-r[1])-c2-c3, c2, c3
+	}
+}
+
+// cubicAt evaluates the cubic of the stencil of x (see cubics), the
+// stencil starting at node min(max(floor(x) - 1, 0), last).
+func cubicAt(coef []float64, x float64, last int) float64 {
+	iv := min(max(int(x)-1, 0), last)
+	return cubicFrom(coef, iv, x-float64(iv+1))
+}
+
+// cubicFrom evaluates the cubic of the stencil starting at node iv at
+// t = u.
+func cubicFrom(coef []float64, iv int, u float64) float64 {
+	q := coef[4*iv : 4*iv+4 : 4*iv+4]
+	return (q[0] + u*q[1]) + (u*u)*(q[2]+u*q[3]) // Estrin: a shorter chain
 }
 
 // lagrangeWeights is numeric.Lagrange4Weights for s >= 0, with the
@@ -382,46 +440,34 @@ func lagrangeWeights(s float64, n int) (int, [4]float64) {
 	return i, [4]float64{-u1 * p23 * (1.0 / 6), u * p23 * 0.5, -p01 * u3 * 0.5, p01 * u2 * (1.0 / 6)}
 }
 
-// addRows4 sets row (first) or adds to it w0 src[j] + w1 src[m+j] +
-// w2 src[2m+j] + w3 src[3m+j]: four consecutive t_s rows at one Gmu node.
-func addRows4(row []float64, src []float32, m int, w0, w1, w2, w3 float64, first bool) {
+// addRows8 sets row (first) or adds to it the rows src[g+bm:] (b = 0..3,
+// g = 0 and gs) with weights wa wy[b] (g = 0) and wb wy[b] (g = gs).
+func addRows8(row, src []float64, m, gs int, wa, wb float64, wy [4]float64, first bool) {
 	n := len(row)
-	s0, s1, s2, s3 := src[:n], src[m:m+n], src[2*m:2*m+n], src[3*m:3*m+n]
+	a0, a1, a2, a3 := src[:n], src[m:][:n], src[2*m:][:n], src[3*m:][:n]
+	b := src[gs:]
+	b0, b1, b2, b3 := b[:n], b[m:][:n], b[2*m:][:n], b[3*m:][:n]
+	wa0, wa1, wa2, wa3 := wa*wy[0], wa*wy[1], wa*wy[2], wa*wy[3]
+	wb0, wb1, wb2, wb3 := wb*wy[0], wb*wy[1], wb*wy[2], wb*wy[3]
 	if first {
 		for j := range row {
-			row[j] = w0*float64(s0[j]) + w1*float64(s1[j]) + w2*float64(s2[j]) + w3*float64(s3[j])
+			row[j] = ((wa0*a0[j] + wa1*a1[j]) + (wa2*a2[j] + wa3*a3[j])) +
+				((wb0*b0[j] + wb1*b1[j]) + (wb2*b2[j] + wb3*b3[j]))
 		}
 		return
 	}
 	for j := range row {
-		row[j] += w0*float64(s0[j]) + w1*float64(s1[j]) + w2*float64(s2[j]) + w3*float64(s3[j])
-	}
-}
-
-// addRows8 sets row (first) or adds to it the rows src[g+bm:] (b = 0..3,
-// g = 0 and gs) with weights wa wy[b] (g = 0) and wb wy[b] (g = gs).
-func addRows8(row []float64, src []float32, m, gs int, wa, wb float64, wy [4]float64, first bool) {
-	n := len(row)
-	a0, a1, a2, a3 := src[:n], src[m:m+n], src[2*m:2*m+n], src[3*m:3*m+n]
-	b0, b1, b2, b3 := src[gs:gs+n], src[gs+m:gs+m+n], src[gs+2*m:gs+2*m+n], src[gs+3*m:gs+3*m+n]
-	wa0, wa1, wa2, wa3 := wa*wy[0], wa*wy[1], wa*wy[2], wa*wy[3]
-	wb0, wb1, wb2, wb3 := wb*wy[0], wb*wy[1], wb*wy[2], wb*wy[3]
-	for j := range row {
-		v := wa0*float64(a0[j]) + wa1*float64(a1[j]) + wa2*float64(a2[j]) + wa3*float64(a3[j]) +
-			wb0*float64(b0[j]) + wb1*float64(b1[j]) + wb2*float64(b2[j]) + wb3*float64(b3[j])
-		if !first {
-			v += row[j]
-		}
-		row[j] = v
+		row[j] += ((wa0*a0[j] + wa1*a1[j]) + (wa2*a2[j] + wa3*a3[j])) +
+			((wb0*b0[j] + wb1*b1[j]) + (wb2*b2[j] + wb3*b3[j]))
 	}
 }
 
 // addRow sets row (first) or adds to it w src[j].
-func addRow(row []float64, src []float32, w float64, first bool) {
+func addRow(row, src []float64, w float64, first bool) {
 	s := src[:len(row)]
 	if first {
 		for j := range row {
-			row[j] = w * float64(s[j])
+			row[j] = w * s[j]
 		}
 		return
 	}
@@ -461,16 +507,21 @@ func (tab *logTable) init() {
 	}
 }
 
-// log1mxSeries is ln(1 - x) for 0 <= x < 2^-10: the Taylor series
-// -(x + x^2/2 + ... + x^5/5) (remainder below x^6/(6 (1 - x)), 1.5e-16 of
-// the value).
+// log1mxSeries is ln(1 - x) for 0 <= x < 2^-10 by its Taylor series
+// -(x + x^2/2 + ...): to x^3 below 2^-18, to x^5 above, leaving out less
+// than x^4/(4 (1 - x)) < 2^-54 x and x^6/(6 (1 - x)) < 1.5e-16 x.
 func log1mxSeries(x float64) float64 {
-	return -x * (1 + x*(1.0/2+x*(1.0/3+x*(1.0/4+x*(1.0/5)))))
+	// With the signs inside, for one instruction less; the same value.
+	if x < 0x1p-18 {
+		return x * (-1 + x*(-1.0/2+x*(-1.0/3)))
+	}
+	return x * (-1 + x*(-1.0/2+x*(-1.0/3+x*(-1.0/4+x*(-1.0/5)))))
 }
 
-// addLog1mx adds ln(1 - x), x = c invF[k], to dst[k] for x >= 2^-10 (-Inf
-// for x >= 1), within a few ulp (the edge term ln(1 - f_*/f) =
-// ln(1 - e^-v) above f = 1024 f_*; log1mxSeries takes over below). With
+// log1mxRun writes ln(1 - x), x = c invF[k], into dst[k] for the leading
+// run of k with x >= 2^-10 (-Inf for x >= 1) and returns its length:
+// the edge term ln(1 - f_*/f) = ln(1 - e^-v) at the ascending frequencies
+// below 1024 f_*, where log1mxSeries would need many terms. With
 // 1 - x = y + dy (y = fl(1 - x), dy exact) and y = 2^e m, m in [1, 2), it
 // takes ln(1 - x) = (e + 1) ln 2 + ln(m_k/2) + ln(1 + r) with
 // r = (m - m_k + 2^-e dy)/m_k, |r| < 2^-8, for the table node m_k nearest
@@ -479,10 +530,13 @@ func log1mxSeries(x float64) float64 {
 // |r|^7/7 < 3e-18). Taking ln(m_k/2) from the table rather than
 // ln m_k - ln 2 keeps the result accurate to a few ulp up to y = 1, and
 // there is no division (math.Log and math.Log1p take one).
-func (tab *logTable) addLog1mx(dst, invF []float64, c float64) {
-	invF = invF[:len(dst)]
+func (tab *logTable) log1mxRun(dst, invF []float64, c float64) int {
+	dst = dst[:len(invF)]
 	for k := range dst {
 		x := c * invF[k]
+		if x < log1mxSwitch {
+			return k
+		}
 		if !(x < 1) {
 			dst[k] = math.Inf(-1)
 			continue
@@ -499,8 +553,9 @@ func (tab *logTable) addLog1mx(dst, invF []float64, c float64) {
 		r := ((m - n.mk) + dy*s) * n.inv             // m - m_k and dy s are exact
 		p := r + r*r*(-1.0/2+r*(1.0/3+r*(-1.0/4+r*(1.0/5+r*(-1.0/6)))))
 		e1 := float64(int(ex) - 1022) // e + 1 <= 0
-		dst[k] += (e1*ln2Hi + n.lnHalf) + (p + e1*ln2Lo)
+		dst[k] = (e1*ln2Hi + n.lnHalf) + (p + e1*ln2Lo)
 	}
+	return len(dst)
 }
 
 func decodeMetaTable(name string, b []byte, s MetastableSettings) (*MetastableTable, error) {
@@ -511,6 +566,7 @@ func decodeMetaTable(name string, b []byte, s MetastableSettings) (*MetastableTa
 	if err := t.decode(name, b); err != nil {
 		return nil, err
 	}
+	t.widen()
 	return t, nil
 }
 

@@ -218,25 +218,24 @@ func TestMetastableTableLnOmegaOnePoint(t *testing.T) {
 }
 
 // log1mx is the edge term ln(1 - x) as lnOmega takes it: log1mxSeries
-// below 2^-10, logTable.addLog1mx above.
+// below 2^-10, logTable.log1mxRun above.
 func log1mx(t *MetastableTable, x float64) float64 {
-	if x < log1mxSwitch {
+	var d [1]float64
+	if t.logTab.log1mxRun(d[:], []float64{1}, x) == 0 {
 		return log1mxSeries(x)
 	}
-	var d [1]float64
-	t.logTab.addLog1mx(d[:], []float64{1}, x)
 	return d[0]
 }
 
 // TestLog1mx checks the edge term ln(1 - x) against the standard library's
 // math.Log1p (accurate to about one ulp) from x = 1e-300 to the last
 // float64 below 1, within 4 ulp (relative 2^-50): the series below
-// x = 2^-10 leaves out at most x^6/(6 (1 - x)), the table reduction above
-// rounds a few times.
+// x = 2^-10 leaves out at most x^6/(6 (1 - x)) (x^4/(4 (1 - x)) below
+// 2^-18), the table reduction above rounds a few times.
 func TestLog1mx(t *testing.T) {
 	tab := loadMeta(t)
 	rng := rand.New(rand.NewPCG(13, 0))
-	xs := []float64{0, 1e-300, 1e-20, 1e-8, math.Nextafter(0x1p-10, 0), 0x1p-10, 0.05, 0.25, 0.5, 0.75, 0.999, 1 - 1e-12, math.Nextafter(1, 0)}
+	xs := []float64{0, 1e-300, 1e-20, 1e-8, math.Nextafter(0x1p-18, 0), 0x1p-18, math.Nextafter(0x1p-10, 0), 0x1p-10, 0.05, 0.25, 0.5, 0.75, 0.999, 1 - 1e-12, math.Nextafter(1, 0)}
 	for range 100000 {
 		xs = append(xs, rng.Float64(), math.Pow(10, -16*rng.Float64()), 1-math.Pow(10, -16*rng.Float64()))
 	}
