@@ -295,14 +295,16 @@ func (t *MetastableTable) newFreqs(f []float64) *metaFreqs {
 
 // lnOmega writes ln Omega at the frequencies fr into out (in the order
 // newFreqs was given them) without allocating. Everything that depends on
-// (Gmu, t_s) alone is done once: the position, f_*, the first frequency
-// above f_*, and the combination of the stencil's 16 (Gmu, t_s) rows into
-// one row over the v nodes the frequencies need (4 rows when t_s is at or
-// after today, where the t_s weights are 0, 0, 0, 1). What is left per
-// frequency is the 4-point interpolation of that row in v and the edge
-// term ln(1 - f_*/f), in loops without branches: the frequencies ascend,
-// so those below f_* come first, then those where the edge term takes the
-// table, then those where it takes the series.
+// (Gmu, t_s) alone is done once: the position, f_* (kept for t_s at or
+// after today), the first frequency above f_*, the combination of the
+// stencil's 16 (Gmu, t_s) rows into one row over the v nodes the
+// frequencies need (4 rows when t_s is at or after today, where the t_s
+// weights are 0, 0, 0, 1), and the cubic of each 4-node stencil of that
+// row. What is left per frequency is the evaluation of its stencil's
+// cubic and the edge term ln(1 - f_*/f); the frequencies ascend, so those
+// below f_* come first, then those where the edge term takes the table,
+// then those where it takes ever shorter series, each run in a loop of
+// its own.
 func (t *MetastableTable) lnOmega(lg, sk float64, fr *metaFreqs, out []float64) error {
 	if !(lg >= tableGLo && lg <= tableGHi && sk >= 0 && sk < math.Inf(1)) {
 		return ErrOutsideMetastableTable
@@ -359,10 +361,8 @@ func (t *MetastableTable) lnOmega(lg, sk float64, fr *metaFreqs, out []float64) 
 	iy, wy := lagrangeWeights((y-ax[1].Lo)*t.invStep[1], nY)
 	row := fr.row[jLo:jHi]
 	if top {
-		for a, w := range wg {
-			// At the last node the weights are exactly 0, 0, 0, 1.
-			addRow(row, t.data[((ig+a)*nY+iy+3)*m+jLo:], w, a == 0)
-		}
+		// At the last t_s node the weights are exactly 0, 0, 0, 1.
+		addRows4(row, t.data[((ig*nY+iy+3)*m+jLo):], nY*m, wg)
 	} else {
 		base := (ig*nY+iy)*m + jLo
 		addRows8(row, t.data[base:], m, nY*m, wg[0], wg[1], wy, true)
@@ -381,13 +381,31 @@ func (t *MetastableTable) lnOmega(lg, sk float64, fr *metaFreqs, out []float64) 
 	for k := k0; k < k1; k++ {
 		dst[k] += cubicAt(coef, xs[k]-c, last) + shift
 	}
+	// The series: to x^5 while x >= 2^-18, to x^2 while x >= 2^-27, then
+	// -x alone.
+	k2, k3 := k1, k1
+	for k2 < n && fs*invF[k2] >= log1mxShort {
+		k2++
+	}
+	for k3 = k2; k3 < n && fs*invF[k3] >= log1mxTiny; k3++ {
+	}
 	if k1 < n && int(xs[k1]-c) >= 1 && int(xs[n-1]-c)-1 <= last {
 		// No stencil from k1 on clamps (they do not move down as x
 		// grows): the common case, since f > 1024 f_* puts x above 34.
-		for k := k1; k < n; k++ {
+		for k := k1; k < k2; k++ {
 			x := xs[k] - c
 			iv := int(x) - 1
-			dst[k] = cubicFrom(coef, iv, x-float64(iv+1)) + log1mxSeries(fs*invF[k]) + shift
+			dst[k] = cubicFrom(coef, iv, x-float64(iv+1)) + log1mxSeries5(fs*invF[k]) + shift
+		}
+		for k := k2; k < k3; k++ {
+			x := xs[k] - c
+			iv := int(x) - 1
+			dst[k] = cubicFrom(coef, iv, x-float64(iv+1)) + log1mxSeries2(fs*invF[k]) + shift
+		}
+		for k := k3; k < n; k++ {
+			x := xs[k] - c
+			iv := int(x) - 1
+			dst[k] = cubicFrom(coef, iv, x-float64(iv+1)) + shift - fs*invF[k]
 		}
 	} else {
 		for k := k1; k < n; k++ {
@@ -407,12 +425,17 @@ func (t *MetastableTable) lnOmega(lg, sk float64, fr *metaFreqs, out []float64) 
 // c3 t^3 with p(-1) = r0, p(0) = r1, p(1) = r2, p(2) = r3 (solved from the
 // sum and difference of p(1) and p(-1) and from p(2)) into coef, 4 per run.
 func cubics(coef, row []float64) {
-	for j := 0; j+3 < len(row); j++ {
-		r := row[j : j+4 : j+4]
-		c2 := 0.5*(r[0]+r[2]) - r[1]
-		c3 := (r[3]-r[0])*(1.0/6) + 0.5*(r[1]-r[2])
+	if len(row) < 4 {
+		return
+	}
+	coef = coef[:4*(len(row)-3)]
+	r0, r1, r2 := row[0], row[1], row[2]
+	for j, r3 := range row[3:] {
+		c2 := 0.5*(r0+r2) - r1
+		c3 := (r3-r0)*(1.0/6) + 0.5*(r1-r2)
 		q := coef[4*j : 4*j+4 : 4*j+4]
-		q[0], q[1], q[2], q[3] = r[1], (r[2]-r[1])-c2-c3, c2, c3
+		q[0], q[1], q[2], q[3] = r1, (r2-r1)-c2-c3, c2, c3
+		r0, r1, r2 = r1, r2, r3
 	}
 }
 
@@ -462,17 +485,12 @@ func addRows8(row, src []float64, m, gs int, wa, wb float64, wy [4]float64, firs
 	}
 }
 
-// addRow sets row (first) or adds to it w src[j].
-func addRow(row, src []float64, w float64, first bool) {
-	s := src[:len(row)]
-	if first {
-		for j := range row {
-			row[j] = w * s[j]
-		}
-		return
-	}
+// addRows4 sets row to sum_a w[a] src[a gs + j].
+func addRows4(row, src []float64, gs int, w [4]float64) {
+	n := len(row)
+	s0, s1, s2, s3 := src[:n], src[gs:][:n], src[2*gs:][:n], src[3*gs:][:n]
 	for j := range row {
-		row[j] += w * float64(s[j])
+		row[j] = (w[0]*s0[j] + w[1]*s1[j]) + (w[2]*s2[j] + w[3]*s3[j])
 	}
 }
 
@@ -485,7 +503,7 @@ func fillNegInf(out []float64) {
 // log1mx's table: logTabN nodes m_k = 1 + (k + 1/2)/logTabN spanning
 // [1, 2), with 1/m_k and ln(m_k/2).
 const (
-	logTabBits = 7
+	logTabBits = 8
 	logTabN    = 1 << logTabBits
 	// ln 2 split as in the standard library's math.Log (fdlibm): ln2Hi
 	// has 32 significant bits, so e ln2Hi is exact for the exponents here.
@@ -493,6 +511,10 @@ const (
 	ln2Lo = 1.90821492927058770002e-10
 	// log1mxSwitch is where log1mx switches from its series to the table.
 	log1mxSwitch = 0x1p-10
+	// Below log1mxShort log1mxSeries drops from x^5 to x^2, below
+	// log1mxTiny to x.
+	log1mxShort = 0x1p-18
+	log1mxTiny  = 0x1p-27
 )
 
 type logNode struct{ mk, inv, lnHalf, _ float64 }
@@ -508,38 +530,52 @@ func (tab *logTable) init() {
 }
 
 // log1mxSeries is ln(1 - x) for 0 <= x < 2^-10 by its Taylor series
-// -(x + x^2/2 + ...): to x^3 below 2^-18, to x^5 above, leaving out less
-// than x^4/(4 (1 - x)) < 2^-54 x and x^6/(6 (1 - x)) < 1.5e-16 x.
+// -(x + x^2/2 + ...), cut where the remainder, below x^(n+1)/(n (1 - x))
+// after n terms, is under 2^-54 + 2^-53 |ln(1 - x)|: to x^5 above 2^-18,
+// to x^2 down to 2^-27, then -x. The edge term is added to ln Omega, of
+// magnitude above 1, so an absolute 2^-54 is below its rounding.
 func log1mxSeries(x float64) float64 {
-	// With the signs inside, for one instruction less; the same value.
-	if x < 0x1p-18 {
-		return x * (-1 + x*(-1.0/2+x*(-1.0/3)))
+	switch {
+	case x >= log1mxShort:
+		return log1mxSeries5(x)
+	case x >= log1mxTiny:
+		return log1mxSeries2(x)
 	}
+	return -x
+}
+
+// log1mxSeries5 and log1mxSeries2 are sums of log1mxSeries, with the
+// signs inside (one instruction less, the same value).
+func log1mxSeries5(x float64) float64 {
 	return x * (-1 + x*(-1.0/2+x*(-1.0/3+x*(-1.0/4+x*(-1.0/5)))))
 }
 
+func log1mxSeries2(x float64) float64 { return x * (-1 + x*(-1.0/2)) }
+
 // log1mxRun writes ln(1 - x), x = c invF[k], into dst[k] for the leading
-// run of k with x >= 2^-10 (-Inf for x >= 1) and returns its length:
-// the edge term ln(1 - f_*/f) = ln(1 - e^-v) at the ascending frequencies
-// below 1024 f_*, where log1mxSeries would need many terms. With
+// run of k with x >= 2^-10 (-Inf for x >= 1) and returns its length;
+// invF must not increase. It is the edge term ln(1 - f_*/f) =
+// ln(1 - e^-v) at the ascending frequencies below 1024 f_*, where
+// log1mxSeries would need many terms. With
 // 1 - x = y + dy (y = fl(1 - x), dy exact) and y = 2^e m, m in [1, 2), it
 // takes ln(1 - x) = (e + 1) ln 2 + ln(m_k/2) + ln(1 + r) with
-// r = (m - m_k + 2^-e dy)/m_k, |r| < 2^-8, for the table node m_k nearest
+// r = (m - m_k + 2^-e dy)/m_k, |r| < 2^-9, for the table node m_k nearest
 // m (the table-driven reduction of Tang 1990, ACM TOMS 16, 378, from
-// memory), and ln(1 + r) by its Taylor series to r^6 (remainder below
-// |r|^7/7 < 3e-18). Taking ln(m_k/2) from the table rather than
+// memory), and ln(1 + r) by its Taylor series to r^5 (remainder below
+// |r|^6/6 < 1e-17, summed in Estrin's order for a shorter chain). Taking ln(m_k/2) from the table rather than
 // ln m_k - ln 2 keeps the result accurate to a few ulp up to y = 1, and
 // there is no division (math.Log and math.Log1p take one).
 func (tab *logTable) log1mxRun(dst, invF []float64, c float64) int {
 	dst = dst[:len(invF)]
-	for k := range dst {
+	k0 := 0 // x >= 1 (f <= f_* by rounding) comes first
+	for k0 < len(dst) && !(c*invF[k0] < 1) {
+		dst[k0] = math.Inf(-1)
+		k0++
+	}
+	for k := k0; k < len(dst); k++ {
 		x := c * invF[k]
 		if x < log1mxSwitch {
 			return k
-		}
-		if !(x < 1) {
-			dst[k] = math.Inf(-1)
-			continue
 		}
 		y := 1 - x
 		// Both subtractions are exact (Sterbenz): for x >= 1/2 so is y, and
@@ -551,7 +587,8 @@ func (tab *logTable) log1mxRun(dst, invF []float64, c float64) int {
 		m := math.Float64frombits(b&(1<<52-1) | 1023<<52)
 		s := math.Float64frombits((2046 - ex) << 52) // 2^-e
 		r := ((m - n.mk) + dy*s) * n.inv             // m - m_k and dy s are exact
-		p := r + r*r*(-1.0/2+r*(1.0/3+r*(-1.0/4+r*(1.0/5+r*(-1.0/6)))))
+		r2 := r * r
+		p := r + r2*((-1.0/2+r*(1.0/3))+r2*(-1.0/4+r*(1.0/5)))
 		e1 := float64(int(ex) - 1022) // e + 1 <= 0
 		dst[k] = (e1*ln2Hi + n.lnHalf) + (p + e1*ln2Lo)
 	}
