@@ -1,10 +1,12 @@
 package cosmicstrings
 
 import (
+	"cmp"
 	"errors"
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"slices"
 
 	"tautline/models/cosmology"
 )
@@ -57,6 +59,14 @@ type MetastableTable struct {
 	s            MetastableSettings
 	bg           *cosmology.Background
 	lnTLo, lnTHi float64
+	// Set by prepare.
+	lnTwoPi, lnPlanckTime, lnAlpha, shift float64
+	invStep                               [3]float64
+	lfsTop, fsTop                         float64 // ln f_* and f_* for t_s >= t0
+	logTab                                logTable
+	// data holds the grid's values as float64 (set by widen): lnOmega
+	// adds 16 rows of it per call, with one conversion less per value.
+	data []float64
 }
 
 // Settings returns the settings the table was built or loaded for.
@@ -73,6 +83,7 @@ func newMetaTable(s MetastableSettings) (*MetastableTable, error) {
 	t := &MetastableTable{s: s, bg: bg}
 	t.lnTLo, t.lnTHi = bg.LnTimeRange()
 	t.gridTable = gridTable{magic: metaMagic, hash: s.TableHash(), g: newGrid(metaAxes(t.lnTHi)...)}
+	t.prepare()
 	return t, nil
 }
 
@@ -150,6 +161,7 @@ func BuildMetastableTable(s MetastableSettings, opt BuildOptions) (*MetastableTa
 	if err != nil {
 		return nil, err
 	}
+	t.widen()
 	if opt.CertPoints < 0 {
 		return t, nil // uncertified, for tests of the layout
 	}
@@ -200,24 +212,35 @@ func (t *MetastableTable) certify(proto *MetastableDirect, opt BuildOptions) (Gr
 		func(i int, f float64) (float64, error) { return t.LnOmega(pts[i].lg, pts[i].sk, f) })
 }
 
+// prepare sets what lnOmega takes from the settings and the axes once: the
+// logarithms of the constants in t_s and f_*, the -Kappa ln P shift, the
+// inverse steps of the axes and the table of the edge term.
+func (t *MetastableTable) prepare() {
+	t.lnTwoPi = math.Log(2 * math.Pi)
+	t.lnPlanckTime = math.Log(PlanckTime)
+	t.lnAlpha = math.Log(t.s.Alpha)
+	t.shift = -t.s.Kappa * math.Log(t.s.P)
+	for i, a := range t.g.axes {
+		t.invStep[i] = 1 / a.Step
+	}
+	lnA, _ := t.bg.LnAHT(t.lnTHi)
+	t.lfsTop = math.Ln2 + lnA - t.lnTHi - t.lnAlpha
+	t.fsTop = math.Exp(t.lfsTop)
+	t.logTab.init()
+}
+
+// widen copies the grid's values into t.data; it is called once the grid
+// is built or decoded.
+func (t *MetastableTable) widen() {
+	t.data = make([]float64, len(t.g.data))
+	for i, v := range t.g.data {
+		t.data[i] = float64(v)
+	}
+}
+
 // ErrOutsideMetastableTable is returned when log10 Gmu is outside
 // [-14, -6] or sqrt(kappa) is negative or not finite.
 var ErrOutsideMetastableTable = errors.New("strings: metastable: parameters outside the tabulated domain (log10_Gmu in [-14, -6], sqrt_kappa_m >= 0)")
-
-// position returns the row coordinates of (log10 Gmu, sqrt(kappa)) and
-// ln f_*, and whether t_s precedes the network (Omega = 0 everywhere).
-func (t *MetastableTable) position(lg, sk float64) (y, lfs float64, none bool, err error) {
-	if !(lg >= tableGLo && lg <= tableGHi && sk >= 0 && sk < math.Inf(1)) {
-		return 0, 0, false, ErrOutsideMetastableTable
-	}
-	// lnDecayTime with ln Gmu = lg ln 10 (no power of ten needed).
-	lts := 0.5*(math.Log(2*math.Pi)-lg*math.Ln10) + 0.5*math.Pi*sk*sk + math.Log(PlanckTime)
-	if lts <= t.lnTLo {
-		return 0, 0, true, nil
-	}
-	lts = math.Min(lts, t.lnTHi)
-	return lts / math.Ln10, t.lnCutoff(lts), false, nil
-}
 
 // LnOmega interpolates ln Omega_GW at one point (-Inf where Omega
 // vanishes); MetastableModel uses the same arithmetic for many frequencies.
@@ -226,97 +249,350 @@ func (t *MetastableTable) LnOmega(log10Gmu, sqrtKappa, f float64) (float64, erro
 		return 0, frequencyError{f}
 	}
 	var out [1]float64
-	lf, inv := [1]float64{math.Log(f)}, [1]float64{1 / f}
-	if err := t.lnOmega(log10Gmu, sqrtKappa, lf[:], inv[:], out[:], make([]float64, t.g.axes[2].N)); err != nil {
+	if err := t.lnOmega(log10Gmu, sqrtKappa, t.newFreqs([]float64{f}), out[:]); err != nil {
 		return 0, err
 	}
 	return out[0], nil
 }
 
-// lnOmega writes ln Omega at ln f = lnf[i] (1/f = invF[i]) into out,
-// using buf (one entry per node of the v axis) as scratch; it does not
-// allocate. It first combines the 16 (Gmu, t_s) rows of the stencil into
-// one row over the v nodes the frequencies need, then interpolates that
-// row in v at each frequency.
-func (t *MetastableTable) lnOmega(lg, sk float64, lnf, invF, out, buf []float64) error {
-	y, lfs, none, err := t.position(lg, sk)
-	if err != nil {
-		return err
+// A metaFreqs is one set of frequencies prepared for lnOmega, with the
+// scratch lnOmega needs; it serves one goroutine at a time.
+type metaFreqs struct {
+	lnf, invF []float64 // ln f and 1/f in ascending order of f
+	xs        []float64 // ln f over the step of the v axis
+	// perm[k] is the index in the caller's order of the k-th lowest
+	// frequency, nil when the caller's frequencies ascend.
+	perm []int
+	row  []float64 // the combined row, one entry per v node
+	coef []float64 // the cubic of each stencil of the row, 4 per node
+	tmp  []float64 // results in ascending order, when perm is not nil
+}
+
+// newFreqs prepares the frequencies f (Hz, positive and finite, in any
+// order).
+func (t *MetastableTable) newFreqs(f []float64) *metaFreqs {
+	m := int(t.g.axes[2].N)
+	fr := &metaFreqs{row: make([]float64, m), coef: make([]float64, 4*m)}
+	if !slices.IsSorted(f) {
+		fr.perm = make([]int, len(f))
+		for i := range fr.perm {
+			fr.perm[i] = i
+		}
+		slices.SortStableFunc(fr.perm, func(i, j int) int { return cmp.Compare(f[i], f[j]) })
+		fr.tmp = make([]float64, len(f))
 	}
-	shift := -t.s.Kappa * math.Log(t.s.P)
-	ax := t.g.axes
-	vMin, vMax := math.Inf(1), math.Inf(-1)
-	for _, l := range lnf {
-		if v := l - lfs; v > 0 {
-			if v < vMin {
-				vMin = v
-			}
-			if v > vMax {
-				vMax = v
-			}
+	fr.lnf, fr.invF, fr.xs = make([]float64, len(f)), make([]float64, len(f)), make([]float64, len(f))
+	for k := range f {
+		v := f[k]
+		if fr.perm != nil {
+			v = f[fr.perm[k]]
 		}
+		fr.lnf[k], fr.invF[k] = math.Log(v), 1/v
+		fr.xs[k] = fr.lnf[k] * t.invStep[2]
 	}
-	if none || y < metaYLo || !(vMax > 0) {
-		if !none && vMax > 0 {
-			return ErrOutsideMetastableTable
-		}
-		for i := range out[:len(lnf)] {
-			out[i] = math.Inf(-1)
-		}
+	return fr
+}
+
+// lnOmega writes ln Omega at the frequencies fr into out (in the order
+// newFreqs was given them) without allocating. Everything that depends on
+// (Gmu, t_s) alone is done once: the position, f_* (kept for t_s at or
+// after today), the first frequency above f_*, the combination of the
+// stencil's 16 (Gmu, t_s) rows into one row over the v nodes the
+// frequencies need (4 rows when t_s is at or after today, where the t_s
+// weights are 0, 0, 0, 1), and the cubic of each 4-node stencil of that
+// row. What is left per frequency is the evaluation of its stencil's
+// cubic and the edge term ln(1 - f_*/f); the frequencies ascend, so those
+// below f_* come first, then those where the edge term takes the table,
+// then those where it takes ever shorter series, each run in a loop of
+// its own.
+func (t *MetastableTable) lnOmega(lg, sk float64, fr *metaFreqs, out []float64) error {
+	if !(lg >= tableGLo && lg <= tableGHi && sk >= 0 && sk < math.Inf(1)) {
+		return ErrOutsideMetastableTable
+	}
+	lnf := fr.lnf
+	n := len(lnf)
+	invF := fr.invF[:n]
+	dst := out[:n]
+	if fr.perm != nil {
+		dst = fr.tmp[:n]
+	}
+	// lnDecayTime with ln Gmu = lg ln 10 (no power of ten needed).
+	lts := 0.5*(t.lnTwoPi-lg*math.Ln10) + 0.5*math.Pi*sk*sk + t.lnPlanckTime
+	if lts <= t.lnTLo { // t_s precedes the network: Omega = 0
+		fillNegInf(out[:n])
 		return nil
 	}
-	ig, wg := ax[0].index(lg)
-	iy, wy := ax[1].index(y)
-	jLo, _ := ax[2].index(vMin)
-	jHi, _ := ax[2].index(vMax)
-	jHi += 4
+	// lnCutoff, with ln alpha taken once and its value at today kept.
+	top := lts >= t.lnTHi
+	lfs, fs := t.lfsTop, t.fsTop
+	if top {
+		lts = t.lnTHi
+	} else {
+		lnA, _ := t.bg.LnAHT(lts)
+		lfs = math.Ln2 + lnA - lts - t.lnAlpha
+		fs = math.Exp(lfs)
+	}
+	k0 := 0 // the first frequency above f_*
+	for k0 < n && !(lnf[k0] > lfs) {
+		k0++
+	}
+	if k0 == n {
+		fillNegInf(out[:n])
+		return nil
+	}
+	y := lts / math.Ln10
+	if y < metaYLo {
+		return ErrOutsideMetastableTable
+	}
+	ax := t.g.axes[:3]
 	nY, m := int(ax[1].N), int(ax[2].N)
-	row := buf[jLo:jHi]
-	clear(row)
-	for a := range 4 {
-		for b := range 4 {
-			w := wg[a] * wy[b]
-			base := ((ig+a)*nY+iy+b)*m + jLo
-			src := t.g.data[base : base+len(row)]
-			for j, d := range src {
-				row[j] += w * float64(d)
-			}
+	// The stencil in v of a frequency is that of Lagrange4Weights, at
+	// x = (v - v0)/step = xs[k] - c; v > 0 makes x > -1/2, where int(x) - 1
+	// clamps to the same node as floor(x) - 1. The stencils of all
+	// frequencies lie in [jLo, jHi), since the stencil does not move down
+	// as x grows.
+	xs := fr.xs[:n]
+	c, last := (lfs+ax[2].Lo)*t.invStep[2], m-4
+	jLo := min(max(int(xs[k0]-c)-1, 0), last)
+	jHi := min(max(int(xs[n-1]-c)-1, 0), last) + 4
+	// Both coordinates are above their axes' first nodes (lg >= -14,
+	// y >= metaYLo), so int truncates like floor.
+	ig, wg := lagrangeWeights((lg-ax[0].Lo)*t.invStep[0], int(ax[0].N))
+	iy, wy := lagrangeWeights((y-ax[1].Lo)*t.invStep[1], nY)
+	row := fr.row[jLo:jHi]
+	if top {
+		// At the last t_s node the weights are exactly 0, 0, 0, 1.
+		addRows4(row, t.data[((ig*nY+iy+3)*m+jLo):], nY*m, wg)
+	} else {
+		base := (ig*nY+iy)*m + jLo
+		addRows8(row, t.data[base:], m, nY*m, wg[0], wg[1], wy, true)
+		addRows8(row, t.data[base+2*nY*m:], m, nY*m, wg[2], wg[3], wy, false)
+	}
+	// The cubic through the 4 nodes of each stencil, in powers of
+	// t = x - (first node + 1): what 4-point Lagrange interpolation
+	// evaluates, with the per-node work done once per stencil rather than
+	// once per frequency.
+	cubics(fr.coef[4*jLo:4*(jHi-3)], row)
+	fillNegInf(dst[:k0])
+	// The edge term ln(1 - f_*/f): the table for the frequencies where
+	// f_*/f >= 2^-10, the first ones above f_*, then the series.
+	k1 := k0 + t.logTab.log1mxRun(dst[k0:], invF[k0:], fs)
+	coef, shift := fr.coef, t.shift
+	for k := k0; k < k1; k++ {
+		dst[k] += cubicAt(coef, xs[k]-c, last) + shift
+	}
+	// The series: to x^5 while x >= 2^-18, to x^2 while x >= 2^-27, then
+	// -x alone.
+	k2, k3 := k1, k1
+	for k2 < n && fs*invF[k2] >= log1mxShort {
+		k2++
+	}
+	for k3 = k2; k3 < n && fs*invF[k3] >= log1mxTiny; k3++ {
+	}
+	if k1 < n && int(xs[k1]-c) >= 1 && int(xs[n-1]-c)-1 <= last {
+		// No stencil from k1 on clamps (they do not move down as x
+		// grows): the common case, since f > 1024 f_* puts x above 34.
+		for k := k1; k < k2; k++ {
+			x := xs[k] - c
+			iv := int(x) - 1
+			dst[k] = cubicFrom(coef, iv, x-float64(iv+1)) + log1mxSeries5(fs*invF[k]) + shift
+		}
+		for k := k2; k < k3; k++ {
+			x := xs[k] - c
+			iv := int(x) - 1
+			dst[k] = cubicFrom(coef, iv, x-float64(iv+1)) + log1mxSeries2(fs*invF[k]) + shift
+		}
+		for k := k3; k < n; k++ {
+			x := xs[k] - c
+			iv := int(x) - 1
+			dst[k] = cubicFrom(coef, iv, x-float64(iv+1)) + shift - fs*invF[k]
+		}
+	} else {
+		for k := k1; k < n; k++ {
+			dst[k] = cubicAt(coef, xs[k]-c, last) + log1mxSeries(fs*invF[k]) + shift
 		}
 	}
-	fs := math.Exp(lfs)
-	// The 4-point Lagrange weights of numeric.Lagrange4Weights, written
-	// out with a multiplication by 1/step.
-	v0, inv, last := ax[2].Lo, 1/ax[2].Step, m-4
-	for i, l := range lnf {
-		v := l - lfs
-		if !(v > 0) {
-			out[i] = math.Inf(-1)
-			continue
+	if fr.perm != nil {
+		for k, i := range fr.perm[:n] {
+			out[i] = dst[k]
 		}
-		x := (v - v0) * inv
-		iv := int(math.Floor(x)) - 1
-		if iv < 0 {
-			iv = 0
-		} else if iv > last {
-			iv = last
-		}
-		u := x - float64(iv)
-		r := buf[iv : iv+4 : iv+4]
-		u1, u2, u3 := u-1, u-2, u-3
-		lag := (-r[0]*u1*u2*u3+r[3]*u*u1*u2)/6 + (r[1]*u*u2*u3-r[2]*u*u1*u3)/2
-		out[i] = lag + log1mx(fs*invF[i]) + shift
 	}
 	return nil
 }
 
-// log1mx returns ln(1 - x) for 0 <= x < 1 (the edge term ln(1 - f_*/f) =
-// ln(1 - e^-v)): by its Taylor series -sum x^n/n to n = 8 below x = 0.05
-// (remainder below x^9/(9 (1 - x)) = 2.3e-13), else math.Log1p.
-func log1mx(x float64) float64 {
-	if x < 0.05 {
-		return -x * (1 + x*(1.0/2+x*(1.0/3+x*(1.0/4+x*(1.0/5+x*(1.0/6+x*(1.0/7+x*(1.0/8))))))))
+// cubics writes, for each run of 4 consecutive values r0..r3 of row, the
+// coefficients (r1, c1, c2, c3) of the cubic p(t) = r1 + c1 t + c2 t^2 +
+// c3 t^3 with p(-1) = r0, p(0) = r1, p(1) = r2, p(2) = r3 (solved from the
+// sum and difference of p(1) and p(-1) and from p(2)) into coef, 4 per run.
+func cubics(coef, row []float64) {
+	if len(row) < 4 {
+		return
 	}
-	return math.Log1p(-x)
+	coef = coef[:4*(len(row)-3)]
+	r0, r1, r2 := row[0], row[1], row[2]
+	for j, r3 := range row[3:] {
+		c2 := 0.5*(r0+r2) - r1
+		c3 := (r3-r0)*(1.0/6) + 0.5*(r1-r2)
+		q := coef[4*j : 4*j+4 : 4*j+4]
+		q[0], q[1], q[2], q[3] = r1, (r2-r1)-c2-c3, c2, c3
+		r0, r1, r2 = r1, r2, r3
+	}
+}
+
+// cubicAt evaluates the cubic of the stencil of x (see cubics), the
+// stencil starting at node min(max(floor(x) - 1, 0), last).
+func cubicAt(coef []float64, x float64, last int) float64 {
+	iv := min(max(int(x)-1, 0), last)
+	return cubicFrom(coef, iv, x-float64(iv+1))
+}
+
+// cubicFrom evaluates the cubic of the stencil starting at node iv at
+// t = u.
+func cubicFrom(coef []float64, iv int, u float64) float64 {
+	q := coef[4*iv : 4*iv+4 : 4*iv+4]
+	return (q[0] + u*q[1]) + (u*u)*(q[2]+u*q[3]) // Estrin: a shorter chain
+}
+
+// lagrangeWeights is numeric.Lagrange4Weights for s >= 0, with the
+// divisions by 6 and 2 made multiplications.
+func lagrangeWeights(s float64, n int) (int, [4]float64) {
+	i := min(max(int(s)-1, 0), n-4)
+	u := s - float64(i)
+	u1, u2, u3 := u-1, u-2, u-3
+	p01, p23 := u*u1, u2*u3
+	return i, [4]float64{-u1 * p23 * (1.0 / 6), u * p23 * 0.5, -p01 * u3 * 0.5, p01 * u2 * (1.0 / 6)}
+}
+
+// addRows8 sets row (first) or adds to it the rows src[g+bm:] (b = 0..3,
+// g = 0 and gs) with weights wa wy[b] (g = 0) and wb wy[b] (g = gs).
+func addRows8(row, src []float64, m, gs int, wa, wb float64, wy [4]float64, first bool) {
+	n := len(row)
+	a0, a1, a2, a3 := src[:n], src[m:][:n], src[2*m:][:n], src[3*m:][:n]
+	b := src[gs:]
+	b0, b1, b2, b3 := b[:n], b[m:][:n], b[2*m:][:n], b[3*m:][:n]
+	wa0, wa1, wa2, wa3 := wa*wy[0], wa*wy[1], wa*wy[2], wa*wy[3]
+	wb0, wb1, wb2, wb3 := wb*wy[0], wb*wy[1], wb*wy[2], wb*wy[3]
+	if first {
+		for j := range row {
+			row[j] = ((wa0*a0[j] + wa1*a1[j]) + (wa2*a2[j] + wa3*a3[j])) +
+				((wb0*b0[j] + wb1*b1[j]) + (wb2*b2[j] + wb3*b3[j]))
+		}
+		return
+	}
+	for j := range row {
+		row[j] += ((wa0*a0[j] + wa1*a1[j]) + (wa2*a2[j] + wa3*a3[j])) +
+			((wb0*b0[j] + wb1*b1[j]) + (wb2*b2[j] + wb3*b3[j]))
+	}
+}
+
+// addRows4 sets row to sum_a w[a] src[a gs + j].
+func addRows4(row, src []float64, gs int, w [4]float64) {
+	n := len(row)
+	s0, s1, s2, s3 := src[:n], src[gs:][:n], src[2*gs:][:n], src[3*gs:][:n]
+	for j := range row {
+		row[j] = (w[0]*s0[j] + w[1]*s1[j]) + (w[2]*s2[j] + w[3]*s3[j])
+	}
+}
+
+func fillNegInf(out []float64) {
+	for i := range out {
+		out[i] = math.Inf(-1)
+	}
+}
+
+// log1mx's table: logTabN nodes m_k = 1 + (k + 1/2)/logTabN spanning
+// [1, 2), with 1/m_k and ln(m_k/2).
+const (
+	logTabBits = 8
+	logTabN    = 1 << logTabBits
+	// ln 2 split as in the standard library's math.Log (fdlibm): ln2Hi
+	// has 32 significant bits, so e ln2Hi is exact for the exponents here.
+	ln2Hi = 6.93147180369123816490e-01
+	ln2Lo = 1.90821492927058770002e-10
+	// log1mxSwitch is where log1mx switches from its series to the table.
+	log1mxSwitch = 0x1p-10
+	// Below log1mxShort log1mxSeries drops from x^5 to x^2, below
+	// log1mxTiny to x.
+	log1mxShort = 0x1p-18
+	log1mxTiny  = 0x1p-27
+)
+
+type logNode struct{ mk, inv, lnHalf, _ float64 }
+
+// A logTable holds the nodes of log1mx.
+type logTable [logTabN]logNode
+
+func (tab *logTable) init() {
+	for k := range tab {
+		mk := 1 + (float64(k)+0.5)/logTabN // exact: 9 significant bits
+		tab[k] = logNode{mk: mk, inv: 1 / mk, lnHalf: math.Log(mk / 2)}
+	}
+}
+
+// log1mxSeries is ln(1 - x) for 0 <= x < 2^-10 by its Taylor series
+// -(x + x^2/2 + ...), cut where the remainder, below x^(n+1)/(n (1 - x))
+// after n terms, is under 2^-54 + 2^-53 |ln(1 - x)|: to x^5 above 2^-18,
+// to x^2 down to 2^-27, then -x. The edge term is added to ln Omega, of
+// magnitude above 1, so an absolute 2^-54 is below its rounding.
+func log1mxSeries(x float64) float64 {
+	switch {
+	case x >= log1mxShort:
+		return log1mxSeries5(x)
+	case x >= log1mxTiny:
+		return log1mxSeries2(x)
+	}
+	return -x
+}
+
+// log1mxSeries5 and log1mxSeries2 are sums of log1mxSeries, with the
+// signs inside (one instruction less, the same value).
+func log1mxSeries5(x float64) float64 {
+	return x * (-1 + x*(-1.0/2+x*(-1.0/3+x*(-1.0/4+x*(-1.0/5)))))
+}
+
+func log1mxSeries2(x float64) float64 { return x * (-1 + x*(-1.0/2)) }
+
+// log1mxRun writes ln(1 - x), x = c invF[k], into dst[k] for the leading
+// run of k with x >= 2^-10 (-Inf for x >= 1) and returns its length;
+// invF must not increase. It is the edge term ln(1 - f_*/f) =
+// ln(1 - e^-v) at the ascending frequencies below 1024 f_*, where
+// log1mxSeries would need many terms. With
+// 1 - x = y + dy (y = fl(1 - x), dy exact) and y = 2^e m, m in [1, 2), it
+// takes ln(1 - x) = (e + 1) ln 2 + ln(m_k/2) + ln(1 + r) with
+// r = (m - m_k + 2^-e dy)/m_k, |r| < 2^-9, for the table node m_k nearest
+// m (the table-driven reduction of Tang 1990, ACM TOMS 16, 378, from
+// memory), and ln(1 + r) by its Taylor series to r^5 (remainder below
+// |r|^6/6 < 1e-17, summed in Estrin's order for a shorter chain). Taking ln(m_k/2) from the table rather than
+// ln m_k - ln 2 keeps the result accurate to a few ulp up to y = 1, and
+// there is no division (math.Log and math.Log1p take one).
+func (tab *logTable) log1mxRun(dst, invF []float64, c float64) int {
+	dst = dst[:len(invF)]
+	k0 := 0 // x >= 1 (f <= f_* by rounding) comes first
+	for k0 < len(dst) && !(c*invF[k0] < 1) {
+		dst[k0] = math.Inf(-1)
+		k0++
+	}
+	for k := k0; k < len(dst); k++ {
+		x := c * invF[k]
+		if x < log1mxSwitch {
+			return k
+		}
+		y := 1 - x
+		// Both subtractions are exact (Sterbenz): for x >= 1/2 so is y, and
+		// dy = 0; below, y is in (1/2, 1).
+		dy := (1 - y) - x
+		b := math.Float64bits(y) // y is normal: y >= 2^-53
+		ex := b >> 52            // biased exponent, e + 1023
+		n := &tab[b>>(52-logTabBits)&(logTabN-1)]
+		m := math.Float64frombits(b&(1<<52-1) | 1023<<52)
+		s := math.Float64frombits((2046 - ex) << 52) // 2^-e
+		r := ((m - n.mk) + dy*s) * n.inv             // m - m_k and dy s are exact
+		r2 := r * r
+		p := r + r2*((-1.0/2+r*(1.0/3))+r2*(-1.0/4+r*(1.0/5)))
+		e1 := float64(int(ex) - 1022) // e + 1 <= 0
+		dst[k] = (e1*ln2Hi + n.lnHalf) + (p + e1*ln2Lo)
+	}
+	return len(dst)
 }
 
 func decodeMetaTable(name string, b []byte, s MetastableSettings) (*MetastableTable, error) {
@@ -327,6 +603,7 @@ func decodeMetaTable(name string, b []byte, s MetastableSettings) (*MetastableTa
 	if err := t.decode(name, b); err != nil {
 		return nil, err
 	}
+	t.widen()
 	return t, nil
 }
 

@@ -47,33 +47,27 @@ func (m *MetastableModel) Domain() [][2]float64 {
 
 // At prepares evaluation at f (Hz, within 1e-11..1e-5).
 func (m *MetastableModel) At(f []float64) (models.Spectrum, error) {
-	lnf, err := tableLnF(f)
-	if err != nil {
+	if _, err := tableLnF(f); err != nil {
 		return nil, err
 	}
-	inv := make([]float64, len(f))
-	for i, v := range f {
-		inv[i] = 1 / v
-	}
-	return &metaSpectrum{t: m.t, lnf: lnf, invF: inv, buf: make([]float64, m.t.g.axes[2].N)}, nil
+	return &metaSpectrum{t: m.t, fr: m.t.newFreqs(f)}, nil
 }
 
-// metaSpectrum evaluates a MetastableTable at fixed frequencies; buf is
-// lnOmega's scratch row, so a metaSpectrum serves one goroutine at a time
-// (as models.Spectrum requires).
+// metaSpectrum evaluates a MetastableTable at fixed frequencies; fr holds
+// lnOmega's scratch, so a metaSpectrum serves one goroutine at a time (as
+// models.Spectrum requires).
 type metaSpectrum struct {
-	t         *MetastableTable
-	lnf, invF []float64
-	buf       []float64
+	t  *MetastableTable
+	fr *metaFreqs
 }
 
 // LnOmega implements models.Spectrum without allocating; -Inf where the
 // spectrum vanishes (below its cutoff).
 func (s *metaSpectrum) LnOmega(theta, out []float64) error {
-	if len(theta) != 2 || len(out) != len(s.lnf) {
+	if len(theta) != 2 || len(out) != len(s.fr.lnf) {
 		return errGridTheta
 	}
-	return s.t.lnOmega(theta[0], theta[1], s.lnf, s.invF, out, s.buf)
+	return s.t.lnOmega(theta[0], theta[1], s.fr, out)
 }
 
 // tableLnF checks that f lies in the tables' band and returns ln f.
