@@ -92,12 +92,15 @@ type rung struct {
 // loop, or Run. An Ensemble is not safe for concurrent use; Step itself
 // parallelises the density evaluations.
 type Ensemble struct {
-	t        Target
-	cfg      Config
-	dim      int
-	nw       int
-	moves    []WeightedMove
-	cumW     []float64
+	t     Target
+	cfg   Config
+	dim   int
+	nw    int
+	moves []WeightedMove
+	cumW  []float64
+	// stretchA[i] is A when moves[i] is a Stretch (by value), which the
+	// update then runs without the Move interface; 0 otherwise.
+	stretchA []float64
 	betas    []float64
 	rungs    []rung
 	steps    int
@@ -113,7 +116,8 @@ type Ensemble struct {
 	hist     *History
 	// evals holds one log-likelihood evaluator per batch of an update
 	// (see LogLikeMaker): batch b, whichever goroutine runs it, uses
-	// evals[b].
+	// evals[b]. It is nil when the target is not a LogLikeMaker: every
+	// batch then calls Target.LogLike.
 	evals []func(x []float64) float64
 	pool  *pool
 	wg    sync.WaitGroup
@@ -253,16 +257,20 @@ func build(t Target, cfg Config) (*Ensemble, error) {
 		workers:  workers,
 		minBatch: minBatch,
 	}
-	e.evals = make([]func([]float64) float64, max(workers, 1))
-	for b := range e.evals {
-		if mk, ok := t.(LogLikeMaker); ok {
+	e.stretchA = make([]float64, len(moves))
+	for i, m := range moves {
+		if st, ok := m.Move.(Stretch); ok {
+			e.stretchA[i] = st.A
+		}
+	}
+	if mk, ok := t.(LogLikeMaker); ok {
+		e.evals = make([]func([]float64) float64, max(workers, 1))
+		for b := range e.evals {
 			f, err := mk.NewLogLike()
 			if err != nil {
 				return nil, fmt.Errorf("sampler: log-likelihood evaluator %d: %w", b, err)
 			}
 			e.evals[b] = f
-		} else {
-			e.evals[b] = t.LogLike
 		}
 	}
 	nw := cfg.Walkers
@@ -291,15 +299,22 @@ func build(t Target, cfg Config) (*Ensemble, error) {
 // evaluated when the prior is not).
 func (e *Ensemble) density(b int, x []float64) (lp, ll float64, ok bool) {
 	lp = e.t.LogPrior(x)
-	if math.IsNaN(lp) || math.IsInf(lp, 0) {
+	if !finite(lp) {
 		return lp, math.Inf(-1), false
 	}
-	ll = e.evals[b](x)
-	if math.IsNaN(ll) || math.IsInf(ll, 0) {
+	if e.evals == nil {
+		ll = e.t.LogLike(x)
+	} else {
+		ll = e.evals[b](x)
+	}
+	if !finite(ll) {
 		return lp, ll, false
 	}
 	return lp, ll, true
 }
+
+// finite reports whether v is neither infinite nor NaN.
+func finite(v float64) bool { return math.Abs(v) <= math.MaxFloat64 }
 
 // lnPost returns lp + beta ll, treating beta = 0 exactly.
 func lnPost(beta, lp, ll float64) float64 {
@@ -407,47 +422,146 @@ func (e *Ensemble) updateHalf(h int) {
 }
 
 // updateRange updates flattened (rung, walker-of-half) indices [lo, hi) as
-// batch b.
+// batch b: index j is walker h*hw + j%hw of rung j/hw, with hw = Walkers/2
+// and h the half being updated.
 func (e *Ensemble) updateRange(b, lo, hi int) {
 	hw := e.nw / 2
 	d := e.dim
 	h := e.half
-	for j := lo; j < hi; j++ {
-		r := j / hw
-		w := h*hw + j%hw
+	o := (1 - h) * hw
+	c := float64(d - 1)
+	for r := lo / hw; r*hw < hi; r++ {
 		g := &e.rungs[r]
-		o := (1 - h) * hw
+		beta := e.betas[r]
 		others := g.pos[o*d : (o+hw)*d]
-		rng := g.rng[w]
-		m := e.moves[0].Move
-		if len(e.moves) > 1 {
-			u := rng.Float64()
-			for i, c := range e.cumW {
-				if u < c {
-					m = e.moves[i].Move
-					break
+		for w := h*hw + max(lo-r*hw, 0); w < h*hw+min(hi-r*hw, hw); w++ {
+			p := g.pcg[w]
+			k := 0
+			if len(e.cumW) > 1 {
+				u := pcgFloat64(p)
+				for i, cw := range e.cumW {
+					if u < cw {
+						k = i
+						break
+					}
 				}
 			}
-		}
-		x := g.pos[w*d : w*d+d]
-		y := g.prop[w*d : w*d+d]
-		lnf := m.Propose(rng, x, others, hw, y)
-		lp, ll, ok := e.density(b, y)
-		if !ok {
-			continue
-		}
-		beta := e.betas[r]
-		post := lnPost(beta, lp, ll)
-		lnA := lnf + post - g.lpost[w]
-		if math.IsNaN(lnA) {
-			continue
-		}
-		if lnA >= 0 || math.Log(rng.Float64()) < lnA {
+			x := g.pos[w*d : w*d+d]
+			y := g.prop[w*d : w*d+d]
+			var lp, ll, post float64
+			if a := e.stretchA[k]; a != 0 {
+				z := stretchPCG(p, a, x, others, hw, y)
+				var ok bool
+				if lp, ll, ok = e.density(b, y); !ok {
+					continue
+				}
+				post = lnPost(beta, lp, ll)
+				if !acceptStretch(p, c, z, post, g.lpost[w]) {
+					continue
+				}
+			} else {
+				lnf := e.moves[k].Move.Propose(g.rng[w], x, others, hw, y)
+				var ok bool
+				if lp, ll, ok = e.density(b, y); !ok {
+					continue
+				}
+				post = lnPost(beta, lp, ll)
+				if !metropolis(p, lnf+post-g.lpost[w]) {
+					continue
+				}
+			}
 			copy(x, y)
 			g.lp[w], g.ll[w], g.lpost[w] = lp, ll, post
 			g.acc[w]++
 		}
 	}
+}
+
+// metropolis is the Metropolis–Hastings test of a proposal with log
+// acceptance ratio lnA: false for NaN, true for lnA >= 0, and otherwise
+// ln u < lnA for u = rand.New(p).Float64(), the only draw. ln u is bracketed
+// first (lnBracket), and computed only when the bracket straddles lnA.
+func metropolis(p *rand.PCG, lnA float64) bool {
+	if math.IsNaN(lnA) {
+		return false
+	}
+	if lnA >= 0 {
+		return true
+	}
+	u := pcgFloat64(p)
+	if lo, hi, ok := lnBracket(u); ok {
+		if hi < lnA {
+			return true
+		}
+		if lo >= lnA {
+			return false
+		}
+	}
+	return math.Log(u) < lnA
+}
+
+// acceptStretch decides a stretch proposal exactly as metropolis does with
+//
+//	lnA = (float64(c * math.Log(z)) + post) - lpost,
+//
+// c = d - 1 (Goodman & Weare 2010, eq. 11), but computes math.Log(z) only
+// when the decision depends on more than lnBracket tells of it. Each of the
+// three roundings above is a non-decreasing function of its operand, so
+// putting the ends of the bracket of ln z in place of math.Log(z) brackets
+// lnA; where both ends are not NaN, lnA is not NaN either (a NaN needs
+// equal infinities in the last subtraction, and those reach one end). The
+// result, and the draws taken from p, are those of metropolis(p, lnA).
+func acceptStretch(p *rand.PCG, c, z, post, lpost float64) bool {
+	zlo, zhi, ok := lnBracket(z)
+	if !ok {
+		return metropolis(p, float64(float64(c*math.Log(z))+post)-lpost)
+	}
+	lo := float64(float64(c*zlo)+post) - lpost
+	hi := float64(float64(c*zhi)+post) - lpost
+	switch {
+	case lo >= 0: // lnA >= lo >= 0
+		return true
+	case hi < 0: // lnA <= hi < 0: one draw
+		u := pcgFloat64(p)
+		if ulo, uhi, ok := lnBracket(u); ok {
+			if uhi < lo {
+				return true
+			}
+			if ulo >= hi {
+				return false
+			}
+		}
+		return math.Log(u) < float64(float64(c*math.Log(z))+post)-lpost
+	}
+	return metropolis(p, float64(float64(c*math.Log(z))+post)-lpost)
+}
+
+// lnTol bounds |lnBracket's estimate - math.Log(x)|: 1.47e-4 of series
+// truncation (see lnBracket), a few 1e-13 of rounding in the estimate and
+// under 1 ulp (at most 1.2e-13 for any float64) of math.Log's own error
+// (stated in the standard library's source, math/log.go).
+const lnTol = 2e-4
+
+// lnBracket returns lo <= math.Log(x) <= hi with hi - lo = 2 lnTol for
+// positive, finite, normal x; ok is false for any other x. With
+// x = m 2^k, m in [1, 2), and s = (m-1)/(m+1) in [0, 1/3),
+//
+//	ln x = k ln 2 + 2 (s + s^3/3 + s^5/5 + ...)
+//
+// (Abramowitz & Stegun 4.1.27, from memory; it is 2 artanh s). The terms
+// are positive, and those after s^5/5 sum to less than
+// 2 s^7 / (7 (1 - s^2)) < 1.47e-4 at s = 1/3.
+func lnBracket(x float64) (lo, hi float64, ok bool) {
+	bx := math.Float64bits(x)
+	ex := int(bx >> 52) // includes the sign bit
+	if uint(ex-1) >= 0x7fe {
+		return 0, 0, false // zero, subnormal, infinite, NaN or negative
+	}
+	m := math.Float64frombits(bx&(1<<52-1) | 1023<<52)
+	s := (m - 1) / (m + 1)
+	s2 := s * s
+	l := float64(ex-1023)*math.Ln2 + 2*s*(1+s2*(1.0/3+s2*(1.0/5)))
+	return l - lnTol, l + lnTol, true
 }
 
 // swap proposes exchanges between walker i of rung k and walker i of rung
