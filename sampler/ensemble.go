@@ -101,19 +101,21 @@ type Ensemble struct {
 	// stretchA[i] is A when moves[i] is a Stretch (by value), which the
 	// update then runs without the Move interface; 0 otherwise.
 	stretchA []float64
-	betas    []float64
-	rungs    []rung
-	steps    int
-	swapPCG  *rand.PCG
-	swapRng  *rand.Rand
-	swapAcc  []int64
-	swapTry  []int64
-	roundAcc []float64
-	scratch  []float64
-	frozenAt int
-	workers  int
-	minBatch int
-	hist     *History
+	// stretchScr is stretchRange's scratch, one per batch.
+	stretchScr []stretchScratch
+	betas      []float64
+	rungs      []rung
+	steps      int
+	swapPCG    *rand.PCG
+	swapRng    *rand.Rand
+	swapAcc    []int64
+	swapTry    []int64
+	roundAcc   []float64
+	scratch    []float64
+	frozenAt   int
+	workers    int
+	minBatch   int
+	hist       *History
 	// evals holds one log-likelihood evaluator per batch of an update
 	// (see LogLikeMaker): batch b, whichever goroutine runs it, uses
 	// evals[b]. It is nil when the target is not a LogLikeMaker: every
@@ -262,6 +264,11 @@ func build(t Target, cfg Config) (*Ensemble, error) {
 		if st, ok := m.Move.(Stretch); ok {
 			e.stretchA[i] = st.A
 		}
+	}
+	e.stretchScr = make([]stretchScratch, max(workers, 1))
+	for b := range e.stretchScr {
+		hw := cfg.Walkers / 2
+		e.stretchScr[b] = stretchScratch{z: make([]float64, hw), zl: make([]float64, hw), ul: make([]float64, hw), q: make([]rand.PCG, hw)}
 	}
 	if mk, ok := t.(LogLikeMaker); ok {
 		e.evals = make([]func([]float64) float64, max(workers, 1))
@@ -434,7 +441,12 @@ func (e *Ensemble) updateRange(b, lo, hi int) {
 		g := &e.rungs[r]
 		beta := e.betas[r]
 		others := g.pos[o*d : (o+hw)*d]
-		for w := h*hw + max(lo-r*hw, 0); w < h*hw+min(hi-r*hw, hw); w++ {
+		w0, w1 := h*hw+max(lo-r*hw, 0), h*hw+min(hi-r*hw, hw)
+		if len(e.cumW) == 1 && e.stretchA[0] != 0 {
+			e.stretchRange(b, g, beta, others, w0, w1)
+			continue
+		}
+		for w := w0; w < w1; w++ {
 			p := g.pcg[w]
 			k := 0
 			if len(e.cumW) > 1 {
@@ -449,6 +461,7 @@ func (e *Ensemble) updateRange(b, lo, hi int) {
 			x := g.pos[w*d : w*d+d]
 			y := g.prop[w*d : w*d+d]
 			var lp, ll, post float64
+			var acc int // 1 if the proposal is accepted
 			if a := e.stretchA[k]; a != 0 {
 				z := stretchPCG(p, a, x, others, hw, y)
 				var ok bool
@@ -456,9 +469,7 @@ func (e *Ensemble) updateRange(b, lo, hi int) {
 					continue
 				}
 				post = lnPost(beta, lp, ll)
-				if !acceptStretch(p, c, z, post, g.lpost[w]) {
-					continue
-				}
+				acc = decideStretch(p, c, z, post, g.lpost[w])
 			} else {
 				lnf := e.moves[k].Move.Propose(g.rng[w], x, others, hw, y)
 				var ok bool
@@ -466,15 +477,164 @@ func (e *Ensemble) updateRange(b, lo, hi int) {
 					continue
 				}
 				post = lnPost(beta, lp, ll)
-				if !metropolis(p, lnf+post-g.lpost[w]) {
-					continue
-				}
+				acc = b2i(metropolis(p, lnf+post-g.lpost[w]))
 			}
-			copy(x, y)
-			g.lp[w], g.ll[w], g.lpost[w] = lp, ll, post
-			g.acc[w]++
+			// Keep the proposal where acc = 1, without a branch: the
+			// outcome is a coin flip that a branch predictor would miss
+			// half the time.
+			m := -uint64(acc)
+			for i, v := range y {
+				x[i] = pick(m, x[i], v)
+			}
+			g.lp[w] = pick(m, g.lp[w], lp)
+			g.ll[w] = pick(m, g.ll[w], ll)
+			g.lpost[w] = pick(m, g.lpost[w], post)
+			g.acc[w] += int64(acc)
 		}
 	}
+}
+
+// stretchRange updates walkers [w0, w1) of rung g with the stretch move
+// Stretch{A: e.stretchA[0]}, the only move. It is the walker update of
+// updateRange with stretchPCG, density and decideStretch written out, in
+// two passes over the walkers: the first draws the proposals and brackets
+// ln z and ln u (u from a copy of the walker's PCG) without calling
+// anything, so that the processor can overlap walkers; the second
+// evaluates the densities and decides. Walkers of one half depend only on
+// the other half, and each keeps its own order of draws, so the passes
+// change nothing.
+func (e *Ensemble) stretchRange(b int, g *rung, beta float64, others []float64, w0, w1 int) {
+	d := e.dim
+	n := len(others) / d
+	un := uint64(n)
+	pow2 := un&(un-1) == 0
+	a := e.stretchA[0]
+	sc := &e.stretchScr[b]
+	nw := w1 - w0
+	zs, zls, uls, qs := sc.z[:nw], sc.zl[:nw], sc.ul[:nw], sc.q[:nw]
+	for i := range nw {
+		w := w0 + i
+		p := g.pcg[w]
+		// Stretch.Propose with the draws of pcgIntN and pcgFloat64.
+		var j int
+		if pow2 {
+			j = int(p.Uint64() & (un - 1))
+		} else {
+			j = pcgIntN(p, n)
+		}
+		z := stretchZ(a, unitFloat(p.Uint64()))
+		stretchTo(g.prop[w*d:w*d+d], g.pos[w*d:w*d+d], others[j*d:j*d+d], z)
+		q := *p
+		u := unitFloat(q.Uint64())
+		zl, ul := math.NaN(), math.NaN()
+		if normalPos(z) {
+			zl = lnApprox(z)
+		}
+		if normalPos(u) {
+			ul = lnApprox(u)
+		}
+		zs[i], zls[i], uls[i], qs[i] = z, zl, ul, q
+	}
+	c := float64(d - 1)
+	t := e.t
+	var ev func([]float64) float64
+	if e.evals != nil {
+		ev = e.evals[b]
+	}
+	for i := range nw {
+		w := w0 + i
+		y := g.prop[w*d : w*d+d]
+		lp := t.LogPrior(y)
+		if !finite(lp) {
+			continue
+		}
+		var ll float64
+		if ev == nil {
+			ll = t.LogLike(y)
+		} else {
+			ll = ev(y)
+		}
+		if !finite(ll) {
+			continue
+		}
+		post := lnPost(beta, lp, ll)
+		// decideStretch, with lnBracket's ends lnApprox -+ lnTol (NaN where
+		// lnBracket has none, which leaves the outcome open).
+		lpost := g.lpost[w]
+		zl, ul := zls[i], uls[i]
+		lo := float64(float64(c*(zl-lnTol))+post) - lpost
+		hi := float64(float64(c*(zl+lnTol))+post) - lpost
+		yes := b2i(lo >= 0)
+		need := b2i(hi < 0)
+		yesU := b2i(ul+lnTol < lo)
+		noU := b2i(ul-lnTol >= hi)
+		p := g.pcg[w]
+		var acc int
+		if (yes|need)&(yes|yesU|noU) == 0 {
+			acc = b2i(acceptStretch(p, c, zs[i], post, lpost))
+		} else {
+			*p = [2]rand.PCG{*p, qs[i]}[need]
+			acc = yes | yesU
+		}
+		m := -uint64(acc)
+		x := g.pos[w*d : w*d+d]
+		for k, v := range y {
+			x[k] = pick(m, x[k], v)
+		}
+		g.lp[w] = pick(m, g.lp[w], lp)
+		g.ll[w] = pick(m, g.ll[w], ll)
+		g.lpost[w] = pick(m, g.lpost[w], post)
+		g.acc[w] += int64(acc)
+	}
+}
+
+// stretchScratch holds what the first pass of stretchRange hands to the
+// second, per walker of a batch: z, the estimates of ln z and ln u, and
+// the walker's PCG advanced past u.
+type stretchScratch struct {
+	z, zl, ul []float64
+	q         []rand.PCG
+}
+
+// unitFloat is the float64 in [0, 1) that math/rand/v2's Float64 makes of
+// the draw v: float64(v<<11>>11) / 2^53.
+func unitFloat(v uint64) float64 { return float64(v<<11>>11) / (1 << 53) }
+
+// b2i is 1 for true and 0 for false.
+func b2i(b bool) int {
+	if b {
+		return 1
+	}
+	return 0
+}
+
+// pick returns b where the mask m is all ones and a where it is zero.
+func pick(m uint64, a, b float64) float64 {
+	ab := math.Float64bits(a)
+	return math.Float64frombits(ab ^ (ab^math.Float64bits(b))&m)
+}
+
+// decideStretch is b2i(acceptStretch(p, c, z, post, lpost)) with, in the
+// common case, no branch on the outcome: the bracket of ln u is computed
+// from a copy of p before it is known whether u is needed, and p then
+// advances past u only if it is. The rare cases that the brackets leave
+// open go to acceptStretch.
+func decideStretch(p *rand.PCG, c, z, post, lpost float64) int {
+	zlo, zhi, zok := lnBracket(z)
+	q := *p
+	u := pcgFloat64(&q)
+	ulo, uhi, uok := lnBracket(u)
+	lo := float64(float64(c*zlo)+post) - lpost
+	hi := float64(float64(c*zhi)+post) - lpost
+	yes := b2i(lo >= 0) // lnA >= 0: accepted, u not drawn
+	need := b2i(hi < 0) // lnA < 0: u drawn
+	yesU := b2i(uhi < lo)
+	noU := b2i(ulo >= hi)
+	if b2i(zok)&b2i(uok)&(yes|need)&(yes|yesU|noU) == 0 {
+		return b2i(acceptStretch(p, c, z, post, lpost))
+	}
+	*p = [2]rand.PCG{*p, q}[need]
+	return yes | yesU
 }
 
 // metropolis is the Metropolis–Hastings test of a proposal with log
@@ -552,16 +712,24 @@ const lnTol = 2e-4
 // are positive, and those after s^5/5 sum to less than
 // 2 s^7 / (7 (1 - s^2)) < 1.47e-4 at s = 1/3.
 func lnBracket(x float64) (lo, hi float64, ok bool) {
-	bx := math.Float64bits(x)
-	ex := int(bx >> 52) // includes the sign bit
-	if uint(ex-1) >= 0x7fe {
-		return 0, 0, false // zero, subnormal, infinite, NaN or negative
+	if !normalPos(x) {
+		return 0, 0, false
 	}
+	l := lnApprox(x)
+	return l - lnTol, l + lnTol, true
+}
+
+// normalPos reports whether x is positive, finite and normal.
+func normalPos(x float64) bool { return math.Float64bits(x)>>52-1 < 0x7fe }
+
+// lnApprox is the estimate of ln x that lnBracket brackets, for x with
+// normalPos(x).
+func lnApprox(x float64) float64 {
+	bx := math.Float64bits(x)
 	m := math.Float64frombits(bx&(1<<52-1) | 1023<<52)
 	s := (m - 1) / (m + 1)
 	s2 := s * s
-	l := float64(ex-1023)*math.Ln2 + 2*s*(1+s2*(1.0/3+s2*(1.0/5)))
-	return l - lnTol, l + lnTol, true
+	return float64(int(bx>>52)-1023)*math.Ln2 + 2*s*(1+s2*(1.0/3+s2*(1.0/5)))
 }
 
 // swap proposes exchanges between walker i of rung k and walker i of rung

@@ -606,7 +606,7 @@ func refMetropolis(r *rand.Rand, lnA float64) bool {
 	return lnA >= 0 || math.Log(r.Float64()) < lnA
 }
 
-// TestAcceptStretch checks metropolis and acceptStretch against
+// TestAcceptStretch checks metropolis, acceptStretch and decideStretch against
 // refMetropolis with lnA = (c ln z + post) - lpost, on cases built to sit
 // where the brackets cannot decide: ln A within a few ulp of 0 or of ln u
 // for the u about to be drawn, and on infinities, NaN, overflow, z outside
@@ -642,19 +642,24 @@ func TestAcceptStretch(t *testing.T) {
 					if shift != 0 && finite(k.post) && finite(k.lpost) {
 						k.post += shift
 						for range max(ulps, -ulps) {
-							k.post = math.Nextafter(k.post, float64(ulps))
+							k.post = math.Nextafter(k.post, math.Inf(ulps))
 						}
 					}
-					a, b := *p, *q
-					got := acceptStretch(&a, k.c, k.z, k.post, k.lpost)
+					b := *q
 					want := refMetropolis(rand.New(&b), lnA(k))
-					if got != want || a != b {
-						t.Fatalf("case %d %+v seed %d: acceptStretch = %v, reference %v (ln A = %v, ln u = %v); same draws: %v",
-							i, k, seed, got, want, lnA(k), math.Log(u), a == b)
-					}
-					a, b = *p, *q
-					if got, want := metropolis(&a, lnA(k)), refMetropolis(rand.New(&b), lnA(k)); got != want || a != b {
-						t.Fatalf("case %d %+v seed %d: metropolis(%v) = %v, reference %v", i, k, seed, lnA(k), got, want)
+					for _, f := range []struct {
+						name string
+						run  func(p *rand.PCG) bool
+					}{
+						{"acceptStretch", func(p *rand.PCG) bool { return acceptStretch(p, k.c, k.z, k.post, k.lpost) }},
+						{"decideStretch", func(p *rand.PCG) bool { return decideStretch(p, k.c, k.z, k.post, k.lpost) == 1 }},
+						{"metropolis", func(p *rand.PCG) bool { return metropolis(p, lnA(k)) }},
+					} {
+						a := *p
+						if got := f.run(&a); got != want || a != b {
+							t.Fatalf("case %d %+v seed %d: %s = %v, reference %v (ln A = %v, ln u = %v); same draws: %v",
+								i, k, seed, f.name, got, want, lnA(k), math.Log(u), a == b)
+						}
 					}
 				}
 			}
