@@ -268,7 +268,9 @@ func build(t Target, cfg Config) (*Ensemble, error) {
 	e.stretchScr = make([]stretchScratch, max(workers, 1))
 	for b := range e.stretchScr {
 		hw := cfg.Walkers / 2
-		e.stretchScr[b] = stretchScratch{z: make([]float64, hw), zl: make([]float64, hw), ul: make([]float64, hw), q: make([]rand.PCG, hw)}
+		f := func() []float64 { return make([]float64, hw) }
+		e.stretchScr[b] = stretchScratch{j: make([]int, hw), z: f(), zl: f(), lp: f(), ll: f(),
+			ok: make([]bool, hw), lo: f(), hi: f(), post: f(), queue: make([]int, hw), acc: make([]int, hw)}
 	}
 	if mk, ok := t.(LogLikeMaker); ok {
 		e.evals = make([]func([]float64) float64, max(workers, 1))
@@ -496,13 +498,14 @@ func (e *Ensemble) updateRange(b, lo, hi int) {
 
 // stretchRange updates walkers [w0, w1) of rung g with the stretch move
 // Stretch{A: e.stretchA[0]}, the only move. It is the walker update of
-// updateRange with stretchPCG, density and decideStretch written out, in
-// two passes over the walkers: the first draws the proposals and brackets
-// ln z and ln u (u from a copy of the walker's PCG) without calling
-// anything, so that the processor can overlap walkers; the second
-// evaluates the densities and decides. Walkers of one half depend only on
-// the other half, and each keeps its own order of draws, so the passes
-// change nothing.
+// updateRange with stretchPCG, density and decideStretch written out, as
+// passes over the walkers that each do one kind of work: the draws of the
+// proposals; the proposals and the brackets of ln z; the densities; the
+// decisions that need no u; and, for the walkers whose ln A is known to be
+// negative, the draw of u and the last decision. Walkers of one half
+// depend only on the other half, and each keeps its own order of draws,
+// so the passes change nothing. Outcomes are applied by mask, not by
+// branch: they are coin flips that a branch predictor would miss often.
 func (e *Ensemble) stretchRange(b int, g *rung, beta float64, others []float64, w0, w1 int) {
 	d := e.dim
 	n := len(others) / d
@@ -511,40 +514,43 @@ func (e *Ensemble) stretchRange(b int, g *rung, beta float64, others []float64, 
 	a := e.stretchA[0]
 	sc := &e.stretchScr[b]
 	nw := w1 - w0
-	zs, zls, uls, qs := sc.z[:nw], sc.zl[:nw], sc.ul[:nw], sc.q[:nw]
-	for i := range nw {
-		w := w0 + i
-		p := g.pcg[w]
-		// Stretch.Propose with the draws of pcgIntN and pcgFloat64.
+	js, zs, zls := sc.j[:nw], sc.z[:nw], sc.zl[:nw]
+	// Stretch.Propose's draws, as pcgIntN and pcgFloat64 take them.
+	pcgs := g.pcg[w0:w1]
+	for i, p := range pcgs {
 		var j int
 		if pow2 {
 			j = int(p.Uint64() & (un - 1))
 		} else {
 			j = pcgIntN(p, n)
 		}
-		z := stretchZ(a, unitFloat(p.Uint64()))
-		stretchTo(g.prop[w*d:w*d+d], g.pos[w*d:w*d+d], others[j*d:j*d+d], z)
-		q := *p
-		u := unitFloat(q.Uint64())
-		zl, ul := math.NaN(), math.NaN()
+		js[i], zs[i] = j, unitFloat(p.Uint64())
+	}
+	// The proposals, and the estimates of ln z (NaN where lnBracket has
+	// no bracket, which leaves every decision open).
+	pos, prop := g.pos, g.prop
+	for i := range nw {
+		w := w0 + i
+		j := js[i]
+		z := stretchZ(a, zs[i])
+		stretchTo(prop[w*d:w*d+d], pos[w*d:w*d+d], others[j*d:j*d+d], z)
+		zl := math.NaN()
 		if normalPos(z) {
 			zl = lnApprox(z)
 		}
-		if normalPos(u) {
-			ul = lnApprox(u)
-		}
-		zs[i], zls[i], uls[i], qs[i] = z, zl, ul, q
+		zs[i], zls[i] = z, zl
 	}
-	c := float64(d - 1)
 	t := e.t
 	var ev func([]float64) float64
 	if e.evals != nil {
 		ev = e.evals[b]
 	}
+	lps, lls, oks := sc.lp[:nw], sc.ll[:nw], sc.ok[:nw]
 	for i := range nw {
 		w := w0 + i
-		y := g.prop[w*d : w*d+d]
+		y := prop[w*d : w*d+d]
 		lp := t.LogPrior(y)
+		lps[i], oks[i] = lp, false
 		if !finite(lp) {
 			continue
 		}
@@ -554,46 +560,74 @@ func (e *Ensemble) stretchRange(b int, g *rung, beta float64, others []float64, 
 		} else {
 			ll = ev(y)
 		}
-		if !finite(ll) {
+		lls[i], oks[i] = ll, finite(ll)
+	}
+	// lnA >= 0 (accept, no draw), lnA < 0 (queued for u) or, rarely,
+	// undecided by the bracket of ln z (acceptStretch decides).
+	c := float64(d - 1)
+	los, his, posts, queue, accs := sc.lo[:nw], sc.hi[:nw], sc.post[:nw], sc.queue[:nw], sc.acc[:nw]
+	nq := 0
+	for i := range nw {
+		accs[i] = 0
+		if !oks[i] {
 			continue
 		}
+		w := w0 + i
+		lp, ll := lps[i], lls[i]
 		post := lnPost(beta, lp, ll)
-		// decideStretch, with lnBracket's ends lnApprox -+ lnTol (NaN where
-		// lnBracket has none, which leaves the outcome open).
 		lpost := g.lpost[w]
-		zl, ul := zls[i], uls[i]
+		zl := zls[i]
 		lo := float64(float64(c*(zl-lnTol))+post) - lpost
 		hi := float64(float64(c*(zl+lnTol))+post) - lpost
 		yes := b2i(lo >= 0)
 		need := b2i(hi < 0)
-		yesU := b2i(ul+lnTol < lo)
-		noU := b2i(ul-lnTol >= hi)
-		p := g.pcg[w]
-		var acc int
-		if (yes|need)&(yes|yesU|noU) == 0 {
-			acc = b2i(acceptStretch(p, c, zs[i], post, lpost))
-		} else {
-			*p = [2]rand.PCG{*p, qs[i]}[need]
-			acc = yes | yesU
+		if yes|need == 0 {
+			yes = b2i(acceptStretch(g.pcg[w], c, zs[i], post, lpost))
 		}
+		los[i], his[i], posts[i], accs[i] = lo, hi, post, yes
+		queue[nq] = i
+		nq += need
+	}
+	// ln u < lnA, with u drawn now.
+	for _, i := range queue[:nq] {
+		w := w0 + i
+		p := g.pcg[w]
+		u := unitFloat(p.Uint64())
+		lo, hi, post := los[i], his[i], posts[i]
+		yes := 0
+		if normalPos(u) {
+			ul := lnApprox(u)
+			yes = b2i(ul+lnTol < lo)
+			if yes|b2i(ul-lnTol >= hi) == 0 {
+				yes = b2i(math.Log(u) < float64(float64(c*math.Log(zs[i]))+post)-g.lpost[w])
+			}
+		} else {
+			yes = b2i(math.Log(u) < float64(float64(c*math.Log(zs[i]))+post)-g.lpost[w])
+		}
+		accs[i] = yes
+	}
+	for i, acc := range accs {
+		w := w0 + i
 		m := -uint64(acc)
-		x := g.pos[w*d : w*d+d]
+		x, y := pos[w*d:w*d+d], prop[w*d:w*d+d]
 		for k, v := range y {
 			x[k] = pick(m, x[k], v)
 		}
-		g.lp[w] = pick(m, g.lp[w], lp)
-		g.ll[w] = pick(m, g.ll[w], ll)
-		g.lpost[w] = pick(m, g.lpost[w], post)
+		g.lp[w] = pick(m, g.lp[w], lps[i])
+		g.ll[w] = pick(m, g.ll[w], lls[i])
+		g.lpost[w] = pick(m, g.lpost[w], posts[i])
 		g.acc[w] += int64(acc)
 	}
 }
 
-// stretchScratch holds what the first pass of stretchRange hands to the
-// second, per walker of a batch: z, the estimates of ln z and ln u, and
-// the walker's PCG advanced past u.
+// stretchScratch holds what the passes of stretchRange hand on, per
+// walker of a batch.
 type stretchScratch struct {
-	z, zl, ul []float64
-	q         []rand.PCG
+	j             []int
+	z, zl, lp, ll []float64
+	ok            []bool
+	lo, hi, post  []float64
+	queue, acc    []int
 }
 
 // unitFloat is the float64 in [0, 1) that math/rand/v2's Float64 makes of
