@@ -101,6 +101,7 @@ type Ensemble struct {
 	// stretchA[i] is A when moves[i] is a Stretch (by value), which the
 	// update then runs without the Move interface; 0 otherwise.
 	stretchA []float64
+	lnTab    *lnTable
 	// stretchScr is stretchRange's scratch, one per batch.
 	stretchScr []stretchScratch
 	betas      []float64
@@ -265,6 +266,7 @@ func build(t Target, cfg Config) (*Ensemble, error) {
 			e.stretchA[i] = st.A
 		}
 	}
+	e.lnTab = newLnTable()
 	e.stretchScr = make([]stretchScratch, max(workers, 1))
 	for b := range e.stretchScr {
 		hw := cfg.Walkers / 2
@@ -471,7 +473,7 @@ func (e *Ensemble) updateRange(b, lo, hi int) {
 					continue
 				}
 				post = lnPost(beta, lp, ll)
-				acc = decideStretch(p, c, z, post, g.lpost[w])
+				acc = decideStretch(e.lnTab, p, c, z, post, g.lpost[w])
 			} else {
 				lnf := e.moves[k].Move.Propose(g.rng[w], x, others, hw, y)
 				var ok bool
@@ -479,7 +481,7 @@ func (e *Ensemble) updateRange(b, lo, hi int) {
 					continue
 				}
 				post = lnPost(beta, lp, ll)
-				acc = b2i(metropolis(p, lnf+post-g.lpost[w]))
+				acc = b2i(metropolis(e.lnTab, p, lnf+post-g.lpost[w]))
 			}
 			// Keep the proposal where acc = 1, without a branch: the
 			// outcome is a coin flip that a branch predictor would miss
@@ -499,58 +501,80 @@ func (e *Ensemble) updateRange(b, lo, hi int) {
 // stretchRange updates walkers [w0, w1) of rung g with the stretch move
 // Stretch{A: e.stretchA[0]}, the only move. It is the walker update of
 // updateRange with stretchPCG, density and decideStretch written out, as
-// passes over the walkers that each do one kind of work: the draws of the
-// proposals; the proposals and the brackets of ln z; the densities; the
-// decisions that need no u; and, for the walkers whose ln A is known to be
-// negative, the draw of u and the last decision. Walkers of one half
-// depend only on the other half, and each keeps its own order of draws,
-// so the passes change nothing. Outcomes are applied by mask, not by
-// branch: they are coin flips that a branch predictor would miss often.
+// passes over the walkers that each do one kind of work (each its own
+// function, so that the compiler keeps its few variables in registers):
+// the draws of the proposals; the proposals and the estimates of ln z; the
+// densities; the decisions that need no u; for the walkers whose ln A is
+// known to be negative, the draw of u and the last decision; and the
+// update of the walkers. Walkers of one half depend only on the other
+// half, and each keeps its own order of draws, so the passes change
+// nothing. Outcomes are applied by mask, not by branch: they are coin flips
+// that a branch predictor would miss often.
 func (e *Ensemble) stretchRange(b int, g *rung, beta float64, others []float64, w0, w1 int) {
 	d := e.dim
-	n := len(others) / d
-	un := uint64(n)
-	pow2 := un&(un-1) == 0
-	a := e.stretchA[0]
-	sc := &e.stretchScr[b]
 	nw := w1 - w0
+	sc := &e.stretchScr[b]
 	js, zs, zls := sc.j[:nw], sc.z[:nw], sc.zl[:nw]
-	// Stretch.Propose's draws, as pcgIntN and pcgFloat64 take them.
-	pcgs := g.pcg[w0:w1]
-	for i, p := range pcgs {
-		var j int
-		if pow2 {
-			j = int(p.Uint64() & (un - 1))
-		} else {
-			j = pcgIntN(p, n)
-		}
-		js[i], zs[i] = j, unitFloat(p.Uint64())
-	}
-	// The proposals, and the estimates of ln z (NaN where lnBracket has
-	// no bracket, which leaves every decision open).
-	pos, prop := g.pos, g.prop
-	for i := range nw {
-		w := w0 + i
-		j := js[i]
-		z := stretchZ(a, zs[i])
-		stretchTo(prop[w*d:w*d+d], pos[w*d:w*d+d], others[j*d:j*d+d], z)
-		zl := math.NaN()
-		if normalPos(z) {
-			zl = lnApprox(z)
-		}
-		zs[i], zls[i] = z, zl
-	}
-	t := e.t
+	lps, lls, oks := sc.lp[:nw], sc.ll[:nw], sc.ok[:nw]
+	los, his, posts, accs := sc.lo[:nw], sc.hi[:nw], sc.post[:nw], sc.acc[:nw]
+	stretchDraws(g.pcg[w0:w1], len(others)/d, js, zs)
+	stretchProposals(e.lnTab, e.stretchA[0], d, g.pos[w0*d:w1*d], g.prop[w0*d:w1*d], others, js, zs, zls)
 	var ev func([]float64) float64
 	if e.evals != nil {
 		ev = e.evals[b]
 	}
-	lps, lls, oks := sc.lp[:nw], sc.ll[:nw], sc.ok[:nw]
+	densities(e.t, ev, d, g.prop[w0*d:w1*d], lps, lls, oks)
 	for i := range nw {
-		w := w0 + i
-		y := prop[w*d : w*d+d]
+		posts[i] = lnPost(beta, lps[i], lls[i])
+	}
+	c := float64(d - 1)
+	pcgs, lpost := g.pcg[w0:w1], g.lpost[w0:w1]
+	queue := stretchFirst(e.lnTab, pcgs, c, zs, zls, posts, lpost, oks, los, his, accs, sc.queue[:nw])
+	stretchSecond(e.lnTab, pcgs, c, zs, posts, lpost, los, his, accs, queue)
+	keepAccepted(d, g.pos[w0*d:w1*d], g.prop[w0*d:w1*d], g.lp[w0:w1], g.ll[w0:w1], lpost, g.acc[w0:w1], lps, lls, posts, accs)
+}
+
+// stretchDraws takes Stretch.Propose's draws from each walker's PCG, as
+// pcgIntN and pcgFloat64 take them: the partner js[i] among n and the
+// uniform zs[i] that stretchZ maps to z.
+func stretchDraws(pcgs []*rand.PCG, n int, js []int, zs []float64) {
+	js, zs = js[:len(pcgs)], zs[:len(pcgs)]
+	un := uint64(n)
+	if un&(un-1) == 0 {
+		for i, p := range pcgs {
+			js[i] = int(p.Uint64() & (un - 1))
+			zs[i] = unitFloat(p.Uint64())
+		}
+		return
+	}
+	for i, p := range pcgs {
+		js[i] = pcgIntN(p, n)
+		zs[i] = unitFloat(p.Uint64())
+	}
+}
+
+// stretchProposals turns the uniforms zs into z = stretchZ(a, u) and writes
+// the proposals into prop (walkers x d, like pos) and the estimates of
+// ln z into zls (lnTable.estimate: NaN where there is no bracket, which
+// leaves every decision open).
+func stretchProposals(tab *lnTable, a float64, d int, pos, prop, others []float64, js []int, zs, zls []float64) {
+	zls = zls[:len(zs)]
+	for i, u := range zs {
+		j := js[i]
+		z := stretchZ(a, u)
+		stretchTo(prop[i*d:i*d+d], pos[i*d:i*d+d], others[j*d:j*d+d], z)
+		zs[i], zls[i] = z, tab.estimate(z)
+	}
+}
+
+// densities is Ensemble.density at each row of prop (walkers x d), with
+// the evaluator ev, or t.LogLike if ev is nil.
+func densities(t Target, ev func([]float64) float64, d int, prop, lps, lls []float64, oks []bool) {
+	lls, oks = lls[:len(lps)], oks[:len(lps)]
+	for i := range lps {
+		y := prop[i*d : i*d+d]
 		lp := t.LogPrior(y)
-		lps[i], oks[i] = lp, false
+		lps[i], lls[i], oks[i] = lp, math.Inf(-1), false
 		if !finite(lp) {
 			continue
 		}
@@ -562,61 +586,67 @@ func (e *Ensemble) stretchRange(b int, g *rung, beta float64, others []float64, 
 		}
 		lls[i], oks[i] = ll, finite(ll)
 	}
-	// lnA >= 0 (accept, no draw), lnA < 0 (queued for u) or, rarely,
-	// undecided by the bracket of ln z (acceptStretch decides).
-	c := float64(d - 1)
-	los, his, posts, queue, accs := sc.lo[:nw], sc.hi[:nw], sc.post[:nw], sc.queue[:nw], sc.acc[:nw]
+}
+
+// stretchFirst takes the decisions of decideStretch that need no u, from
+// the estimates zls of ln z: accs[i] = 1 where lnA >= 0 for sure, 0
+// otherwise; where lnA < 0 for sure it records the bracket [los[i],
+// his[i]] of lnA and queues i for stretchSecond; where neither is sure it
+// calls acceptStretch. Walkers whose density is not finite (oks[i] false)
+// are rejected without a draw. It returns the queue.
+func stretchFirst(tab *lnTable, pcgs []*rand.PCG, c float64, zs, zls, posts, lpost []float64, oks []bool, los, his []float64, accs, queue []int) []int {
 	nq := 0
-	for i := range nw {
+	for i, ok := range oks {
 		accs[i] = 0
-		if !oks[i] {
+		if !ok {
 			continue
 		}
-		w := w0 + i
-		lp, ll := lps[i], lls[i]
-		post := lnPost(beta, lp, ll)
-		lpost := g.lpost[w]
-		zl := zls[i]
-		lo := float64(float64(c*(zl-lnTol))+post) - lpost
-		hi := float64(float64(c*(zl+lnTol))+post) - lpost
+		post, zl := posts[i], zls[i]
+		lo := float64(float64(c*(zl-lnTol))+post) - lpost[i]
+		hi := float64(float64(c*(zl+lnTol))+post) - lpost[i]
 		yes := b2i(lo >= 0)
 		need := b2i(hi < 0)
 		if yes|need == 0 {
-			yes = b2i(acceptStretch(g.pcg[w], c, zs[i], post, lpost))
+			yes = b2i(acceptStretch(tab, pcgs[i], c, zs[i], post, lpost[i]))
 		}
-		los[i], his[i], posts[i], accs[i] = lo, hi, post, yes
+		los[i], his[i], accs[i] = lo, hi, yes
 		queue[nq] = i
 		nq += need
 	}
-	// ln u < lnA, with u drawn now.
-	for _, i := range queue[:nq] {
-		w := w0 + i
-		p := g.pcg[w]
-		u := unitFloat(p.Uint64())
-		lo, hi, post := los[i], his[i], posts[i]
-		yes := 0
-		if normalPos(u) {
-			ul := lnApprox(u)
-			yes = b2i(ul+lnTol < lo)
-			if yes|b2i(ul-lnTol >= hi) == 0 {
-				yes = b2i(math.Log(u) < float64(float64(c*math.Log(zs[i]))+post)-g.lpost[w])
-			}
-		} else {
-			yes = b2i(math.Log(u) < float64(float64(c*math.Log(zs[i]))+post)-g.lpost[w])
+	return queue[:nq]
+}
+
+// stretchSecond finishes decideStretch for the queued walkers: it draws u
+// and sets accs[i] to whether ln u < lnA, from the estimate of ln u where
+// that is sure and from math.Log otherwise.
+func stretchSecond(tab *lnTable, pcgs []*rand.PCG, c float64, zs, posts, lpost, los, his []float64, accs, queue []int) {
+	for _, i := range queue {
+		u := unitFloat(pcgs[i].Uint64())
+		ul := tab.estimate(u)
+		yes := b2i(ul+lnTol < los[i])
+		if yes|b2i(ul-lnTol >= his[i]) == 0 {
+			yes = b2i(math.Log(u) < float64(float64(c*math.Log(zs[i]))+posts[i])-lpost[i])
 		}
 		accs[i] = yes
 	}
-	for i, acc := range accs {
-		w := w0 + i
-		m := -uint64(acc)
-		x, y := pos[w*d:w*d+d], prop[w*d:w*d+d]
+}
+
+// keepAccepted moves each walker i with accs[i] = 1 to its proposal, with
+// its densities, and counts the acceptance; walkers with accs[i] = 0 stay
+// as they are. It selects by mask, without a branch.
+func keepAccepted(d int, pos, prop, lp, ll, lpost []float64, acc []int64, lps, lls, posts []float64, accs []int) {
+	lp, ll, lpost, acc = lp[:len(accs)], ll[:len(accs)], lpost[:len(accs)], acc[:len(accs)]
+	lps, lls, posts = lps[:len(accs)], lls[:len(accs)], posts[:len(accs)]
+	for i, a := range accs {
+		m := -uint64(a)
+		x, y := pos[i*d:i*d+d], prop[i*d:i*d+d]
 		for k, v := range y {
 			x[k] = pick(m, x[k], v)
 		}
-		g.lp[w] = pick(m, g.lp[w], lps[i])
-		g.ll[w] = pick(m, g.ll[w], lls[i])
-		g.lpost[w] = pick(m, g.lpost[w], posts[i])
-		g.acc[w] += int64(acc)
+		lp[i] = pick(m, lp[i], lps[i])
+		ll[i] = pick(m, ll[i], lls[i])
+		lpost[i] = pick(m, lpost[i], posts[i])
+		acc[i] += int64(a)
 	}
 }
 
@@ -648,16 +678,16 @@ func pick(m uint64, a, b float64) float64 {
 	return math.Float64frombits(ab ^ (ab^math.Float64bits(b))&m)
 }
 
-// decideStretch is b2i(acceptStretch(p, c, z, post, lpost)) with, in the
-// common case, no branch on the outcome: the bracket of ln u is computed
-// from a copy of p before it is known whether u is needed, and p then
-// advances past u only if it is. The rare cases that the brackets leave
-// open go to acceptStretch.
-func decideStretch(p *rand.PCG, c, z, post, lpost float64) int {
-	zlo, zhi, zok := lnBracket(z)
+// decideStretch is b2i(acceptStretch(tab, p, c, z, post, lpost)) with, in
+// the common case, no branch on the outcome: the bracket of ln u is
+// computed from a copy of p before it is known whether u is needed, and p
+// then advances past u only if it is. The rare cases that the brackets
+// leave open go to acceptStretch.
+func decideStretch(tab *lnTable, p *rand.PCG, c, z, post, lpost float64) int {
+	zlo, zhi, zok := tab.bracket(z)
 	q := *p
 	u := pcgFloat64(&q)
-	ulo, uhi, uok := lnBracket(u)
+	ulo, uhi, uok := tab.bracket(u)
 	lo := float64(float64(c*zlo)+post) - lpost
 	hi := float64(float64(c*zhi)+post) - lpost
 	yes := b2i(lo >= 0) // lnA >= 0: accepted, u not drawn
@@ -665,7 +695,7 @@ func decideStretch(p *rand.PCG, c, z, post, lpost float64) int {
 	yesU := b2i(uhi < lo)
 	noU := b2i(ulo >= hi)
 	if b2i(zok)&b2i(uok)&(yes|need)&(yes|yesU|noU) == 0 {
-		return b2i(acceptStretch(p, c, z, post, lpost))
+		return b2i(acceptStretch(tab, p, c, z, post, lpost))
 	}
 	*p = [2]rand.PCG{*p, q}[need]
 	return yes | yesU
@@ -674,8 +704,9 @@ func decideStretch(p *rand.PCG, c, z, post, lpost float64) int {
 // metropolis is the Metropolis–Hastings test of a proposal with log
 // acceptance ratio lnA: false for NaN, true for lnA >= 0, and otherwise
 // ln u < lnA for u = rand.New(p).Float64(), the only draw. ln u is bracketed
-// first (lnBracket), and computed only when the bracket straddles lnA.
-func metropolis(p *rand.PCG, lnA float64) bool {
+// first (lnTable.bracket), and computed only when the bracket straddles
+// lnA.
+func metropolis(tab *lnTable, p *rand.PCG, lnA float64) bool {
 	if math.IsNaN(lnA) {
 		return false
 	}
@@ -683,7 +714,7 @@ func metropolis(p *rand.PCG, lnA float64) bool {
 		return true
 	}
 	u := pcgFloat64(p)
-	if lo, hi, ok := lnBracket(u); ok {
+	if lo, hi, ok := tab.bracket(u); ok {
 		if hi < lnA {
 			return true
 		}
@@ -699,16 +730,17 @@ func metropolis(p *rand.PCG, lnA float64) bool {
 //	lnA = (float64(c * math.Log(z)) + post) - lpost,
 //
 // c = d - 1 (Goodman & Weare 2010, eq. 11), but computes math.Log(z) only
-// when the decision depends on more than lnBracket tells of it. Each of the
-// three roundings above is a non-decreasing function of its operand, so
-// putting the ends of the bracket of ln z in place of math.Log(z) brackets
-// lnA; where both ends are not NaN, lnA is not NaN either (a NaN needs
-// equal infinities in the last subtraction, and those reach one end). The
-// result, and the draws taken from p, are those of metropolis(p, lnA).
-func acceptStretch(p *rand.PCG, c, z, post, lpost float64) bool {
-	zlo, zhi, ok := lnBracket(z)
+// when the decision depends on more than the bracket of ln z tells. Each
+// of the three roundings above is a non-decreasing function of its
+// operand, so putting the ends of the bracket in place of math.Log(z)
+// brackets lnA; where both ends are not NaN, lnA is not NaN either (a NaN
+// needs equal infinities in the last subtraction, and those reach one
+// end). The result, and the draws taken from p, are those of
+// metropolis(tab, p, lnA).
+func acceptStretch(tab *lnTable, p *rand.PCG, c, z, post, lpost float64) bool {
+	zlo, zhi, ok := tab.bracket(z)
 	if !ok {
-		return metropolis(p, float64(float64(c*math.Log(z))+post)-lpost)
+		return metropolis(tab, p, float64(float64(c*math.Log(z))+post)-lpost)
 	}
 	lo := float64(float64(c*zlo)+post) - lpost
 	hi := float64(float64(c*zhi)+post) - lpost
@@ -717,7 +749,7 @@ func acceptStretch(p *rand.PCG, c, z, post, lpost float64) bool {
 		return true
 	case hi < 0: // lnA <= hi < 0: one draw
 		u := pcgFloat64(p)
-		if ulo, uhi, ok := lnBracket(u); ok {
+		if ulo, uhi, ok := tab.bracket(u); ok {
 			if uhi < lo {
 				return true
 			}
@@ -727,44 +759,68 @@ func acceptStretch(p *rand.PCG, c, z, post, lpost float64) bool {
 		}
 		return math.Log(u) < float64(float64(c*math.Log(z))+post)-lpost
 	}
-	return metropolis(p, float64(float64(c*math.Log(z))+post)-lpost)
+	return metropolis(tab, p, float64(float64(c*math.Log(z))+post)-lpost)
 }
 
-// lnTol bounds |lnBracket's estimate - math.Log(x)|: 1.47e-4 of series
-// truncation (see lnBracket), a few 1e-13 of rounding in the estimate and
-// under 1 ulp (at most 1.2e-13 for any float64) of math.Log's own error
-// (stated in the standard library's source, math/log.go).
-const lnTol = 2e-4
+// lnTol bounds |lnTable.approx(x) - math.Log(x)| with room to spare:
+// 2.0e-8 of series truncation (see lnTable.approx), a few 1e-13 of
+// rounding in the estimate, and under 1 ulp (at most 1.2e-13 for any
+// float64) of math.Log's own error (stated in the standard library's
+// source, math/log.go).
+const lnTol = 1e-6
 
-// lnBracket returns lo <= math.Log(x) <= hi with hi - lo = 2 lnTol for
-// positive, finite, normal x; ok is false for any other x. With
-// x = m 2^k, m in [1, 2), and s = (m-1)/(m+1) in [0, 1/3),
-//
-//	ln x = k ln 2 + 2 (s + s^3/3 + s^5/5 + ...)
-//
-// (Abramowitz & Stegun 4.1.27, from memory; it is 2 artanh s). The terms
-// are positive, and those after s^5/5 sum to less than
-// 2 s^7 / (7 (1 - s^2)) < 1.47e-4 at s = 1/3.
-func lnBracket(x float64) (lo, hi float64, ok bool) {
+// lnTable holds 1/c and math.Log(c) at the midpoints c = 1 + (i + 1/2)/128
+// of the 128 intervals [1 + i/128, 1 + (i+1)/128) of a float64 mantissa;
+// it brackets natural logarithms for the Metropolis–Hastings test.
+type lnTable [128][2]float64
+
+// newLnTable computes the table.
+func newLnTable() *lnTable {
+	var t lnTable
+	for i := range t {
+		c := 1 + (float64(i)+0.5)/128
+		t[i] = [2]float64{1 / c, math.Log(c)}
+	}
+	return &t
+}
+
+// bracket returns lo <= math.Log(x) <= hi with hi - lo = 2 lnTol for
+// positive, finite, normal x; ok is false for any other x.
+func (t *lnTable) bracket(x float64) (lo, hi float64, ok bool) {
 	if !normalPos(x) {
 		return 0, 0, false
 	}
-	l := lnApprox(x)
+	l := t.approx(x)
 	return l - lnTol, l + lnTol, true
+}
+
+// approx estimates ln x for x with normalPos(x), without a division. With
+// x = m 2^k, m in [1, 2), c the midpoint of m's interval and r = m/c - 1,
+// |r| <= 1/256 and
+//
+//	ln x = k ln 2 + ln c + r - r^2/2 + R,  |R| <= |r|^3 / (3 (1 - |r|)) < 2.0e-8
+//
+// (the alternating Taylor series of ln(1 + r)). m (1/c) - 1 differs from
+// r by a relative 2.3e-16 of 1 + r: the subtraction is exact (Sterbenz).
+func (t *lnTable) approx(x float64) float64 {
+	bx := math.Float64bits(x)
+	m := math.Float64frombits(bx&(1<<52-1) | 1023<<52)
+	e := &t[bx>>45&127]
+	r := m*e[0] - 1
+	return float64(int(bx>>52)-1023)*math.Ln2 + (e[1] + (r - 0.5*r*r))
+}
+
+// estimate is approx(x) for x with normalPos(x), and NaN, which fails
+// every comparison, for other x.
+func (t *lnTable) estimate(x float64) float64 {
+	if !normalPos(x) {
+		return math.NaN()
+	}
+	return t.approx(x)
 }
 
 // normalPos reports whether x is positive, finite and normal.
 func normalPos(x float64) bool { return math.Float64bits(x)>>52-1 < 0x7fe }
-
-// lnApprox is the estimate of ln x that lnBracket brackets, for x with
-// normalPos(x).
-func lnApprox(x float64) float64 {
-	bx := math.Float64bits(x)
-	m := math.Float64frombits(bx&(1<<52-1) | 1023<<52)
-	s := (m - 1) / (m + 1)
-	s2 := s * s
-	return float64(int(bx>>52)-1023)*math.Ln2 + 2*s*(1+s2*(1.0/3+s2*(1.0/5)))
-}
 
 // swap proposes exchanges between walker i of rung k and walker i of rung
 // k+1 for every i, hottest pair first, with acceptance

@@ -569,30 +569,31 @@ func TestLnBracket(t *testing.T) {
 	for range 200000 {
 		xs = append(xs, math.Ldexp(1+r.Float64(), r.IntN(2046)-1022), r.Float64()*1.5+0.5)
 	}
+	tab := newLnTable()
 	worst := 0.0
 	for _, x := range xs {
 		if math.IsInf(x, 0) {
 			continue // 2 x MaxFloat64's binade
 		}
-		lo, hi, ok := lnBracket(x)
+		lo, hi, ok := tab.bracket(x)
 		want := math.Log(x)
 		if !ok || !(lo <= want && want <= hi) {
-			t.Fatalf("lnBracket(%v) = [%v, %v], %v; math.Log = %v", x, lo, hi, ok, want)
+			t.Fatalf("bracket(%v) = [%v, %v], %v; math.Log = %v", x, lo, hi, ok, want)
 		}
 		// Rounding of l -+ lnTol at |l| up to 745: 1e-12.
 		if w := hi - lo; w > 2*lnTol+1e-12 {
-			t.Fatalf("lnBracket(%v) is %v wide, want 2 lnTol = %v", x, w, 2*lnTol)
+			t.Fatalf("bracket(%v) is %v wide, want 2 lnTol = %v", x, w, 2*lnTol)
 		}
 		worst = math.Max(worst, math.Abs((lo+hi)/2-want))
 	}
-	// The series bound 2 s^7 / (7 (1 - s^2)) at s = 1/3, and the
+	// The series bound |r|^3 / (3 (1 - |r|)) at |r| = 1/256, and the
 	// rounding of k ln 2 at |k| up to 1022.
-	if bound := 2*math.Pow(1.0/3, 7)/(7*(1-1.0/9)) + 1e-12; worst > bound {
-		t.Errorf("largest error %v exceeds the truncation bound %v", worst, bound)
+	if r := 1.0 / 256; worst > r*r*r/(3*(1-r))+1e-12 {
+		t.Errorf("largest error %v exceeds the truncation bound", worst)
 	}
 	for _, x := range []float64{0, math.Copysign(0, -1), 5e-324, math.Nextafter(0x1p-1022, 0), -1, math.Inf(1), math.Inf(-1), math.NaN()} {
-		if _, _, ok := lnBracket(x); ok {
-			t.Errorf("lnBracket(%v) claims a bracket", x)
+		if _, _, ok := tab.bracket(x); ok {
+			t.Errorf("bracket(%v) claims a bracket", x)
 		}
 	}
 }
@@ -607,11 +608,12 @@ func refMetropolis(r *rand.Rand, lnA float64) bool {
 	return lnA >= 0 || math.Log(r.Float64()) < lnA
 }
 
-// TestAcceptStretch checks metropolis, acceptStretch and decideStretch against
-// refMetropolis with lnA = (c ln z + post) - lpost, on cases built to sit
-// where the brackets cannot decide: ln A within a few ulp of 0 or of ln u
-// for the u about to be drawn, and on infinities, NaN, overflow, z outside
-// the normal range and u = 0.
+// TestAcceptStretch checks metropolis, acceptStretch, decideStretch and the
+// decision passes of stretchRange against refMetropolis with
+// lnA = (c ln z + post) - lpost, on cases built to sit where the brackets
+// cannot decide (ln A within a few ulp of 0, or of ln u for the u about to
+// be drawn) and on infinities, NaN, overflow and z outside the normal
+// range: same outcome, same draws.
 func TestAcceptStretch(t *testing.T) {
 	type tc struct{ c, z, post, lpost float64 }
 	var cases []tc
@@ -629,6 +631,7 @@ func TestAcceptStretch(t *testing.T) {
 			}
 		}
 	}
+	tab := newLnTable()
 	lnA := func(k tc) float64 { return float64(float64(k.c*math.Log(k.z))+k.post) - k.lpost }
 	for i, k := range cases {
 		for seed := range uint64(20) {
@@ -652,9 +655,17 @@ func TestAcceptStretch(t *testing.T) {
 						name string
 						run  func(p *rand.PCG) bool
 					}{
-						{"acceptStretch", func(p *rand.PCG) bool { return acceptStretch(p, k.c, k.z, k.post, k.lpost) }},
-						{"decideStretch", func(p *rand.PCG) bool { return decideStretch(p, k.c, k.z, k.post, k.lpost) == 1 }},
-						{"metropolis", func(p *rand.PCG) bool { return metropolis(p, lnA(k)) }},
+						{"acceptStretch", func(p *rand.PCG) bool { return acceptStretch(tab, p, k.c, k.z, k.post, k.lpost) }},
+						{"decideStretch", func(p *rand.PCG) bool { return decideStretch(tab, p, k.c, k.z, k.post, k.lpost) == 1 }},
+						{"metropolis", func(p *rand.PCG) bool { return metropolis(tab, p, lnA(k)) }},
+						{"stretchFirst+Second", func(p *rand.PCG) bool {
+							pcgs, zs, zls := []*rand.PCG{p}, []float64{k.z}, []float64{tab.estimate(k.z)}
+							posts, lpost := []float64{k.post}, []float64{k.lpost}
+							los, his, accs := make([]float64, 1), make([]float64, 1), make([]int, 1)
+							q := stretchFirst(tab, pcgs, k.c, zs, zls, posts, lpost, []bool{true}, los, his, accs, make([]int, 1))
+							stretchSecond(tab, pcgs, k.c, zs, posts, lpost, los, his, accs, q)
+							return accs[0] == 1
+						}},
 					} {
 						a := *p
 						if got := f.run(&a); got != want || a != b {
