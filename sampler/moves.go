@@ -51,7 +51,9 @@ type WeightedMove struct {
 //	accept with min(1, z^(d-1) p(y)/p(x)),
 //
 // with x_j a uniformly chosen walker of the complementary half. A must be
-// > 1; A = 2 is the value recommended by the authors.
+// > 1; A = 2 is the value recommended by the authors. The ensemble runs a
+// Stretch value of Config.Moves without the Move interface, with the same
+// draws and the same results as Propose.
 type Stretch struct {
 	A float64
 }
