@@ -506,10 +506,11 @@ func (e *Ensemble) updateRange(b, lo, hi int) {
 // the draws of the proposals; the proposals and the estimates of ln z; the
 // densities; the decisions that need no u; for the walkers whose ln A is
 // known to be negative, the draw of u and the last decision; and the
-// update of the walkers. Walkers of one half depend only on the other
-// half, and each keeps its own order of draws, so the passes change
-// nothing. Outcomes are applied by mask, not by branch: they are coin flips
-// that a branch predictor would miss often.
+// update of the accepted walkers. Walkers of one half depend only on the
+// other half, and each keeps its own order of draws, so the passes change
+// nothing. The outcomes are coin flips that a branch predictor would miss
+// often, so the walkers for the last two passes are queued without a
+// branch on them.
 func (e *Ensemble) stretchRange(b int, g *rung, beta float64, others []float64, w0, w1 int) {
 	d := e.dim
 	nw := w1 - w0
@@ -524,14 +525,11 @@ func (e *Ensemble) stretchRange(b int, g *rung, beta float64, others []float64, 
 		ev = e.evals[b]
 	}
 	densities(e.t, ev, d, g.prop[w0*d:w1*d], lps, lls, oks)
-	for i := range nw {
-		posts[i] = lnPost(beta, lps[i], lls[i])
-	}
 	c := float64(d - 1)
 	pcgs, lpost := g.pcg[w0:w1], g.lpost[w0:w1]
-	queue := stretchFirst(e.lnTab, pcgs, c, zs, zls, posts, lpost, oks, los, his, accs, sc.queue[:nw])
+	queue := stretchFirst(e.lnTab, pcgs, c, beta, zs, zls, lps, lls, lpost, oks, posts, los, his, accs, sc.queue[:nw])
 	stretchSecond(e.lnTab, pcgs, c, zs, posts, lpost, los, his, accs, queue)
-	keepAccepted(d, g.pos[w0*d:w1*d], g.prop[w0*d:w1*d], g.lp[w0:w1], g.ll[w0:w1], lpost, g.acc[w0:w1], lps, lls, posts, accs)
+	keepAccepted(d, g.pos[w0*d:w1*d], g.prop[w0*d:w1*d], g.lp[w0:w1], g.ll[w0:w1], lpost, g.acc[w0:w1], lps, lls, posts, accs, sc.queue[:nw])
 }
 
 // stretchDraws takes Stretch.Propose's draws from each walker's PCG, as
@@ -588,20 +586,22 @@ func densities(t Target, ev func([]float64) float64, d int, prop, lps, lls []flo
 	}
 }
 
-// stretchFirst takes the decisions of decideStretch that need no u, from
-// the estimates zls of ln z: accs[i] = 1 where lnA >= 0 for sure, 0
+// stretchFirst sets posts[i] = lnPost(beta, lps[i], lls[i]) and takes the
+// decisions of decideStretch that need no u, from the estimates zls of
+// ln z: accs[i] = 1 where lnA >= 0 for sure, 0
 // otherwise; where lnA < 0 for sure it records the bracket [los[i],
 // his[i]] of lnA and queues i for stretchSecond; where neither is sure it
 // calls acceptStretch. Walkers whose density is not finite (oks[i] false)
 // are rejected without a draw. It returns the queue.
-func stretchFirst(tab *lnTable, pcgs []*rand.PCG, c float64, zs, zls, posts, lpost []float64, oks []bool, los, his []float64, accs, queue []int) []int {
+func stretchFirst(tab *lnTable, pcgs []*rand.PCG, c, beta float64, zs, zls, lps, lls, lpost []float64, oks []bool, posts, los, his []float64, accs, queue []int) []int {
 	nq := 0
 	for i, ok := range oks {
 		accs[i] = 0
 		if !ok {
 			continue
 		}
-		post, zl := posts[i], zls[i]
+		post, zl := lnPost(beta, lps[i], lls[i]), zls[i]
+		posts[i] = post
 		lo := float64(float64(c*(zl-lnTol))+post) - lpost[i]
 		hi := float64(float64(c*(zl+lnTol))+post) - lpost[i]
 		yes := b2i(lo >= 0)
@@ -633,20 +633,22 @@ func stretchSecond(tab *lnTable, pcgs []*rand.PCG, c float64, zs, posts, lpost, 
 
 // keepAccepted moves each walker i with accs[i] = 1 to its proposal, with
 // its densities, and counts the acceptance; walkers with accs[i] = 0 stay
-// as they are. It selects by mask, without a branch.
-func keepAccepted(d int, pos, prop, lp, ll, lpost []float64, acc []int64, lps, lls, posts []float64, accs []int) {
-	lp, ll, lpost, acc = lp[:len(accs)], ll[:len(accs)], lpost[:len(accs)], acc[:len(accs)]
-	lps, lls, posts = lps[:len(accs)], lls[:len(accs)], posts[:len(accs)]
+// as they are. The accepted walkers are first listed in kept, without a
+// branch.
+func keepAccepted(d int, pos, prop, lp, ll, lpost []float64, acc []int64, lps, lls, posts []float64, accs, kept []int) {
+	n := 0
 	for i, a := range accs {
-		m := -uint64(a)
+		kept[n] = i
+		n += a
+	}
+	for _, i := range kept[:n] {
+		// A loop rather than copy, which calls memmove: d is small.
 		x, y := pos[i*d:i*d+d], prop[i*d:i*d+d]
 		for k, v := range y {
-			x[k] = pick(m, x[k], v)
+			x[k] = v
 		}
-		lp[i] = pick(m, lp[i], lps[i])
-		ll[i] = pick(m, ll[i], lls[i])
-		lpost[i] = pick(m, lpost[i], posts[i])
-		acc[i] += int64(a)
+		lp[i], ll[i], lpost[i] = lps[i], lls[i], posts[i]
+		acc[i]++
 	}
 }
 

@@ -660,9 +660,10 @@ func TestAcceptStretch(t *testing.T) {
 						{"metropolis", func(p *rand.PCG) bool { return metropolis(tab, p, lnA(k)) }},
 						{"stretchFirst+Second", func(p *rand.PCG) bool {
 							pcgs, zs, zls := []*rand.PCG{p}, []float64{k.z}, []float64{tab.estimate(k.z)}
-							posts, lpost := []float64{k.post}, []float64{k.lpost}
+							lpost, posts := []float64{k.lpost}, make([]float64, 1)
 							los, his, accs := make([]float64, 1), make([]float64, 1), make([]int, 1)
-							q := stretchFirst(tab, pcgs, k.c, zs, zls, posts, lpost, []bool{true}, los, his, accs, make([]int, 1))
+							// beta = 1, ln prior = 0: post = 0 + ln L = ln L.
+							q := stretchFirst(tab, pcgs, k.c, 1, zs, zls, []float64{0}, []float64{k.post}, lpost, []bool{true}, posts, los, his, accs, make([]int, 1))
 							stretchSecond(tab, pcgs, k.c, zs, posts, lpost, los, his, accs, q)
 							return accs[0] == 1
 						}},
