@@ -382,3 +382,300 @@ func TestOptionalMoveInterfaces(t *testing.T) {
 		}
 	}
 }
+
+// refStep is Step written the plain way: the move through the Move
+// interface with the walker's *rand.Rand, math.Log for the Metropolis
+// test, one flattened loop over (rung, walker of the half). Step must
+// produce the same chain bit for bit.
+func refStep(e *Ensemble) {
+	hw := e.nw / 2
+	d := e.dim
+	for h := range 2 {
+		for j := range hw * len(e.rungs) {
+			r := j / hw
+			w := h*hw + j%hw
+			g := &e.rungs[r]
+			o := (1 - h) * hw
+			others := g.pos[o*d : (o+hw)*d]
+			rng := g.rng[w]
+			m := e.moves[0].Move
+			if len(e.moves) > 1 {
+				u := rng.Float64()
+				for i, c := range e.cumW {
+					if u < c {
+						m = e.moves[i].Move
+						break
+					}
+				}
+			}
+			x := g.pos[w*d : w*d+d]
+			y := g.prop[w*d : w*d+d]
+			lnf := m.Propose(rng, x, others, hw, y)
+			lp := e.t.LogPrior(y)
+			if math.IsNaN(lp) || math.IsInf(lp, 0) {
+				continue
+			}
+			ll := e.t.LogLike(y)
+			if math.IsNaN(ll) || math.IsInf(ll, 0) {
+				continue
+			}
+			post := lnPost(e.betas[r], lp, ll)
+			lnA := lnf + post - g.lpost[w]
+			if math.IsNaN(lnA) {
+				continue
+			}
+			if lnA >= 0 || math.Log(rng.Float64()) < lnA {
+				copy(x, y)
+				g.lp[w], g.ll[w], g.lpost[w] = lp, ll, post
+				g.acc[w]++
+			}
+		}
+	}
+	e.steps++
+	if len(e.rungs) > 1 && e.steps%e.cfg.SwapEvery == 0 {
+		e.swap()
+		if e.steps <= e.cfg.AdaptSteps {
+			adaptLadder(e.betas, e.roundAcc, e.scratch, e.steps)
+			for r := range e.rungs {
+				g := &e.rungs[r]
+				for w := range e.nw {
+					g.lpost[w] = lnPost(e.betas[r], g.lp[w], g.ll[w])
+				}
+			}
+		}
+	}
+}
+
+// wrappedStretch is the stretch move behind a type of its own, so that the
+// ensemble can only reach it through the Move interface.
+type wrappedStretch struct{ Stretch }
+
+// TestStepMatchesReference checks Step against refStep bit for bit over
+// dimensions, half sizes that are and are not powers of two, stretch
+// scales from barely above 1 to very wide, move mixtures, user-defined
+// moves, tempered ladders with beta = 0 and adaptation, targets with
+// forbidden regions, and several workers.
+func TestStepMatchesReference(t *testing.T) {
+	ladder, err := GeometricLadder(4, 0.01)
+	if err != nil {
+		t.Fatal(err)
+	}
+	hot, err := PowerLadder(3, 5)
+	if err != nil {
+		t.Fatal(err)
+	}
+	g2 := newGaussTarget(t, []float64{0, 1}, [][]float64{{1, 0.9}, {0.9, 1}})
+	g3 := newGaussTarget(t, []float64{0, 1, 2}, [][]float64{{1, 0.5, 0}, {0.5, 2, 0.3}, {0, 0.3, 1}})
+	// A density that is -Inf on half of its box and huge elsewhere, so
+	// that ln A spans many orders of magnitude.
+	wild := funcTarget{dim: 2, draw: boxDraw(0.5, 1), prior: boxPrior(-3, 3),
+		like: func(x []float64) float64 {
+			if x[0] < 0 {
+				return math.Inf(-1)
+			}
+			return 1e6 * x[0] * x[1]
+		}}
+	mix := []WeightedMove{{Stretch{A: 2}, 0.5}, {DefaultDiffEvolution(3), 0.3}, {wrappedStretch{Stretch{A: 1.5}}, 0.2}}
+	tests := []struct {
+		name string
+		tg   Target
+		cfg  Config
+	}{
+		{"noop d=1", noopTarget{1}, Config{Walkers: 8}},
+		{"noop d=2", noopTarget{2}, Config{Walkers: 32}},
+		{"noop d=3", noopTarget{3}, Config{Walkers: 32}},
+		{"noop d=3 half 5", noopTarget{3}, Config{Walkers: 10}},
+		{"noop d=7", noopTarget{7}, Config{Walkers: 14}},
+		{"gauss d=2", g2, Config{Walkers: 12}},
+		{"gauss d=3 A=1.0001", g3, Config{Walkers: 16, Moves: []WeightedMove{{Stretch{A: 1.0001}, 1}}}},
+		{"gauss d=3 A=1e3", g3, Config{Walkers: 16, Moves: []WeightedMove{{Stretch{A: 1e3}, 1}}}},
+		{"gauss d=3 mixture", g3, Config{Walkers: 12, Moves: mix}},
+		{"gauss d=3 wrapped", g3, Config{Walkers: 12, Moves: []WeightedMove{{wrappedStretch{Stretch{A: 2}}, 1}}}},
+		{"gauss d=3 tempered adapted", g3, Config{Walkers: 12, Betas: ladder, AdaptLadder: true, AdaptSteps: 50}},
+		{"gauss d=3 tempered mixture", g3, Config{Walkers: 12, Betas: ladder, SwapEvery: 3, Moves: mix}},
+		{"wild beta=0", wild, Config{Walkers: 8, Betas: hot}},
+		{"wild workers=2", wild, Config{Walkers: 8, Betas: hot, Workers: 2, MinBatch: 1}},
+		{"gauss d=3 tempered workers=3", g3, Config{Walkers: 12, Betas: ladder, Workers: 3, MinBatch: 1, Moves: mix}},
+	}
+	const steps = 300
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			tc.cfg.Seed = 11
+			got, err := New(tc.tg, tc.cfg)
+			if err != nil {
+				t.Fatal(err)
+			}
+			defer got.Close()
+			c := tc.cfg
+			c.Workers = 1
+			want, err := New(tc.tg, c)
+			if err != nil {
+				t.Fatal(err)
+			}
+			for range steps {
+				if err := got.Step(); err != nil {
+					t.Fatal(err)
+				}
+				refStep(want)
+			}
+			sameState(t, want, got)
+			// The chains must have moved: a reference that accepts nothing
+			// would agree with a sampler that does nothing.
+			if a := got.AcceptanceFractions(0); a[0] == 0 && a[len(a)-1] == 0 {
+				t.Errorf("no proposal accepted in %d steps", steps)
+			}
+		})
+	}
+}
+
+// pcgPair returns two PCGs in the same state.
+func pcgPair(seed uint64) (*rand.PCG, *rand.PCG) {
+	return rand.NewPCG(seed, seed^0x9e37), rand.NewPCG(seed, seed^0x9e37)
+}
+
+// TestPCGDraws checks pcgIntN and pcgFloat64 against math/rand/v2's own
+// IntN and Float64 on a Rand wrapping an identical PCG: same values, same
+// draws consumed. The n include powers of two (masking), small odd n, and
+// 3 x 2^61, for which the standard library rejects a quarter of the draws.
+func TestPCGDraws(t *testing.T) {
+	for _, n := range []int{1, 2, 3, 5, 16, 17, 1000, 1 << 20, 3 << 61, math.MaxInt64} {
+		p, q := pcgPair(uint64(n))
+		r := rand.New(q)
+		for i := range 2000 {
+			if got, want := pcgIntN(p, n), r.IntN(n); got != want {
+				t.Fatalf("n = %d, draw %d: pcgIntN = %d, IntN = %d", n, i, got, want)
+			}
+			if got, want := pcgFloat64(p), r.Float64(); math.Float64bits(got) != math.Float64bits(want) {
+				t.Fatalf("n = %d, draw %d: pcgFloat64 = %v, Float64 = %v", n, i, got, want)
+			}
+		}
+		if p.Uint64() != q.Uint64() {
+			t.Errorf("n = %d: the streams consumed different numbers of draws", n)
+		}
+	}
+}
+
+// TestLnBracket checks lo <= math.Log(x) <= hi (the standard library as
+// the reference) over the whole range of normal float64, at the ends of
+// each binade and next to 1, and that other x are refused.
+func TestLnBracket(t *testing.T) {
+	xs := []float64{1, math.Nextafter(1, 0), math.Nextafter(1, 2), 2, 0.5, math.Sqrt2, 1.0 / 3,
+		math.MaxFloat64, 0x1p-1022, math.Nextafter(0x1p-1022, 1), math.E}
+	for k := -1022; k <= 1023; k++ {
+		b := math.Ldexp(1, k)
+		xs = append(xs, b, math.Nextafter(2*b, 0))
+	}
+	r := rand.New(rand.NewPCG(5, 6))
+	for range 200000 {
+		xs = append(xs, math.Ldexp(1+r.Float64(), r.IntN(2046)-1022), r.Float64()*1.5+0.5)
+	}
+	tab := newLnTable()
+	worst := 0.0
+	for _, x := range xs {
+		if math.IsInf(x, 0) {
+			continue // 2 x MaxFloat64's binade
+		}
+		lo, hi, ok := tab.bracket(x)
+		want := math.Log(x)
+		if !ok || !(lo <= want && want <= hi) {
+			t.Fatalf("bracket(%v) = [%v, %v], %v; math.Log = %v", x, lo, hi, ok, want)
+		}
+		// Rounding of l -+ lnTol at |l| up to 745: 1e-12.
+		if w := hi - lo; w > 2*lnTol+1e-12 {
+			t.Fatalf("bracket(%v) is %v wide, want 2 lnTol = %v", x, w, 2*lnTol)
+		}
+		worst = math.Max(worst, math.Abs((lo+hi)/2-want))
+	}
+	// The series bound |r|^3 / (3 (1 - |r|)) at |r| = 1/256, and the
+	// rounding of k ln 2 at |k| up to 1022.
+	if r := 1.0 / 256; worst > r*r*r/(3*(1-r))+1e-12 {
+		t.Errorf("largest error %v exceeds the truncation bound", worst)
+	}
+	for _, x := range []float64{0, math.Copysign(0, -1), 5e-324, math.Nextafter(0x1p-1022, 0), -1, math.Inf(1), math.Inf(-1), math.NaN()} {
+		if _, _, ok := tab.bracket(x); ok {
+			t.Errorf("bracket(%v) claims a bracket", x)
+		}
+	}
+}
+
+// refMetropolis is the Metropolis–Hastings test as the sampler first
+// wrote it: NaN rejects, lnA >= 0 accepts, otherwise one uniform draw u
+// and math.Log(u) < lnA.
+func refMetropolis(r *rand.Rand, lnA float64) bool {
+	if math.IsNaN(lnA) {
+		return false
+	}
+	return lnA >= 0 || math.Log(r.Float64()) < lnA
+}
+
+// TestAcceptStretch checks metropolis, acceptStretch, decideStretch and the
+// decision passes of stretchRange against refMetropolis with
+// lnA = (c ln z + post) - lpost, on cases built to sit where the brackets
+// cannot decide (ln A within a few ulp of 0, or of ln u for the u about to
+// be drawn) and on infinities, NaN, overflow and z outside the normal
+// range: same outcome, same draws.
+func TestAcceptStretch(t *testing.T) {
+	type tc struct{ c, z, post, lpost float64 }
+	var cases []tc
+	inf, nan := math.Inf(1), math.NaN()
+	for _, c := range []float64{0, 1, 2, 6} {
+		for _, z := range []float64{0.5, 1, math.Nextafter(1, 0), math.Nextafter(1, 2), 1.0001, 0.9999, 2, 1e-300, 1e300,
+			0, 5e-324, inf, nan} {
+			for _, d := range []float64{0, 1e-300, -1e-300, 1e-15, -1e-15, 1e-4, -1e-4, 0.3, -0.3, -40, 40} {
+				base := -c * math.Log(z) // lnA near d
+				cases = append(cases, tc{c, z, base + d, 0}, tc{c, z, 7 + base + d, 7})
+			}
+			for _, pl := range [][2]float64{{inf, 0}, {-inf, 0}, {inf, inf}, {-inf, -inf}, {0, inf}, {0, -inf},
+				{nan, 0}, {0, nan}, {math.MaxFloat64, -math.MaxFloat64}, {-math.MaxFloat64, math.MaxFloat64}} {
+				cases = append(cases, tc{c, z, pl[0], pl[1]})
+			}
+		}
+	}
+	tab := newLnTable()
+	lnA := func(k tc) float64 { return float64(float64(k.c*math.Log(k.z))+k.post) - k.lpost }
+	for i, k := range cases {
+		for seed := range uint64(20) {
+			p, q := pcgPair(seed)
+			// Put ln A within a few ulp of ln u for the u the test will
+			// draw if it draws one.
+			peek := *q
+			u := rand.New(&peek).Float64()
+			for _, shift := range []float64{0, math.Log(u)} {
+				for ulps := -2; ulps <= 2; ulps++ {
+					k := k
+					if shift != 0 && finite(k.post) && finite(k.lpost) {
+						k.post += shift
+						for range max(ulps, -ulps) {
+							k.post = math.Nextafter(k.post, math.Inf(ulps))
+						}
+					}
+					b := *q
+					want := refMetropolis(rand.New(&b), lnA(k))
+					for _, f := range []struct {
+						name string
+						run  func(p *rand.PCG) bool
+					}{
+						{"acceptStretch", func(p *rand.PCG) bool { return acceptStretch(tab, p, k.c, k.z, k.post, k.lpost) }},
+						{"decideStretch", func(p *rand.PCG) bool { return decideStretch(tab, p, k.c, k.z, k.post, k.lpost) == 1 }},
+						{"metropolis", func(p *rand.PCG) bool { return metropolis(tab, p, lnA(k)) }},
+						{"stretchFirst+Second", func(p *rand.PCG) bool {
+							pcgs, zs, zls := []*rand.PCG{p}, []float64{k.z}, []float64{tab.estimate(k.z)}
+							lpost, posts := []float64{k.lpost}, make([]float64, 1)
+							los, his, accs := make([]float64, 1), make([]float64, 1), make([]int, 1)
+							// beta = 1, ln prior = 0: post = 0 + ln L = ln L.
+							q := stretchFirst(tab, pcgs, k.c, 1, zs, zls, []float64{0}, []float64{k.post}, lpost, []bool{true}, posts, los, his, accs, make([]int, 1))
+							stretchSecond(tab, pcgs, k.c, zs, posts, lpost, los, his, accs, q)
+							return accs[0] == 1
+						}},
+					} {
+						a := *p
+						if got := f.run(&a); got != want || a != b {
+							t.Fatalf("case %d %+v seed %d: %s = %v, reference %v (ln A = %v, ln u = %v); same draws: %v",
+								i, k, seed, f.name, got, want, lnA(k), math.Log(u), a == b)
+						}
+					}
+				}
+			}
+		}
+	}
+}

@@ -3,6 +3,7 @@ package sampler
 import (
 	"fmt"
 	"math"
+	"math/bits"
 	"math/rand/v2"
 )
 
@@ -50,7 +51,9 @@ type WeightedMove struct {
 //	accept with min(1, z^(d-1) p(y)/p(x)),
 //
 // with x_j a uniformly chosen walker of the complementary half. A must be
-// > 1; A = 2 is the value recommended by the authors.
+// > 1; A = 2 is the value recommended by the authors. The ensemble runs a
+// Stretch value of Config.Moves without the Move interface, with the same
+// draws and the same results as Propose.
 type Stretch struct {
 	A float64
 }
@@ -59,15 +62,65 @@ type Stretch struct {
 func (m Stretch) Propose(r *rand.Rand, x, others []float64, n int, y []float64) float64 {
 	d := len(x)
 	j := r.IntN(n)
-	xj := others[j*d : j*d+d]
-	// Inverse CDF of g: z = ((A-1)u + 1)^2 / A.
-	u := r.Float64()
-	s := (m.A-1)*u + 1
-	z := s * s / m.A
-	for k := range d {
+	z := stretchZ(m.A, r.Float64())
+	stretchTo(y, x, others[j*d:j*d+d], z)
+	return float64(d-1) * math.Log(z)
+}
+
+// stretchZ is the inverse distribution function of g(z) ∝ 1/sqrt(z) on
+// [1/a, a] (Goodman & Weare 2010, eq. 9) at u in [0, 1):
+// z = ((a-1)u + 1)^2 / a. Stretch.Propose and the ensemble's own stretch
+// update share it, so both round alike.
+func stretchZ(a, u float64) float64 {
+	s := (a-1)*u + 1
+	return s * s / a
+}
+
+// stretchTo writes y = xj + z (x - xj) (Goodman & Weare 2010, eq. 7).
+func stretchTo(y, x, xj []float64, z float64) {
+	y, xj = y[:len(x)], xj[:len(x)]
+	for k := range x {
 		y[k] = xj[k] + z*(x[k]-xj[k])
 	}
-	return float64(d-1) * math.Log(z)
+}
+
+// stretchPCG is Stretch{A: a}.Propose(rand.New(p), x, others, n, y) with
+// the draws taken from p directly (the same draws, see pcgIntN and
+// pcgFloat64); it returns z and leaves (d-1) ln z, the log factor, to the
+// caller, which rarely needs it exactly (see acceptStretch).
+func stretchPCG(p *rand.PCG, a float64, x, others []float64, n int, y []float64) (z float64) {
+	d := len(x)
+	j := pcgIntN(p, n)
+	z = stretchZ(a, pcgFloat64(p))
+	stretchTo(y, x, others[j*d:j*d+d], z)
+	return z
+}
+
+// pcgFloat64 returns rand.New(p).Float64(), taking the same single draw
+// from p: math/rand/v2 defines Float64 as float64(Uint64()<<11>>11) / 2^53.
+// Calling the concrete PCG saves the Source interface call.
+func pcgFloat64(p *rand.PCG) float64 {
+	return float64(p.Uint64()<<11>>11) / (1 << 53)
+}
+
+// pcgIntN returns rand.New(p).IntN(n) for n > 0, taking the same draws
+// from p: math/rand/v2 masks one draw when n is a power of two and
+// otherwise keeps the high word of Uint64() x n, redrawing while the low
+// word falls below 2^64 mod n (Lemire 2019, "Fast random integer
+// generation in an interval"); its 32-bit variant gives the same values.
+func pcgIntN(p *rand.PCG, n int) int {
+	un := uint64(n)
+	if un&(un-1) == 0 {
+		return int(p.Uint64() & (un - 1))
+	}
+	hi, lo := bits.Mul64(p.Uint64(), un)
+	if lo < un {
+		thresh := -un % un
+		for lo < thresh {
+			hi, lo = bits.Mul64(p.Uint64(), un)
+		}
+	}
+	return int(hi)
 }
 
 // Validate implements Validator: A must be finite and > 1.
