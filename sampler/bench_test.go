@@ -158,16 +158,7 @@ func BenchmarkHalfStep(b *testing.B) {
 // on the history of a 20000-step, 32-walker run of a 2-D Gaussian (the
 // size of the demo fits), with the thinning each uses.
 func BenchmarkEvaluate(b *testing.B) {
-	tg := newGaussTarget(b, []float64{0, 0}, [][]float64{{1, 0.5}, {0.5, 1}})
-	e, err := New(tg, Config{Walkers: 32, Seed: 1, Workers: 1})
-	if err != nil {
-		b.Fatal(err)
-	}
-	defer e.Close()
-	e.hist = newHistory(e)
-	for range 20000 {
-		e.Step()
-	}
+	e := benchHistory(b, 20000)
 	opt := RunOptions{MaxSteps: 20000, Burn: -1}
 	for _, final := range []bool{false, true} {
 		name := "check"

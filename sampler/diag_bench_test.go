@@ -26,26 +26,6 @@ func benchHistory(b *testing.B, steps int) *Ensemble {
 	return e
 }
 
-// BenchmarkDiagEvaluate measures one convergence check and the final
-// report on a 20000-step x 32-walker x 2-parameter history, each with the
-// thinning it uses.
-func BenchmarkDiagEvaluate(b *testing.B) {
-	e := benchHistory(b, 20000)
-	opt := RunOptions{MaxSteps: 20000, Burn: -1}
-	for _, final := range []bool{false, true} {
-		name := "check"
-		if final {
-			name = "final"
-		}
-		b.Run(name, func(b *testing.B) {
-			b.ReportAllocs()
-			for b.Loop() {
-				evaluate(e, opt, final)
-			}
-		})
-	}
-}
-
 // BenchmarkDiagRun runs 20000 steps of 32 walkers on a cheap 2-D Gaussian
 // with the fit command's check interval (500), without criteria (checks
 // only feed progress output) and with criteria that never hold (every
