@@ -33,15 +33,29 @@ type Posterior struct {
 	model  models.Model
 	params []models.Param // all, with the priors in use
 	pri    []priors.Prior
-	free   []int     // indices into params of sampled parameters
-	fixed  []float64 // full-length; fixed values, NaN for free ones
-	freqs  []float64
-	c      []float64 // per-bin log10 rho offset: 0.5 log10(H0^2/(8 pi^4 f^5 T))
-	fs     *FreeSpectrum
+	free   []int // indices into params of sampled parameters
+	// lp holds, per free parameter, its prior's support and, for a
+	// uniform prior, its constant log density, so that LogPrior calls no
+	// math.Log for the commonest prior.
+	lp    []freePrior
+	fixed []float64 // full-length; fixed values, NaN for free ones
+	freqs []float64
+	c     []float64 // per-bin log10 rho offset: 0.5 log10(H0^2/(8 pi^4 f^5 T))
+	fs    *FreeSpectrum
 	// mu guards shared, the scratch of direct LogLike calls; samplers take
 	// evaluators of their own (NewLogLike) and never wait on it.
 	mu     sync.Mutex
 	shared *scratch
+}
+
+// freePrior is a free parameter's prior as LogPrior reads it: for a
+// priors.Uniform, uniform is set and c = -ln(Max - Min), the value its
+// LogProb returns inside [lo, hi]; otherwise LogPrior calls pr.LogProb.
+type freePrior struct {
+	uniform bool
+	lo, hi  float64
+	c       float64
+	pr      priors.Prior
 }
 
 type scratch struct {
@@ -99,6 +113,11 @@ func NewPosterior(m models.Model, pri []priors.Prior, ds *Dataset, fs *FreeSpect
 		} else {
 			p.fixed[j] = math.NaN()
 			p.free = append(p.free, j)
+			fp := freePrior{pr: pr}
+			if u, ok := pr.(priors.Uniform); ok {
+				fp = freePrior{uniform: true, lo: u.Min, hi: u.Max, c: u.LogProb(u.Min), pr: pr}
+			}
+			p.lp = append(p.lp, fp)
 		}
 	}
 	if d, ok := m.(models.Bounded); ok {
@@ -150,9 +169,18 @@ func (p *Posterior) LogPrior(x []float64) float64 {
 	if len(x) != len(p.free) {
 		return math.Inf(-1)
 	}
+	// The same terms in the same order as a sum of LogProb calls, so the
+	// same result to the bit.
 	s := 0.0
-	for k, j := range p.free {
-		s += p.pri[j].LogProb(x[k])
+	for k, fp := range p.lp {
+		switch {
+		case !fp.uniform:
+			s += fp.pr.LogProb(x[k])
+		case x[k] >= fp.lo && x[k] <= fp.hi:
+			s += fp.c
+		default:
+			s += math.Inf(-1)
+		}
 	}
 	return s
 }

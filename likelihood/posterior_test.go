@@ -277,3 +277,86 @@ type target interface {
 }
 
 var _ target = (*Posterior)(nil)
+
+// TestLogPriorUniformCached checks LogPrior, which reads the constant
+// density of uniform priors from a cache, against gonum's distuv.Uniform
+// (an independent library) and, to the bit, against the sum of the priors'
+// own LogProb calls, inside, on and outside the bounds and at NaN, with a
+// uniform, a non-uniform and a fixed parameter.
+func TestLogPriorUniformCached(t *testing.T) {
+	ds := gaussData(5)
+	fs, err := NewFreeSpectrum(ds, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	tests := []struct {
+		name string
+		pri  []priors.Prior
+	}{
+		{"uniform, uniform", []priors.Prior{priors.Uniform{Min: -18, Max: -11}, priors.Uniform{Min: 0, Max: 7}}},
+		{"uniform, normal", []priors.Prior{priors.Uniform{Min: -18, Max: -11}, priors.Normal{Mu: 13.0 / 3, Sigma: 0.5}}},
+		{"log-uniform, uniform", []priors.Prior{priors.LogUniform{Min: 1e-18, Max: 1e-11}, priors.Uniform{Min: 0, Max: 7}}},
+		{"uniform, fixed", []priors.Prior{priors.Uniform{Min: -18, Max: -11}, fixed(13.0 / 3)}},
+	}
+	r := rand.New(rand.NewPCG(3, 4))
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			p, err := NewPosterior(powerLaw{pri: tc.pri}, nil, ds, fs, testH0)
+			if err != nil {
+				t.Fatal(err)
+			}
+			var free []priors.Prior
+			allUniform := true
+			for _, pr := range tc.pri {
+				if _, ok := pr.(priors.PointMass); !ok {
+					free = append(free, pr)
+					_, u := pr.(priors.Uniform)
+					allUniform = allUniform && u
+				}
+			}
+			x := make([]float64, p.Dim())
+			pick := func(pr priors.Prior) float64 {
+				lo, hi := pr.Bounds()
+				switch r.IntN(6) {
+				case 0:
+					return lo
+				case 1:
+					return hi
+				case 2:
+					return lo - 1e-9
+				case 3:
+					return math.NaN()
+				default:
+					return lo + (hi-lo)*r.Float64()
+				}
+			}
+			for range 2000 {
+				want := 0.0
+				for k, pr := range free {
+					x[k] = pick(pr)
+					want += pr.LogProb(x[k])
+				}
+				got := p.LogPrior(x)
+				if math.Float64bits(got) != math.Float64bits(want) && !(math.IsNaN(got) && math.IsNaN(want)) {
+					t.Fatalf("LogPrior(%v) = %v, sum of LogProb = %v", x, got, want)
+				}
+				if !allUniform {
+					continue
+				}
+				// gonum's density, -Inf outside the support.
+				g := 0.0
+				for k, pr := range free {
+					v := pr.(priors.Uniform)
+					if !(x[k] >= v.Min && x[k] <= v.Max) {
+						g = math.Inf(-1)
+						break
+					}
+					g += distuv.Uniform{Min: v.Min, Max: v.Max}.LogProb(x[k])
+				}
+				if got != g && math.Abs(got-g) > 1e-15 {
+					t.Fatalf("LogPrior(%v) = %v, gonum distuv.Uniform gives %v", x, got, g)
+				}
+			}
+		})
+	}
+}
