@@ -8,9 +8,11 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"runtime"
 	"slices"
 	"strconv"
 	"strings"
+	"sync"
 	"text/tabwriter"
 
 	"tautline/chains"
@@ -84,12 +86,29 @@ func Merge(out string, dirs []string, version string) (*rundir.Comparison, error
 			return nil, err
 		}
 	}
-	for _, m := range first.part.Models {
-		row, err := mergeModel(out, m, byModel[m])
+	// Models integrate independently, each into its own folder: side by
+	// side, one goroutine per processor; rows keep the models' order.
+	models := first.part.Models
+	res.Rows = make([]rundir.Row, len(models))
+	errs := make([]error, len(models))
+	next := make(chan int, len(models))
+	for i := range models {
+		next <- i
+	}
+	close(next)
+	var wg sync.WaitGroup
+	for range min(runtime.GOMAXPROCS(0), len(models)) {
+		wg.Go(func() {
+			for i := range next {
+				res.Rows[i], errs[i] = mergeModel(out, models[i], byModel[models[i]])
+			}
+		})
+	}
+	wg.Wait()
+	for i, err := range errs {
 		if err != nil {
-			return nil, fmt.Errorf("model %s: %w", m, err)
+			return nil, fmt.Errorf("model %s: %w", models[i], err)
 		}
-		res.Rows = append(res.Rows, row)
 	}
 	ref := res.Rows[slices.Index(first.part.Models, first.part.Reference)]
 	for i := range res.Rows {

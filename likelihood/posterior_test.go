@@ -360,3 +360,29 @@ func TestLogPriorUniformCached(t *testing.T) {
 		})
 	}
 }
+
+// BenchmarkLogPrior times the prior of the three-parameter string model's
+// default shape (three uniform priors).
+func BenchmarkLogPrior(b *testing.B) {
+	ds := gaussData(5)
+	fs, err := NewFreeSpectrum(ds, Options{})
+	if err != nil {
+		b.Fatal(err)
+	}
+	p, err := NewPosterior(powerLaw{pri: []priors.Prior{priors.Uniform{Min: -18, Max: -11}, priors.Uniform{Min: 0, Max: 7}}}, nil, ds, fs, testH0)
+	if err != nil {
+		b.Fatal(err)
+	}
+	// Proposals as a prior-dominated rung makes them: a third outside.
+	r := rand.New(rand.NewPCG(7, 8))
+	xs := make([][]float64, 1024)
+	for i := range xs {
+		xs[i] = []float64{-18 + 10.5*r.Float64(), 10.5 * r.Float64()}
+	}
+	s, i := 0.0, 0
+	for b.Loop() {
+		s += p.LogPrior(xs[i&1023])
+		i++
+	}
+	_ = s
+}
