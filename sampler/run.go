@@ -226,8 +226,9 @@ type RunOptions struct {
 	// the checks a small fraction of a long run; a run stops at most a
 	// quarter past the step where it converged. The check at MaxSteps is
 	// the final report itself. Without criteria the checks only feed
-	// OnCheck, and one is skipped while the checks so far took more than
-	// progressShare of the run's time; the results do not depend on it.
+	// OnCheck: none runs when OnCheck is nil, and one is skipped while the
+	// checks so far took more than progressShare of the run's time; the
+	// results do not depend on it.
 	CheckEvery int
 	// OnStep, if not nil, is called after every step (to write chains); an
 	// error stops the run and is returned.
@@ -337,8 +338,8 @@ func Run(ctx context.Context, e *Ensemble, opt RunOptions) (Result, error) {
 	decides := c.ESS > 0 || c.TauMultiple > 0 || c.Rhat > 0
 	var spent time.Duration
 	check := func() bool {
-		if !decides && spent > time.Duration(float64(time.Since(t0))*progressShare) {
-			return false
+		if !decides && (opt.OnCheck == nil || spent > time.Duration(float64(time.Since(t0))*progressShare)) {
+			return false // a check nobody reads, or progress past its share
 		}
 		t := time.Now()
 		ev = evaluate(e, opt, false)

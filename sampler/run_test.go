@@ -3,6 +3,7 @@ package sampler
 import (
 	"context"
 	"errors"
+	"fmt"
 	"math"
 	"strings"
 	"testing"
@@ -161,4 +162,36 @@ func TestIsCheckStep(t *testing.T) {
 // Len()) with the final report's thinning (tau/10).
 func (h *History) maxTau(from int) float64 {
 	return h.maxTauThinned(from, finalThinning)
+}
+
+// TestRunUnreadChecksSkipped: without criteria the intermediate checks
+// only feed OnCheck, so a run without OnCheck skips them; its result is
+// the same, bit for bit, as that of a run whose checks were all read.
+func TestRunUnreadChecksSkipped(t *testing.T) {
+	g := newGaussTarget(t, []float64{2, -1}, [][]float64{{1, 0.8}, {0.8, 1}})
+	run := func(onCheck func(Progress)) Result {
+		e, err := New(g, Config{Walkers: 16, Seed: 5})
+		if err != nil {
+			t.Fatal(err)
+		}
+		defer e.Close()
+		res, err := Run(context.Background(), e, RunOptions{MaxSteps: 3000, Burn: -1, CheckEvery: 100, OnCheck: onCheck})
+		if err != nil {
+			t.Fatal(err)
+		}
+		return res
+	}
+	checks := 0
+	read := run(func(Progress) { checks++ })
+	unread := run(nil)
+	if checks < 2 {
+		t.Fatalf("the run with OnCheck saw %d checks, want several", checks)
+	}
+	if fmt.Sprint(read.Report) != fmt.Sprint(unread.Report) || read.Burn != unread.Burn || read.Thin != unread.Thin || read.Status != unread.Status {
+		t.Errorf("results differ:\nwith OnCheck    %v burn %d thin %d\nwithout OnCheck %v burn %d thin %d",
+			read.Report, read.Burn, read.Thin, unread.Report, unread.Burn, unread.Thin)
+	}
+	if unread.DiagnosticsTime > read.DiagnosticsTime {
+		t.Logf("diagnostics took %v without OnCheck, %v with it (timing only; not asserted)", unread.DiagnosticsTime, read.DiagnosticsTime)
+	}
 }
