@@ -129,9 +129,10 @@ func readNPY(f *os.File) (rows, cols int, data []float64, err error) {
 	if _, err := f.Seek(0, io.SeekStart); err != nil {
 		return 0, 0, nil, err
 	}
-	// The decoder reads value by value; buffer it, or each value is a
-	// system call.
-	r, err := npy.NewReader(bufio.NewReaderSize(f, 1<<16))
+	// The decoder parses the header; the values are read here in bulk
+	// (the decoder reads them one by one).
+	br := bufio.NewReaderSize(f, 1<<16)
+	r, err := npy.NewReader(br)
 	if err != nil {
 		return 0, 0, nil, fmt.Errorf("not a .npy file: %w", err)
 	}
@@ -157,11 +158,21 @@ func readNPY(f *os.File) (rows, cols int, data []float64, err error) {
 	if int64(rows) > st.Size()/8/int64(cols) {
 		return 0, 0, nil, fmt.Errorf("shape %v needs %d bytes of data; file has %d in all", h.Shape, 8*int64(rows)*int64(cols), st.Size())
 	}
-	if err := r.Read(&data); err != nil && !errors.Is(err, io.EOF) {
-		return 0, 0, nil, err
+	order := binary.ByteOrder(binary.LittleEndian)
+	if strings.Trim(h.Type, `'"`) == ">f8" {
+		order = binary.BigEndian
 	}
-	if len(data) != rows*cols {
-		return 0, 0, nil, fmt.Errorf("shape %v, but %d values", h.Shape, len(data))
+	data = make([]float64, rows*cols)
+	var buf [8 * 4096]byte
+	for done := 0; done < len(data); {
+		n := min(len(data)-done, len(buf)/8)
+		if k, err := io.ReadFull(br, buf[:8*n]); err != nil {
+			return 0, 0, nil, fmt.Errorf("shape %v, but %d values", h.Shape, done+k/8)
+		}
+		for i := range data[done : done+n] {
+			data[done+i] = math.Float64frombits(order.Uint64(buf[8*i:]))
+		}
+		done += n
 	}
 	if h.Fortran && cols > 1 && rows > 1 {
 		t := make([]float64, len(data))
