@@ -42,7 +42,9 @@ type Meta struct {
 	// Start and End bound the run in wall-clock time.
 	Start time.Time `json:"start"`
 	End   time.Time `json:"end"`
-	// Timings lists the wall-clock duration of each phase, in order.
+	// Timings lists the wall-clock duration of each phase, in order. A fit
+	// records "sampling", then "diagnostics" (the convergence checks and
+	// the final report, a part of sampling) and "total".
 	Timings []Timing `json:"timings"`
 	// Diagnostics holds the sampler's convergence report (any value
 	// encoding/json accepts).

@@ -220,6 +220,7 @@ func Run(ctx context.Context, p Problem, s Settings) (*Result, error) {
 	meta.End = time.Now()
 	meta.Diagnostics = res.Report
 	meta.Timings = append(meta.Timings, chains.Timing{Phase: "sampling", Seconds: sampled.Sub(sampleStart).Seconds()},
+		chains.Timing{Phase: "diagnostics", Seconds: res.DiagnosticsTime.Seconds()},
 		chains.Timing{Phase: "total", Seconds: time.Since(p.Meta.Start).Seconds()})
 	meta.Sampling = &chains.Sampling{Steps: res.Steps, Burn: res.Burn, Thin: res.Thin, PosteriorSamples: n,
 		Acceptance: ens.AcceptanceFractions(0), BandwidthRule: p.Likelihood.BandwidthRule, Bandwidths: p.Likelihood.Bandwidths,

@@ -792,29 +792,54 @@ func (p *diagPool) diagnose(v chainView, acc []float64, names []string, rhat, ta
 		p.setScores(rsteps, walkers)
 	}
 	rep.Params = make([]ParamReport, v.dim)
-	p.each(v.dim, func(sc *diagScratch, k int) {
+	tau := func(sc *diagScratch, k int) {
 		sc.a = v.gather(sc.a, k)
-		tau, err := sc.autocorr(sc.a, steps, walkers)
-		pr := ParamReport{Index: k, Tau: tau, TauReliable: err == nil, ESS: float64(steps*walkers) / tau}
-		pr.Rhat, pr.BulkESS, pr.TailESS = math.NaN(), math.NaN(), math.NaN()
-		if rhat {
-			if rsteps < steps {
-				// Every show-th step, compacted in place (the
-				// destination never passes the source).
-				x := sc.a
-				for w := range walkers {
-					for s := range rsteps {
-						x[w*rsteps+s] = x[w*steps+s*show]
-					}
-				}
-			}
-			pr.Rhat, pr.BulkESS, pr.TailESS = sc.vehtari(sc.a, rsteps, walkers, tails)
-		}
+		t, err := sc.autocorr(sc.a, steps, walkers)
+		pr := &rep.Params[k]
+		pr.Index, pr.Tau, pr.TauReliable, pr.ESS = k, t, err == nil, float64(steps*walkers)/t
 		if names != nil {
 			pr.Name = names[k]
 		}
-		rep.Params[k] = pr
-	})
+	}
+	vehtari := func(sc *diagScratch, k int, gathered bool) {
+		pr := &rep.Params[k]
+		pr.Rhat, pr.BulkESS, pr.TailESS = math.NaN(), math.NaN(), math.NaN()
+		if !rhat {
+			return
+		}
+		if !gathered {
+			sc.a = v.gather(sc.a, k)
+		}
+		if rsteps < steps {
+			// Every show-th step, compacted in place (the destination
+			// never passes the source).
+			x := sc.a
+			for w := range walkers {
+				for s := range rsteps {
+					x[w*rsteps+s] = x[w*steps+s*show]
+				}
+			}
+		}
+		pr.Rhat, pr.BulkESS, pr.TailESS = sc.vehtari(sc.a, rsteps, walkers, tails)
+	}
+	if w := len(p.workers); rhat && w > 1 && v.dim > 1 && v.dim%w != 0 {
+		// Parameters do not share out evenly among the goroutines: split
+		// each into its R-hat and ESS (the larger part, first) and its tau,
+		// each reading the chain afresh. Every statistic is computed as
+		// below, so the report is the same.
+		p.each(2*v.dim, func(sc *diagScratch, k int) {
+			if k < v.dim {
+				vehtari(sc, k, false)
+			} else {
+				tau(sc, k-v.dim)
+			}
+		})
+	} else {
+		p.each(v.dim, func(sc *diagScratch, k int) {
+			tau(sc, k) // leaves the chain in sc.a
+			vehtari(sc, k, true)
+		})
+	}
 	for _, pr := range rep.Params {
 		rep.MaxTau = nanMax(rep.MaxTau, pr.Tau)
 		rep.MinESS = nanMin(rep.MinESS, pr.ESS)

@@ -154,6 +154,7 @@ func TestDiagnoseMatchesReference(t *testing.T) {
 	}{
 		{0.5, 1, 2, 1}, {0.5, 7, 3, 2}, {0.9, 9, 4, 1}, {0.95, 500, 6, 3},
 		{0.9, 1024, 4, 2}, {0.99, 3000, 6, 2}, {0.999, 2000, 4, 1}, {0.3, 5003, 5, 2},
+		{0.9, 1500, 4, 5}, // five parameters: an uneven share on two or more goroutines
 	} {
 		pos := make([]float64, c.steps*c.walkers*c.dim)
 		for k := range c.dim {

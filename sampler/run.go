@@ -255,7 +255,7 @@ type Progress struct {
 
 // progressShare is the largest fraction of a run's time spent on checks
 // that decide nothing (a run without criteria).
-const progressShare = 0.05
+const progressShare = 0.02
 
 // Status says why Run returned.
 type Status int
