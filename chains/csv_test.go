@@ -72,7 +72,7 @@ func TestWriterMatchesStrconv(t *testing.T) {
 	rows := ensembleStream(300)
 	for i, v := range edgeValues {
 		rows[37*i+5][2+i%4] = v
-		rows[37*i+6][2+i%4] = v // and again, from the memo
+		rows[37*i+6][2+i%4] = v // and again
 	}
 	for _, batch := range []int{1, 2, 3, 31, 32, 33, 1000, batchFloats / len(cols), 20000} {
 		p := filepath.Join(t.TempDir(), "c.csv")
@@ -235,7 +235,7 @@ func TestValueTextBound(t *testing.T) {
 	fm := &formatter{f: f, ncol: ncol, out: make([]byte, 0, rows*ncol*(maxValueText+1))}
 	batch := make([]float64, rows*ncol)
 	for i := range batch {
-		batch[i] = math.Nextafter(longest[i%3], 0) // distinct values: no memo hits
+		batch[i] = math.Nextafter(longest[i%3], 0) // texts near the longest
 	}
 	if n := testing.AllocsPerRun(20, func() { fm.write(batch) }); n != 0 || fm.err != nil {
 		t.Errorf("formatting a batch of the longest values allocates %v times (error %v)", n, fm.err)
@@ -425,7 +425,6 @@ type serialWriter struct {
 	f    *os.File
 	bw   *bufio.Writer
 	line []byte
-	memo floatMemo
 }
 
 func (s *serialWriter) append(row []float64) error {
@@ -434,7 +433,7 @@ func (s *serialWriter) append(row []float64) error {
 		if j > 0 {
 			b = append(b, ',')
 		}
-		b = s.memo.appendFloat(b, v)
+		b = appendFloat(b, v)
 	}
 	b = append(b, '\n')
 	s.line = b

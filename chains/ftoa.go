@@ -1,6 +1,7 @@
 package chains
 
 import (
+	"encoding/binary"
 	"math"
 	"math/bits"
 )
@@ -84,7 +85,7 @@ func layoutG(buf []byte, d uint64, e10 int) int {
 	case dp < -3 || dp > 6:
 		// d.ddde±xx: the digits one place to the right, then the first
 		// moved back before the point.
-		writeDigits(buf[:nd+1], d)
+		putDigits(buf[1:], d, nd)
 		buf[0] = buf[1]
 		k := 1
 		if nd > 1 {
@@ -109,17 +110,17 @@ func layoutG(buf []byte, d uint64, e10 int) int {
 	case dp <= 0:
 		// 0.000ddd: at most three zeros after the point.
 		buf[0], buf[1], buf[2], buf[3], buf[4] = '0', '.', '0', '0', '0'
-		writeDigits(buf[:2-dp+nd], d)
+		putDigits(buf[2-dp:], d, nd)
 		return 2 - dp + nd
 	case dp >= nd:
-		// ddd000: an integer of at most 6 digits.
-		buf[0], buf[1], buf[2], buf[3], buf[4], buf[5] = '0', '0', '0', '0', '0', '0'
-		writeDigits(buf[:nd], d)
+		// ddd000: an integer of at most 6 digits (nd <= dp <= 6), which
+		// putDigits follows with the zeros.
+		putDigits(buf, d, nd)
 		return dp
 	default:
 		// ddd.ddd: the digits one place to the right, then those before
 		// the point (at most 6) moved back.
-		writeDigits(buf[:nd+1], d)
+		putDigits(buf[1:], d, nd)
 		for j := range dp {
 			buf[j] = buf[j+1]
 		}
@@ -140,37 +141,45 @@ const pairs = "00010203040506070809" +
 	"80818283848586878889" +
 	"90919293949596979899"
 
-// writeDigits writes the decimal digits of d so that they end at the end
-// of buf, two at a time. The digits must fit in buf.
-func writeDigits(buf []byte, d uint64) {
-	i := len(buf)
-	for d >= 1e8 {
-		q := d / 1e8
-		lo := uint32(d - q*1e8)
-		d = q
-		// Eight digits: two groups of four, two pairs each.
-		hi4, lo4 := lo/10000, lo%10000
-		a, c := lo4/100, lo4%100
-		buf[i-1], buf[i-2] = pairs[2*c+1], pairs[2*c]
-		buf[i-3], buf[i-4] = pairs[2*a+1], pairs[2*a]
-		a, c = hi4/100, hi4%100
-		buf[i-5], buf[i-6] = pairs[2*c+1], pairs[2*c]
-		buf[i-7], buf[i-8] = pairs[2*a+1], pairs[2*a]
-		i -= 8
+// putDigits writes the nd (1 to 17) decimal digits of d at the start of
+// buf, eight at a time; when nd is at most 8, '0's follow the digits up to
+// the eighth byte. buf must have room for max(nd, 8) bytes.
+func putDigits(buf []byte, d uint64, nd int) {
+	switch {
+	case nd <= 8:
+		// The eight-digit text, its leading zeros rotated to the end.
+		binary.LittleEndian.PutUint64(buf, bits.RotateLeft64(digits8(uint32(d)), -8*(8-nd)))
+	case nd <= 16:
+		hi, lo := d/1e8, d%1e8
+		binary.LittleEndian.PutUint64(buf, bits.RotateLeft64(digits8(uint32(hi)), -8*(16-nd)))
+		binary.LittleEndian.PutUint64(buf[nd-8:], digits8(uint32(lo)))
+	default:
+		hi, lo := d/1e8, d%1e8
+		h1, h2 := hi/1e8, hi%1e8
+		_ = buf[16]
+		buf[0] = byte('0' + h1)
+		binary.LittleEndian.PutUint64(buf[1:], digits8(uint32(h2)))
+		binary.LittleEndian.PutUint64(buf[9:], digits8(uint32(lo)))
 	}
-	lo := uint32(d)
-	for lo >= 100 {
-		q := lo / 100
-		c := lo - 100*q
-		lo = q
-		buf[i-1], buf[i-2] = pairs[2*c+1], pairs[2*c]
-		i -= 2
-	}
-	if lo >= 10 {
-		buf[i-1], buf[i-2] = pairs[2*lo+1], pairs[2*lo]
-		return
-	}
-	buf[i-1] = byte('0' + lo)
+}
+
+// digits8 returns the eight decimal digits of x < 1e8, with leading zeros,
+// as ASCII in the bytes of a little-endian word (the first digit in the
+// lowest byte). It splits x in lanes of one word: into two four-digit
+// halves 32 bits apart, each into two pairs 16 bits apart, each into two
+// digits 8 bits apart, dividing by 100 and by 10 with a multiply and shift
+// (floor(v*10486/2^20) = floor(v/100) for v < 10^4 and floor(v*103/2^10) =
+// floor(v/10) for v < 100, H. S. Warren, Hacker's Delight, 2nd ed.,
+// section 10-8; TestDigits8 checks every lane value). No lane's product
+// overflows into the next.
+func digits8(x uint32) uint64 {
+	hi := x / 10000
+	v := uint64(hi) | uint64(x-hi*10000)<<32
+	q := (v * 10486 >> 20) & 0x0000007f_0000007f
+	v = q | (v-q*100)<<16
+	q = (v * 103 >> 10) & 0x000f000f_000f000f
+	v = q | (v-q*10)<<8
+	return v + 0x30303030_30303030
 }
 
 // pow10u64 holds 10^0 to 10^19.
@@ -355,6 +364,9 @@ func trimZeros(x uint64) (uint64, int) {
 		div1e1m  = 0xcccccccccccccccd
 		div1e1le = math.MaxUint64 / 10
 	)
+	if bits.RotateLeft64(x*div1e1m, -1) > div1e1le {
+		return x, 0 // the most common case: no trailing zero
+	}
 	p := 0
 	for d := bits.RotateLeft64(x*div1e8m, -8); d <= div1e8le; d = bits.RotateLeft64(x*div1e8m, -8) {
 		x = d

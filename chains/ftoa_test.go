@@ -1,6 +1,7 @@
 package chains
 
 import (
+	"encoding/binary"
 	"math"
 	"math/big"
 	"math/rand/v2"
@@ -196,26 +197,54 @@ func FuzzAppendFloatMatchesStrconv(f *testing.F) {
 	})
 }
 
-// BenchmarkAppendFloat formats the same chain-like values with strconv,
-// with appendFloat, and through a Writer's memo (as the Writer's goroutine
-// does); ns/op is per value.
+// BenchmarkAppendFloat formats the same values with strconv and with
+// appendFloat: chain-like values (mixed, from
+// chainLike) and the values of an ensemble's rows in order (rows, from
+// ensembleStream, where a rejected walker repeats its row); ns/op is per
+// value.
 func BenchmarkAppendFloat(b *testing.B) {
-	vals := chainLike(rand.New(rand.NewPCG(3, 5)), 1<<12)
-	buf := make([]byte, 0, 64)
-	b.Run("strconv", func(b *testing.B) {
-		for i := 0; b.Loop(); i++ {
-			buf = strconv.AppendFloat(buf[:0], vals[i&(len(vals)-1)], 'g', -1, 64)
+	var rows []float64
+	for _, r := range ensembleStream(2000) {
+		rows = append(rows, r...)
+	}
+	for _, c := range []struct {
+		name string
+		vals []float64
+	}{{"mixed", chainLike(rand.New(rand.NewPCG(3, 5)), 1<<16)}, {"rows", rows}} {
+		vals := c.vals
+		buf := make([]byte, 0, 64)
+		b.Run(c.name+"/strconv", func(b *testing.B) {
+			for i := 0; b.Loop(); i++ {
+				buf = strconv.AppendFloat(buf[:0], vals[i%len(vals)], 'g', -1, 64)
+			}
+		})
+		b.Run(c.name+"/new", func(b *testing.B) {
+			for i := 0; b.Loop(); i++ {
+				buf = appendFloat(buf[:0], vals[i%len(vals)])
+			}
+		})
+	}
+}
+
+// TestDigits8 compares digits8 with strconv's zero-padded decimal text on
+// every four-digit value in each half (x = a*10^4 + a and x = a*10^4 +
+// 9999 - a for every a below 10^4, which puts every value in every lane)
+// and on random values below 10^8.
+func TestDigits8(t *testing.T) {
+	check := func(x uint32) {
+		var got [8]byte
+		binary.LittleEndian.PutUint64(got[:], digits8(x))
+		want := strconv.FormatUint(uint64(x)+1e8, 10)[1:]
+		if string(got[:]) != want {
+			t.Fatalf("digits8(%d) = %q, want %q", x, got, want)
 		}
-	})
-	b.Run("new", func(b *testing.B) {
-		for i := 0; b.Loop(); i++ {
-			buf = appendFloat(buf[:0], vals[i&(len(vals)-1)])
-		}
-	})
-	b.Run("memo", func(b *testing.B) {
-		m := new(floatMemo)
-		for i := 0; b.Loop(); i++ {
-			buf = m.appendFloat(buf[:0], vals[i&(len(vals)-1)])
-		}
-	})
+	}
+	for a := range uint32(10000) {
+		check(a*10000 + a)
+		check(a*10000 + 9999 - a)
+	}
+	r := rand.New(rand.NewPCG(1, 1))
+	for range 100000 {
+		check(r.Uint32N(1e8))
+	}
 }
