@@ -85,11 +85,10 @@ func layoutG(buf []byte, d uint64, e10 int) int {
 	case dp < -3 || dp > 6:
 		// d.ddde±xx: the digits one place to the right, then the first
 		// moved back before the point.
-		putDigits(buf[1:], d, nd)
-		buf[0] = buf[1]
+		putDigits(buf, d, nd)
 		k := 1
 		if nd > 1 {
-			buf[1] = '.'
+			insertPoint(buf, 1)
 			k = nd + 1
 		}
 		x := dp - 1
@@ -118,15 +117,23 @@ func layoutG(buf []byte, d uint64, e10 int) int {
 		putDigits(buf, d, nd)
 		return dp
 	default:
-		// ddd.ddd: the digits one place to the right, then those before
-		// the point (at most 6) moved back.
-		putDigits(buf[1:], d, nd)
-		for j := range dp {
-			buf[j] = buf[j+1]
-		}
-		buf[dp] = '.'
+		// ddd.ddd: at most 6 digits before the point.
+		putDigits(buf, d, nd)
+		insertPoint(buf, dp)
 		return nd + 1
 	}
+}
+
+// insertPoint moves the 16 bytes from buf[i] one place to the right and
+// puts a '.' at buf[i]: it makes room for the decimal point before digit i
+// of at most i+16 digits. buf must hold i+17 bytes.
+func insertPoint(buf []byte, i int) {
+	_ = buf[i+16]
+	lo := binary.LittleEndian.Uint64(buf[i:])
+	hi := binary.LittleEndian.Uint64(buf[i+8:])
+	binary.LittleEndian.PutUint64(buf[i+1:], lo)
+	binary.LittleEndian.PutUint64(buf[i+9:], hi)
+	buf[i] = '.'
 }
 
 // pairs is the text of 00 to 99, two bytes each.
