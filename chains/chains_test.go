@@ -591,24 +591,22 @@ func TestSamplingJSON(t *testing.T) {
 	}
 }
 
-// TestAppendFloatMatchesStrconv checks the integer shortcut and the memo
-// against strconv.AppendFloat(b, v, 'g', -1, 64), byte for byte, on edge
-// cases and on values that collide in the memo.
+// TestAppendFloatMatchesStrconv checks appendFloat, integers below 2^53
+// (its shortcut) and other values, against strconv.AppendFloat(b, v, 'g',
+// -1, 64), byte for byte, on edge cases and on runs of integers, near
+// integers and fractions.
 func TestAppendFloatMatchesStrconv(t *testing.T) {
 	vals := []float64{0, math.Copysign(0, -1), 1, -1, 7, 999999, -999999, 1e6, -1e6, 1e21, 123456.5,
 		0.1, -2.5e-7, 1e-320, math.MaxFloat64, -math.SmallestNonzeroFloat64, math.Inf(1), math.Inf(-1), math.NaN(),
 		-14.52513370917262, 4.161803398874989, 3.0000000000000004, 1<<53 + 2, 5e5 + 0.25}
-	for i := range 20000 { // enough to make entries collide and be replaced
-		vals = append(vals, float64(i)*1.000000001-17.3, float64(i%300)/7)
+	for i := range 20000 {
+		vals = append(vals, float64(i)*1.000000001-17.3, float64(i%300)/7, float64(i)*997, -float64(i)*1e5, float64(i)/8)
 	}
-	m := new(floatMemo)
-	for pass := range 2 {
-		for _, v := range vals {
-			got := string(m.appendFloat([]byte("x,"), v))
-			want := string(strconv.AppendFloat([]byte("x,"), v, 'g', -1, 64))
-			if got != want {
-				t.Fatalf("pass %d: %v formats as %q, want %q", pass, v, got, want)
-			}
+	for _, v := range vals {
+		got := string(appendFloat([]byte("x,"), v))
+		want := string(strconv.AppendFloat([]byte("x,"), v, 'g', -1, 64))
+		if got != want {
+			t.Fatalf("%v formats as %q, want %q", v, got, want)
 		}
 	}
 }

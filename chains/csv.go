@@ -6,7 +6,6 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"math"
 	"os"
 	"strconv"
 	"strings"
@@ -96,7 +95,6 @@ type formatter struct {
 	dirty int64  // bytes written since the last fsync
 	out   []byte // a batch's text; its capacity fits the longest batch
 	err   error  // first write or fsync error; later batches are dropped
-	memo  floatMemo
 }
 
 // run serves the Writer's messages until work is closed. An error is
@@ -142,7 +140,7 @@ func (fm *formatter) write(rows []float64) {
 			if j > 0 {
 				b = append(b, ',')
 			}
-			b = fm.memo.appendFloat(b, v)
+			b = appendFloat(b, v)
 		}
 		b = append(b, '\n')
 	}
@@ -227,42 +225,6 @@ func newWriter(path string, f *os.File, ncol int, off int64, rows int) *Writer {
 	fm := &formatter{path: path, f: f, ncol: ncol, off: off, out: make([]byte, 0, rows*ncol*(maxValueText+1))}
 	go fm.run(w)
 	return w
-}
-
-// memoBits is log2 of the number of formatted values a Writer remembers:
-// 4096 hold the values of the last few dozen steps of an ensemble, so a
-// walker whose proposal was rejected, which repeats its previous row, is
-// usually written from memory.
-const memoBits = 12
-
-// floatMemo remembers the text of recently formatted values, indexed by a
-// hash of their bits. An entry is only used for the same bits, so the
-// output is exactly strconv's.
-type floatMemo [1 << memoBits]struct {
-	bits uint64
-	n    uint8 // text length; 0 for an empty entry
-	text [24]byte
-}
-
-// appendFloat appends v formatted as strconv.AppendFloat(b, v, 'g', -1, 64)
-// does: the shortest text that reads back as v.
-func (m *floatMemo) appendFloat(b []byte, v float64) []byte {
-	// Integers below 1e6 in magnitude print as plain integers in 'g' format
-	// (shorter than their exponent form); -0 prints as "-0".
-	if v > -1e6 && v < 1e6 && v == float64(int64(v)) && (v != 0 || !math.Signbit(v)) {
-		return strconv.AppendInt(b, int64(v), 10)
-	}
-	bits := math.Float64bits(v)
-	e := &m[(bits*0x9e3779b97f4a7c15)>>(64-memoBits)]
-	if e.n > 0 && e.bits == bits {
-		return append(b, e.text[:e.n]...)
-	}
-	start := len(b)
-	b = strconv.AppendFloat(b, v, 'g', -1, 64)
-	if t := b[start:]; len(t) <= len(e.text) {
-		e.bits, e.n = bits, uint8(copy(e.text[:], t))
-	}
-	return b
 }
 
 // Resume reopens a chain file written by a Writer, checks that its header

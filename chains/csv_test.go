@@ -72,7 +72,7 @@ func TestWriterMatchesStrconv(t *testing.T) {
 	rows := ensembleStream(300)
 	for i, v := range edgeValues {
 		rows[37*i+5][2+i%4] = v
-		rows[37*i+6][2+i%4] = v // and again, from the memo
+		rows[37*i+6][2+i%4] = v // and again
 	}
 	for _, batch := range []int{1, 2, 3, 31, 32, 33, 1000, batchFloats / len(cols), 20000} {
 		p := filepath.Join(t.TempDir(), "c.csv")
@@ -119,9 +119,9 @@ func TestWriterMatchesStrconv(t *testing.T) {
 // Writer with small batches and compares the file with strconv's
 // formatting. Each value is a control byte and up to eight bytes: raw
 // float64 bits (any NaN, infinity, signed zero, subnormal or exponent), a
-// small integer, a repeat of the value above it (a rejected walker), or a
-// decimal fraction; the control byte also places Flush and StartFlush
-// calls.
+// small integer, a repeat of the value above it (a rejected walker), a
+// decimal fraction, or a short decimal times a power of ten; the control
+// byte also places Flush and StartFlush calls.
 func FuzzWriterMatchesStrconv(f *testing.F) {
 	raw := func(vs ...float64) []byte {
 		b := []byte{5, 2}
@@ -133,6 +133,7 @@ func FuzzWriterMatchesStrconv(f *testing.F) {
 	f.Add(raw(edgeValues...))
 	f.Add(raw(math.NaN(), math.Inf(-1), math.Copysign(0, -1), 5e-324, 1e300, -1e-300, 12, 0.5))
 	f.Add([]byte{3, 0, 1, 7, 0, 0, 0, 0, 0, 0, 0, 2, 0, 0, 0, 0, 0, 0, 0, 0x42, 3, 0, 0, 0, 0, 0, 0, 0, 0x83, 9, 0, 0, 0, 0, 0, 0, 0})
+	f.Add([]byte{2, 1, 7, 1, 0, 0, 0, 0xfb, 0, 0, 0, 7, 0x39, 0x30, 0, 0, 6, 0, 0, 0, 7, 0xff, 0xff, 0xff, 0xff, 0xec, 0, 0, 0, 0x47, 1, 0, 0, 0, 5, 0, 0, 0})
 	f.Fuzz(func(t *testing.T, data []byte) {
 		if len(data) < 2 {
 			return
@@ -168,6 +169,11 @@ func FuzzWriterMatchesStrconv(f *testing.F) {
 				}
 			case 3:
 				v = float64(int64(bits)) / 1e3
+				if ctl&4 != 0 {
+					// A short decimal times a power of ten: the switches
+					// between plain digits and the exponent form.
+					v = float64(int32(bits)) * math.Pow(10, float64(int8(bits>>32)%40))
+				}
 			}
 			row = append(row, v)
 			if len(row) < ncol {
@@ -235,7 +241,7 @@ func TestValueTextBound(t *testing.T) {
 	fm := &formatter{f: f, ncol: ncol, out: make([]byte, 0, rows*ncol*(maxValueText+1))}
 	batch := make([]float64, rows*ncol)
 	for i := range batch {
-		batch[i] = math.Nextafter(longest[i%3], 0) // distinct values: no memo hits
+		batch[i] = math.Nextafter(longest[i%3], 0) // texts near the longest
 	}
 	if n := testing.AllocsPerRun(20, func() { fm.write(batch) }); n != 0 || fm.err != nil {
 		t.Errorf("formatting a batch of the longest values allocates %v times (error %v)", n, fm.err)
@@ -425,7 +431,6 @@ type serialWriter struct {
 	f    *os.File
 	bw   *bufio.Writer
 	line []byte
-	memo floatMemo
 }
 
 func (s *serialWriter) append(row []float64) error {
@@ -434,7 +439,7 @@ func (s *serialWriter) append(row []float64) error {
 		if j > 0 {
 			b = append(b, ',')
 		}
-		b = s.memo.appendFloat(b, v)
+		b = appendFloat(b, v)
 	}
 	b = append(b, '\n')
 	s.line = b
