@@ -62,7 +62,8 @@ type MetastableTable struct {
 	// Set by prepare.
 	lnTwoPi, lnPlanckTime, lnAlpha, shift float64
 	invStep                               [3]float64
-	lfsTop, fsTop                         float64 // ln f_* and f_* for t_s >= t0
+	lfsTop, fsTop                         float64   // ln f_* and f_* for t_s >= t0
+	lfsNode                               []float64 // ln f_* at the t_s nodes
 	logTab                                logTable
 	// data holds the grid's values as float64 (set by widen): lnOmega
 	// adds 16 rows of it per call, with one conversion less per value.
@@ -226,6 +227,11 @@ func (t *MetastableTable) prepare() {
 	lnA, _ := t.bg.LnAHT(t.lnTHi)
 	t.lfsTop = math.Ln2 + lnA - t.lnTHi - t.lnAlpha
 	t.fsTop = math.Exp(t.lfsTop)
+	ay := t.g.axes[1]
+	t.lfsNode = make([]float64, ay.N)
+	for j := range t.lfsNode {
+		t.lfsNode[j] = t.lnCutoff((ay.Lo + float64(j)*ay.Step) * math.Ln10)
+	}
 	t.logTab.init()
 }
 
@@ -263,16 +269,16 @@ type metaFreqs struct {
 	// perm[k] is the index in the caller's order of the k-th lowest
 	// frequency, nil when the caller's frequencies ascend.
 	perm []int
-	row  []float64 // the combined row, one entry per v node
-	coef []float64 // the cubic of each stencil of the row, 4 per node
-	tmp  []float64 // results in ascending order, when perm is not nil
+	row  []float64         // the combined row, one entry per v node
+	cf   *[metaSlots]cubic // the cubic of each stencil of the row
+	tmp  []float64         // results in ascending order, when perm is not nil
 }
 
 // newFreqs prepares the frequencies f (Hz, positive and finite, in any
 // order).
 func (t *MetastableTable) newFreqs(f []float64) *metaFreqs {
 	m := int(t.g.axes[2].N)
-	fr := &metaFreqs{row: make([]float64, m), coef: make([]float64, 4*m)}
+	fr := &metaFreqs{row: make([]float64, m), cf: new([metaSlots]cubic)}
 	if !slices.IsSorted(f) {
 		fr.perm = make([]int, len(f))
 		for i := range fr.perm {
@@ -327,89 +333,96 @@ func (t *MetastableTable) lnOmega(lg, sk float64, fr *metaFreqs, out []float64) 
 	lfs, fs := t.lfsTop, t.fsTop
 	if top {
 		lts = t.lnTHi
-	} else {
-		lnA, _ := t.bg.LnAHT(lts)
-		lfs = math.Ln2 + lnA - lts - t.lnAlpha
-		fs = math.Exp(lfs)
-	}
-	k0 := 0 // the first frequency above f_*
-	for k0 < n && !(lnf[k0] > lfs) {
-		k0++
-	}
-	if k0 == n {
-		fillNegInf(out[:n])
-		return nil
 	}
 	y := lts / math.Ln10
-	if y < metaYLo {
+	if y < metaYLo || n == 0 {
+		if !top {
+			lnA, _ := t.bg.LnAHT(lts)
+			lfs = math.Ln2 + lnA - lts - t.lnAlpha
+		}
+		// lnf ascends: every frequency is at or below f_* exactly when
+		// the last one is.
+		if n == 0 || !(lnf[n-1] > lfs) {
+			fillNegInf(out[:n])
+			return nil
+		}
 		return ErrOutsideMetastableTable
 	}
 	ax := t.g.axes[:3]
 	nY, m := int(ax[1].N), int(ax[2].N)
-	// The stencil in v of a frequency is that of Lagrange4Weights, at
-	// x = (v - v0)/step = xs[k] - c; v > 0 makes x > -1/2, where int(x) - 1
-	// clamps to the same node as floor(x) - 1. The stencils of all
-	// frequencies lie in [jLo, jHi), since the stencil does not move down
-	// as x grows.
-	xs := fr.xs[:n]
-	c, last := (lfs+ax[2].Lo)*t.invStep[2], m-4
-	jLo := min(max(int(xs[k0]-c)-1, 0), last)
-	jHi := min(max(int(xs[n-1]-c)-1, 0), last) + 4
 	// Both coordinates are above their axes' first nodes (lg >= -14,
 	// y >= metaYLo), so int truncates like floor.
 	ig, wg := lagrangeWeights((lg-ax[0].Lo)*t.invStep[0], int(ax[0].N))
 	iy, wy := lagrangeWeights((y-ax[1].Lo)*t.invStep[1], nY)
-	row := fr.row[jLo:jHi]
-	if top {
-		// At the last t_s node the weights are exactly 0, 0, 0, 1.
-		addRows4(row, t.data[((ig*nY+iy+3)*m+jLo):], nY*m, wg)
-	} else {
-		base := (ig*nY+iy)*m + jLo
-		addRows8(row, t.data[base:], m, nY*m, wg[0], wg[1], wy, true)
-		addRows8(row, t.data[base+2*nY*m:], m, nY*m, wg[2], wg[3], wy, false)
+	// The stencil in v of a frequency is that of Lagrange4Weights, at
+	// x = (v - v0)/step = xs[k] - c; v > 0 makes x > -1/2, where int(x) - 1
+	// clamps to the same node as floor(x) - 1. The stencils of all
+	// frequencies above f_* lie in [jLo, jHi), since the stencil does not
+	// move down as x grows.
+	xs := fr.xs[:n]
+	last := m - 4
+	// The rows are combined over the range that ln f_* interpolated
+	// between its values at the t_s nodes gives, which needs neither
+	// LnAHT nor math.Exp, so that their latency overlaps with the
+	// combination; the range for the exact ln f_* is checked after and
+	// the missing nodes, if any, added (each node's value is the same
+	// whatever the range).
+	lfsEst := lfs
+	if !top {
+		ln := t.lfsNode[iy : iy+4 : iy+4]
+		lfsEst = (wy[0]*ln[0] + wy[1]*ln[1]) + (wy[2]*ln[2] + wy[3]*ln[3])
 	}
-	// The cubic through the 4 nodes of each stencil, in powers of
-	// t = x - (first node + 1): what 4-point Lagrange interpolation
-	// evaluates, with the per-node work done once per stencil rather than
-	// once per frequency.
-	cubics(fr.coef[4*jLo:4*(jHi-3)], row)
+	cEst := (lfsEst + ax[2].Lo) * t.invStep[2]
+	jLoE := min(max(int(xs[0]-cEst)-1, 0), last)
+	jHiE := min(max(int(xs[n-1]-cEst)-1, 0), last) + 4
+	if !top {
+		lnA, _ := t.bg.LnAHT(lts)
+		lfs = math.Ln2 + lnA - lts - t.lnAlpha
+	}
+	if !(lnf[n-1] > lfs) {
+		fillNegInf(out[:n])
+		return nil
+	}
+	t.combine(fr.row, ig, iy, wg, wy, top, jLoE, jHiE)
+	if !top {
+		fs = math.Exp(lfs)
+	}
+	k0 := 0 // the first frequency above f_*
+	for !(lnf[k0] > lfs) {
+		k0++
+	}
+	c := (lfs + ax[2].Lo) * t.invStep[2]
+	jLo := min(max(int(xs[k0]-c)-1, 0), last)
+	jHi := min(max(int(xs[n-1]-c)-1, 0), last) + 4
+	if jLo < jLoE {
+		t.combine(fr.row, ig, iy, wg, wy, top, jLo, jLoE)
+	}
+	if jHi > jHiE {
+		t.combine(fr.row, ig, iy, wg, wy, top, jHiE, jHi)
+	}
+	cf := fr.cf
+	cubics(cf, fr.row, jLo, jHi)
 	fillNegInf(dst[:k0])
 	// The edge term ln(1 - f_*/f): the table for the frequencies where
 	// f_*/f >= 2^-10, the first ones above f_*, then the series.
 	k1 := k0 + t.logTab.log1mxRun(dst[k0:], invF[k0:], fs)
-	coef, shift := fr.coef, t.shift
-	for k := k0; k < k1; k++ {
-		dst[k] += cubicAt(coef, xs[k]-c, last) + shift
-	}
-	// The series: to x^5 while x >= 2^-18, to x^2 while x >= 2^-27, then
-	// -x alone.
-	k2, k3 := k1, k1
-	for k2 < n && fs*invF[k2] >= log1mxShort {
-		k2++
-	}
-	for k3 = k2; k3 < n && fs*invF[k3] >= log1mxTiny; k3++ {
-	}
-	if k1 < n && int(xs[k1]-c) >= 1 && int(xs[n-1]-c)-1 <= last {
+	shift := t.shift
+	addCubicsClamped(dst[k0:k1], xs[k0:k1], cf, c, shift, last)
+	if k1 < n && int(xs[k1]-c) >= 1 && int(xs[n-1]-c) <= last+1 {
 		// No stencil from k1 on clamps (they do not move down as x
 		// grows): the common case, since f > 1024 f_* puts x above 34.
-		for k := k1; k < k2; k++ {
-			x := xs[k] - c
-			iv := int(x) - 1
-			dst[k] = cubicFrom(coef, iv, x-float64(iv+1)) + log1mxSeries5(fs*invF[k]) + shift
+		// The series: to x^5 while x >= 2^-18, to x^2 below.
+		k2 := k1
+		for k2 < n && fs*invF[k2] >= log1mxShort {
+			k2++
 		}
-		for k := k2; k < k3; k++ {
-			x := xs[k] - c
-			iv := int(x) - 1
-			dst[k] = cubicFrom(coef, iv, x-float64(iv+1)) + log1mxSeries2(fs*invF[k]) + shift
-		}
-		for k := k3; k < n; k++ {
-			x := xs[k] - c
-			iv := int(x) - 1
-			dst[k] = cubicFrom(coef, iv, x-float64(iv+1)) + shift - fs*invF[k]
-		}
+		cubicsSeries5(dst[k1:k2], xs[k1:k2], invF[k1:k2], cf, c, fs, shift)
+		cubicsSeries2(dst[k2:], xs[k2:], invF[k2:], cf, c, fs, shift)
 	} else {
 		for k := k1; k < n; k++ {
-			dst[k] = cubicAt(coef, xs[k]-c, last) + log1mxSeries(fs*invF[k]) + shift
+			x := xs[k] - c
+			s := min(max(int(x)-1, 0), last) + 1
+			dst[k] = cf[s&(metaSlots-1)].at(x-float64(s)) + log1mxSeries(fs*invF[k]) + shift
 		}
 	}
 	if fr.perm != nil {
@@ -420,37 +433,87 @@ func (t *MetastableTable) lnOmega(lg, sk float64, fr *metaFreqs, out []float64) 
 	return nil
 }
 
-// cubics writes, for each run of 4 consecutive values r0..r3 of row, the
-// coefficients (r1, c1, c2, c3) of the cubic p(t) = r1 + c1 t + c2 t^2 +
-// c3 t^3 with p(-1) = r0, p(0) = r1, p(1) = r2, p(2) = r3 (solved from the
-// sum and difference of p(1) and p(-1) and from p(2)) into coef, 4 per run.
-func cubics(coef, row []float64) {
-	if len(row) < 4 {
+// combine sets row[jLo:jHi] to the stencil's 16 (Gmu, t_s) rows with the
+// weights wg[a] wy[b] (4 rows with weights wg[a] when t_s is at or after
+// today, where the t_s weights are 0, 0, 0, 1).
+func (t *MetastableTable) combine(row []float64, ig, iy int, wg, wy [4]float64, top bool, jLo, jHi int) {
+	nY, m := int(t.g.axes[1].N), int(t.g.axes[2].N)
+	r := row[jLo:jHi]
+	if top {
+		addRows4(r, t.data[((ig*nY+iy+3)*m+jLo):], nY*m, wg)
 		return
 	}
-	coef = coef[:4*(len(row)-3)]
-	r0, r1, r2 := row[0], row[1], row[2]
-	for j, r3 := range row[3:] {
+	base := (ig*nY+iy)*m + jLo
+	addRows8(r, t.data[base:], m, nY*m, wg[0], wg[1], wy, true)
+	addRows8(r, t.data[base+2*nY*m:], m, nY*m, wg[2], wg[3], wy, false)
+}
+
+// metaSlots is the size of a metaFreqs' table of cubics: a power of two
+// above the number of v nodes, so that masking a slot with metaSlots - 1
+// (a no-op for the slots lnOmega computes) lets the compiler drop the
+// bounds check.
+const metaSlots = 256
+
+// A cubic holds (p(0), c1, c2, c3) of p(u) = p(0) + c1 u + c2 u^2 + c3 u^3.
+type cubic [4]float64
+
+// at evaluates the cubic (Estrin's order: a shorter chain).
+func (q *cubic) at(u float64) float64 {
+	return (q[0] + u*q[1]) + (u*u)*(q[2]+u*q[3])
+}
+
+// cubics writes, for each run of 4 consecutive values r0..r3 of
+// row[jLo:jHi], starting at node j, the cubic p with p(-1) = r0,
+// p(0) = r1, p(1) = r2, p(2) = r3 (solved from the sum and difference of
+// p(1) and p(-1) and from p(2)) into cf[j + 1]: the cubic that 4-point
+// Lagrange interpolation evaluates at u = x - (j + 1) for the stencil
+// starting at node j.
+func cubics(cf *[metaSlots]cubic, row []float64, jLo, jHi int) {
+	if jHi-jLo < 4 {
+		return
+	}
+	r := row[jLo:jHi]
+	r0, r1, r2 := r[0], r[1], r[2]
+	for j, r3 := range r[3:] {
 		c2 := 0.5*(r0+r2) - r1
 		c3 := (r3-r0)*(1.0/6) + 0.5*(r1-r2)
-		q := coef[4*j : 4*j+4 : 4*j+4]
-		q[0], q[1], q[2], q[3] = r1, (r2-r1)-c2-c3, c2, c3
+		cf[(jLo+j+1)&(metaSlots-1)] = cubic{r1, (r2 - r1) - c2 - c3, c2, c3}
 		r0, r1, r2 = r1, r2, r3
 	}
 }
 
-// cubicAt evaluates the cubic of the stencil of x (see cubics), the
-// stencil starting at node min(max(floor(x) - 1, 0), last).
-func cubicAt(coef []float64, x float64, last int) float64 {
-	iv := min(max(int(x)-1, 0), last)
-	return cubicFrom(coef, iv, x-float64(iv+1))
+// addCubicsClamped adds to dst[k] the cubic at x = xs[k] - c, its stencil
+// starting at node min(max(floor(x) - 1, 0), last) (x > -1/2, where int
+// truncates to the same node), plus shift.
+func addCubicsClamped(dst, xs []float64, cf *[metaSlots]cubic, c, shift float64, last int) {
+	dst = dst[:len(xs)]
+	for k, x := range xs {
+		x -= c
+		s := min(max(int(x)-1, 0), last) + 1
+		dst[k] += cf[s&(metaSlots-1)].at(x-float64(s)) + shift
+	}
 }
 
-// cubicFrom evaluates the cubic of the stencil starting at node iv at
-// t = u.
-func cubicFrom(coef []float64, iv int, u float64) float64 {
-	q := coef[4*iv : 4*iv+4 : 4*iv+4]
-	return (q[0] + u*q[1]) + (u*u)*(q[2]+u*q[3]) // Estrin: a shorter chain
+// cubicsSeries5 and cubicsSeries2 write into dst[k] the cubic at
+// x = xs[k] - c (x >= 1, the stencil starting at node floor(x) - 1, not
+// clamped) plus the edge term by log1mxSeries5 or log1mxSeries2 at
+// fs invF[k], plus shift.
+func cubicsSeries5(dst, xs, invF []float64, cf *[metaSlots]cubic, c, fs, shift float64) {
+	dst, invF = dst[:len(xs)], invF[:len(xs)]
+	for k, x := range xs {
+		x -= c
+		s := int(x)
+		dst[k] = cf[s&(metaSlots-1)].at(x-float64(s)) + log1mxSeries5(fs*invF[k]) + shift
+	}
+}
+
+func cubicsSeries2(dst, xs, invF []float64, cf *[metaSlots]cubic, c, fs, shift float64) {
+	dst, invF = dst[:len(xs)], invF[:len(xs)]
+	for k, x := range xs {
+		x -= c
+		s := int(x)
+		dst[k] = cf[s&(metaSlots-1)].at(x-float64(s)) + log1mxSeries2(fs*invF[k]) + shift
+	}
 }
 
 // lagrangeWeights is numeric.Lagrange4Weights for s >= 0, with the
