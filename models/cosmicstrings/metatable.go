@@ -62,9 +62,11 @@ type MetastableTable struct {
 	// Set by prepare.
 	lnTwoPi, lnPlanckTime, lnAlpha, shift float64
 	invStep                               [3]float64
-	lfsTop, fsTop                         float64   // ln f_* and f_* for t_s >= t0
-	lfsNode                               []float64 // ln f_* at the t_s nodes
+	lfsTop, fsTop                         float64 // ln f_* and f_* for t_s >= t0
+	lnAT0, lnAStep                        float64 // the background's ln a(ln t) nodes
+	lnANodes                              []lnANode
 	logTab                                logTable
+	expTab                                expTable
 	// data holds the grid's values as float64 (set by widen): lnOmega
 	// adds 16 rows of it per call, with one conversion less per value.
 	data []float64
@@ -227,12 +229,39 @@ func (t *MetastableTable) prepare() {
 	lnA, _ := t.bg.LnAHT(t.lnTHi)
 	t.lfsTop = math.Ln2 + lnA - t.lnTHi - t.lnAlpha
 	t.fsTop = math.Exp(t.lfsTop)
-	ay := t.g.axes[1]
-	t.lfsNode = make([]float64, ay.N)
-	for j := range t.lfsNode {
-		t.lfsNode[j] = t.lnCutoff((ay.Lo + float64(j)*ay.Step) * math.Ln10)
+	var nodeLnA, nodeHT []float64
+	t.lnAT0, t.lnAStep, nodeLnA, nodeHT = t.bg.LnATable()
+	t.lnANodes = make([]lnANode, len(nodeLnA))
+	for i := range nodeLnA {
+		t.lnANodes[i] = lnANode{nodeLnA[i], t.lnAStep * nodeHT[i]}
 	}
 	t.logTab.init()
+	t.expTab.init()
+}
+
+// A lnANode is ln a at a node of the background's ln t grid and its
+// derivative in ln t times the step (the Hermite data of LnAHT).
+type lnANode struct{ p, m float64 }
+
+// lnA is the background's LnAHT for ln a alone, inlined: the same
+// operations on the same nodes (so the same value, tested), without the
+// call, the derivative it also returns and its division.
+func (t *MetastableTable) lnA(lnt float64) float64 {
+	s := (lnt - t.lnAT0) / t.lnAStep
+	nodes := t.lnANodes
+	i := int(s)
+	if s < 0 {
+		i = 0
+	}
+	if i > len(nodes)-2 {
+		i = len(nodes) - 2
+	}
+	u := s - float64(i)
+	u = max(0, min(1, u))
+	a, b := nodes[i], nodes[i+1]
+	u2 := u * u
+	u3 := u2 * u
+	return (2*u3-3*u2+1)*a.p + (u3-2*u2+u)*a.m + (-2*u3+3*u2)*b.p + (u3-u2)*b.m
 }
 
 // widen copies the grid's values into t.data; it is called once the grid
@@ -306,11 +335,11 @@ func (t *MetastableTable) newFreqs(f []float64) *metaFreqs {
 // stencil's 16 (Gmu, t_s) rows into one row over the v nodes the
 // frequencies need (4 rows when t_s is at or after today, where the t_s
 // weights are 0, 0, 0, 1), and the cubic of each 4-node stencil of that
-// row. What is left per frequency is the evaluation of its stencil's
-// cubic and the edge term ln(1 - f_*/f); the frequencies ascend, so those
-// below f_* come first, then those where the edge term takes the table,
-// then those where it takes ever shorter series, each run in a loop of
-// its own.
+// row, with the -Kappa ln P shift added. What is left per frequency is
+// the evaluation of its stencil's cubic and the edge term
+// ln(1 - f_*/f); the frequencies ascend, so those below f_* come first,
+// then those where the edge term takes the table, then those where it
+// takes the series to x^5, then to x^2, each run in a loop of its own.
 func (t *MetastableTable) lnOmega(lg, sk float64, fr *metaFreqs, out []float64) error {
 	if !(lg >= tableGLo && lg <= tableGHi && sk >= 0 && sk < math.Inf(1)) {
 		return ErrOutsideMetastableTable
@@ -330,23 +359,38 @@ func (t *MetastableTable) lnOmega(lg, sk float64, fr *metaFreqs, out []float64) 
 	}
 	// lnCutoff, with ln alpha taken once and its value at today kept.
 	top := lts >= t.lnTHi
-	lfs, fs := t.lfsTop, t.fsTop
+	lfs := t.lfsTop
 	if top {
 		lts = t.lnTHi
+	} else {
+		lfs = math.Ln2 + t.lnA(lts) - lts - t.lnAlpha
+	}
+	// lnf ascends: every frequency is at or below f_* exactly when the
+	// last one is.
+	if n == 0 || !(lnf[n-1] > lfs) {
+		fillNegInf(out[:n])
+		return nil
 	}
 	y := lts / math.Ln10
-	if y < metaYLo || n == 0 {
-		if !top {
-			lnA, _ := t.bg.LnAHT(lts)
-			lfs = math.Ln2 + lnA - lts - t.lnAlpha
-		}
-		// lnf ascends: every frequency is at or below f_* exactly when
-		// the last one is.
-		if n == 0 || !(lnf[n-1] > lfs) {
-			fillNegInf(out[:n])
-			return nil
-		}
+	if y < metaYLo {
 		return ErrOutsideMetastableTable
+	}
+	k0 := 0 // the first frequency above f_*
+	for !(lnf[k0] > lfs) {
+		k0++
+	}
+	// f_*: math.Exp when the first frequency above it is within a factor
+	// 2 of it, where the edge term ln(1 - f_*/f) amplifies the relative
+	// error of f_* by f_*/(f - f_*), else expTab's reduction (within
+	// 2 ulp of math.Exp, tested), whose error the edge term then scales
+	// by less than 1.
+	fs := t.fsTop
+	if !top {
+		if lnf[k0]-lfs >= math.Ln2 {
+			fs = t.expTab.exp(lfs)
+		} else {
+			fs = math.Exp(lfs)
+		}
 	}
 	ax := t.g.axes[:3]
 	nY, m := int(ax[1].N), int(ax[2].N)
@@ -361,53 +405,17 @@ func (t *MetastableTable) lnOmega(lg, sk float64, fr *metaFreqs, out []float64) 
 	// move down as x grows.
 	xs := fr.xs[:n]
 	last := m - 4
-	// The rows are combined over the range that ln f_* interpolated
-	// between its values at the t_s nodes gives, which needs neither
-	// LnAHT nor math.Exp, so that their latency overlaps with the
-	// combination; the range for the exact ln f_* is checked after and
-	// the missing nodes, if any, added (each node's value is the same
-	// whatever the range).
-	lfsEst := lfs
-	if !top {
-		ln := t.lfsNode[iy : iy+4 : iy+4]
-		lfsEst = (wy[0]*ln[0] + wy[1]*ln[1]) + (wy[2]*ln[2] + wy[3]*ln[3])
-	}
-	cEst := (lfsEst + ax[2].Lo) * t.invStep[2]
-	jLoE := min(max(int(xs[0]-cEst)-1, 0), last)
-	jHiE := min(max(int(xs[n-1]-cEst)-1, 0), last) + 4
-	if !top {
-		lnA, _ := t.bg.LnAHT(lts)
-		lfs = math.Ln2 + lnA - lts - t.lnAlpha
-	}
-	if !(lnf[n-1] > lfs) {
-		fillNegInf(out[:n])
-		return nil
-	}
-	t.combine(fr.row, ig, iy, wg, wy, top, jLoE, jHiE)
-	if !top {
-		fs = math.Exp(lfs)
-	}
-	k0 := 0 // the first frequency above f_*
-	for !(lnf[k0] > lfs) {
-		k0++
-	}
 	c := (lfs + ax[2].Lo) * t.invStep[2]
 	jLo := min(max(int(xs[k0]-c)-1, 0), last)
 	jHi := min(max(int(xs[n-1]-c)-1, 0), last) + 4
-	if jLo < jLoE {
-		t.combine(fr.row, ig, iy, wg, wy, top, jLo, jLoE)
-	}
-	if jHi > jHiE {
-		t.combine(fr.row, ig, iy, wg, wy, top, jHiE, jHi)
-	}
+	t.combine(fr.row, ig, iy, wg, wy, top, jLo, jHi)
 	cf := fr.cf
-	cubics(cf, fr.row, jLo, jHi)
+	cubics(cf, fr.row, jLo, jHi, t.shift)
 	fillNegInf(dst[:k0])
 	// The edge term ln(1 - f_*/f): the table for the frequencies where
 	// f_*/f >= 2^-10, the first ones above f_*, then the series.
 	k1 := k0 + t.logTab.log1mxRun(dst[k0:], invF[k0:], fs)
-	shift := t.shift
-	addCubicsClamped(dst[k0:k1], xs[k0:k1], cf, c, shift, last)
+	addCubicsClamped(dst[k0:k1], xs[k0:k1], cf, c, last)
 	if k1 < n && int(xs[k1]-c) >= 1 && int(xs[n-1]-c) <= last+1 {
 		// No stencil from k1 on clamps (they do not move down as x
 		// grows): the common case, since f > 1024 f_* puts x above 34.
@@ -416,13 +424,18 @@ func (t *MetastableTable) lnOmega(lg, sk float64, fr *metaFreqs, out []float64) 
 		for k2 < n && fs*invF[k2] >= log1mxShort {
 			k2++
 		}
-		cubicsSeries5(dst[k1:k2], xs[k1:k2], invF[k1:k2], cf, c, fs, shift)
-		cubicsSeries2(dst[k2:], xs[k2:], invF[k2:], cf, c, fs, shift)
+		if k2 > k1 {
+			f2 := fs * fs
+			f4 := f2 * f2
+			cubicsSeries5(dst[k1:k2], xs[k1:k2], invF[k1:k2], cf, c, &[5]float64{-fs, f2 * (-1.0 / 2), (f2 * fs) * (-1.0 / 3), f4 * (-1.0 / 4), (f4 * fs) * (-1.0 / 5)})
+		}
+		cubicsSeries2(dst[k2:], xs[k2:], invF[k2:], cf, c, -fs, (fs*fs)*(-1.0/2))
 	} else {
+		tab := cf[:]
 		for k := k1; k < n; k++ {
 			x := xs[k] - c
 			s := min(max(int(x)-1, 0), last) + 1
-			dst[k] = cf[s&(metaSlots-1)].at(x-float64(s)) + log1mxSeries(fs*invF[k]) + shift
+			dst[k] = tab[s&(metaSlots-1)].at(x-float64(s)) + log1mxSeries(fs*invF[k])
 		}
 	}
 	if fr.perm != nil {
@@ -463,56 +476,66 @@ func (q *cubic) at(u float64) float64 {
 }
 
 // cubics writes, for each run of 4 consecutive values r0..r3 of
-// row[jLo:jHi], starting at node j, the cubic p with p(-1) = r0,
-// p(0) = r1, p(1) = r2, p(2) = r3 (solved from the sum and difference of
-// p(1) and p(-1) and from p(2)) into cf[j + 1]: the cubic that 4-point
-// Lagrange interpolation evaluates at u = x - (j + 1) for the stencil
-// starting at node j.
-func cubics(cf *[metaSlots]cubic, row []float64, jLo, jHi int) {
+// row[jLo:jHi], starting at node j, the cubic p with p(-1) = r0 + shift,
+// p(0) = r1 + shift, p(1) = r2 + shift, p(2) = r3 + shift (solved from the
+// sum and difference of p(1) and p(-1) and from p(2)) into cf[j + 1]: the
+// cubic that 4-point Lagrange interpolation evaluates at u = x - (j + 1)
+// for the stencil starting at node j, with the -Kappa ln P shift added.
+func cubics(cf *[metaSlots]cubic, row []float64, jLo, jHi int, shift float64) {
 	if jHi-jLo < 4 {
 		return
 	}
+	tab := cf[:]
 	r := row[jLo:jHi]
 	r0, r1, r2 := r[0], r[1], r[2]
 	for j, r3 := range r[3:] {
 		c2 := 0.5*(r0+r2) - r1
 		c3 := (r3-r0)*(1.0/6) + 0.5*(r1-r2)
-		cf[(jLo+j+1)&(metaSlots-1)] = cubic{r1, (r2 - r1) - c2 - c3, c2, c3}
+		tab[(jLo+j+1)&(metaSlots-1)] = cubic{r1 + shift, (r2 - r1) - c2 - c3, c2, c3}
 		r0, r1, r2 = r1, r2, r3
 	}
 }
 
 // addCubicsClamped adds to dst[k] the cubic at x = xs[k] - c, its stencil
 // starting at node min(max(floor(x) - 1, 0), last) (x > -1/2, where int
-// truncates to the same node), plus shift.
-func addCubicsClamped(dst, xs []float64, cf *[metaSlots]cubic, c, shift float64, last int) {
+// truncates to the same node).
+func addCubicsClamped(dst, xs []float64, cf *[metaSlots]cubic, c float64, last int) {
+	tab := cf[:]
 	dst = dst[:len(xs)]
 	for k, x := range xs {
 		x -= c
 		s := min(max(int(x)-1, 0), last) + 1
-		dst[k] += cf[s&(metaSlots-1)].at(x-float64(s)) + shift
+		dst[k] += tab[s&(metaSlots-1)].at(x - float64(s))
 	}
 }
 
-// cubicsSeries5 and cubicsSeries2 write into dst[k] the cubic at
-// x = xs[k] - c (x >= 1, the stencil starting at node floor(x) - 1, not
-// clamped) plus the edge term by log1mxSeries5 or log1mxSeries2 at
-// fs invF[k], plus shift.
-func cubicsSeries5(dst, xs, invF []float64, cf *[metaSlots]cubic, c, fs, shift float64) {
+// cubicsSeries5 writes into dst[k] the cubic at x = xs[k] - c (x >= 1,
+// the stencil starting at node floor(x) - 1, not clamped) plus the edge
+// term ln(1 - f_*/f) by log1mxSeries5 written as a polynomial in
+// invF[k] = 1/f: with a[i] = -f_*^i/i, sum_i a[i] invF^i = -sum_i x^i/i
+// at x = f_* invF (one multiplication less per frequency than forming x).
+func cubicsSeries5(dst, xs, invF []float64, cf *[metaSlots]cubic, c float64, a *[5]float64) {
+	tab := cf[:]
+	dst, invF = dst[:len(xs)], invF[:len(xs)]
+	a1, a2, a3, a4, a5 := a[0], a[1], a[2], a[3], a[4]
+	for k, x := range xs {
+		x -= c
+		s := int(x)
+		y := invF[k]
+		dst[k] = tab[s&(metaSlots-1)].at(x-float64(s)) + y*(a1+y*(a2+y*(a3+y*(a4+y*a5))))
+	}
+}
+
+// cubicsSeries2 is cubicsSeries5 with the series to x^2 (log1mxSeries2,
+// a1 = -f_*, a2 = -f_*^2/2).
+func cubicsSeries2(dst, xs, invF []float64, cf *[metaSlots]cubic, c, a1, a2 float64) {
+	tab := cf[:]
 	dst, invF = dst[:len(xs)], invF[:len(xs)]
 	for k, x := range xs {
 		x -= c
 		s := int(x)
-		dst[k] = cf[s&(metaSlots-1)].at(x-float64(s)) + log1mxSeries5(fs*invF[k]) + shift
-	}
-}
-
-func cubicsSeries2(dst, xs, invF []float64, cf *[metaSlots]cubic, c, fs, shift float64) {
-	dst, invF = dst[:len(xs)], invF[:len(xs)]
-	for k, x := range xs {
-		x -= c
-		s := int(x)
-		dst[k] = cf[s&(metaSlots-1)].at(x-float64(s)) + log1mxSeries2(fs*invF[k]) + shift
+		y := invF[k]
+		dst[k] = tab[s&(metaSlots-1)].at(x-float64(s)) + y*(a1+y*a2)
 	}
 }
 
@@ -687,4 +710,44 @@ func LoadMetastableTable(s MetastableSettings, cacheDir string, opt BuildOptions
 		func(name string, b []byte) (*MetastableTable, error) { return decodeMetaTable(name, b, s) },
 		func() (*MetastableTable, error) { return BuildMetastableTable(s, opt) },
 		(*MetastableTable).MarshalBinary)
+}
+
+// expTab's table: 2^(j/expTabN), j = 0..expTabN-1.
+const (
+	expTabBits = 6
+	expTabN    = 1 << expTabBits
+	// expShifter rounds to the nearest integer when added (ties to even):
+	// 1.5 2^52, whose unit in the last place is 1.
+	expShifter = 0x1.8p52
+)
+
+// An expTable holds the nodes of exp.
+type expTable [expTabN]float64
+
+func (tab *expTable) init() {
+	for j := range tab {
+		tab[j] = math.Exp2(float64(j) / expTabN)
+	}
+}
+
+// exp is e^z for |z| <= 700 (math.Exp beyond) by the table-driven
+// reduction of Tang 1989 (ACM TOMS 15, 144, from memory): with
+// k = round(z expTabN/ln 2) and r = z - k ln2/expTabN, |r| <= ln2/128,
+// e^z = 2^(k >> 6) 2^((k & 63)/64) e^r, e^r - 1 by its Taylor series to r^6
+// (remainder below |r|^7/5040 < 1e-19). ln 2/64 is split as ln2Hi/64 +
+// ln2Lo/64 (ln2Hi has 32 significant bits, so k ln2Hi/64 is exact for
+// |k| < 2^21). The result is within 2 ulp of math.Exp (tested); there is
+// no division and the chain is shorter than math.Exp's.
+func (tab *expTable) exp(z float64) float64 {
+	if !(z >= -700 && z <= 700) {
+		return math.Exp(z)
+	}
+	kt := z*(expTabN/math.Ln2) + expShifter
+	k := int64(math.Float64bits(kt)) - int64(math.Float64bits(expShifter))
+	kf := kt - expShifter
+	r := (z - kf*(ln2Hi/expTabN)) - kf*(ln2Lo/expTabN)
+	r2 := r * r
+	p := r + r2*((1.0/2+r*(1.0/6))+r2*((1.0/24+r*(1.0/120))+r2*(1.0/720)))
+	sc := math.Float64frombits(math.Float64bits(tab[k&(expTabN-1)]) + uint64(k>>expTabBits)<<52)
+	return sc + sc*p
 }
