@@ -340,3 +340,58 @@ func TestMetastableCertificateReproduced(t *testing.T) {
 		t.Errorf("certificate changed: recorded %+v, now %+v", rec, got)
 	}
 }
+
+// TestMetaExp checks expTable.exp against the standard library's math.Exp
+// (documented within 1 ulp) from z = -700 to 700, where exp takes the
+// table, and at the points where k = round(64 z/ln 2) changes (r near
+// +-ln2/128): within 2 ulp (relative 2^-51). Beyond, exp is math.Exp.
+func TestMetaExp(t *testing.T) {
+	tab := loadMeta(t)
+	rng := rand.New(rand.NewPCG(14, 0))
+	zs := []float64{0, -0.0, 1, -1, 700, -700, 1e-300, -1e-300, math.Ln2 / 128, -math.Ln2 / 128}
+	for range 200000 {
+		zs = append(zs, -700+1400*rng.Float64(), -60+50*rng.Float64())
+	}
+	for k := -64 * 40; k <= 64*40; k += 7 {
+		mid := (float64(k) + 0.5) * math.Ln2 / 64
+		zs = append(zs, mid, math.Nextafter(mid, 0), math.Nextafter(mid, math.Inf(1)))
+	}
+	var worst float64
+	for _, z := range zs {
+		got, want := tab.expTab.exp(z), math.Exp(z)
+		rel := math.Abs(got-want) / want
+		worst = math.Max(worst, rel)
+		if !(rel <= 0x1p-51) {
+			t.Errorf("exp(%.17g) = %.17g, math.Exp = %.17g (rel %.3g)", z, got, want, rel)
+		}
+	}
+	t.Logf("worst relative difference from math.Exp %.3g over %d points", worst, len(zs))
+	for _, z := range []float64{-800, 800, math.Inf(-1), math.Inf(1)} {
+		if got, want := tab.expTab.exp(z), math.Exp(z); got != want {
+			t.Errorf("exp(%g) = %g, math.Exp = %g", z, got, want)
+		}
+	}
+	if got := tab.expTab.exp(math.NaN()); !math.IsNaN(got) {
+		t.Errorf("exp(NaN) = %g", got)
+	}
+}
+
+// TestMetaLnAMatchesBackground: the inlined interpolation of ln a gives
+// exactly the background's LnAHT (cosmology package, the same Hermite
+// operations on the same nodes) over the whole ln t range and at its
+// nodes.
+func TestMetaLnAMatchesBackground(t *testing.T) {
+	tab := loadMeta(t)
+	rng := rand.New(rand.NewPCG(15, 0))
+	lo, hi := tab.bg.LnTimeRange()
+	lts := []float64{lo, hi, lo - 1, hi + 1}
+	for i := range 2000 {
+		lts = append(lts, lo+(hi-lo)*rng.Float64(), tab.lnAT0+float64(i)*tab.lnAStep)
+	}
+	for _, l := range lts {
+		want, _ := tab.bg.LnAHT(l)
+		if got := tab.lnA(l); got != want {
+			t.Errorf("ln t = %.17g: lnA %.17g, LnAHT %.17g", l, got, want)
+		}
+	}
+}
