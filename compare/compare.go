@@ -244,13 +244,95 @@ func Run(ctx context.Context, p Problem, s Settings) (*rundir.Comparison, error)
 	if err != nil {
 		return nil, err
 	}
-	if err := runUnits(ctx, p, s, mine); err != nil {
+	// In one process a model's ladder is integrated as soon as all its
+	// rung blocks are done, while other models still sample; Merge then
+	// takes those rows instead of integrating again (the same function on
+	// the same files, so the same rows).
+	var early *earlyRows
+	if s.Task < 0 {
+		early = newEarlyRows(s.Out, mine)
+	}
+	err = runUnits(ctx, p, s, mine, early.unitDone)
+	rows := early.wait()
+	if err != nil {
 		return nil, err
 	}
 	if s.Task >= 0 {
 		return nil, nil
 	}
-	return Merge(s.Out, []string{s.Out}, s.Version)
+	return merge(s.Out, []string{s.Out}, s.Version, rows)
+}
+
+// earlyRows integrates each model's ladder in the background once its
+// last unit has written its part.
+type earlyRows struct {
+	out    string
+	mu     sync.Mutex
+	left   map[string]int        // units not yet done, per model
+	blocks map[string]int        // rung blocks per model
+	rows   map[string]rundir.Row // integrated models
+	errs   map[string]error      // models whose integration failed
+	wg     sync.WaitGroup
+}
+
+func newEarlyRows(out string, units []rundir.Unit) *earlyRows {
+	e := &earlyRows{out: out, left: map[string]int{}, blocks: map[string]int{}, rows: map[string]rundir.Row{}, errs: map[string]error{}}
+	for _, u := range units {
+		e.left[u.Model]++
+		e.blocks[u.Model] = max(e.blocks[u.Model], u.Blocks)
+	}
+	return e
+}
+
+// unitDone records that u finished without error and, if it was its
+// model's last unit, starts integrating that model. A nil e does nothing.
+func (e *earlyRows) unitDone(u rundir.Unit) {
+	if e == nil {
+		return
+	}
+	e.mu.Lock()
+	e.left[u.Model]--
+	last := e.left[u.Model] == 0 && e.blocks[u.Model] == u.Blocks
+	e.mu.Unlock()
+	if !last {
+		return
+	}
+	e.wg.Go(func() {
+		var parts []*rundir.Part
+		for b := range u.Blocks {
+			pm, err := rundir.ReadPart(filepath.Join(rundir.PartDir(e.out, u.Model, b), rundir.PartFile))
+			if err != nil {
+				e.fail(u.Model, err)
+				return
+			}
+			parts = append(parts, pm)
+		}
+		row, err := mergeModel(e.out, u.Model, parts)
+		if err != nil {
+			e.fail(u.Model, err)
+			return
+		}
+		e.mu.Lock()
+		e.rows[u.Model] = row
+		e.mu.Unlock()
+	})
+}
+
+// fail drops a model from the early rows: Merge integrates it again and
+// reports what is wrong in its own words.
+func (e *earlyRows) fail(model string, err error) {
+	e.mu.Lock()
+	e.errs[model] = err
+	e.mu.Unlock()
+}
+
+// wait waits for the integrations started and returns the rows made.
+func (e *earlyRows) wait() map[string]rundir.Row {
+	if e == nil {
+		return nil
+	}
+	e.wg.Wait()
+	return e.rows
 }
 
 // runUnits runs independent units side by side, one goroutine each and as
@@ -259,7 +341,7 @@ func Run(ctx context.Context, p Problem, s Settings) (*rundir.Comparison, error)
 // work to split across goroutines with profit, while independent units
 // scale. Results do not depend on the order or the concurrency, since
 // every unit has its own seed and its own files.
-func runUnits(ctx context.Context, p Problem, s Settings, units []rundir.Unit) error {
+func runUnits(ctx context.Context, p Problem, s Settings, units []rundir.Unit, done func(rundir.Unit)) error {
 	par := s.Workers
 	if par <= 0 {
 		par = runtime.GOMAXPROCS(0)
@@ -291,7 +373,9 @@ func runUnits(ctx context.Context, p Problem, s Settings, units []rundir.Unit) e
 			if err := runUnit(ctx, p, s, u, samplerWorkers, par > 1); err != nil {
 				errs[i] = fmt.Errorf("model %s, rung block %d: %w", u.Model, u.Block, err)
 				cancel()
+				return
 			}
+			done(u)
 		}()
 	}
 	wg.Wait()

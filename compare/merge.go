@@ -34,6 +34,13 @@ type source struct {
 // run both finish with Merge, so their outputs are identical. Malformed
 // parts give an error naming the file and the field.
 func Merge(out string, dirs []string, version string) (*rundir.Comparison, error) {
+	return merge(out, dirs, version, nil)
+}
+
+// merge is Merge with the rows of some models already integrated from
+// the parts in out (early, keyed by model), which it uses instead of
+// integrating them again.
+func merge(out string, dirs []string, version string, early map[string]rundir.Row) (*rundir.Comparison, error) {
 	parts, keys, err := readParts(dirs)
 	if err != nil {
 		return nil, err
@@ -100,6 +107,10 @@ func Merge(out string, dirs []string, version string) (*rundir.Comparison, error
 	for range min(runtime.GOMAXPROCS(0), len(models)) {
 		wg.Go(func() {
 			for i := range next {
+				if row, ok := early[models[i]]; ok {
+					res.Rows[i] = row
+					continue
+				}
 				res.Rows[i], errs[i] = mergeModel(out, models[i], byModel[models[i]])
 			}
 		})
