@@ -762,10 +762,17 @@ type chainView struct {
 func (v chainView) gather(dst []float64, k int) []float64 {
 	dst = growF64(dst, v.steps*v.walkers)
 	row := v.stride * v.walkers * v.dim
-	for s := range v.steps {
-		r := v.pos[s*row : s*row+v.walkers*v.dim]
+	// Eight steps at a time, so that each walker's eight values fill one
+	// cache line of dst rather than touching a line per value.
+	const block = 8
+	for s0 := 0; s0 < v.steps; s0 += block {
+		s1 := min(s0+block, v.steps)
 		for w := range v.walkers {
-			dst[w*v.steps+s] = r[w*v.dim+k]
+			d := dst[w*v.steps+s0 : w*v.steps+s1]
+			src := w*v.dim + k + s0*row
+			for i := range d {
+				d[i] = v.pos[src+i*row]
+			}
 		}
 	}
 	return dst
