@@ -264,22 +264,20 @@ func Run(ctx context.Context, p Problem, s Settings) (*rundir.Comparison, error)
 }
 
 // earlyRows integrates each model's ladder in the background once its
-// last unit has written its part.
+// last unit has written its part. It serves a process that runs every
+// unit (no --task), so a model's units are all its rung blocks.
 type earlyRows struct {
-	out    string
-	mu     sync.Mutex
-	left   map[string]int        // units not yet done, per model
-	blocks map[string]int        // rung blocks per model
-	rows   map[string]rundir.Row // integrated models
-	errs   map[string]error      // models whose integration failed
-	wg     sync.WaitGroup
+	out  string
+	mu   sync.Mutex
+	left map[string]int        // units not yet done, per model
+	rows map[string]rundir.Row // integrated models
+	wg   sync.WaitGroup
 }
 
 func newEarlyRows(out string, units []rundir.Unit) *earlyRows {
-	e := &earlyRows{out: out, left: map[string]int{}, blocks: map[string]int{}, rows: map[string]rundir.Row{}, errs: map[string]error{}}
+	e := &earlyRows{out: out, left: map[string]int{}, rows: map[string]rundir.Row{}}
 	for _, u := range units {
 		e.left[u.Model]++
-		e.blocks[u.Model] = max(e.blocks[u.Model], u.Blocks)
 	}
 	return e
 }
@@ -292,38 +290,30 @@ func (e *earlyRows) unitDone(u rundir.Unit) {
 	}
 	e.mu.Lock()
 	e.left[u.Model]--
-	last := e.left[u.Model] == 0 && e.blocks[u.Model] == u.Blocks
+	last := e.left[u.Model] == 0
 	e.mu.Unlock()
 	if !last {
 		return
 	}
+	// On any error the model is left out: Merge integrates it again and
+	// reports what is wrong in its own words.
 	e.wg.Go(func() {
 		var parts []*rundir.Part
 		for b := range u.Blocks {
 			pm, err := rundir.ReadPart(filepath.Join(rundir.PartDir(e.out, u.Model, b), rundir.PartFile))
 			if err != nil {
-				e.fail(u.Model, err)
 				return
 			}
 			parts = append(parts, pm)
 		}
 		row, err := mergeModel(e.out, u.Model, parts)
 		if err != nil {
-			e.fail(u.Model, err)
 			return
 		}
 		e.mu.Lock()
 		e.rows[u.Model] = row
 		e.mu.Unlock()
 	})
-}
-
-// fail drops a model from the early rows: Merge integrates it again and
-// reports what is wrong in its own words.
-func (e *earlyRows) fail(model string, err error) {
-	e.mu.Lock()
-	e.errs[model] = err
-	e.mu.Unlock()
 }
 
 // wait waits for the integrations started and returns the rows made.
