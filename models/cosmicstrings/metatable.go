@@ -7,6 +7,7 @@ import (
 	"math"
 	"math/rand/v2"
 	"slices"
+	"tautline/models/cosmicstrings/internal/rowsum"
 
 	"tautline/models/cosmology"
 )
@@ -453,12 +454,17 @@ func (t *MetastableTable) combine(row []float64, ig, iy int, wg, wy [4]float64, 
 	nY, m := int(t.g.axes[1].N), int(t.g.axes[2].N)
 	r := row[jLo:jHi]
 	if top {
-		addRows4(r, t.data[((ig*nY+iy+3)*m+jLo):], nY*m, wg)
+		rowsum.Sum4(r, t.data[((ig*nY+iy+3)*m+jLo):], nY*m, &wg)
 		return
 	}
 	base := (ig*nY+iy)*m + jLo
-	addRows8(r, t.data[base:], m, nY*m, wg[0], wg[1], wy, true)
-	addRows8(r, t.data[base+2*nY*m:], m, nY*m, wg[2], wg[3], wy, false)
+	for a := 0; a < 4; a += 2 {
+		w := [8]float64{
+			wg[a] * wy[0], wg[a] * wy[1], wg[a] * wy[2], wg[a] * wy[3],
+			wg[a+1] * wy[0], wg[a+1] * wy[1], wg[a+1] * wy[2], wg[a+1] * wy[3],
+		}
+		rowsum.Sum8(r, t.data[base+a*nY*m:], m, nY*m, &w, a > 0)
+	}
 }
 
 // metaSlots is the size of a metaFreqs' table of cubics: a power of two
@@ -547,37 +553,6 @@ func lagrangeWeights(s float64, n int) (int, [4]float64) {
 	u1, u2, u3 := u-1, u-2, u-3
 	p01, p23 := u*u1, u2*u3
 	return i, [4]float64{-u1 * p23 * (1.0 / 6), u * p23 * 0.5, -p01 * u3 * 0.5, p01 * u2 * (1.0 / 6)}
-}
-
-// addRows8 sets row (first) or adds to it the rows src[g+bm:] (b = 0..3,
-// g = 0 and gs) with weights wa wy[b] (g = 0) and wb wy[b] (g = gs).
-func addRows8(row, src []float64, m, gs int, wa, wb float64, wy [4]float64, first bool) {
-	n := len(row)
-	a0, a1, a2, a3 := src[:n], src[m:][:n], src[2*m:][:n], src[3*m:][:n]
-	b := src[gs:]
-	b0, b1, b2, b3 := b[:n], b[m:][:n], b[2*m:][:n], b[3*m:][:n]
-	wa0, wa1, wa2, wa3 := wa*wy[0], wa*wy[1], wa*wy[2], wa*wy[3]
-	wb0, wb1, wb2, wb3 := wb*wy[0], wb*wy[1], wb*wy[2], wb*wy[3]
-	if first {
-		for j := range row {
-			row[j] = ((wa0*a0[j] + wa1*a1[j]) + (wa2*a2[j] + wa3*a3[j])) +
-				((wb0*b0[j] + wb1*b1[j]) + (wb2*b2[j] + wb3*b3[j]))
-		}
-		return
-	}
-	for j := range row {
-		row[j] += ((wa0*a0[j] + wa1*a1[j]) + (wa2*a2[j] + wa3*a3[j])) +
-			((wb0*b0[j] + wb1*b1[j]) + (wb2*b2[j] + wb3*b3[j]))
-	}
-}
-
-// addRows4 sets row to sum_a w[a] src[a gs + j].
-func addRows4(row, src []float64, gs int, w [4]float64) {
-	n := len(row)
-	s0, s1, s2, s3 := src[:n], src[gs:][:n], src[2*gs:][:n], src[3*gs:][:n]
-	for j := range row {
-		row[j] = (w[0]*s0[j] + w[1]*s1[j]) + (w[2]*s2[j] + w[3]*s3[j])
-	}
 }
 
 func fillNegInf(out []float64) {

@@ -1,0 +1,37 @@
+//go:build !purego
+
+package rowsum
+
+import "golang.org/x/sys/cpu"
+
+// sum8 runs Sum8's loop with AVX when the processor and the operating
+// system support it (x/sys/cpu checks both), else sum8Go.
+func sum8(dst, src []float64, m, gs int, w *[8]float64, acc bool) {
+	if !cpu.X86.HasAVX {
+		sum8Go(dst, src, m, gs, w, acc)
+		return
+	}
+	sum8AVX(&dst[0], len(dst), &src[0], 8*m, 8*gs, w, acc)
+}
+
+// sum4 runs Sum4's loop with AVX when it is there, else sum4Go.
+func sum4(dst, src []float64, gs int, w *[4]float64) {
+	if !cpu.X86.HasAVX {
+		sum4Go(dst, src, gs, w)
+		return
+	}
+	sum4AVX(&dst[0], len(dst), &src[0], 8*gs, w)
+}
+
+// sum8AVX is sum8Go with AVX: dst[j] for j < n (n > 0) from the rows at
+// src + k m8 and src + gs8 + k m8 bytes (k < 4), each at least n long,
+// and the weights w.
+//
+//go:noescape
+func sum8AVX(dst *float64, n int, src *float64, m8, gs8 int, w *[8]float64, acc bool)
+
+// sum4AVX is sum4Go with AVX: dst[j] for j < n (n > 0) from the rows at
+// src + k gs8 bytes (k < 4).
+//
+//go:noescape
+func sum4AVX(dst *float64, n int, src *float64, gs8 int, w *[4]float64)

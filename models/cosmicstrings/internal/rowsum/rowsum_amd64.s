@@ -1,0 +1,182 @@
+//go:build !purego
+
+#include "textflag.h"
+
+// Every product is rounded (VMULPD/VMULSD) and the products are added in
+// the order of sum8Go and sum4Go (VADDPD/VADDSD, no fused multiply-add),
+// four values per instruction, then one at a time for the last n mod 4.
+
+// func sum8AVX(dst *float64, n int, src *float64, m8, gs8 int, w *[8]float64, acc bool)
+TEXT ·sum8AVX(SB), NOSPLIT, $0-49
+	MOVQ w+40(FP), AX
+	VBROADCASTSD 0(AX), Y0
+	VBROADCASTSD 8(AX), Y1
+	VBROADCASTSD 16(AX), Y2
+	VBROADCASTSD 24(AX), Y3
+	VBROADCASTSD 32(AX), Y4
+	VBROADCASTSD 40(AX), Y5
+	VBROADCASTSD 48(AX), Y6
+	VBROADCASTSD 56(AX), Y7
+	MOVQ src+16(FP), SI // the rows: SI, R8, R9, R10 then R11, R12, R13, AX
+	MOVQ m8+24(FP), DX
+	LEAQ (SI)(DX*1), R8
+	LEAQ (R8)(DX*1), R9
+	LEAQ (R9)(DX*1), R10
+	MOVQ gs8+32(FP), R11
+	ADDQ SI, R11
+	LEAQ (R11)(DX*1), R12
+	LEAQ (R12)(DX*1), R13
+	LEAQ (R13)(DX*1), AX
+	MOVQ dst+0(FP), DI
+	MOVQ n+8(FP), CX
+	SHLQ $3, CX         // CX: bytes of dst
+	MOVQ CX, DX
+	ANDQ $-32, DX       // DX: bytes of the 4-wide part
+	XORQ BX, BX
+	CMPB acc+48(FP), $0
+	JNE  accvec
+
+setvec:
+	CMPQ   BX, DX
+	JGE    settail
+	VMULPD (SI)(BX*1), Y0, Y8
+	VMULPD (R8)(BX*1), Y1, Y9
+	VADDPD Y9, Y8, Y8
+	VMULPD (R9)(BX*1), Y2, Y10
+	VMULPD (R10)(BX*1), Y3, Y11
+	VADDPD Y11, Y10, Y10
+	VADDPD Y10, Y8, Y8
+	VMULPD (R11)(BX*1), Y4, Y9
+	VMULPD (R12)(BX*1), Y5, Y10
+	VADDPD Y10, Y9, Y9
+	VMULPD (R13)(BX*1), Y6, Y10
+	VMULPD (AX)(BX*1), Y7, Y11
+	VADDPD Y11, Y10, Y10
+	VADDPD Y10, Y9, Y9
+	VADDPD Y9, Y8, Y8
+	VMOVUPD Y8, (DI)(BX*1)
+	ADDQ   $32, BX
+	JMP    setvec
+
+settail:
+	CMPQ   BX, CX
+	JGE    done
+	VMULSD (SI)(BX*1), X0, X8
+	VMULSD (R8)(BX*1), X1, X9
+	VADDSD X9, X8, X8
+	VMULSD (R9)(BX*1), X2, X10
+	VMULSD (R10)(BX*1), X3, X11
+	VADDSD X11, X10, X10
+	VADDSD X10, X8, X8
+	VMULSD (R11)(BX*1), X4, X9
+	VMULSD (R12)(BX*1), X5, X10
+	VADDSD X10, X9, X9
+	VMULSD (R13)(BX*1), X6, X10
+	VMULSD (AX)(BX*1), X7, X11
+	VADDSD X11, X10, X10
+	VADDSD X10, X9, X9
+	VADDSD X9, X8, X8
+	VMOVSD X8, (DI)(BX*1)
+	ADDQ   $8, BX
+	JMP    settail
+
+accvec:
+	CMPQ   BX, DX
+	JGE    acctail
+	VMULPD (SI)(BX*1), Y0, Y8
+	VMULPD (R8)(BX*1), Y1, Y9
+	VADDPD Y9, Y8, Y8
+	VMULPD (R9)(BX*1), Y2, Y10
+	VMULPD (R10)(BX*1), Y3, Y11
+	VADDPD Y11, Y10, Y10
+	VADDPD Y10, Y8, Y8
+	VMULPD (R11)(BX*1), Y4, Y9
+	VMULPD (R12)(BX*1), Y5, Y10
+	VADDPD Y10, Y9, Y9
+	VMULPD (R13)(BX*1), Y6, Y10
+	VMULPD (AX)(BX*1), Y7, Y11
+	VADDPD Y11, Y10, Y10
+	VADDPD Y10, Y9, Y9
+	VADDPD Y9, Y8, Y8
+	VADDPD (DI)(BX*1), Y8, Y8
+	VMOVUPD Y8, (DI)(BX*1)
+	ADDQ   $32, BX
+	JMP    accvec
+
+acctail:
+	CMPQ   BX, CX
+	JGE    done
+	VMULSD (SI)(BX*1), X0, X8
+	VMULSD (R8)(BX*1), X1, X9
+	VADDSD X9, X8, X8
+	VMULSD (R9)(BX*1), X2, X10
+	VMULSD (R10)(BX*1), X3, X11
+	VADDSD X11, X10, X10
+	VADDSD X10, X8, X8
+	VMULSD (R11)(BX*1), X4, X9
+	VMULSD (R12)(BX*1), X5, X10
+	VADDSD X10, X9, X9
+	VMULSD (R13)(BX*1), X6, X10
+	VMULSD (AX)(BX*1), X7, X11
+	VADDSD X11, X10, X10
+	VADDSD X10, X9, X9
+	VADDSD X9, X8, X8
+	VADDSD (DI)(BX*1), X8, X8
+	VMOVSD X8, (DI)(BX*1)
+	ADDQ   $8, BX
+	JMP    acctail
+
+done:
+	VZEROUPPER
+	RET
+
+// func sum4AVX(dst *float64, n int, src *float64, gs8 int, w *[4]float64)
+TEXT ·sum4AVX(SB), NOSPLIT, $0-40
+	MOVQ w+32(FP), AX
+	VBROADCASTSD 0(AX), Y0
+	VBROADCASTSD 8(AX), Y1
+	VBROADCASTSD 16(AX), Y2
+	VBROADCASTSD 24(AX), Y3
+	MOVQ src+16(FP), SI // the rows: SI, R8, R9, R10
+	MOVQ gs8+24(FP), DX
+	LEAQ (SI)(DX*1), R8
+	LEAQ (R8)(DX*1), R9
+	LEAQ (R9)(DX*1), R10
+	MOVQ dst+0(FP), DI
+	MOVQ n+8(FP), CX
+	SHLQ $3, CX
+	MOVQ CX, DX
+	ANDQ $-32, DX
+	XORQ BX, BX
+
+vec4:
+	CMPQ   BX, DX
+	JGE    tail4
+	VMULPD (SI)(BX*1), Y0, Y8
+	VMULPD (R8)(BX*1), Y1, Y9
+	VADDPD Y9, Y8, Y8
+	VMULPD (R9)(BX*1), Y2, Y10
+	VMULPD (R10)(BX*1), Y3, Y11
+	VADDPD Y11, Y10, Y10
+	VADDPD Y10, Y8, Y8
+	VMOVUPD Y8, (DI)(BX*1)
+	ADDQ   $32, BX
+	JMP    vec4
+
+tail4:
+	CMPQ   BX, CX
+	JGE    done4
+	VMULSD (SI)(BX*1), X0, X8
+	VMULSD (R8)(BX*1), X1, X9
+	VADDSD X9, X8, X8
+	VMULSD (R9)(BX*1), X2, X10
+	VMULSD (R10)(BX*1), X3, X11
+	VADDSD X11, X10, X10
+	VADDSD X10, X8, X8
+	VMOVSD X8, (DI)(BX*1)
+	ADDQ   $8, BX
+	JMP    tail4
+
+done4:
+	VZEROUPPER
+	RET

@@ -1,0 +1,9 @@
+//go:build !amd64 || purego
+
+package rowsum
+
+func sum8(dst, src []float64, m, gs int, w *[8]float64, acc bool) {
+	sum8Go(dst, src, m, gs, w, acc)
+}
+
+func sum4(dst, src []float64, gs int, w *[4]float64) { sum4Go(dst, src, gs, w) }
