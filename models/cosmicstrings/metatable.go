@@ -7,7 +7,7 @@ import (
 	"math"
 	"math/rand/v2"
 	"slices"
-	"tautline/models/cosmicstrings/internal/rowsum"
+	"tautline/models/cosmicstrings/internal/vec"
 
 	"tautline/models/cosmology"
 )
@@ -411,7 +411,7 @@ func (t *MetastableTable) lnOmega(lg, sk float64, fr *metaFreqs, out []float64) 
 	jHi := min(max(int(xs[n-1]-c)-1, 0), last) + 4
 	t.combine(fr.row, ig, iy, wg, wy, top, jLo, jHi)
 	cf := fr.cf
-	cubics(cf, fr.row, jLo, jHi, t.shift)
+	vec.Cubics(cf[jLo+1:], fr.row[jLo:jHi], t.shift)
 	fillNegInf(dst[:k0])
 	// The edge term ln(1 - f_*/f): the table for the frequencies where
 	// f_*/f >= 2^-10, the first ones above f_*, then the series.
@@ -454,7 +454,7 @@ func (t *MetastableTable) combine(row []float64, ig, iy int, wg, wy [4]float64, 
 	nY, m := int(t.g.axes[1].N), int(t.g.axes[2].N)
 	r := row[jLo:jHi]
 	if top {
-		rowsum.Sum4(r, t.data[((ig*nY+iy+3)*m+jLo):], nY*m, &wg)
+		vec.Sum4(r, t.data[((ig*nY+iy+3)*m+jLo):], nY*m, &wg)
 		return
 	}
 	base := (ig*nY+iy)*m + jLo
@@ -463,7 +463,7 @@ func (t *MetastableTable) combine(row []float64, ig, iy int, wg, wy [4]float64, 
 			wg[a] * wy[0], wg[a] * wy[1], wg[a] * wy[2], wg[a] * wy[3],
 			wg[a+1] * wy[0], wg[a+1] * wy[1], wg[a+1] * wy[2], wg[a+1] * wy[3],
 		}
-		rowsum.Sum8(r, t.data[base+a*nY*m:], m, nY*m, &w, a > 0)
+		vec.Sum8(r, t.data[base+a*nY*m:], m, nY*m, &w, a > 0)
 	}
 }
 
@@ -479,27 +479,6 @@ type cubic [4]float64
 // at evaluates the cubic (Estrin's order: a shorter chain).
 func (q *cubic) at(u float64) float64 {
 	return (q[0] + u*q[1]) + (u*u)*(q[2]+u*q[3])
-}
-
-// cubics writes, for each run of 4 consecutive values r0..r3 of
-// row[jLo:jHi], starting at node j, the cubic p with p(-1) = r0 + shift,
-// p(0) = r1 + shift, p(1) = r2 + shift, p(2) = r3 + shift (solved from the
-// sum and difference of p(1) and p(-1) and from p(2)) into cf[j + 1]: the
-// cubic that 4-point Lagrange interpolation evaluates at u = x - (j + 1)
-// for the stencil starting at node j, with the -Kappa ln P shift added.
-func cubics(cf *[metaSlots]cubic, row []float64, jLo, jHi int, shift float64) {
-	if jHi-jLo < 4 {
-		return
-	}
-	tab := cf[:]
-	r := row[jLo:jHi]
-	r0, r1, r2 := r[0], r[1], r[2]
-	for j, r3 := range r[3:] {
-		c2 := 0.5*(r0+r2) - r1
-		c3 := (r3-r0)*(1.0/6) + 0.5*(r1-r2)
-		tab[(jLo+j+1)&(metaSlots-1)] = cubic{r1 + shift, (r2 - r1) - c2 - c3, c2, c3}
-		r0, r1, r2 = r1, r2, r3
-	}
 }
 
 // addCubicsClamped adds to dst[k] the cubic at x = xs[k] - c, its stencil

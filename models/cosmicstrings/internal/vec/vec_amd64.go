@@ -1,6 +1,6 @@
 //go:build !purego
 
-package rowsum
+package vec
 
 import "golang.org/x/sys/cpu"
 
@@ -23,6 +23,15 @@ func sum4(dst, src []float64, gs int, w *[4]float64) {
 	sum4AVX(&dst[0], len(dst), &src[0], 8*gs, w)
 }
 
+// cubics runs Cubics' loop with AVX when it is there, else cubicsGo.
+func cubics[C ~[4]float64](dst []C, r []float64, shift float64) {
+	if !cpu.X86.HasAVX {
+		cubicsGo(dst, r, shift)
+		return
+	}
+	cubicsAVX(&dst[0][0], &r[0], len(dst), shift)
+}
+
 // sum8AVX is sum8Go with AVX: dst[j] for j < n (n > 0) from the rows at
 // src + k m8 and src + gs8 + k m8 bytes (k < 4), each at least n long,
 // and the weights w.
@@ -35,3 +44,9 @@ func sum8AVX(dst *float64, n int, src *float64, m8, gs8 int, w *[8]float64, acc 
 //
 //go:noescape
 func sum4AVX(dst *float64, n int, src *float64, gs8 int, w *[4]float64)
+
+// cubicsAVX is cubicsGo with AVX: n > 0 cubics, 4n values from dst, from
+// the n + 3 values from r.
+//
+//go:noescape
+func cubicsAVX(dst *float64, r *float64, n int, shift float64)

@@ -1,9 +1,11 @@
 //go:build !amd64 || purego
 
-package rowsum
+package vec
 
 func sum8(dst, src []float64, m, gs int, w *[8]float64, acc bool) {
 	sum8Go(dst, src, m, gs, w, acc)
 }
 
 func sum4(dst, src []float64, gs int, w *[4]float64) { sum4Go(dst, src, gs, w) }
+
+func cubics[C ~[4]float64](dst []C, r []float64, shift float64) { cubicsGo(dst, r, shift) }

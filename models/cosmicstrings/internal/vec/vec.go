@@ -1,10 +1,10 @@
-// Package rowsum forms weighted sums of rows of a float64 table, the inner
-// loop of the metastable-string table's interpolation in (log10 Gmu, t_s):
-// with AVX on amd64 processors that have it, four values per instruction,
-// else with a scalar loop. Both round every product and add the products
-// in the same order (no fused multiply-add), so their results are
-// bit-identical.
-package rowsum
+// Package vec holds the vector loops of the metastable-string table's
+// lookup: the weighted sum of the table rows of an interpolation stencil in
+// (log10 Gmu, t_s), and the cubic of each 4-node stencil of the summed row.
+// On amd64 processors with AVX they run four values per instruction, else
+// as scalar loops. Both round every operation and do the operations in the
+// same order (no fused multiply-add), so their results are bit-identical.
+package vec
 
 // Sum8 sets dst[j] (acc false) or adds to it (acc true)
 //
@@ -21,7 +21,7 @@ func Sum8(dst, src []float64, m, gs int, w *[8]float64, acc bool) {
 		return
 	}
 	if m < 0 || gs < 0 {
-		panic("rowsum: negative stride")
+		panic("vec: negative stride")
 	}
 	_ = src[gs+3*m+n-1]
 	sum8(dst, src, m, gs, w, acc)
@@ -36,7 +36,7 @@ func Sum4(dst, src []float64, gs int, w *[4]float64) {
 		return
 	}
 	if gs < 0 {
-		panic("rowsum: negative stride")
+		panic("vec: negative stride")
 	}
 	_ = src[3*gs+n-1]
 	sum4(dst, src, gs, w)
@@ -67,5 +67,36 @@ func sum4Go(dst, src []float64, gs int, w *[4]float64) {
 	s0, s1, s2, s3 := src[:n], src[gs:][:n], src[2*gs:][:n], src[3*gs:][:n]
 	for j := range dst {
 		dst[j] = (w[0]*s0[j] + w[1]*s1[j]) + (w[2]*s2[j] + w[3]*s3[j])
+	}
+}
+
+// Cubics writes into dst[j], for each run of 4 consecutive values
+// r0, r1, r2, r3 of r starting at r[j], the coefficients (p(0), c1, c2, c3)
+// of the cubic p(u) = p(0) + c1 u + c2 u^2 + c3 u^3 through p(-1) = r0 + shift,
+// p(0) = r1 + shift, p(1) = r2 + shift and p(2) = r3 + shift, computed as
+//
+//	c2 = 0.5 (r0 + r2) - r1
+//	c3 = (r3 - r0)/6 + 0.5 (r1 - r2)
+//	c1 = ((r2 - r1) - c2) - c3
+//
+// (the sum and difference of p(1) and p(-1), and p(2)): 4-point Lagrange
+// interpolation of r at u = x - (j + 1) for the stencil starting at node j.
+// dst must hold len(r) - 3 cubics; nothing is written when len(r) < 4.
+func Cubics[C ~[4]float64](dst []C, r []float64, shift float64) {
+	if len(r) < 4 {
+		return
+	}
+	cubics(dst[:len(r)-3], r, shift)
+}
+
+// cubicsGo is Cubics' scalar loop (len(dst) = len(r) - 3 > 0).
+func cubicsGo[C ~[4]float64](dst []C, r []float64, shift float64) {
+	r0, r1, r2 := r[0], r[1], r[2]
+	dst = dst[:len(r)-3]
+	for j, r3 := range r[3:] {
+		c2 := 0.5*(r0+r2) - r1
+		c3 := (r3-r0)*(1.0/6) + 0.5*(r1-r2)
+		dst[j] = C{r1 + shift, (r2 - r1) - c2 - c3, c2, c3}
+		r0, r1, r2 = r1, r2, r3
 	}
 }

@@ -180,3 +180,94 @@ tail4:
 done4:
 	VZEROUPPER
 	RET
+
+// func cubicsAVX(dst *float64, r *float64, n int, shift float64)
+//
+// Four stencils per iteration: the vectors r0..r3 are r[j..j+3] loaded at
+// offsets 0, 1, 2, 3; the four coefficient vectors are transposed into
+// the four cubics (VUNPCKLPD/VUNPCKHPD, then VPERM2F128) and stored
+// contiguously. The last n mod 4 cubics go one at a time, with the same
+// operations on the low lane.
+TEXT ·cubicsAVX(SB), NOSPLIT, $0-32
+	MOVQ dst+0(FP), DI
+	MOVQ r+8(FP), SI
+	MOVQ n+16(FP), CX
+	VBROADCASTSD shift+24(FP), Y15
+	MOVQ $0x3fe0000000000000, AX // 0.5
+	MOVQ AX, X14
+	VBROADCASTSD X14, Y14
+	MOVQ $0x3fc5555555555555, AX // 1.0/6 as Go rounds it
+	MOVQ AX, X13
+	VBROADCASTSD X13, Y13
+	MOVQ CX, DX
+	ANDQ $-4, DX // stencils in the 4-wide part
+	XORQ BX, BX  // stencil index
+
+cvec:
+	CMPQ    BX, DX
+	JGE     ctail
+	VMOVUPD (SI)(BX*8), Y0   // r0
+	VMOVUPD 8(SI)(BX*8), Y1  // r1
+	VMOVUPD 16(SI)(BX*8), Y2 // r2
+	VMOVUPD 24(SI)(BX*8), Y3 // r3
+	VADDPD  Y2, Y0, Y4       // r0 + r2
+	VMULPD  Y14, Y4, Y4      // 0.5*(r0 + r2)
+	VSUBPD  Y1, Y4, Y4       // c2 = 0.5*(r0+r2) - r1
+	VSUBPD  Y0, Y3, Y5       // r3 - r0
+	VMULPD  Y13, Y5, Y5      // (r3 - r0)*(1/6)
+	VSUBPD  Y2, Y1, Y6       // r1 - r2
+	VMULPD  Y14, Y6, Y6      // 0.5*(r1 - r2)
+	VADDPD  Y6, Y5, Y5       // c3
+	VSUBPD  Y1, Y2, Y6       // r2 - r1
+	VSUBPD  Y4, Y6, Y6       // (r2 - r1) - c2
+	VSUBPD  Y5, Y6, Y6       // c1 = ((r2 - r1) - c2) - c3
+	VADDPD  Y15, Y1, Y7      // p(0) = r1 + shift
+	// Transpose (Y7, Y6, Y4, Y5) = (p0, c1, c2, c3) into 4 cubics.
+	VUNPCKLPD  Y6, Y7, Y8    // p0[0] c1[0] p0[2] c1[2]
+	VUNPCKHPD  Y6, Y7, Y9    // p0[1] c1[1] p0[3] c1[3]
+	VUNPCKLPD  Y5, Y4, Y10   // c2[0] c3[0] c2[2] c3[2]
+	VUNPCKHPD  Y5, Y4, Y11   // c2[1] c3[1] c2[3] c3[3]
+	VPERM2F128 $0x20, Y10, Y8, Y0
+	VPERM2F128 $0x20, Y11, Y9, Y1
+	VPERM2F128 $0x31, Y10, Y8, Y2
+	VPERM2F128 $0x31, Y11, Y9, Y3
+	MOVQ    BX, AX
+	SHLQ    $5, AX           // 32 bytes per cubic
+	VMOVUPD Y0, (DI)(AX*1)
+	VMOVUPD Y1, 32(DI)(AX*1)
+	VMOVUPD Y2, 64(DI)(AX*1)
+	VMOVUPD Y3, 96(DI)(AX*1)
+	ADDQ    $4, BX
+	JMP     cvec
+
+ctail:
+	CMPQ   BX, CX
+	JGE    cdone
+	VMOVSD (SI)(BX*8), X0
+	VMOVSD 8(SI)(BX*8), X1
+	VMOVSD 16(SI)(BX*8), X2
+	VMOVSD 24(SI)(BX*8), X3
+	VADDSD X2, X0, X4
+	VMULSD X14, X4, X4
+	VSUBSD X1, X4, X4
+	VSUBSD X0, X3, X5
+	VMULSD X13, X5, X5
+	VSUBSD X2, X1, X6
+	VMULSD X14, X6, X6
+	VADDSD X6, X5, X5
+	VSUBSD X1, X2, X6
+	VSUBSD X4, X6, X6
+	VSUBSD X5, X6, X6
+	VADDSD X15, X1, X7
+	MOVQ   BX, AX
+	SHLQ   $5, AX
+	VMOVSD X7, (DI)(AX*1)
+	VMOVSD X6, 8(DI)(AX*1)
+	VMOVSD X4, 16(DI)(AX*1)
+	VMOVSD X5, 24(DI)(AX*1)
+	INCQ   BX
+	JMP    ctail
+
+cdone:
+	VZEROUPPER
+	RET

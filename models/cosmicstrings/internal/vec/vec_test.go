@@ -1,4 +1,4 @@
-package rowsum
+package vec
 
 import (
 	"fmt"
@@ -133,6 +133,86 @@ func BenchmarkSum8(b *testing.B) {
 		for b.Loop() {
 			sum8Go(dst, src, m, gs, &w, false)
 			sum8Go(dst, src[2*gs:], m, gs, &w, true)
+		}
+	})
+}
+
+// TestCubicsMatchReference: Cubics (AVX where the processor has it) and
+// its scalar loop agree to the bit with the interpolating cubic written
+// out per stencil in IEEE 754 arithmetic, for every row length 0..40 (the
+// 4-wide part and each tail length). The coefficients are those of
+// 4-point Lagrange interpolation (Abramowitz & Stegun 25.2.13, from
+// memory): TestCubicsInterpolate checks that on the nodes.
+func TestCubicsMatchReference(t *testing.T) {
+	type cubic [4]float64
+	r := rand.New(rand.NewPCG(15, 92))
+	for n := 0; n <= 40; n++ {
+		row := make([]float64, n)
+		for i := range row {
+			row[i] = value(r)
+		}
+		shift := r.NormFloat64()
+		want := make([]cubic, max(n-3, 0))
+		for j := range want {
+			r0, r1, r2, r3 := row[j], row[j+1], row[j+2], row[j+3]
+			c2 := 0.5*(r0+r2) - r1
+			c3 := (r3-r0)*(1.0/6) + 0.5*(r1-r2)
+			want[j] = cubic{r1 + shift, ((r2 - r1) - c2) - c3, c2, c3}
+		}
+		got := make([]cubic, len(want)+1) // one spare, which must stay 0
+		Cubics(got, row, shift)
+		if got[len(want)] != (cubic{}) {
+			t.Fatalf("n=%d: Cubics wrote past its %d cubics", n, len(want))
+		}
+		for j := range want {
+			sameBits(t, fmt.Sprintf("Cubics n=%d stencil %d", n, j), got[j][:], want[j][:])
+		}
+		if len(want) > 0 {
+			clear(got)
+			cubicsGo(got[:len(want)], row, shift)
+			for j := range want {
+				sameBits(t, fmt.Sprintf("cubicsGo n=%d stencil %d", n, j), got[j][:], want[j][:])
+			}
+		}
+	}
+}
+
+// TestCubicsInterpolate: each cubic passes through its 4 nodes (shifted),
+// p(-1), p(0), p(1), p(2) = r[j..j+3] + shift, to rounding.
+func TestCubicsInterpolate(t *testing.T) {
+	r := rand.New(rand.NewPCG(2, 7))
+	row := make([]float64, 23)
+	for i := range row {
+		row[i] = -40 + 10*r.NormFloat64()
+	}
+	const shift = 0.75
+	cf := make([][4]float64, len(row)-3)
+	Cubics(cf, row, shift)
+	for j, q := range cf {
+		for i, u := range []float64{-1, 0, 1, 2} {
+			p := q[0] + u*q[1] + u*u*q[2] + u*u*u*q[3]
+			if want := row[j+i] + shift; math.Abs(p-want) > 1e-12*math.Abs(want) {
+				t.Errorf("stencil %d: p(%g) = %.17g, want %.17g", j, u, p, want)
+			}
+		}
+	}
+}
+
+// BenchmarkCubics times the cubics of a 22-node row, scalar beside AVX.
+func BenchmarkCubics(b *testing.B) {
+	row := make([]float64, 22)
+	for i := range row {
+		row[i] = float64(i%7) * 0.3
+	}
+	cf := make([][4]float64, len(row)-3)
+	b.Run("dispatch", func(b *testing.B) {
+		for b.Loop() {
+			Cubics(cf, row, 0.5)
+		}
+	})
+	b.Run("scalar", func(b *testing.B) {
+		for b.Loop() {
+			cubicsGo(cf, row, 0.5)
 		}
 	})
 }
