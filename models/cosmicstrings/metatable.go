@@ -428,9 +428,9 @@ func (t *MetastableTable) lnOmega(lg, sk float64, fr *metaFreqs, out []float64) 
 		if k2 > k1 {
 			f2 := fs * fs
 			f4 := f2 * f2
-			cubicsSeries5(dst[k1:k2], xs[k1:k2], invF[k1:k2], cf, c, &[5]float64{-fs, f2 * (-1.0 / 2), (f2 * fs) * (-1.0 / 3), f4 * (-1.0 / 4), (f4 * fs) * (-1.0 / 5)})
+			vec.Series5(dst[k1:k2], xs[k1:k2], invF[k1:k2], cf, c, &[5]float64{-fs, f2 * (-1.0 / 2), (f2 * fs) * (-1.0 / 3), f4 * (-1.0 / 4), (f4 * fs) * (-1.0 / 5)})
 		}
-		cubicsSeries2(dst[k2:], xs[k2:], invF[k2:], cf, c, -fs, (fs*fs)*(-1.0/2))
+		vec.Series2(dst[k2:], xs[k2:], invF[k2:], cf, c, -fs, (fs*fs)*(-1.0/2))
 	} else {
 		tab := cf[:]
 		for k := k1; k < n; k++ {
@@ -470,8 +470,8 @@ func (t *MetastableTable) combine(row []float64, ig, iy int, wg, wy [4]float64, 
 // metaSlots is the size of a metaFreqs' table of cubics: a power of two
 // above the number of v nodes, so that masking a slot with metaSlots - 1
 // (a no-op for the slots lnOmega computes) lets the compiler drop the
-// bounds check.
-const metaSlots = 256
+// bounds check; vec's loops take the same table.
+const metaSlots = vec.Slots
 
 // A cubic holds (p(0), c1, c2, c3) of p(u) = p(0) + c1 u + c2 u^2 + c3 u^3.
 type cubic [4]float64
@@ -491,36 +491,6 @@ func addCubicsClamped(dst, xs []float64, cf *[metaSlots]cubic, c float64, last i
 		x -= c
 		s := min(max(int(x)-1, 0), last) + 1
 		dst[k] += tab[s&(metaSlots-1)].at(x - float64(s))
-	}
-}
-
-// cubicsSeries5 writes into dst[k] the cubic at x = xs[k] - c (x >= 1,
-// the stencil starting at node floor(x) - 1, not clamped) plus the edge
-// term ln(1 - f_*/f) by log1mxSeries5 written as a polynomial in
-// invF[k] = 1/f: with a[i] = -f_*^i/i, sum_i a[i] invF^i = -sum_i x^i/i
-// at x = f_* invF (one multiplication less per frequency than forming x).
-func cubicsSeries5(dst, xs, invF []float64, cf *[metaSlots]cubic, c float64, a *[5]float64) {
-	tab := cf[:]
-	dst, invF = dst[:len(xs)], invF[:len(xs)]
-	a1, a2, a3, a4, a5 := a[0], a[1], a[2], a[3], a[4]
-	for k, x := range xs {
-		x -= c
-		s := int(x)
-		y := invF[k]
-		dst[k] = tab[s&(metaSlots-1)].at(x-float64(s)) + y*(a1+y*(a2+y*(a3+y*(a4+y*a5))))
-	}
-}
-
-// cubicsSeries2 is cubicsSeries5 with the series to x^2 (log1mxSeries2,
-// a1 = -f_*, a2 = -f_*^2/2).
-func cubicsSeries2(dst, xs, invF []float64, cf *[metaSlots]cubic, c, a1, a2 float64) {
-	tab := cf[:]
-	dst, invF = dst[:len(xs)], invF[:len(xs)]
-	for k, x := range xs {
-		x -= c
-		s := int(x)
-		y := invF[k]
-		dst[k] = tab[s&(metaSlots-1)].at(x-float64(s)) + y*(a1+y*a2)
 	}
 }
 

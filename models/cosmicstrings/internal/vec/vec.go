@@ -100,3 +100,45 @@ func cubicsGo[C ~[4]float64](dst []C, r []float64, shift float64) {
 		r0, r1, r2 = r1, r2, r3
 	}
 }
+
+// Slots is the size of the table of cubics that Series2 and Series5 read:
+// a power of two, so that the slot of a stencil is masked with Slots - 1,
+// which keeps every read inside the table.
+const Slots = 256
+
+// at evaluates the cubic q at u (Estrin's order: a shorter chain).
+func at[C ~[4]float64](q *C, u float64) float64 {
+	return ((*q)[0] + u*(*q)[1]) + (u*u)*((*q)[2]+u*(*q)[3])
+}
+
+// Series2 writes into dst[k], for k < len(xs), the cubic cf[s] at x - s
+// plus y (a1 + y a2), where x = xs[k] - c, s = int(x) (x >= 0, so int
+// truncates like floor) masked with Slots - 1, and y = invF[k]: the table
+// lookup of one frequency and a polynomial edge term. dst and invF must
+// hold len(xs) values.
+func Series2[C ~[4]float64](dst, xs, invF []float64, cf *[Slots]C, c, a1, a2 float64) {
+	n := len(xs)
+	dst, invF = dst[:n], invF[:n]
+	k := series(dst, xs, invF, cf, c, &[5]float64{a1, a2}, 2)
+	for ; k < n; k++ {
+		x := xs[k] - c
+		s := int(x)
+		y := invF[k]
+		dst[k] = at(&cf[s&(Slots-1)], x-float64(s)) + y*(a1+y*a2)
+	}
+}
+
+// Series5 is Series2 with the edge term y (a1 + y (a2 + y (a3 + y (a4 +
+// y a5)))), a = (a1, ..., a5).
+func Series5[C ~[4]float64](dst, xs, invF []float64, cf *[Slots]C, c float64, a *[5]float64) {
+	n := len(xs)
+	dst, invF = dst[:n], invF[:n]
+	k := series(dst, xs, invF, cf, c, a, 5)
+	a1, a2, a3, a4, a5 := a[0], a[1], a[2], a[3], a[4]
+	for ; k < n; k++ {
+		x := xs[k] - c
+		s := int(x)
+		y := invF[k]
+		dst[k] = at(&cf[s&(Slots-1)], x-float64(s)) + y*(a1+y*(a2+y*(a3+y*(a4+y*a5))))
+	}
+}

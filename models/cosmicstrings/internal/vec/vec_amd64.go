@@ -32,6 +32,18 @@ func cubics[C ~[4]float64](dst []C, r []float64, shift float64) {
 	cubicsAVX(&dst[0][0], &r[0], len(dst), shift)
 }
 
+// series runs Series2's (terms 2) or Series5's (terms 5) loop with AVX
+// for the first len(xs) &^ 3 frequencies when AVX is there and returns how
+// many it did, which the caller's scalar loop continues from.
+func series[C ~[4]float64](dst, xs, invF []float64, cf *[Slots]C, c float64, a *[5]float64, terms int) int {
+	n := len(xs) &^ 3
+	if n == 0 || !cpu.X86.HasAVX {
+		return 0
+	}
+	seriesAVX(&dst[0], &xs[0], &invF[0], n, &cf[0][0], c, a, terms)
+	return n
+}
+
 // sum8AVX is sum8Go with AVX: dst[j] for j < n (n > 0) from the rows at
 // src + k m8 and src + gs8 + k m8 bytes (k < 4), each at least n long,
 // and the weights w.
@@ -50,3 +62,10 @@ func sum4AVX(dst *float64, n int, src *float64, gs8 int, w *[4]float64)
 //
 //go:noescape
 func cubicsAVX(dst *float64, r *float64, n int, shift float64)
+
+// seriesAVX is series' loop: n frequencies (a multiple of 4, > 0) from xs
+// and invF into dst, with the table of Slots cubics at cf and the edge
+// term's terms (2 or 5) coefficients a.
+//
+//go:noescape
+func seriesAVX(dst, xs, invF *float64, n int, cf *float64, c float64, a *[5]float64, terms int)

@@ -271,3 +271,96 @@ ctail:
 cdone:
 	VZEROUPPER
 	RET
+
+// func seriesAVX(dst, xs, invF *float64, n int, cf *float64, c float64, a *[5]float64, terms int)
+//
+// Four frequencies per iteration: x = xs - c; s = int(x) (VCVTTPD2DQ
+// truncates as Go's conversion does, and x < 2^31 here); u = x - float64(s);
+// the four cubics cf[s & 255] are loaded and transposed into their
+// coefficient vectors (VUNPCKLPD/VUNPCKHPD, then VPERM2F128); then
+// Estrin's (q0 + u q1) + (u u)(q2 + u q3) and Horner's edge term in y.
+TEXT ·seriesAVX(SB), NOSPLIT, $0-64
+	MOVQ dst+0(FP), DI
+	MOVQ xs+8(FP), SI
+	MOVQ invF+16(FP), DX
+	MOVQ n+24(FP), CX
+	MOVQ cf+32(FP), R9
+	VBROADCASTSD c+40(FP), Y15
+	MOVQ a+48(FP), AX
+	VBROADCASTSD 0(AX), Y14  // a1
+	VBROADCASTSD 8(AX), Y13  // a2
+	VBROADCASTSD 16(AX), Y12 // a3
+	VBROADCASTSD 24(AX), Y11 // a4
+	VBROADCASTSD 32(AX), Y10 // a5
+	MOVQ terms+56(FP), R13
+	XORQ BX, BX
+
+sloop:
+	CMPQ        BX, CX
+	JGE         sdone
+	VMOVUPD     (SI)(BX*8), Y0
+	VSUBPD      Y15, Y0, Y0     // x = xs - c
+	VCVTTPD2DQY Y0, X1          // s
+	VCVTDQ2PD   X1, Y2          // float64(s)
+	VSUBPD      Y2, Y0, Y3      // u = x - s
+	VMOVQ       X1, AX
+	VPEXTRQ     $1, X1, R10
+	MOVQ        AX, R11
+	SHRQ        $32, R11
+	MOVQ        R10, R12
+	SHRQ        $32, R12
+	ANDQ        $255, AX
+	ANDQ        $255, R11
+	ANDQ        $255, R10
+	ANDQ        $255, R12
+	SHLQ        $5, AX
+	SHLQ        $5, R11
+	SHLQ        $5, R10
+	SHLQ        $5, R12
+	VMOVUPD     (R9)(AX*1), Y4  // cubic of frequency 0
+	VMOVUPD     (R9)(R11*1), Y5 // 1
+	VMOVUPD     (R9)(R10*1), Y6 // 2
+	VMOVUPD     (R9)(R12*1), Y7 // 3
+	VUNPCKLPD   Y5, Y4, Y1      // q0[0] q0[1] q2[0] q2[1]
+	VUNPCKHPD   Y5, Y4, Y2      // q1[0] q1[1] q3[0] q3[1]
+	VUNPCKLPD   Y7, Y6, Y8      // q0[2] q0[3] q2[2] q2[3]
+	VUNPCKHPD   Y7, Y6, Y9      // q1[2] q1[3] q3[2] q3[3]
+	VPERM2F128  $0x20, Y8, Y1, Y4 // q0
+	VPERM2F128  $0x20, Y9, Y2, Y5 // q1
+	VPERM2F128  $0x31, Y8, Y1, Y6 // q2
+	VPERM2F128  $0x31, Y9, Y2, Y7 // q3
+	VMULPD      Y5, Y3, Y5      // u q1
+	VADDPD      Y5, Y4, Y4      // q0 + u q1
+	VMULPD      Y7, Y3, Y7      // u q3
+	VADDPD      Y7, Y6, Y6      // q2 + u q3
+	VMULPD      Y3, Y3, Y3      // u u
+	VMULPD      Y6, Y3, Y6      // (u u)(q2 + u q3)
+	VADDPD      Y6, Y4, Y4      // the cubic
+	VMOVUPD     (DX)(BX*8), Y0  // y
+	CMPQ        R13, $5
+	JEQ         five
+	VMULPD      Y13, Y0, Y1     // y a2
+	VADDPD      Y1, Y14, Y1     // a1 + y a2
+	VMULPD      Y1, Y0, Y1      // y (a1 + y a2)
+	JMP         store
+
+five:
+	VMULPD      Y10, Y0, Y1     // y a5
+	VADDPD      Y1, Y11, Y1     // a4 + y a5
+	VMULPD      Y1, Y0, Y1
+	VADDPD      Y1, Y12, Y1     // a3 + ...
+	VMULPD      Y1, Y0, Y1
+	VADDPD      Y1, Y13, Y1     // a2 + ...
+	VMULPD      Y1, Y0, Y1
+	VADDPD      Y1, Y14, Y1     // a1 + ...
+	VMULPD      Y1, Y0, Y1
+
+store:
+	VADDPD      Y1, Y4, Y4
+	VMOVUPD     Y4, (DI)(BX*8)
+	ADDQ        $4, BX
+	JMP         sloop
+
+sdone:
+	VZEROUPPER
+	RET

@@ -9,3 +9,7 @@ func sum8(dst, src []float64, m, gs int, w *[8]float64, acc bool) {
 func sum4(dst, src []float64, gs int, w *[4]float64) { sum4Go(dst, src, gs, w) }
 
 func cubics[C ~[4]float64](dst []C, r []float64, shift float64) { cubicsGo(dst, r, shift) }
+
+func series[C ~[4]float64](dst, xs, invF []float64, cf *[Slots]C, c float64, a *[5]float64, terms int) int {
+	return 0
+}
