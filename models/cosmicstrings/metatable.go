@@ -66,7 +66,7 @@ type MetastableTable struct {
 	lfsTop, fsTop                         float64 // ln f_* and f_* for t_s >= t0
 	lnAT0, lnAStep                        float64 // the background's ln a(ln t) nodes
 	lnANodes                              []lnANode
-	logTab                                logTable
+	logTab                                vec.LogTable
 	expTab                                expTable
 	// data holds the grid's values as float64 (set by widen): lnOmega
 	// adds 16 rows of it per call, with one conversion less per value.
@@ -236,7 +236,7 @@ func (t *MetastableTable) prepare() {
 	for i := range nodeLnA {
 		t.lnANodes[i] = lnANode{nodeLnA[i], t.lnAStep * nodeHT[i]}
 	}
-	t.logTab.init()
+	t.logTab.Init()
 	t.expTab.init()
 }
 
@@ -415,8 +415,8 @@ func (t *MetastableTable) lnOmega(lg, sk float64, fr *metaFreqs, out []float64) 
 	fillNegInf(dst[:k0])
 	// The edge term ln(1 - f_*/f): the table for the frequencies where
 	// f_*/f >= 2^-10, the first ones above f_*, then the series.
-	k1 := k0 + t.logTab.log1mxRun(dst[k0:], invF[k0:], fs)
-	addCubicsClamped(dst[k0:k1], xs[k0:k1], cf, c, last)
+	k1 := k0 + t.logTab.Run(dst[k0:], invF[k0:], fs)
+	vec.AddClamped(dst[k0:k1], xs[k0:k1], cf, c, last)
 	if k1 < n && int(xs[k1]-c) >= 1 && int(xs[n-1]-c) <= last+1 {
 		// No stencil from k1 on clamps (they do not move down as x
 		// grows): the common case, since f > 1024 f_* puts x above 34.
@@ -481,19 +481,6 @@ func (q *cubic) at(u float64) float64 {
 	return (q[0] + u*q[1]) + (u*u)*(q[2]+u*q[3])
 }
 
-// addCubicsClamped adds to dst[k] the cubic at x = xs[k] - c, its stencil
-// starting at node min(max(floor(x) - 1, 0), last) (x > -1/2, where int
-// truncates to the same node).
-func addCubicsClamped(dst, xs []float64, cf *[metaSlots]cubic, c float64, last int) {
-	tab := cf[:]
-	dst = dst[:len(xs)]
-	for k, x := range xs {
-		x -= c
-		s := min(max(int(x)-1, 0), last) + 1
-		dst[k] += tab[s&(metaSlots-1)].at(x - float64(s))
-	}
-}
-
 // lagrangeWeights is numeric.Lagrange4Weights for s >= 0, with the
 // divisions by 6 and 2 made multiplications.
 func lagrangeWeights(s float64, n int) (int, [4]float64) {
@@ -510,34 +497,19 @@ func fillNegInf(out []float64) {
 	}
 }
 
-// log1mx's table: logTabN nodes m_k = 1 + (k + 1/2)/logTabN spanning
-// [1, 2), with 1/m_k and ln(m_k/2).
 const (
-	logTabBits = 8
-	logTabN    = 1 << logTabBits
 	// ln 2 split as in the standard library's math.Log (fdlibm): ln2Hi
 	// has 32 significant bits, so e ln2Hi is exact for the exponents here.
 	ln2Hi = 6.93147180369123816490e-01
 	ln2Lo = 1.90821492927058770002e-10
-	// log1mxSwitch is where log1mx switches from its series to the table.
-	log1mxSwitch = 0x1p-10
+	// log1mxSwitch is where log1mx switches from its series to the table
+	// (vec.LogTable).
+	log1mxSwitch = vec.Log1mxSwitch
 	// Below log1mxShort log1mxSeries drops from x^5 to x^2, below
 	// log1mxTiny to x.
 	log1mxShort = 0x1p-18
 	log1mxTiny  = 0x1p-27
 )
-
-type logNode struct{ mk, inv, lnHalf, _ float64 }
-
-// A logTable holds the nodes of log1mx.
-type logTable [logTabN]logNode
-
-func (tab *logTable) init() {
-	for k := range tab {
-		mk := 1 + (float64(k)+0.5)/logTabN // exact: 9 significant bits
-		tab[k] = logNode{mk: mk, inv: 1 / mk, lnHalf: math.Log(mk / 2)}
-	}
-}
 
 // log1mxSeries is ln(1 - x) for 0 <= x < 2^-10 by its Taylor series
 // -(x + x^2/2 + ...), cut where the remainder, below x^(n+1)/(n (1 - x))
@@ -561,49 +533,6 @@ func log1mxSeries5(x float64) float64 {
 }
 
 func log1mxSeries2(x float64) float64 { return x * (-1 + x*(-1.0/2)) }
-
-// log1mxRun writes ln(1 - x), x = c invF[k], into dst[k] for the leading
-// run of k with x >= 2^-10 (-Inf for x >= 1) and returns its length;
-// invF must not increase. It is the edge term ln(1 - f_*/f) =
-// ln(1 - e^-v) at the ascending frequencies below 1024 f_*, where
-// log1mxSeries would need many terms. With
-// 1 - x = y + dy (y = fl(1 - x), dy exact) and y = 2^e m, m in [1, 2), it
-// takes ln(1 - x) = (e + 1) ln 2 + ln(m_k/2) + ln(1 + r) with
-// r = (m - m_k + 2^-e dy)/m_k, |r| < 2^-9, for the table node m_k nearest
-// m (the table-driven reduction of Tang 1990, ACM TOMS 16, 378, from
-// memory), and ln(1 + r) by its Taylor series to r^5 (remainder below
-// |r|^6/6 < 1e-17, summed in Estrin's order for a shorter chain). Taking ln(m_k/2) from the table rather than
-// ln m_k - ln 2 keeps the result accurate to a few ulp up to y = 1, and
-// there is no division (math.Log and math.Log1p take one).
-func (tab *logTable) log1mxRun(dst, invF []float64, c float64) int {
-	dst = dst[:len(invF)]
-	k0 := 0 // x >= 1 (f <= f_* by rounding) comes first
-	for k0 < len(dst) && !(c*invF[k0] < 1) {
-		dst[k0] = math.Inf(-1)
-		k0++
-	}
-	for k := k0; k < len(dst); k++ {
-		x := c * invF[k]
-		if x < log1mxSwitch {
-			return k
-		}
-		y := 1 - x
-		// Both subtractions are exact (Sterbenz): for x >= 1/2 so is y, and
-		// dy = 0; below, y is in (1/2, 1).
-		dy := (1 - y) - x
-		b := math.Float64bits(y) // y is normal: y >= 2^-53
-		ex := b >> 52            // biased exponent, e + 1023
-		n := &tab[b>>(52-logTabBits)&(logTabN-1)]
-		m := math.Float64frombits(b&(1<<52-1) | 1023<<52)
-		s := math.Float64frombits((2046 - ex) << 52) // 2^-e
-		r := ((m - n.mk) + dy*s) * n.inv             // m - m_k and dy s are exact
-		r2 := r * r
-		p := r + r2*((-1.0/2+r*(1.0/3))+r2*(-1.0/4+r*(1.0/5)))
-		e1 := float64(int(ex) - 1022) // e + 1 <= 0
-		dst[k] = (e1*ln2Hi + n.lnHalf) + (p + e1*ln2Lo)
-	}
-	return len(dst)
-}
 
 func decodeMetaTable(name string, b []byte, s MetastableSettings) (*MetastableTable, error) {
 	t, err := newMetaTable(s)

@@ -218,10 +218,10 @@ func TestMetastableTableLnOmegaOnePoint(t *testing.T) {
 }
 
 // log1mx is the edge term ln(1 - x) as lnOmega takes it: log1mxSeries
-// below 2^-10, logTable.log1mxRun above.
+// below 2^-10, vec.LogTable.Run above.
 func log1mx(t *MetastableTable, x float64) float64 {
 	var d [1]float64
-	if t.logTab.log1mxRun(d[:], []float64{1}, x) == 0 {
+	if t.logTab.Run(d[:], []float64{1}, x) == 0 {
 		return log1mxSeries(x)
 	}
 	return d[0]

@@ -142,3 +142,20 @@ func Series5[C ~[4]float64](dst, xs, invF []float64, cf *[Slots]C, c float64, a 
 		dst[k] = at(&cf[s&(Slots-1)], x-float64(s)) + y*(a1+y*(a2+y*(a3+y*(a4+y*a5))))
 	}
 }
+
+// AddClamped adds to dst[k], for k < len(xs), the cubic cf[s] at x - s,
+// where x = xs[k] - c (x > -1/2, where int truncates to the same node as
+// floor) and s = min(max(int(x) - 1, 0), last) + 1: the table lookup of
+// the frequencies whose stencil may clamp to the ends of the row
+// (0 <= last < Slots - 1). dst must hold len(xs) values.
+func AddClamped[C ~[4]float64](dst, xs []float64, cf *[Slots]C, c float64, last int) {
+	n := len(xs)
+	dst = dst[:n]
+	last = min(max(last, 0), Slots-2)
+	k := addClamped(dst, xs, cf, c, last)
+	for ; k < n; k++ {
+		x := xs[k] - c
+		s := min(max(int(x)-1, 0), last) + 1
+		dst[k] += at(&cf[s&(Slots-1)], x-float64(s))
+	}
+}

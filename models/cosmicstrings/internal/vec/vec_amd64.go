@@ -44,6 +44,28 @@ func series[C ~[4]float64](dst, xs, invF []float64, cf *[Slots]C, c float64, a *
 	return n
 }
 
+// log1mxHead runs Run's loop with AVX2, four frequencies at a time, for
+// as long as all four have x >= 2^-10 (and x < 1, which Run's caller
+// ensures), and returns how many it did.
+func log1mxHead(dst, invF []float64, c float64, tab *LogTable) int {
+	n := len(invF) &^ 3
+	if n == 0 || !cpu.X86.HasAVX2 {
+		return 0
+	}
+	return log1mxAVX2(&dst[0], &invF[0], n, c, &tab[0][0])
+}
+
+// addClamped runs AddClamped's loop with AVX for the first len(xs) &^ 3
+// frequencies when AVX is there and returns how many it did.
+func addClamped[C ~[4]float64](dst, xs []float64, cf *[Slots]C, c float64, last int) int {
+	n := len(xs) &^ 3
+	if n == 0 || !cpu.X86.HasAVX {
+		return 0
+	}
+	clampedAVX(&dst[0], &xs[0], n, &cf[0][0], c, last)
+	return n
+}
+
 // sum8AVX is sum8Go with AVX: dst[j] for j < n (n > 0) from the rows at
 // src + k m8 and src + gs8 + k m8 bytes (k < 4), each at least n long,
 // and the weights w.
@@ -69,3 +91,15 @@ func cubicsAVX(dst *float64, r *float64, n int, shift float64)
 //
 //go:noescape
 func seriesAVX(dst, xs, invF *float64, n int, cf *float64, c float64, a *[5]float64, terms int)
+
+// log1mxAVX2 is log1mxHead's loop over at most n (a multiple of 4, > 0)
+// frequencies.
+//
+//go:noescape
+func log1mxAVX2(dst, invF *float64, n int, c float64, tab *float64) int
+
+// clampedAVX is addClamped's loop: n frequencies (a multiple of 4, > 0)
+// from xs into dst, with the table of Slots cubics at cf.
+//
+//go:noescape
+func clampedAVX(dst, xs *float64, n int, cf *float64, c float64, last int)

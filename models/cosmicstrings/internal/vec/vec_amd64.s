@@ -364,3 +364,229 @@ store:
 sdone:
 	VZEROUPPER
 	RET
+
+// Constants of log1mxAVX2, four copies each (bit patterns of the float64
+// constants Run's scalar loop uses, as Go rounds them).
+DATA l1mSwitch<>+0(SB)/8, $0x3f50000000000000 // 2^-10
+DATA l1mSwitch<>+8(SB)/8, $0x3f50000000000000
+DATA l1mSwitch<>+16(SB)/8, $0x3f50000000000000
+DATA l1mSwitch<>+24(SB)/8, $0x3f50000000000000
+GLOBL l1mSwitch<>(SB), RODATA|NOPTR, $32
+DATA l1mIdx<>+0(SB)/8, $0xff // logTabN - 1
+DATA l1mIdx<>+8(SB)/8, $0xff
+DATA l1mIdx<>+16(SB)/8, $0xff
+DATA l1mIdx<>+24(SB)/8, $0xff
+GLOBL l1mIdx<>(SB), RODATA|NOPTR, $32
+DATA l1mMant<>+0(SB)/8, $0x000fffffffffffff // 1<<52 - 1
+DATA l1mMant<>+8(SB)/8, $0x000fffffffffffff
+DATA l1mMant<>+16(SB)/8, $0x000fffffffffffff
+DATA l1mMant<>+24(SB)/8, $0x000fffffffffffff
+GLOBL l1mMant<>(SB), RODATA|NOPTR, $32
+DATA l1mOne<>+0(SB)/8, $0x3ff0000000000000 // 1023<<52, the bits of 1.0
+DATA l1mOne<>+8(SB)/8, $0x3ff0000000000000
+DATA l1mOne<>+16(SB)/8, $0x3ff0000000000000
+DATA l1mOne<>+24(SB)/8, $0x3ff0000000000000
+GLOBL l1mOne<>(SB), RODATA|NOPTR, $32
+DATA l1m2046<>+0(SB)/8, $2046
+DATA l1m2046<>+8(SB)/8, $2046
+DATA l1m2046<>+16(SB)/8, $2046
+DATA l1m2046<>+24(SB)/8, $2046
+GLOBL l1m2046<>(SB), RODATA|NOPTR, $32
+DATA l1mThird<>+0(SB)/8, $0x3fd5555555555555 // 1.0/3
+DATA l1mThird<>+8(SB)/8, $0x3fd5555555555555
+DATA l1mThird<>+16(SB)/8, $0x3fd5555555555555
+DATA l1mThird<>+24(SB)/8, $0x3fd5555555555555
+GLOBL l1mThird<>(SB), RODATA|NOPTR, $32
+DATA l1mHalf<>+0(SB)/8, $0xbfe0000000000000 // -1.0/2
+DATA l1mHalf<>+8(SB)/8, $0xbfe0000000000000
+DATA l1mHalf<>+16(SB)/8, $0xbfe0000000000000
+DATA l1mHalf<>+24(SB)/8, $0xbfe0000000000000
+GLOBL l1mHalf<>(SB), RODATA|NOPTR, $32
+DATA l1mFifth<>+0(SB)/8, $0x3fc999999999999a // 1.0/5
+DATA l1mFifth<>+8(SB)/8, $0x3fc999999999999a
+DATA l1mFifth<>+16(SB)/8, $0x3fc999999999999a
+DATA l1mFifth<>+24(SB)/8, $0x3fc999999999999a
+GLOBL l1mFifth<>(SB), RODATA|NOPTR, $32
+DATA l1mQuarter<>+0(SB)/8, $0xbfd0000000000000 // -1.0/4
+DATA l1mQuarter<>+8(SB)/8, $0xbfd0000000000000
+DATA l1mQuarter<>+16(SB)/8, $0xbfd0000000000000
+DATA l1mQuarter<>+24(SB)/8, $0xbfd0000000000000
+GLOBL l1mQuarter<>(SB), RODATA|NOPTR, $32
+DATA l1mMagic<>+0(SB)/8, $0x4330000000000000 // 2^52
+DATA l1mMagic<>+8(SB)/8, $0x4330000000000000
+DATA l1mMagic<>+16(SB)/8, $0x4330000000000000
+DATA l1mMagic<>+24(SB)/8, $0x4330000000000000
+GLOBL l1mMagic<>(SB), RODATA|NOPTR, $32
+DATA l1mMagic1022<>+0(SB)/8, $0x43300000000003fe // 2^52 + 1022
+DATA l1mMagic1022<>+8(SB)/8, $0x43300000000003fe
+DATA l1mMagic1022<>+16(SB)/8, $0x43300000000003fe
+DATA l1mMagic1022<>+24(SB)/8, $0x43300000000003fe
+GLOBL l1mMagic1022<>(SB), RODATA|NOPTR, $32
+DATA l1mLn2Hi<>+0(SB)/8, $0x3fe62e42fee00000 // ln2Hi
+DATA l1mLn2Hi<>+8(SB)/8, $0x3fe62e42fee00000
+DATA l1mLn2Hi<>+16(SB)/8, $0x3fe62e42fee00000
+DATA l1mLn2Hi<>+24(SB)/8, $0x3fe62e42fee00000
+GLOBL l1mLn2Hi<>(SB), RODATA|NOPTR, $32
+DATA l1mLn2Lo<>+0(SB)/8, $0x3dea39ef35793c76 // ln2Lo
+DATA l1mLn2Lo<>+8(SB)/8, $0x3dea39ef35793c76
+DATA l1mLn2Lo<>+16(SB)/8, $0x3dea39ef35793c76
+DATA l1mLn2Lo<>+24(SB)/8, $0x3dea39ef35793c76
+GLOBL l1mLn2Lo<>(SB), RODATA|NOPTR, $32
+
+// func log1mxAVX2(dst, invF *float64, n int, c float64, tab *float64) int
+//
+// LogTable.log1mx on four frequencies per iteration, stopping before the
+// first group with a lane below 2^-10. The biased exponent is shifted
+// out as a 64-bit integer (VPSRLQ), e + 1 = ex - 1022 becomes a float64
+// exactly as 2^52 + ex - (2^52 + 1022), and the four table nodes are
+// loaded and transposed (VUNPCKLPD/VUNPCKHPD, VPERM2F128) into m_k, 1/m_k
+// and ln(m_k/2).
+TEXT ·log1mxAVX2(SB), NOSPLIT, $0-48
+	MOVQ dst+0(FP), DI
+	MOVQ invF+8(FP), SI
+	MOVQ n+16(FP), CX
+	VBROADCASTSD c+24(FP), Y15
+	MOVQ tab+32(FP), R8
+	VMOVUPD l1mOne<>(SB), Y14 // 1.0
+	XORQ BX, BX
+
+lloop:
+	CMPQ       BX, CX
+	JGE        ldone
+	VMULPD     (SI)(BX*8), Y15, Y0  // x = c invF
+	VCMPPD     $1, l1mSwitch<>(SB), Y0, Y1 // x < 2^-10
+	VMOVMSKPD  Y1, AX
+	TESTQ      AX, AX
+	JNE        ldone
+	VSUBPD     Y0, Y14, Y2          // y = 1 - x
+	VSUBPD     Y2, Y14, Y3          // 1 - y
+	VSUBPD     Y0, Y3, Y3           // dy = (1 - y) - x
+	VPSRLQ     $52, Y2, Y4          // ex
+	VPSRLQ     $44, Y2, Y5
+	VANDPD     l1mIdx<>(SB), Y5, Y5 // node index
+	VANDPD     l1mMant<>(SB), Y2, Y6
+	VORPD      l1mOne<>(SB), Y6, Y6 // m
+	VMOVDQU    l1m2046<>(SB), Y7
+	VPSUBQ     Y4, Y7, Y7
+	VPSLLQ     $52, Y7, Y7          // s = 2^-e
+	VMOVQ      X5, AX
+	VPEXTRQ    $1, X5, R10
+	VEXTRACTF128 $1, Y5, X5
+	VMOVQ      X5, R11
+	VPEXTRQ    $1, X5, R12
+	SHLQ       $5, AX
+	SHLQ       $5, R10
+	SHLQ       $5, R11
+	SHLQ       $5, R12
+	VMOVUPD    (R8)(AX*1), Y8
+	VMOVUPD    (R8)(R10*1), Y9
+	VMOVUPD    (R8)(R11*1), Y10
+	VMOVUPD    (R8)(R12*1), Y11
+	VUNPCKLPD  Y9, Y8, Y0           // mk[0] mk[1] lh[0] lh[1]
+	VUNPCKHPD  Y9, Y8, Y1           // inv[0] inv[1] . .
+	VUNPCKLPD  Y11, Y10, Y2         // mk[2] mk[3] lh[2] lh[3]
+	VUNPCKHPD  Y11, Y10, Y5         // inv[2] inv[3] . .
+	VPERM2F128 $0x20, Y2, Y0, Y8    // m_k
+	VPERM2F128 $0x20, Y5, Y1, Y9    // 1/m_k
+	VPERM2F128 $0x31, Y2, Y0, Y10   // ln(m_k/2)
+	VSUBPD     Y8, Y6, Y6           // m - m_k
+	VMULPD     Y7, Y3, Y3           // dy s
+	VADDPD     Y3, Y6, Y6
+	VMULPD     Y9, Y6, Y6           // r
+	VMULPD     Y6, Y6, Y7           // r2
+	VMULPD     l1mThird<>(SB), Y6, Y0
+	VADDPD     l1mHalf<>(SB), Y0, Y0   // -1/2 + r/3
+	VMULPD     l1mFifth<>(SB), Y6, Y1
+	VADDPD     l1mQuarter<>(SB), Y1, Y1 // -1/4 + r/5
+	VMULPD     Y1, Y7, Y1
+	VADDPD     Y1, Y0, Y0
+	VMULPD     Y0, Y7, Y0
+	VADDPD     Y0, Y6, Y0           // p
+	VORPD      l1mMagic<>(SB), Y4, Y4
+	VSUBPD     l1mMagic1022<>(SB), Y4, Y4 // e1 = ex - 1022
+	VMULPD     l1mLn2Hi<>(SB), Y4, Y1
+	VADDPD     Y10, Y1, Y1          // e1 ln2Hi + ln(m_k/2)
+	VMULPD     l1mLn2Lo<>(SB), Y4, Y2
+	VADDPD     Y2, Y0, Y2           // p + e1 ln2Lo
+	VADDPD     Y2, Y1, Y1
+	VMOVUPD    Y1, (DI)(BX*8)
+	ADDQ       $4, BX
+	JMP        lloop
+
+ldone:
+	VZEROUPPER
+	MOVQ BX, ret+40(FP)
+	RET
+
+// func clampedAVX(dst, xs *float64, n int, cf *float64, c float64, last int)
+//
+// seriesAVX's lookup with the stencil clamped as 32-bit integers
+// (s - 1, then VPMAXSD with 0, VPMINSD with last, + 1), added to dst.
+TEXT ·clampedAVX(SB), NOSPLIT, $0-48
+	MOVQ dst+0(FP), DI
+	MOVQ xs+8(FP), SI
+	MOVQ n+16(FP), CX
+	MOVQ cf+24(FP), R9
+	VBROADCASTSD c+32(FP), Y15
+	MOVQ last+40(FP), AX
+	VMOVD AX, X14
+	VPSHUFD $0, X14, X14      // last, 4 x int32
+	MOVL $1, AX
+	VMOVD AX, X13
+	VPSHUFD $0, X13, X13      // 1, 4 x int32
+	VPXOR X12, X12, X12       // 0
+	XORQ BX, BX
+
+cloop:
+	CMPQ        BX, CX
+	JGE         cldone
+	VMOVUPD     (SI)(BX*8), Y0
+	VSUBPD      Y15, Y0, Y0     // x = xs - c
+	VCVTTPD2DQY Y0, X1          // int(x)
+	VPSUBD      X13, X1, X1     // - 1
+	VPMAXSD     X12, X1, X1     // max(., 0)
+	VPMINSD     X14, X1, X1     // min(., last)
+	VPADDD      X13, X1, X1     // s = ... + 1
+	VCVTDQ2PD   X1, Y2          // float64(s)
+	VSUBPD      Y2, Y0, Y3      // u = x - s
+	VMOVQ       X1, AX
+	VPEXTRQ     $1, X1, R10
+	MOVQ        AX, R11
+	SHRQ        $32, R11
+	MOVQ        R10, R12
+	SHRQ        $32, R12
+	ANDQ        $255, AX
+	ANDQ        $255, R11
+	ANDQ        $255, R10
+	ANDQ        $255, R12
+	SHLQ        $5, AX
+	SHLQ        $5, R11
+	SHLQ        $5, R10
+	SHLQ        $5, R12
+	VMOVUPD     (R9)(AX*1), Y4
+	VMOVUPD     (R9)(R11*1), Y5
+	VMOVUPD     (R9)(R10*1), Y6
+	VMOVUPD     (R9)(R12*1), Y7
+	VUNPCKLPD   Y5, Y4, Y1
+	VUNPCKHPD   Y5, Y4, Y2
+	VUNPCKLPD   Y7, Y6, Y8
+	VUNPCKHPD   Y7, Y6, Y9
+	VPERM2F128  $0x20, Y8, Y1, Y4 // q0
+	VPERM2F128  $0x20, Y9, Y2, Y5 // q1
+	VPERM2F128  $0x31, Y8, Y1, Y6 // q2
+	VPERM2F128  $0x31, Y9, Y2, Y7 // q3
+	VMULPD      Y5, Y3, Y5
+	VADDPD      Y5, Y4, Y4
+	VMULPD      Y7, Y3, Y7
+	VADDPD      Y7, Y6, Y6
+	VMULPD      Y3, Y3, Y3
+	VMULPD      Y6, Y3, Y6
+	VADDPD      Y6, Y4, Y4      // the cubic
+	VADDPD      (DI)(BX*8), Y4, Y4
+	VMOVUPD     Y4, (DI)(BX*8)
+	ADDQ        $4, BX
+	JMP         cloop
+
+cldone:
+	VZEROUPPER
+	RET

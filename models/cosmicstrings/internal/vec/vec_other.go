@@ -13,3 +13,9 @@ func cubics[C ~[4]float64](dst []C, r []float64, shift float64) { cubicsGo(dst, 
 func series[C ~[4]float64](dst, xs, invF []float64, cf *[Slots]C, c float64, a *[5]float64, terms int) int {
 	return 0
 }
+
+func log1mxHead(dst, invF []float64, c float64, tab *LogTable) int { return 0 }
+
+func addClamped[C ~[4]float64](dst, xs []float64, cf *[Slots]C, c float64, last int) int {
+	return 0
+}
