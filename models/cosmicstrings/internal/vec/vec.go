@@ -1,9 +1,12 @@
 // Package vec holds the vector loops of the metastable-string table's
 // lookup: the weighted sum of the table rows of an interpolation stencil in
-// (log10 Gmu, t_s), and the cubic of each 4-node stencil of the summed row.
-// On amd64 processors with AVX they run four values per instruction, else
-// as scalar loops. Both round every operation and do the operations in the
-// same order (no fused multiply-add), so their results are bit-identical.
+// (log10 Gmu, t_s) (Sum8, Sum4), the cubic of each 4-node stencil of the
+// summed row (Cubics), its evaluation at each frequency (AddClamped, and
+// Series2 and Series5 with a polynomial edge term), and the edge term
+// ln(1 - x) by table (LogTable). On amd64 processors with AVX (AVX2 for
+// LogTable) they run four values per instruction, else as scalar loops.
+// Both round every operation and do the operations in the same order (no
+// fused multiply-add), so their results are bit-identical.
 package vec
 
 // Sum8 sets dst[j] (acc false) or adds to it (acc true)
