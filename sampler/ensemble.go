@@ -71,6 +71,9 @@ type rung struct {
 	pcgs  []pcg     // each walker's stream, side by side
 	rng   []*rand.Rand
 	prop  []float64 // proposal scratch, walkers x dim
+	// posRows[w] and propRows[w] are walker w's rows of pos and prop, cut
+	// once so that the stretch passes do not cut them at every step.
+	posRows, propRows [][]float64
 }
 
 // An Ensemble is the state of an affine-invariant ensemble sampler
@@ -307,6 +310,11 @@ func build(t Target, cfg Config) (*Ensemble, error) {
 		g.ll = make([]float64, nw)
 		g.lpost = make([]float64, nw)
 		g.acc = make([]int64, nw)
+		g.posRows, g.propRows = make([][]float64, nw), make([][]float64, nw)
+		for w := range nw {
+			g.posRows[w] = g.pos[w*d : w*d+d : w*d+d]
+			g.propRows[w] = g.prop[w*d : w*d+d : w*d+d]
+		}
 		g.pcgs = make([]pcg, nw)
 		g.rng = make([]*rand.Rand, nw)
 		for w := range nw {
@@ -462,7 +470,7 @@ func (e *Ensemble) updateRange(b, lo, hi int) {
 		others := g.pos[o*d : (o+hw)*d]
 		w0, w1 := h*hw+max(lo-r*hw, 0), h*hw+min(hi-r*hw, hw)
 		if len(e.cumW) == 1 && e.stretchA[0] != 0 {
-			e.stretchRange(b, g, beta, others, w0, w1)
+			e.stretchRange(b, g, beta, g.posRows[o:o+hw], w0, w1)
 			continue
 		}
 		for w := w0; w < w1; w++ {
@@ -527,28 +535,27 @@ func (e *Ensemble) updateRange(b, lo, hi int) {
 // outcomes are coin flips that a branch predictor would miss often, so
 // the walkers for the last two passes are listed without a branch on
 // them.
-func (e *Ensemble) stretchRange(b int, g *rung, beta float64, others []float64, w0, w1 int) {
+func (e *Ensemble) stretchRange(b int, g *rung, beta float64, others [][]float64, w0, w1 int) {
 	d := e.dim
 	sc := &e.stretchScr[b]
 	ps := sc.ps[:w1-w0]
 	pcgs := g.pcgs[w0:w1]
-	pos, prop := g.pos[w0*d:w1*d], g.prop[w0*d:w1*d]
+	pos, prop := g.posRows[w0:w1], g.propRows[w0:w1]
 	var ev func([]float64) float64
 	if e.evals != nil {
 		ev = e.evals[b]
 	}
-	stretchPropose(e.t, ev, pcgs, e.stretchA[0], d, pos, prop, others, ps)
+	stretchPropose(e.t, ev, pcgs, e.stretchA[0], pos, prop, others, ps)
 	c := float64(d - 1)
 	lpost := g.lpost[w0:w1]
 	queue, kept := stretchFirst(e.lnTab, e.zTab, pcgs, c, beta, lpost, ps, sc.queue, sc.kept)
 	kept = stretchSecond(e.uTab, pcgs, c, lpost, ps, queue, kept)
-	keepAccepted(d, pos, prop, g.lp[w0:w1], g.ll[w0:w1], lpost, g.acc[w0:w1], ps, kept)
+	keepAccepted(pos, prop, g.lp[w0:w1], g.ll[w0:w1], lpost, g.acc[w0:w1], ps, kept)
 }
 
 // A proposal is what the passes of stretchRange hand on for one walker.
 type proposal struct {
 	z      float64 // the stretch factor
-	j      int     // the partner
 	k      int     // the interval of z's uniform draw in a stretchTable
 	lp, ll float64 // ln prior and ln likelihood of the proposal
 	post   float64 // lnPost of the proposal
@@ -557,57 +564,55 @@ type proposal struct {
 }
 
 // stretchPropose takes Stretch.Propose's draws from each walker's PCG, as
-// pcgIntN and pcgFloat64 take them: the partner j among the len(others)/d
-// walkers of the other half and the uniform u. It writes the proposal
-// y = x_j + z (x - x_j), z = stretchZ(a, u), into prop (walkers x d, like
-// pos) and into ps z, u's interval in a stretchTable, and the densities
-// of y as Ensemble.density computes them, with the evaluator ev, or
-// t.LogLike if ev is nil. The density calls go through an interface, so
-// the loop keeps little in registers anyway: the draws and the proposal
-// take its slack.
-func stretchPropose(t Target, ev func([]float64) float64, pcgs []pcg, a float64, d int, pos, prop, others []float64, ps []proposal) {
-	n := len(others) / d
+// pcgIntN and pcgFloat64 take them: the partner j among the len(others)
+// walkers (rows) of the other half and the uniform u. It writes the
+// proposal y = x_j + z (x - x_j), z = stretchZ(a, u), of walker i (row
+// pos[i]) into prop[i], and into ps z, u's interval in a stretchTable,
+// and the densities of y as Ensemble.density computes them, with the
+// evaluator ev, or t.LogLike if ev is nil. The density calls go through
+// an interface, so the loop keeps little in registers anyway: the draws
+// and the proposal take its slack.
+func stretchPropose(t Target, ev func([]float64) float64, pcgs []pcg, a float64, pos, prop, others [][]float64, ps []proposal) {
+	n := len(others)
 	un := uint64(n)
 	pow2 := un&(un-1) == 0
-	pcgs = pcgs[:len(ps)]
+	pcgs, pos, prop = pcgs[:len(ps)], pos[:len(ps)], prop[:len(ps)]
 	for i := range ps {
 		pr := &ps[i]
+		var j int
 		var v uint64
 		if pow2 {
 			// Both draws from the stream's state at once (pcg.next2),
 			// the partner by masking as pcgIntN does.
 			s := pcgs[i]
 			s1, s2 := s.next(), s.next2()
-			pr.j = int(s1.value() & (un - 1))
+			j = int(s1.value() & (un - 1))
 			v = s2.value()
 			pcgs[i] = s2
 		} else {
-			pr.j = pcgIntN(&pcgs[i], n)
+			j = pcgIntN(&pcgs[i], n)
 			v = pcgs[i].Uint64()
 		}
-		pr.k = zBin(v)
 		z := stretchZ(a, unitFloat(v))
-		pr.z = z
-		y := prop[i*d : i*d+d]
-		stretchTo(y, pos[i*d:i*d+d], others[pr.j*d:pr.j*d+d], z)
+		pr.z, pr.k = z, zBin(v)
+		y := prop[i]
+		stretchTo(y, pos[i], others[j], z)
 		lp := t.LogPrior(y)
-		pr.lp, pr.ll, pr.ok = lp, math.Inf(-1), false
-		if !finite(lp) {
-			continue
+		ll := math.Inf(-1) // not evaluated where the prior is not finite
+		if finite(lp) {
+			if ev == nil {
+				ll = t.LogLike(y)
+			} else {
+				ll = ev(y)
+			}
 		}
-		var ll float64
-		if ev == nil {
-			ll = t.LogLike(y)
-		} else {
-			ll = ev(y)
-		}
-		pr.ll, pr.ok = ll, finite(ll)
+		pr.lp, pr.ll, pr.ok = lp, ll, finite(ll)
 	}
 }
 
 // stretchFirst sets post = lnPost(beta, lp, ll) of each proposal and takes
 // the decisions of decideStretch that need no u, from a bracket of ln z
-// (zt's, or lnTable.estimate's where zt is nil): where lnA >= 0 for sure
+// (zt's, or lnTable.approx's where zt is nil): where lnA >= 0 for sure
 // the walker is accepted and listed in kept; where lnA < 0 for sure the
 // bracket [lo, hi] of lnA is recorded and the walker queued for
 // stretchSecond; where neither is sure acceptStretch decides. Walkers
@@ -626,7 +631,8 @@ func stretchFirst(tab *lnTable, zt *stretchTable, pcgs []pcg, c, beta float64, l
 			k := pr.k & (1<<zTabBits - 1)
 			zlo, zhi = zt.ln[k]-zt.slack, zt.ln[k+1]+zt.slack
 		} else {
-			// tab.estimate(z), written out: estimate is not inlined.
+			// NaN, which fails every comparison, where approx gives no
+			// bracket.
 			zl := tab.approx(z)
 			if !normalPos(z) {
 				zl = math.NaN()
@@ -673,13 +679,14 @@ func stretchSecond(ut *uTable, pcgs []pcg, c float64, lpost []float64, ps []prop
 
 // keepAccepted moves each walker i listed in kept to its proposal, with
 // its densities, and counts the acceptance.
-func keepAccepted(d int, pos, prop, lp, ll, lpost []float64, acc []int64, ps []proposal, kept []int) {
+func keepAccepted(pos, prop [][]float64, lp, ll, lpost []float64, acc []int64, ps []proposal, kept []int) {
 	n := len(ps)
-	lp, ll, lpost, acc = lp[:n], ll[:n], lpost[:n], acc[:n]
+	pos, prop, lp, ll, lpost, acc = pos[:n], prop[:n], lp[:n], ll[:n], lpost[:n], acc[:n]
 	for _, i := range kept {
 		pr := &ps[i]
 		// A loop rather than copy, which calls memmove: d is small.
-		x, y := pos[i*d:i*d+d], prop[i*d:i*d+d]
+		x, y := pos[i], prop[i]
+		x = x[:len(y)]
 		for k, v := range y {
 			x[k] = v
 		}
@@ -938,15 +945,6 @@ func (t *lnTable) approx(x float64) float64 {
 	e := &t[bx>>45&127]
 	r := m*e[0] - 1
 	return float64(int(bx>>52)-1023)*math.Ln2 + (e[1] + (r - 0.5*r*r))
-}
-
-// estimate is approx(x) for x with normalPos(x), and NaN, which fails
-// every comparison, for other x.
-func (t *lnTable) estimate(x float64) float64 {
-	if !normalPos(x) {
-		return math.NaN()
-	}
-	return t.approx(x)
 }
 
 // normalPos reports whether x is positive, finite and normal.

@@ -67,10 +67,21 @@ func (p pcg) value() uint64 {
 }
 
 // Uint64 implements rand.Source: it steps the state and returns the
-// output, as rand.PCG.Uint64 does.
+// output, as rand.PCG.Uint64 does. It is next and value written out, the
+// way rand.PCG.Uint64 is, so that the compiler inlines it.
 func (p *pcg) Uint64() uint64 {
-	*p = p.next()
-	return p.value()
+	hi, lo := bits.Mul64(p.lo, pcgMulLo)
+	hi += p.hi*pcgMulLo + p.lo*pcgMulHi
+	lo, c := bits.Add64(lo, pcgIncLo, 0)
+	hi, _ = bits.Add64(hi, pcgIncHi, c)
+	p.lo = lo
+	p.hi = hi
+	const cheapMul = 0xda942042e4dd58b5
+	hi ^= hi >> 32
+	hi *= cheapMul
+	hi ^= hi >> 48
+	hi *= lo | 1
+	return hi
 }
 
 // errPCGEncoding reports an encoding that is not a PCG state.
