@@ -821,13 +821,13 @@ func zBin(v uint64) int { return int(v << 11 >> (64 - zTabBits)) }
 // stretchZ is a non-decreasing function of u (each of its roundings is a
 // non-decreasing function of its operand, and a > 1), and so is the
 // natural logarithm, so ln z lies between its values at the ends of the
-// interval; math.Log errs by less than 1 ulp (stated in the standard
-// library's source, math/log.go), at most 2^-52 |ln z| <= 2^-52 m with m
-// the largest |ln[k]|, both at z and at the ends, and slack =
-// 1e-9 (1 + m) covers that many times over. The intervals are 1/1024 of u
-// wide: the brackets are about 2 (a - 1) / 1024 wide, against 2 lnTol for
-// lnTable, which leaves more decisions to math.Log but skips the estimate
-// of ln z in most of them.
+// interval; math.Log errs by less than 1 ulp (see lnTol), at most
+// 2^-52 |ln z| <= 2^-52 m with m the largest |ln[k]|, both at z and at
+// the ends, and slack = 1e-9 (1 + m) covers that many times over. The
+// intervals are 1/1024 of u wide: the brackets are at most
+// 2 ln(1 + (a-1)/1024) wide (the first), against 2 lnTol for lnTable,
+// which leaves a few decisions in a thousand to math.Log but needs no
+// estimate of ln z.
 type stretchTable struct {
 	ln    [1<<zTabBits + 1]float64 // ln[k] = math.Log(stretchZ(a, k / 2^zTabBits))
 	slack float64
@@ -864,9 +864,9 @@ const uTabBits = 10
 //
 //	ln u = (e - 54) ln 2 + ln f,  pow[e] + mant[i] - slack <= math.Log(u) <= pow[e] + mant[i+1] + slack,
 //
-// since math.Log errs by less than 1 ulp (stated in the standard
-// library's source, math/log.go): at most 2^-52 x 37 = 8.2e-15 for
-// |ln u| <= 53 ln 2, as do the entries, and the sums round by less;
+// since math.Log errs by less than 1 ulp (see lnTol): at most
+// 2^-52 x 37 = 8.2e-15 for |ln u| <= 53 ln 2, as do the entries, and the
+// sums round by less;
 // slack = 1e-9 covers that many times over. pow[0] is NaN, which fails
 // every comparison: u = 0 has no logarithm to bracket. The brackets are
 // at most ln(1 + 2^-uTabBits) < 1e-3 wide.

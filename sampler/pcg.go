@@ -12,8 +12,8 @@ import (
 // outputs and the same binary encoding, so that a rand.Rand over a *pcg
 // and one over a rand.PCG in the same state draw the same numbers. Its
 // state is in reach, which lets the hot loops keep it in registers and
-// take two steps at once (next2). Adapted from Go's math/rand/v2
-// (pcg.go), BSD-style licence, see Go's LICENSE.
+// take two steps at once (next2). Adapted from Go's math/rand/v2,
+// BSD-style licence, see Go's LICENSE.
 type pcg struct {
 	hi, lo uint64
 }
