@@ -3,11 +3,11 @@ package sampler
 import (
 	"bytes"
 	"crypto/sha256"
+	"encoding"
 	"encoding/binary"
 	"errors"
 	"fmt"
 	"math"
-	"math/rand/v2"
 	"slices"
 )
 
@@ -57,7 +57,7 @@ func (w *enc) ints(v []int64) {
 		w.u64(uint64(x))
 	}
 }
-func (w *enc) pcg(p *rand.PCG) error {
+func (w *enc) pcg(p encoding.BinaryMarshaler) error {
 	b, err := p.MarshalBinary()
 	if err != nil {
 		return fmt.Errorf("sampler: checkpoint: %w", err)
@@ -132,7 +132,7 @@ func (r *dec) intsInto(dst []int64, what string) {
 		dst[i] = int64(r.u64())
 	}
 }
-func (r *dec) pcg(p *rand.PCG) {
+func (r *dec) pcg(p encoding.BinaryUnmarshaler) {
 	b := r.bytes()
 	if r.err != nil {
 		return
@@ -186,8 +186,8 @@ func (e *Ensemble) MarshalBinary() ([]byte, error) {
 		w.floats(g.ll)
 		w.floats(g.lpost)
 		w.ints(g.acc)
-		for _, p := range g.pcg {
-			if err := w.pcg(p); err != nil {
+		for k := range g.pcgs {
+			if err := w.pcg(&g.pcgs[k]); err != nil {
 				return nil, err
 			}
 		}
@@ -295,8 +295,8 @@ func Restore(t Target, cfg Config, data []byte, load HistoryLoader) (*Ensemble, 
 		r.floatsInto(g.ll, "ln likelihood")
 		r.floatsInto(g.lpost, "ln posterior")
 		r.intsInto(g.acc, "acceptance counts")
-		for _, p := range g.pcg {
-			r.pcg(p)
+		for w := range g.pcgs {
+			r.pcg(&g.pcgs[w])
 		}
 	}
 	r.pcg(e.swapPCG)

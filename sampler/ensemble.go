@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"math/bits"
 	"math/rand/v2"
 	"runtime"
 	"sync"
@@ -67,9 +68,12 @@ type rung struct {
 	ll    []float64 // ln likelihood
 	lpost []float64 // lp + beta ll
 	acc   []int64   // accepted proposals per walker
-	pcg   []*rand.PCG
+	pcgs  []pcg     // each walker's stream, side by side
 	rng   []*rand.Rand
 	prop  []float64 // proposal scratch, walkers x dim
+	// posRows[w] and propRows[w] are walker w's rows of pos and prop, cut
+	// once so that the stretch passes do not cut them at every step.
+	posRows, propRows [][]float64
 }
 
 // An Ensemble is the state of an affine-invariant ensemble sampler
@@ -102,6 +106,11 @@ type Ensemble struct {
 	// update then runs without the Move interface; 0 otherwise.
 	stretchA []float64
 	lnTab    *lnTable
+	// zTab brackets ln z for the stretch move when it is the only move
+	// (nil when its scale makes the brackets too wide to be of use).
+	zTab *stretchTable
+	// uTab brackets ln u for the uniform draws of the stretch move.
+	uTab *uTable
 	// stretchScr is stretchRange's scratch, one per batch.
 	stretchScr []stretchScratch
 	betas      []float64
@@ -136,10 +145,16 @@ func splitmix64(x uint64) uint64 {
 	return x ^ (x >> 31)
 }
 
+// streamSeeds returns the seeds of the PCG stream for (kind, a, b)
+// derived from seed.
+func streamSeeds(seed uint64, kind, a, b uint64) (uint64, uint64) {
+	h := splitmix64(seed ^ splitmix64(kind^splitmix64(a^splitmix64(b))))
+	return h, splitmix64(h ^ 0x5851f42d4c957f2d)
+}
+
 // streamPCG returns the PCG stream for (kind, a, b) derived from seed.
 func streamPCG(seed uint64, kind, a, b uint64) *rand.PCG {
-	h := splitmix64(seed ^ splitmix64(kind^splitmix64(a^splitmix64(b))))
-	return rand.NewPCG(h, splitmix64(h^0x5851f42d4c957f2d))
+	return rand.NewPCG(streamSeeds(seed, kind, a, b))
 }
 
 const (
@@ -267,12 +282,14 @@ func build(t Target, cfg Config) (*Ensemble, error) {
 		}
 	}
 	e.lnTab = newLnTable()
+	e.uTab = newUTable()
+	if len(moves) == 1 && e.stretchA[0] != 0 {
+		e.zTab = newStretchTable(e.stretchA[0])
+	}
 	e.stretchScr = make([]stretchScratch, max(workers, 1))
 	for b := range e.stretchScr {
 		hw := cfg.Walkers / 2
-		f := func() []float64 { return make([]float64, hw) }
-		e.stretchScr[b] = stretchScratch{j: make([]int, hw), z: f(), zl: f(), lp: f(), ll: f(),
-			ok: make([]bool, hw), lo: f(), hi: f(), post: f(), queue: make([]int, hw), acc: make([]int, hw)}
+		e.stretchScr[b] = stretchScratch{ps: make([]proposal, hw), queue: make([]int, hw), kept: make([]int, hw)}
 	}
 	if mk, ok := t.(LogLikeMaker); ok {
 		e.evals = make([]func([]float64) float64, max(workers, 1))
@@ -293,11 +310,17 @@ func build(t Target, cfg Config) (*Ensemble, error) {
 		g.ll = make([]float64, nw)
 		g.lpost = make([]float64, nw)
 		g.acc = make([]int64, nw)
-		g.pcg = make([]*rand.PCG, nw)
+		g.posRows, g.propRows = make([][]float64, nw), make([][]float64, nw)
+		for w := range nw {
+			g.posRows[w] = g.pos[w*d : w*d+d : w*d+d]
+			g.propRows[w] = g.prop[w*d : w*d+d : w*d+d]
+		}
+		g.pcgs = make([]pcg, nw)
 		g.rng = make([]*rand.Rand, nw)
 		for w := range nw {
-			g.pcg[w] = streamPCG(cfg.Seed, streamWalker, uint64(r), uint64(w))
-			g.rng[w] = rand.New(g.pcg[w])
+			// rand.NewPCG(seed1, seed2) starts in the state (seed1, seed2).
+			g.pcgs[w].hi, g.pcgs[w].lo = streamSeeds(cfg.Seed, streamWalker, uint64(r), uint64(w))
+			g.rng[w] = rand.New(&g.pcgs[w])
 		}
 	}
 	e.swapPCG = streamPCG(cfg.Seed, streamSwap, 0, 0)
@@ -447,11 +470,11 @@ func (e *Ensemble) updateRange(b, lo, hi int) {
 		others := g.pos[o*d : (o+hw)*d]
 		w0, w1 := h*hw+max(lo-r*hw, 0), h*hw+min(hi-r*hw, hw)
 		if len(e.cumW) == 1 && e.stretchA[0] != 0 {
-			e.stretchRange(b, g, beta, others, w0, w1)
+			e.stretchRange(b, g, beta, g.posRows[o:o+hw], w0, w1)
 			continue
 		}
 		for w := w0; w < w1; w++ {
-			p := g.pcg[w]
+			p := &g.pcgs[w]
 			k := 0
 			if len(e.cumW) > 1 {
 				u := pcgFloat64(p)
@@ -501,153 +524,173 @@ func (e *Ensemble) updateRange(b, lo, hi int) {
 // stretchRange updates walkers [w0, w1) of rung g with the stretch move
 // Stretch{A: e.stretchA[0]}, the only move. It is the walker update of
 // updateRange with stretchPCG, density and decideStretch written out, as
-// passes over the walkers that each do one kind of work (each its own
-// function, so that the compiler keeps its few variables in registers):
-// the draws of the proposals; the proposals and the estimates of ln z; the
-// densities; the decisions that need no u; for the walkers whose ln A is
-// known to be negative, the draw of u and the last decision; and the
-// update of the accepted walkers. Walkers of one half depend only on the
-// other half, and each keeps its own order of draws, so the passes change
-// nothing. The outcomes are coin flips that a branch predictor would miss
-// often, so the walkers for the last two passes are queued without a
-// branch on them.
-func (e *Ensemble) stretchRange(b int, g *rung, beta float64, others []float64, w0, w1 int) {
+// passes over the walkers: the draws, the proposals and their densities
+// (stretchPropose); the decisions that need no u (stretchFirst); for the
+// walkers whose ln A is known to be negative, the draw of u and the last
+// decision (stretchSecond); and the update of the accepted walkers
+// (keepAccepted). Each pass is its own function with a short loop whose
+// iterations the processor overlaps, and keeps its few variables in
+// registers. Walkers of one half depend only on the other half, and each
+// keeps its own order of draws, so the passes change nothing. The
+// outcomes are coin flips that a branch predictor would miss often, so
+// the walkers for the last two passes are listed without a branch on
+// them.
+func (e *Ensemble) stretchRange(b int, g *rung, beta float64, others [][]float64, w0, w1 int) {
 	d := e.dim
-	nw := w1 - w0
 	sc := &e.stretchScr[b]
-	js, zs, zls := sc.j[:nw], sc.z[:nw], sc.zl[:nw]
-	lps, lls, oks := sc.lp[:nw], sc.ll[:nw], sc.ok[:nw]
-	los, his, posts, accs := sc.lo[:nw], sc.hi[:nw], sc.post[:nw], sc.acc[:nw]
-	stretchDraws(g.pcg[w0:w1], len(others)/d, js, zs)
-	stretchProposals(e.lnTab, e.stretchA[0], d, g.pos[w0*d:w1*d], g.prop[w0*d:w1*d], others, js, zs, zls)
+	ps := sc.ps[:w1-w0]
+	pcgs := g.pcgs[w0:w1]
+	pos, prop := g.posRows[w0:w1], g.propRows[w0:w1]
 	var ev func([]float64) float64
 	if e.evals != nil {
 		ev = e.evals[b]
 	}
-	densities(e.t, ev, d, g.prop[w0*d:w1*d], lps, lls, oks)
+	stretchPropose(e.t, ev, pcgs, e.stretchA[0], pos, prop, others, ps)
 	c := float64(d - 1)
-	pcgs, lpost := g.pcg[w0:w1], g.lpost[w0:w1]
-	queue := stretchFirst(e.lnTab, pcgs, c, beta, zs, zls, lps, lls, lpost, oks, posts, los, his, accs, sc.queue[:nw])
-	stretchSecond(e.lnTab, pcgs, c, zs, posts, lpost, los, his, accs, queue)
-	keepAccepted(d, g.pos[w0*d:w1*d], g.prop[w0*d:w1*d], g.lp[w0:w1], g.ll[w0:w1], lpost, g.acc[w0:w1], lps, lls, posts, accs, sc.queue[:nw])
+	lpost := g.lpost[w0:w1]
+	queue, kept := stretchFirst(e.lnTab, e.zTab, pcgs, c, beta, lpost, ps, sc.queue, sc.kept)
+	kept = stretchSecond(e.uTab, pcgs, c, lpost, ps, queue, kept)
+	keepAccepted(pos, prop, g.lp[w0:w1], g.ll[w0:w1], lpost, g.acc[w0:w1], ps, kept)
 }
 
-// stretchDraws takes Stretch.Propose's draws from each walker's PCG, as
-// pcgIntN and pcgFloat64 take them: the partner js[i] among n and the
-// uniform zs[i] that stretchZ maps to z.
-func stretchDraws(pcgs []*rand.PCG, n int, js []int, zs []float64) {
-	js, zs = js[:len(pcgs)], zs[:len(pcgs)]
+// A proposal is what the passes of stretchRange hand on for one walker.
+type proposal struct {
+	z      float64 // the stretch factor
+	k      int     // the interval of z's uniform draw in a stretchTable
+	lp, ll float64 // ln prior and ln likelihood of the proposal
+	post   float64 // lnPost of the proposal
+	lo, hi float64 // bracket of ln A
+	ok     bool    // lp and ll are finite
+}
+
+// stretchPropose takes Stretch.Propose's draws from each walker's PCG, as
+// pcgIntN and pcgFloat64 take them: the partner j among the len(others)
+// walkers (rows) of the other half and the uniform u. It writes the
+// proposal y = x_j + z (x - x_j), z = stretchZ(a, u), of walker i (row
+// pos[i]) into prop[i], and into ps z, u's interval in a stretchTable,
+// and the densities of y as Ensemble.density computes them, with the
+// evaluator ev, or t.LogLike if ev is nil. The density calls go through
+// an interface, so the loop keeps little in registers anyway: the draws
+// and the proposal take its slack.
+func stretchPropose(t Target, ev func([]float64) float64, pcgs []pcg, a float64, pos, prop, others [][]float64, ps []proposal) {
+	n := len(others)
 	un := uint64(n)
-	if un&(un-1) == 0 {
-		for i, p := range pcgs {
-			js[i] = int(p.Uint64() & (un - 1))
-			zs[i] = unitFloat(p.Uint64())
-		}
-		return
-	}
-	for i, p := range pcgs {
-		js[i] = pcgIntN(p, n)
-		zs[i] = unitFloat(p.Uint64())
-	}
-}
-
-// stretchProposals turns the uniforms zs into z = stretchZ(a, u) and writes
-// the proposals into prop (walkers x d, like pos) and the estimates of
-// ln z into zls (lnTable.estimate: NaN where there is no bracket, which
-// leaves every decision open).
-func stretchProposals(tab *lnTable, a float64, d int, pos, prop, others []float64, js []int, zs, zls []float64) {
-	zls = zls[:len(zs)]
-	for i, u := range zs {
-		j := js[i]
-		z := stretchZ(a, u)
-		stretchTo(prop[i*d:i*d+d], pos[i*d:i*d+d], others[j*d:j*d+d], z)
-		zs[i], zls[i] = z, tab.estimate(z)
-	}
-}
-
-// densities is Ensemble.density at each row of prop (walkers x d), with
-// the evaluator ev, or t.LogLike if ev is nil.
-func densities(t Target, ev func([]float64) float64, d int, prop, lps, lls []float64, oks []bool) {
-	lls, oks = lls[:len(lps)], oks[:len(lps)]
-	for i := range lps {
-		y := prop[i*d : i*d+d]
-		lp := t.LogPrior(y)
-		lps[i], lls[i], oks[i] = lp, math.Inf(-1), false
-		if !finite(lp) {
-			continue
-		}
-		var ll float64
-		if ev == nil {
-			ll = t.LogLike(y)
+	pow2 := un&(un-1) == 0
+	pcgs, pos, prop = pcgs[:len(ps)], pos[:len(ps)], prop[:len(ps)]
+	for i := range ps {
+		pr := &ps[i]
+		var j int
+		var v uint64
+		if pow2 {
+			// Both draws from the stream's state at once (pcg.next2),
+			// the partner by masking as pcgIntN does.
+			s := pcgs[i]
+			s1, s2 := s.next(), s.next2()
+			j = int(s1.value() & (un - 1))
+			v = s2.value()
+			pcgs[i] = s2
 		} else {
-			ll = ev(y)
+			j = pcgIntN(&pcgs[i], n)
+			v = pcgs[i].Uint64()
 		}
-		lls[i], oks[i] = ll, finite(ll)
+		z := stretchZ(a, unitFloat(v))
+		pr.z, pr.k = z, zBin(v)
+		y := prop[i]
+		stretchTo(y, pos[i], others[j], z)
+		lp := t.LogPrior(y)
+		ll := math.Inf(-1) // not evaluated where the prior is not finite
+		if finite(lp) {
+			if ev == nil {
+				ll = t.LogLike(y)
+			} else {
+				ll = ev(y)
+			}
+		}
+		pr.lp, pr.ll, pr.ok = lp, ll, finite(ll)
 	}
 }
 
-// stretchFirst sets posts[i] = lnPost(beta, lps[i], lls[i]) and takes the
-// decisions of decideStretch that need no u, from the estimates zls of
-// ln z: accs[i] = 1 where lnA >= 0 for sure, 0
-// otherwise; where lnA < 0 for sure it records the bracket [los[i],
-// his[i]] of lnA and queues i for stretchSecond; where neither is sure it
-// calls acceptStretch. Walkers whose density is not finite (oks[i] false)
-// are rejected without a draw. It returns the queue.
-func stretchFirst(tab *lnTable, pcgs []*rand.PCG, c, beta float64, zs, zls, lps, lls, lpost []float64, oks []bool, posts, los, his []float64, accs, queue []int) []int {
-	nq := 0
-	for i, ok := range oks {
-		accs[i] = 0
-		if !ok {
-			continue
+// stretchFirst sets post = lnPost(beta, lp, ll) of each proposal and takes
+// the decisions of decideStretch that need no u, from a bracket of ln z
+// (zt's, or lnTable.approx's where zt is nil): where lnA >= 0 for sure
+// the walker is accepted and listed in kept; where lnA < 0 for sure the
+// bracket [lo, hi] of lnA is recorded and the walker queued for
+// stretchSecond; where neither is sure acceptStretch decides. Walkers
+// whose density is not finite (ok false) are rejected without a draw. It
+// returns the queue and the list, in the memory of queue and kept.
+func stretchFirst(tab *lnTable, zt *stretchTable, pcgs []pcg, c, beta float64, lpost []float64, ps []proposal, queue, kept []int) ([]int, []int) {
+	n := len(ps)
+	pcgs, lpost, queue, kept = pcgs[:n], lpost[:n], queue[:n], kept[:n]
+	nq, nk := 0, 0
+	for i := range ps {
+		pr := &ps[i]
+		post, lpo, z := lnPost(beta, pr.lp, pr.ll), lpost[i], pr.z
+		// A bracket [zlo, zhi] of math.Log(z).
+		var zlo, zhi float64
+		if zt != nil {
+			k := pr.k & (1<<zTabBits - 1)
+			zlo, zhi = zt.ln[k]-zt.slack, zt.ln[k+1]+zt.slack
+		} else {
+			// NaN, which fails every comparison, where approx gives no
+			// bracket.
+			zl := tab.approx(z)
+			if !normalPos(z) {
+				zl = math.NaN()
+			}
+			zlo, zhi = zl-lnTol, zl+lnTol
 		}
-		post, zl := lnPost(beta, lps[i], lls[i]), zls[i]
-		posts[i] = post
-		lo := float64(float64(c*(zl-lnTol))+post) - lpost[i]
-		hi := float64(float64(c*(zl+lnTol))+post) - lpost[i]
-		yes := b2i(lo >= 0)
-		need := b2i(hi < 0)
-		if yes|need == 0 {
-			yes = b2i(acceptStretch(tab, pcgs[i], c, zs[i], post, lpost[i]))
+		lo := float64(float64(c*zlo)+post) - lpo
+		hi := float64(float64(c*zhi)+post) - lpo
+		ok := b2i(pr.ok)
+		yes := b2i(lo >= 0) & ok
+		need := b2i(hi < 0) & ok
+		if yes|need|(ok^1) == 0 {
+			yes = b2i(acceptStretch(tab, &pcgs[i], c, z, post, lpo))
 		}
-		los[i], his[i], accs[i] = lo, hi, yes
+		pr.post, pr.lo, pr.hi = post, lo, hi
 		queue[nq] = i
 		nq += need
+		kept[nk] = i
+		nk += yes
 	}
-	return queue[:nq]
+	return queue[:nq], kept[:nk]
 }
 
 // stretchSecond finishes decideStretch for the queued walkers: it draws u
-// and sets accs[i] to whether ln u < lnA, from the estimate of ln u where
-// that is sure and from math.Log otherwise.
-func stretchSecond(tab *lnTable, pcgs []*rand.PCG, c float64, zs, posts, lpost, los, his []float64, accs, queue []int) {
+// and decides whether ln u < lnA, from ut's bracket of ln u where that is
+// sure and from math.Log otherwise, and appends the accepted walkers to
+// kept, which it returns.
+func stretchSecond(ut *uTable, pcgs []pcg, c float64, lpost []float64, ps []proposal, queue, kept []int) []int {
+	nk := len(kept)
+	kept = kept[:nk+len(queue)]
 	for _, i := range queue {
-		u := unitFloat(pcgs[i].Uint64())
-		ul := tab.estimate(u)
-		yes := b2i(ul+lnTol < los[i])
-		if yes|b2i(ul-lnTol >= his[i]) == 0 {
-			yes = b2i(math.Log(u) < float64(float64(c*math.Log(zs[i]))+posts[i])-lpost[i])
+		pr := &ps[i]
+		v := pcgs[i].Uint64()
+		ulo, uhi := ut.bracket(v)
+		yes := b2i(uhi < pr.lo)
+		if yes|b2i(ulo >= pr.hi) == 0 {
+			yes = b2i(math.Log(unitFloat(v)) < float64(float64(c*math.Log(pr.z))+pr.post)-lpost[i])
 		}
-		accs[i] = yes
+		kept[nk] = i
+		nk += yes
 	}
+	return kept[:nk]
 }
 
-// keepAccepted moves each walker i with accs[i] = 1 to its proposal, with
-// its densities, and counts the acceptance; walkers with accs[i] = 0 stay
-// as they are. The accepted walkers are first listed in kept, without a
-// branch.
-func keepAccepted(d int, pos, prop, lp, ll, lpost []float64, acc []int64, lps, lls, posts []float64, accs, kept []int) {
-	n := 0
-	for i, a := range accs {
-		kept[n] = i
-		n += a
-	}
-	for _, i := range kept[:n] {
+// keepAccepted moves each walker i listed in kept to its proposal, with
+// its densities, and counts the acceptance.
+func keepAccepted(pos, prop [][]float64, lp, ll, lpost []float64, acc []int64, ps []proposal, kept []int) {
+	n := len(ps)
+	pos, prop, lp, ll, lpost, acc = pos[:n], prop[:n], lp[:n], ll[:n], lpost[:n], acc[:n]
+	for _, i := range kept {
+		pr := &ps[i]
 		// A loop rather than copy, which calls memmove: d is small.
-		x, y := pos[i*d:i*d+d], prop[i*d:i*d+d]
+		x, y := pos[i], prop[i]
+		x = x[:len(y)]
 		for k, v := range y {
 			x[k] = v
 		}
-		lp[i], ll[i], lpost[i] = lps[i], lls[i], posts[i]
+		lp[i], ll[i], lpost[i] = pr.lp, pr.ll, pr.post
 		acc[i]++
 	}
 }
@@ -655,11 +698,8 @@ func keepAccepted(d int, pos, prop, lp, ll, lpost []float64, acc []int64, lps, l
 // stretchScratch holds what the passes of stretchRange hand on, per
 // walker of a batch.
 type stretchScratch struct {
-	j             []int
-	z, zl, lp, ll []float64
-	ok            []bool
-	lo, hi, post  []float64
-	queue, acc    []int
+	ps          []proposal
+	queue, kept []int
 }
 
 // unitFloat is the float64 in [0, 1) that math/rand/v2's Float64 makes of
@@ -685,7 +725,7 @@ func pick(m uint64, a, b float64) float64 {
 // computed from a copy of p before it is known whether u is needed, and p
 // then advances past u only if it is. The rare cases that the brackets
 // leave open go to acceptStretch.
-func decideStretch(tab *lnTable, p *rand.PCG, c, z, post, lpost float64) int {
+func decideStretch(tab *lnTable, p *pcg, c, z, post, lpost float64) int {
 	zlo, zhi, zok := tab.bracket(z)
 	q := *p
 	u := pcgFloat64(&q)
@@ -699,7 +739,7 @@ func decideStretch(tab *lnTable, p *rand.PCG, c, z, post, lpost float64) int {
 	if b2i(zok)&b2i(uok)&(yes|need)&(yes|yesU|noU) == 0 {
 		return b2i(acceptStretch(tab, p, c, z, post, lpost))
 	}
-	*p = [2]rand.PCG{*p, q}[need]
+	*p = [2]pcg{*p, q}[need]
 	return yes | yesU
 }
 
@@ -708,7 +748,7 @@ func decideStretch(tab *lnTable, p *rand.PCG, c, z, post, lpost float64) int {
 // ln u < lnA for u = rand.New(p).Float64(), the only draw. ln u is bracketed
 // first (lnTable.bracket), and computed only when the bracket straddles
 // lnA.
-func metropolis(tab *lnTable, p *rand.PCG, lnA float64) bool {
+func metropolis(tab *lnTable, p *pcg, lnA float64) bool {
 	if math.IsNaN(lnA) {
 		return false
 	}
@@ -739,7 +779,7 @@ func metropolis(tab *lnTable, p *rand.PCG, lnA float64) bool {
 // needs equal infinities in the last subtraction, and those reach one
 // end). The result, and the draws taken from p, are those of
 // metropolis(tab, p, lnA).
-func acceptStretch(tab *lnTable, p *rand.PCG, c, z, post, lpost float64) bool {
+func acceptStretch(tab *lnTable, p *pcg, c, z, post, lpost float64) bool {
 	zlo, zhi, ok := tab.bracket(z)
 	if !ok {
 		return metropolis(tab, p, float64(float64(c*math.Log(z))+post)-lpost)
@@ -762,6 +802,101 @@ func acceptStretch(tab *lnTable, p *rand.PCG, c, z, post, lpost float64) bool {
 		return math.Log(u) < float64(float64(c*math.Log(z))+post)-lpost
 	}
 	return metropolis(tab, p, float64(float64(c*math.Log(z))+post)-lpost)
+}
+
+// zTabBits is the base-2 logarithm of the number of intervals of u in a
+// stretchTable.
+const zTabBits = 10
+
+// zBin is the interval of a stretchTable that holds unitFloat(v): the top
+// zTabBits of the 53 bits that make the float.
+func zBin(v uint64) int { return int(v << 11 >> (64 - zTabBits)) }
+
+// A stretchTable brackets math.Log(z) for the stretch factors
+// z = stretchZ(a, u) of one scale a by the interval of u, without
+// computing z's logarithm: for u in [k, k+1) / 2^zTabBits,
+//
+//	ln[k] - slack <= math.Log(stretchZ(a, u)) <= ln[k+1] + slack.
+//
+// stretchZ is a non-decreasing function of u (each of its roundings is a
+// non-decreasing function of its operand, and a > 1), and so is the
+// natural logarithm, so ln z lies between its values at the ends of the
+// interval; math.Log errs by less than 1 ulp (see lnTol), at most
+// 2^-52 |ln z| <= 2^-52 m with m the largest |ln[k]|, both at z and at
+// the ends, and slack = 1e-9 (1 + m) covers that many times over. The
+// intervals are 1/1024 of u wide: the brackets are at most
+// 2 ln(1 + (a-1)/1024) wide (the first), against 2 lnTol for lnTable,
+// which leaves a few decisions in a thousand to math.Log but needs no
+// estimate of ln z.
+type stretchTable struct {
+	ln    [1<<zTabBits + 1]float64 // ln[k] = math.Log(stretchZ(a, k / 2^zTabBits))
+	slack float64
+}
+
+// newStretchTable returns the stretchTable of scale a, or nil if its widest
+// bracket, the first, is wider than 1e-2 (a above about 6), or a bracket
+// is not finite.
+func newStretchTable(a float64) *stretchTable {
+	t := &stretchTable{}
+	m := 0.0
+	for k := range t.ln {
+		t.ln[k] = math.Log(stretchZ(a, float64(k)/(1<<zTabBits)))
+		if !finite(t.ln[k]) {
+			return nil
+		}
+		m = max(m, math.Abs(t.ln[k]))
+	}
+	if !(t.ln[1]-t.ln[0] <= 1e-2) {
+		return nil
+	}
+	t.slack = 1e-9 * (1 + m)
+	return t
+}
+
+// uTabBits is the base-2 logarithm of the number of intervals of a
+// mantissa in a uTable.
+const uTabBits = 10
+
+// A uTable brackets math.Log(u) for u = unitFloat(v) from the bits of v
+// alone. With m = v mod 2^53 > 0 (u = m 2^-53) and e = bits.Len64(m),
+// m = f 2^(e-1) with f in [1, 2) whose leading uTabBits bits after the
+// point, i, put it in [1 + i/2^uTabBits, 1 + (i+1)/2^uTabBits); so
+//
+//	ln u = (e - 54) ln 2 + ln f,  pow[e] + mant[i] - slack <= math.Log(u) <= pow[e] + mant[i+1] + slack,
+//
+// since math.Log errs by less than 1 ulp (see lnTol): at most
+// 2^-52 x 37 = 8.2e-15 for |ln u| <= 53 ln 2, as do the entries, and the
+// sums round by less;
+// slack = 1e-9 covers that many times over. pow[0] is NaN, which fails
+// every comparison: u = 0 has no logarithm to bracket. The brackets are
+// at most ln(1 + 2^-uTabBits) < 1e-3 wide.
+type uTable struct {
+	pow   [64]float64
+	mant  [1<<uTabBits + 1]float64
+	slack float64
+}
+
+// newUTable computes the table.
+func newUTable() *uTable {
+	t := &uTable{slack: 1e-9}
+	t.pow[0] = math.NaN()
+	for e := 1; e < len(t.pow); e++ {
+		t.pow[e] = float64(e-54) * math.Ln2
+	}
+	for i := range t.mant {
+		t.mant[i] = math.Log(1 + float64(i)/(1<<uTabBits))
+	}
+	return t
+}
+
+// bracket returns lo <= math.Log(unitFloat(v)) <= hi; both are NaN when
+// unitFloat(v) = 0.
+func (t *uTable) bracket(v uint64) (lo, hi float64) {
+	m := v << 11 >> 11
+	e := bits.Len64(m)
+	i := m << (64 - e) << 1 >> (64 - uTabBits)
+	p := t.pow[e&63]
+	return p + t.mant[i] - t.slack, p + t.mant[i+1] + t.slack
 }
 
 // lnTol bounds |lnTable.approx(x) - math.Log(x)| with room to spare:
@@ -810,15 +945,6 @@ func (t *lnTable) approx(x float64) float64 {
 	e := &t[bx>>45&127]
 	r := m*e[0] - 1
 	return float64(int(bx>>52)-1023)*math.Ln2 + (e[1] + (r - 0.5*r*r))
-}
-
-// estimate is approx(x) for x with normalPos(x), and NaN, which fails
-// every comparison, for other x.
-func (t *lnTable) estimate(x float64) float64 {
-	if !normalPos(x) {
-		return math.NaN()
-	}
-	return t.approx(x)
 }
 
 // normalPos reports whether x is positive, finite and normal.

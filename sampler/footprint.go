@@ -24,11 +24,15 @@ const pcgEncoded = 28
 
 // State is the ensemble itself: per walker and rung the position and the
 // proposal scratch (2 x Dim values), ln prior, ln likelihood, ln posterior
-// and the acceptance count (4 values), at 8 bytes each, and a PCG stream
-// with its generator (about 56 bytes).
+// and the acceptance count (4 values), at 8 bytes each, a PCG stream with
+// its generator and the headers of the walker's two rows (about 88
+// bytes); and the tables of the stretch move's logarithms (stateTables).
 func (f Footprint) State() float64 {
-	return float64(f.Rungs) * float64(f.Walkers) * (float64(2*f.Dim+4)*8 + 56)
+	return float64(f.Rungs)*float64(f.Walkers)*(float64(2*f.Dim+4)*8+88) + stateTables
 }
+
+// stateTables bounds the bytes of an Ensemble's stretchTable and uTable.
+const stateTables = 18 << 10
 
 // History is what Run keeps after Steps steps: the cold rung's positions
 // and every rung's ln likelihood, Steps x Walkers x (Dim + Rungs) x 8.

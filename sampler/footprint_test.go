@@ -4,6 +4,7 @@ import (
 	"context"
 	"math"
 	"testing"
+	"unsafe"
 )
 
 // TestFootprintCheckpoint: the checkpoint bound holds, and is close, for
@@ -55,5 +56,14 @@ func TestFootprintNoOverflow(t *testing.T) {
 	f := Footprint{Walkers: 1 << 62, Dim: 1 << 40, Rungs: 1 << 40, Steps: 1 << 62}
 	if p := f.Peak(); !(p > 1e50) || math.IsInf(p, 0) {
 		t.Errorf("Peak of absurd settings = %g", p)
+	}
+}
+
+// TestFootprintTables: the tables State counts once per ensemble hold
+// what an Ensemble allocates for them; the reference is unsafe.Sizeof of
+// the two types.
+func TestFootprintTables(t *testing.T) {
+	if got := unsafe.Sizeof(stretchTable{}) + unsafe.Sizeof(uTable{}); float64(got) > stateTables {
+		t.Errorf("tables take %d bytes, State counts %d", got, stateTables)
 	}
 }

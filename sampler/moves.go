@@ -88,7 +88,7 @@ func stretchTo(y, x, xj []float64, z float64) {
 // the draws taken from p directly (the same draws, see pcgIntN and
 // pcgFloat64); it returns z and leaves (d-1) ln z, the log factor, to the
 // caller, which rarely needs it exactly (see acceptStretch).
-func stretchPCG(p *rand.PCG, a float64, x, others []float64, n int, y []float64) (z float64) {
+func stretchPCG(p *pcg, a float64, x, others []float64, n int, y []float64) (z float64) {
 	d := len(x)
 	j := pcgIntN(p, n)
 	z = stretchZ(a, pcgFloat64(p))
@@ -99,7 +99,7 @@ func stretchPCG(p *rand.PCG, a float64, x, others []float64, n int, y []float64)
 // pcgFloat64 returns rand.New(p).Float64(), taking the same single draw
 // from p: math/rand/v2 defines Float64 as float64(Uint64()<<11>>11) / 2^53.
 // Calling the concrete PCG saves the Source interface call.
-func pcgFloat64(p *rand.PCG) float64 {
+func pcgFloat64(p *pcg) float64 {
 	return float64(p.Uint64()<<11>>11) / (1 << 53)
 }
 
@@ -108,7 +108,7 @@ func pcgFloat64(p *rand.PCG) float64 {
 // otherwise keeps the high word of Uint64() x n, redrawing while the low
 // word falls below 2^64 mod n (Lemire 2019, "Fast random integer
 // generation in an interval"); its 32-bit variant gives the same values.
-func pcgIntN(p *rand.PCG, n int) int {
+func pcgIntN(p *pcg, n int) int {
 	un := uint64(n)
 	if un&(un-1) == 0 {
 		return int(p.Uint64() & (un - 1))
