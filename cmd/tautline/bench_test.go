@@ -1,10 +1,13 @@
 package main
 
 import (
+	"math"
 	"math/rand/v2"
+	"slices"
 	"tautline/models/registry"
 	"tautline/runconfig"
 	"testing"
+	"time"
 )
 
 // benchPosterior builds the posterior of model on the 30-bin SMBHB demo
@@ -42,5 +45,45 @@ func BenchmarkLogLike(b *testing.B) {
 			}
 			_ = s
 		})
+	}
+}
+
+// BenchmarkLogLikeRatio measures what BenchmarkLogLike does for every
+// model, interleaved: each iteration times one block of calls of each
+// model in turn, and the best block of each model (the one least disturbed
+// by other work on the machine) gives its cost. It reports each model's
+// cost relative to smbhb (metric "x_smbhb/MODEL"; the target is <= 3 for
+// every string model) and smbhb's in ns ("ns/smbhb").
+func BenchmarkLogLikeRatio(b *testing.B) {
+	const block = 16384
+	names := registry.Names()
+	type bench struct {
+		name string
+		pb   *runconfig.Problem
+		pts  [][]float64
+		best float64
+	}
+	var bs []*bench
+	for _, m := range names {
+		pb, pts := benchPosterior(b, m)
+		bs = append(bs, &bench{name: m, pb: pb, pts: pts, best: math.Inf(1)})
+	}
+	s := 0.0
+	for b.Loop() {
+		for _, m := range bs {
+			t0 := time.Now()
+			for i := range block {
+				s += m.pb.Target.LogLike(m.pts[i%len(m.pts)])
+			}
+			m.best = min(m.best, float64(time.Since(t0).Nanoseconds())/block)
+		}
+	}
+	_ = s
+	ref := bs[slices.Index(names, "smbhb")].best
+	b.ReportMetric(ref, "ns/smbhb")
+	for _, m := range bs {
+		if m.name != "smbhb" {
+			b.ReportMetric(m.best/ref, "x_smbhb/"+m.name)
+		}
 	}
 }
