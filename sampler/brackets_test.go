@@ -136,3 +136,37 @@ func TestStretchDecisionsTable(t *testing.T) {
 	}
 	t.Logf("%d decisions", n)
 }
+
+// TestSwapBelowMatchesLog: the swap decision by uTable's bracket takes the
+// same draw and gives the same answer as math.Log(u) < lnA with u from
+// math/rand/v2's Rand.Float64 over the same PCG, for lnA random, exactly
+// at ln u, one ulp either side of it, and NaN and infinite.
+func TestSwapBelowMatchesLog(t *testing.T) {
+	e := &Ensemble{uTab: newUTable(), swapPCG: rand.NewPCG(9, 10)}
+	ref := rand.New(rand.NewPCG(9, 10))
+	peek := rand.NewPCG(9, 10)
+	r := rand.New(rand.NewPCG(11, 12))
+	for i := range 300000 {
+		lu := math.Log(rand.New(peek).Float64()) // the next draw's ln u
+		var lnA float64
+		switch i % 7 {
+		case 0:
+			lnA = lu
+		case 1:
+			lnA = math.Nextafter(lu, math.Inf(1))
+		case 2:
+			lnA = math.Nextafter(lu, math.Inf(-1))
+		case 3:
+			lnA = []float64{math.NaN(), math.Inf(-1), math.Inf(1), 0, -1e-300}[r.IntN(5)]
+		default:
+			lnA = -30 * r.Float64()
+		}
+		want := math.Log(ref.Float64()) < lnA
+		if got := e.swapBelow(lnA); got != want {
+			t.Fatalf("draw %d: lnA = %v, ln u = %v: %v, want %v", i, lnA, lu, got, want)
+		}
+	}
+	if e.swapPCG.Uint64() != ref.Uint64() {
+		t.Fatal("swapBelow took a different number of draws")
+	}
+}

@@ -117,7 +117,6 @@ type Ensemble struct {
 	rungs      []rung
 	steps      int
 	swapPCG    *rand.PCG
-	swapRng    *rand.Rand
 	swapAcc    []int64
 	swapTry    []int64
 	roundAcc   []float64
@@ -324,7 +323,6 @@ func build(t Target, cfg Config) (*Ensemble, error) {
 		}
 	}
 	e.swapPCG = streamPCG(cfg.Seed, streamSwap, 0, 0)
-	e.swapRng = rand.New(e.swapPCG)
 	return e, nil
 }
 
@@ -961,7 +959,7 @@ func (e *Ensemble) swap() {
 		n := 0
 		for w := range e.nw {
 			lnA := db * (b.ll[w] - a.ll[w])
-			if lnA >= 0 || math.Log(e.swapRng.Float64()) < lnA {
+			if lnA >= 0 || e.swapBelow(lnA) {
 				xa, xb := a.pos[w*d:w*d+d], b.pos[w*d:w*d+d]
 				for i := range d {
 					xa[i], xb[i] = xb[i], xa[i]
@@ -977,6 +975,22 @@ func (e *Ensemble) swap() {
 		e.swapTry[k] += int64(e.nw)
 		e.roundAcc[k] = float64(n) / float64(e.nw)
 	}
+}
+
+// swapBelow draws u from the swap stream and reports whether
+// math.Log(u) < lnA, taking ln u from the bracket of uTab where that
+// decides: the same draw (rand.Rand's Float64 is unitFloat of one Uint64)
+// and the same decision as math.Log(rand.New(e.swapPCG).Float64()) < lnA.
+func (e *Ensemble) swapBelow(lnA float64) bool {
+	v := e.swapPCG.Uint64()
+	lo, hi := e.uTab.bracket(v)
+	if hi < lnA {
+		return true
+	}
+	if lo >= lnA {
+		return false
+	}
+	return math.Log(unitFloat(v)) < lnA
 }
 
 // Steps returns the number of steps taken.
