@@ -250,7 +250,7 @@ type shares struct{ total, diag, csv, csvWall float64 }
 // default of the command's --flush-every (runconfig's Output.FlushEvery),
 // which the bench does not import.
 const (
-	fitPairs   = 3
+	fitPairs   = 5
 	flushEvery = 100
 )
 
