@@ -6,6 +6,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"math"
 	"os"
 	"strconv"
 	"strings"
@@ -14,20 +15,23 @@ import (
 	"tautline/internal/safeio"
 )
 
-// A Writer appends rows to a chain file. Append only copies a row into a
-// batch of rows; a full batch is handed to the Writer's one background
-// goroutine, which formats the batches in order and writes each with one
-// write call, so that formatting runs beside the caller's work (on another
-// core when one is free) while the bytes are exactly those of formatting
-// every value on the spot. A fixed number of batches (batchesInFlight)
-// circulate between the two, which bounds the memory and how far the
-// goroutine may fall behind: Append waits when they are all in use.
+// A Writer appends rows to a chain file. Append (or AppendEnsemble, for a
+// whole ensemble step) only copies rows into a batch of rows; a full batch
+// is handed to the Writer's background goroutine, which formats the
+// batches in order and writes each with one write call, so that formatting
+// runs beside the caller's work (on another core when one is free) while
+// the bytes are exactly those of formatting every value on the spot. A
+// fixed number of batches (batchesInFlight) circulate between the two,
+// which bounds the memory and how far the goroutine may fall behind:
+// Append waits when they are all in use. The fsyncs that StartFlush asks
+// for and those of the writeback run on a second goroutine, so that the
+// formatting goes on while the disk works; Flush's waits for the disk.
 //
 // Flush waits until everything appended is written and fsynced. An error
-// met by the goroutine (a failed write or fsync) is returned by the next
+// met in the background (a failed write or fsync) is returned by the next
 // Append, StartFlush, Flush or Close; rows appended after it are dropped.
 // A Writer is not safe for concurrent use. Close must be called, also after
-// an error, to stop the goroutine and close the file.
+// an error, to stop the goroutines and close the file.
 type Writer struct {
 	path  string
 	f     *os.File // written only by the goroutine until it has stopped
@@ -67,13 +71,14 @@ type flushResult struct {
 // smbhb model's 6 columns, about 43 steps of a 32-walker ensemble, formatted
 // into one write of about 115 KB. batchesInFlight batches circulate (512
 // KiB, made once per Writer): one being filled by Append, the others queued
-// for or being written by the goroutine, enough for the caller to go on
-// through the goroutine's fsyncs (a few milliseconds for a few MB) at a fast
-// model's pace.
+// for or being written by the goroutine, enough for the caller to go on at
+// a fast model's pace while the goroutine waits for a core or for a write
+// (the fsyncs, a millisecond or so per MB, do not hold it up).
 //
-// writebackBytes is how much the goroutine writes before it fsyncs on its
-// own when it has nothing else to do, so that the data reach the disk while
-// the caller works and the fsync of the next Flush or of Close is short.
+// writebackBytes is how much the goroutine writes before it has the file
+// fsynced on its own when it has nothing else to do, so that the data
+// reach the disk while the caller works and the fsync of the next Flush or
+// of Close is short.
 const (
 	batchFloats     = 1 << 13
 	batchesInFlight = 8
@@ -86,23 +91,142 @@ const (
 // significant digits, and float64 exponents at most three digits).
 const maxValueText = 24
 
-// formatter is the state of a Writer's goroutine.
+// formatter is the state of a Writer's goroutine (and of the fsyncs it
+// has made by syncLoop).
 type formatter struct {
 	path  string
 	f     *os.File
+	fsync func() error // f.Sync
 	ncol  int
 	off   int64  // bytes of the file written so far
-	dirty int64  // bytes written since the last fsync
+	dirty int64  // bytes written since the last fsync began
 	out   []byte // a batch's text; its capacity fits the longest batch
 	err   error  // first write or fsync error; later batches are dropped
+
+	// kick asks syncLoop for an fsync, whose error comes back on result;
+	// syncing says that one is in progress, owed that another must follow
+	// it (rows were written after it began that a flush request covers).
+	kick          chan struct{}
+	result        chan error
+	syncing, owed bool
+
+	// The text of the first value of the last row (the step, which all
+	// the rows of an ensemble share): first[:firstLen] is the text of the
+	// float64 whose bits are firstBits; firstLen 0 when there is none.
+	firstBits uint64
+	firstLen  int
+	first     [maxValueText]byte
+	// tails keeps, for each walker slot (see walkerSlot), the values after
+	// the first of the last row with that slot and their text (from the
+	// comma before the second value to the newline): a walker whose
+	// proposal was rejected repeats them exactly.
+	tails memo
+}
+
+// A memo holds, for slots 0 to n-1, the last row tail (the values after a
+// row's first) remembered in the slot and its text: slot k's values are
+// bits[k*m:(k+1)*m] (m values) and its text text[k*stride:][:size[k]],
+// size[k] 0 for a slot not yet used.
+type memo struct {
+	m, stride int
+	bits      []uint64
+	text      []byte
+	size      []int32
+}
+
+// memoBytes bounds a Writer's memo: about 1500 walkers of the smbhb
+// model's 6 columns, 160 of 50 columns (the rows of walkers beyond are
+// formatted every time).
+const memoBytes = 1 << 18
+
+// walkerSlot returns the memo slot of a row whose second value is v: v
+// itself when it is an integer from 0 to 2^31-1 (a walker number in the
+// command's column convention), else -1 (the row is not remembered).
+func walkerSlot(v float64) int {
+	if !(v >= 0 && v < 1<<31) {
+		return -1 // also NaN
+	}
+	k := int(v)
+	if float64(k) != v {
+		return -1
+	}
+	return k
+}
+
+// get returns the text remembered in slot k if the values remembered
+// there are bit for bit those of tail, else nil.
+func (mm *memo) get(k int, tail []float64) []byte {
+	if k >= len(mm.size) || mm.size[k] == 0 {
+		return nil
+	}
+	bits := mm.bits[k*mm.m : (k+1)*mm.m]
+	for j, v := range tail[:len(bits)] {
+		if math.Float64bits(v) != bits[j] {
+			return nil
+		}
+	}
+	return mm.text[k*mm.stride:][:mm.size[k]]
+}
+
+// put remembers tail and its text in slot k, growing the memo (up to
+// memoBytes) when k is beyond it; a slot that does not fit is not
+// remembered.
+func (mm *memo) put(k int, tail []float64, text []byte) {
+	if k >= len(mm.size) {
+		if mm.stride == 0 {
+			mm.m = len(tail)
+			mm.stride = len(tail)*(maxValueText+1) + 1 // ",value" for each, then "\n"
+		}
+		limit := memoBytes / (8*mm.m + mm.stride + 4)
+		if k >= limit {
+			return
+		}
+		n := min(limit, max(k+1, 2*len(mm.size), 32))
+		bits := make([]uint64, n*mm.m)
+		copy(bits, mm.bits)
+		txt := make([]byte, n*mm.stride)
+		copy(txt, mm.text)
+		size := make([]int32, n)
+		copy(size, mm.size)
+		mm.bits, mm.text, mm.size = bits, txt, size
+	}
+	bits := mm.bits[k*mm.m : (k+1)*mm.m]
+	for j, v := range tail[:len(bits)] {
+		bits[j] = math.Float64bits(v)
+	}
+	mm.size[k] = int32(copy(mm.text[k*mm.stride:(k+1)*mm.stride], text))
 }
 
 // run serves the Writer's messages until work is closed. An error is
 // published in w.bgErr before the batch that met it goes back on w.free,
-// so the Append that takes that batch back sees it.
+// so the Append that takes that batch back sees it; an error of an fsync
+// made in the background (see startSync) is published when it comes back.
 func (fm *formatter) run(w *Writer) {
 	defer close(w.done)
-	for m := range w.work {
+	fm.kick, fm.result = make(chan struct{}, 1), make(chan error, 1)
+	go syncLoop(fm.fsync, fm.kick, fm.result)
+	defer close(fm.kick)
+	defer fm.awaitSync()
+	for {
+		var result <-chan error
+		if fm.syncing {
+			result = fm.result
+		}
+		var m message
+		select {
+		case err := <-result:
+			fm.synced(err)
+			if fm.owed || fm.dirty >= writebackBytes && len(w.work) == 0 {
+				fm.startSync()
+			}
+			fm.publish(w)
+			continue
+		case mm, ok := <-w.work:
+			if !ok {
+				return
+			}
+			m = mm
+		}
 		if len(m.rows) > 0 {
 			fm.write(m.rows)
 		}
@@ -112,14 +236,11 @@ func (fm *formatter) run(w *Writer) {
 		case m.sync && (w.syncs.Load() == m.seq || fm.dirty >= writebackBytes):
 			// A later request, made already, would fsync for both; but
 			// not if its turn could be put off again and again.
-			fm.sync()
-		case fm.dirty >= writebackBytes && len(w.work) == 0:
-			fm.sync() // on its own, while idle
+			fm.startSync()
+		case fm.dirty >= writebackBytes && len(w.work) == 0 && !fm.syncing:
+			fm.startSync() // on its own, while idle
 		}
-		if fm.err != nil && w.bgErr.Load() == nil {
-			err := fm.err
-			w.bgErr.Store(&err)
-		}
+		fm.publish(w)
 		if m.rows != nil {
 			w.free <- m.rows[:0]
 		}
@@ -129,20 +250,95 @@ func (fm *formatter) run(w *Writer) {
 	}
 }
 
+// publish makes the goroutine's first error visible to the caller.
+func (fm *formatter) publish(w *Writer) {
+	if fm.err != nil && w.bgErr.Load() == nil {
+		err := fm.err
+		w.bgErr.Store(&err)
+	}
+}
+
+// syncLoop calls fsync once for every value received on kick and sends
+// the outcome on result, until kick is closed.
+func syncLoop(fsync func() error, kick <-chan struct{}, result chan<- error) {
+	for range kick {
+		result <- fsync()
+	}
+}
+
+// startSync has everything written so far fsynced in the background, by
+// syncLoop, while the goroutine goes on formatting and writing (an fsync
+// waits for the disk, about a millisecond per MB, which would otherwise
+// hold up the batches): at once, or, when an fsync is in progress (begun
+// before the last writes), as soon as that one is done.
+func (fm *formatter) startSync() {
+	if fm.err != nil {
+		return
+	}
+	if fm.syncing {
+		fm.owed = true
+		return
+	}
+	fm.syncing, fm.owed, fm.dirty = true, false, 0
+	fm.kick <- struct{}{} // room: syncLoop has sent its last result
+}
+
+// synced records the outcome of a background fsync.
+func (fm *formatter) synced(err error) {
+	fm.syncing = false
+	if err != nil && fm.err == nil {
+		fm.err = fmt.Errorf("chains: %s: %w", fm.path, err)
+	}
+}
+
+// awaitSync waits for the background fsync in progress, if any.
+func (fm *formatter) awaitSync() {
+	if fm.syncing {
+		fm.synced(<-fm.result)
+	}
+}
+
 // write formats rows, ncol values each, and writes them with one call.
+// A value's text depends only on its bits, so the text of a value (or row
+// tail) bit-identical to one formatted before is copied instead of
+// formatted again: the first value when it is that of the row before (the
+// step of an ensemble), and the rest of the row when it repeats the last
+// row with the same walker slot (a rejected proposal).
 func (fm *formatter) write(rows []float64) {
 	if fm.err != nil {
 		return
 	}
 	b := fm.out[:0]
-	for i := 0; i+fm.ncol <= len(rows); i += fm.ncol {
-		for j, v := range rows[i : i+fm.ncol] {
-			if j > 0 {
-				b = append(b, ',')
+	ncol := fm.ncol
+	for i := 0; i+ncol <= len(rows); i += ncol {
+		row := rows[i : i+ncol]
+		if u := math.Float64bits(row[0]); u == fm.firstBits && fm.firstLen > 0 {
+			b = append(b, fm.first[:fm.firstLen]...)
+		} else {
+			n := len(b)
+			b = appendFloat(b, row[0])
+			fm.firstBits, fm.firstLen = u, copy(fm.first[:], b[n:])
+		}
+		tail := row[1:]
+		k := -1
+		if ncol > 1 {
+			k = walkerSlot(row[1])
+		}
+		if k >= 0 {
+			if t := fm.tails.get(k, tail); t != nil {
+				b = append(b, t...)
+				continue
 			}
+		}
+		n := len(b)
+		for _, v := range tail {
+			b = append(b, ',')
 			b = appendFloat(b, v)
 		}
 		b = append(b, '\n')
+		if k >= 0 {
+			fm.tails.put(k, tail, b[n:])
+		}
 	}
 	n, err := fm.f.Write(b)
 	fm.off += int64(n)
@@ -152,15 +348,18 @@ func (fm *formatter) write(rows []float64) {
 	}
 }
 
+// sync fsyncs everything written so far and waits for it, after the
+// background fsync in progress (whose error it reports too).
 func (fm *formatter) sync() {
+	fm.awaitSync()
 	if fm.err != nil {
 		return
 	}
-	if err := fm.f.Sync(); err != nil {
+	if err := fm.fsync(); err != nil {
 		fm.err = fmt.Errorf("chains: %s: %w", fm.path, err)
 		return
 	}
-	fm.dirty = 0
+	fm.dirty, fm.owed = 0, false
 }
 
 var errClosed = errors.New("chains: writer is closed")
@@ -209,6 +408,11 @@ func Create(path string, columns []string) (*Writer, error) {
 // newWriter starts the Writer of f, whose length is off, with batches of
 // rows rows, and its goroutine.
 func newWriter(path string, f *os.File, ncol int, off int64, rows int) *Writer {
+	return newWriterSync(path, f, ncol, off, rows, f.Sync)
+}
+
+// newWriterSync is newWriter with sync (f.Sync but in tests) to fsync f.
+func newWriterSync(path string, f *os.File, ncol int, off int64, rows int, sync func() error) *Writer {
 	w := &Writer{
 		path:  path,
 		f:     f,
@@ -222,7 +426,7 @@ func newWriter(path string, f *os.File, ncol int, off int64, rows int) *Writer {
 	for range batchesInFlight - 1 {
 		w.free <- make([]float64, 0, rows*ncol)
 	}
-	fm := &formatter{path: path, f: f, ncol: ncol, off: off, out: make([]byte, 0, rows*ncol*(maxValueText+1))}
+	fm := &formatter{path: path, f: f, fsync: sync, ncol: ncol, off: off, out: make([]byte, 0, rows*ncol*(maxValueText+1))}
 	go fm.run(w)
 	return w
 }
@@ -307,6 +511,60 @@ func (w *Writer) Append(row []float64) error {
 		w.pending = 0
 		w.batch = <-w.free
 	}
+	return nil
+}
+
+// ensembleColumns is the number of columns before the parameters in the
+// command's column convention: step, walker, ln_post, ln_like.
+const ensembleColumns = 4
+
+// AppendEnsemble adds the rows of one ensemble step in the command's
+// column convention (step, walker, ln_post, ln_like, then the parameters;
+// see the package documentation): for walker k = 0, 1, ..., the row step,
+// k, lnPost[k], lnLike[k], pos[k*dim:(k+1)*dim], where dim is the number
+// of columns less 4. The file gets exactly the bytes of calling Append with
+// each of these rows in turn (step and k are stored as float64, exact up
+// to 2^53), for one call and one check of the background's error per step
+// instead of per row. lnLike must hold len(lnPost) values and pos
+// len(lnPost)*dim, else nothing is appended and an error is returned. Like
+// Append, it returns an error the background met (rows of this step may
+// then be dropped, with every later one), and it does not allocate.
+func (w *Writer) AppendEnsemble(step int, lnPost, lnLike, pos []float64) error {
+	if w.err != nil {
+		return w.err
+	}
+	dim := w.ncol - ensembleColumns
+	if dim < 0 {
+		return fmt.Errorf("chains: %s: %d columns, fewer than the %d of an ensemble row (step, walker, ln_post, ln_like)", w.path, w.ncol, ensembleColumns)
+	}
+	walkers := len(lnPost)
+	if len(lnLike) != walkers || len(pos) != walkers*dim {
+		return fmt.Errorf("chains: %s: ensemble of %d ln_post, %d ln_like and %d parameter values, want %d, %d and %d (%d parameters per walker)",
+			w.path, walkers, len(lnLike), len(pos), walkers, walkers, walkers*dim, dim)
+	}
+	if err := w.failed(); err != nil {
+		return err
+	}
+	s := float64(step)
+	b := w.batch
+	for k := range walkers {
+		// Each batch holds whole rows (its capacity is a multiple of
+		// ncol), so a row never straddles two batches.
+		b = append(b, s, float64(k), lnPost[k], lnLike[k])
+		b = append(b, pos[k*dim:(k+1)*dim]...)
+		if len(b) == cap(b) {
+			w.work <- message{rows: b, sync: w.pending != 0, seq: w.pending}
+			w.pending = 0
+			b = <-w.free
+			// The goroutine publishes an error before it gives back the
+			// batch that met it: Append would see it at its next call.
+			if err := w.failed(); err != nil {
+				w.batch = b
+				return err
+			}
+		}
+	}
+	w.batch = b
 	return nil
 }
 

@@ -156,26 +156,11 @@ func FuzzWriterMatchesStrconv(f *testing.F) {
 			var x [8]byte
 			n := copy(x[:], data)
 			data = data[n:]
-			bits := binary.LittleEndian.Uint64(x[:])
-			var v float64
-			switch ctl & 3 {
-			case 0:
-				v = math.Float64frombits(bits)
-			case 1:
-				v = float64(int32(bits))
-			case 2:
-				if prev != nil {
-					v = prev[len(row)]
-				}
-			case 3:
-				v = float64(int64(bits)) / 1e3
-				if ctl&4 != 0 {
-					// A short decimal times a power of ten: the switches
-					// between plain digits and the exponent form.
-					v = float64(int32(bits)) * math.Pow(10, float64(int8(bits>>32)%40))
-				}
+			var above float64
+			if prev != nil {
+				above = prev[len(row)]
 			}
-			row = append(row, v)
+			row = append(row, fuzzValue(ctl, binary.LittleEndian.Uint64(x[:]), above))
 			if len(row) < ncol {
 				continue
 			}

@@ -123,7 +123,6 @@ func Run(ctx context.Context, p Problem, s Settings) (*Result, error) {
 		return nil, err
 	}
 	rep := s.Reporter
-	row := make([]float64, len(columns))
 	dim := len(p.Names)
 	writeCheckpoint := func(en *sampler.Ensemble) error {
 		off, err := w.Flush()
@@ -142,14 +141,9 @@ func Run(ctx context.Context, p Problem, s Settings) (*Result, error) {
 		return rundir.WriteCheckpoint(paths.Checkpoint, rundir.Checkpoint{ChainOffset: off, State: state})
 	}
 	onStep := func(en *sampler.Ensemble) error {
-		pos, lpost, ll := en.Positions(0), en.LnPost(0), en.LnLike(0)
-		row[0] = float64(en.Steps())
-		for k := range en.Walkers() {
-			row[1], row[2], row[3] = float64(k), lpost[k], ll[k]
-			copy(row[4:], pos[k*dim:(k+1)*dim])
-			if err := w.Append(row); err != nil {
-				return err
-			}
+		// One row per walker: step, walker, ln_post, ln_like, position.
+		if err := w.AppendEnsemble(en.Steps(), en.LnPost(0), en.LnLike(0), en.Positions(0)); err != nil {
+			return err
 		}
 		if hot != nil {
 			if err := hot.append(en); err != nil {

@@ -104,8 +104,8 @@ func run(steps int, e2e bool, py string, cmp bool, before string) error {
 		if err != nil {
 			return err
 		}
-		fmt.Printf("fit %-8s %d steps x 32 walkers: %.2f s; diagnostics %.1f %% of this sampling phase (stricter than the goal, which counts the whole command), chain.csv %.1f %% of the caller's time, %.1f %% added wall time (goal <= 10 %%)\n",
-			c.name, steps, sh.total, 100*sh.diag/sh.total, 100*sh.csv/sh.total, 100*sh.csvWall/sh.total)
+		fmt.Printf("fit %-8s %d steps x 32 walkers: %.2f s; diagnostics %.1f %% of this sampling phase (stricter than the goal, which counts the whole command), chain.csv %.1f %% of the caller's time, %.1f %% added wall time (best of %d runs with and %d without, alternated; goal <= 10 %%)\n",
+			c.name, steps, sh.total, 100*sh.diag/sh.total, 100*sh.csv/sh.total, 100*sh.csvWall/sh.total, fitPairs, fitPairs)
 	}
 	if e2e {
 		fmt.Println()
@@ -245,22 +245,44 @@ func samplerOverhead(dim int) float64 {
 
 type shares struct{ total, diag, csv, csvWall float64 }
 
+// fitPairs is the number of runs of the fit replica with the chain.csv
+// writer and without it that fitShares alternates. flushEvery is the
+// default of the command's --flush-every (runconfig's Output.FlushEvery),
+// which the bench does not import.
+const (
+	fitPairs   = 5
+	flushEvery = 100
+)
+
 // fitShares runs what `fit --workers 1 --checkpoint-every 0` runs for the
-// sampling phase, Run with a chain.csv writer on every step, and the same
-// run without the writer: csv is the time spent in the writer's calls,
-// csvWall the wall time the writer adds (its formatting runs in the
-// background, on another core when one is free).
+// sampling phase, Run with a chain.csv writer on every step (and a
+// non-waiting flush every flushEvery steps, as by default), and the same
+// run without the writer, fitPairs times each in alternation. It returns
+// the shares of the fastest run with the writer: csv is the time spent in
+// the writer's calls, csvWall the wall time the writer adds, that run's
+// time less the fastest run's without the writer (the writer formats and
+// fsyncs in the background, on another core when one is free). The
+// fastest run of each kind is the one least slowed by other work on the
+// machine, which moves single runs by tens of percent.
 func fitShares(p *likelihood.Posterior, steps int) (shares, error) {
-	sh, err := fitSharesOnce(p, steps, true)
-	if err != nil {
-		return sh, err
+	best := shares{total: math.Inf(1)}
+	bare := math.Inf(1)
+	for range fitPairs {
+		sh, err := fitSharesOnce(p, steps, true)
+		if err != nil {
+			return sh, err
+		}
+		if sh.total < best.total {
+			best = sh
+		}
+		without, err := fitSharesOnce(p, steps, false)
+		if err != nil {
+			return sh, err
+		}
+		bare = math.Min(bare, without.total)
 	}
-	bare, err := fitSharesOnce(p, steps, false)
-	if err != nil {
-		return sh, err
-	}
-	sh.csvWall = math.Max(sh.total-bare.total, 0)
-	return sh, nil
+	best.csvWall = math.Max(best.total-bare, 0)
+	return best, nil
 }
 
 func fitSharesOnce(p *likelihood.Posterior, steps int, write bool) (shares, error) {
@@ -275,13 +297,12 @@ func fitSharesOnce(p *likelihood.Posterior, steps int, write bool) (shares, erro
 		return shares{}, err
 	}
 	defer e.Close()
-	names := p.FreeNames()
-	w, err := chains.Create(filepath.Join(dir, "chain.csv"), append([]string{"step", "walker", "ln_post", "ln_like"}, names...))
-	if err != nil {
-		return shares{}, err
+	var w *chains.Writer
+	if write {
+		if w, err = chains.Create(filepath.Join(dir, "chain.csv"), append([]string{"step", "walker", "ln_post", "ln_like"}, p.FreeNames()...)); err != nil {
+			return shares{}, err
+		}
 	}
-	dim := len(names)
-	row := make([]float64, 4+dim)
 	var csv time.Duration
 	res, err := sampler.Run(context.Background(), e, sampler.RunOptions{
 		MaxSteps: steps, Burn: -1, CheckEvery: max(100, min(500, steps/10)),
@@ -290,13 +311,13 @@ func fitSharesOnce(p *likelihood.Posterior, steps int, write bool) (shares, erro
 			if !write {
 				return nil
 			}
+			// What fitrun's onStep does with --checkpoint-every 0.
 			t := time.Now()
-			pos, lpost, ll := en.Positions(0), en.LnPost(0), en.LnLike(0)
-			row[0] = float64(en.Steps())
-			for k := range en.Walkers() {
-				row[1], row[2], row[3] = float64(k), lpost[k], ll[k]
-				copy(row[4:], pos[k*dim:(k+1)*dim])
-				if err := w.Append(row); err != nil {
+			if err := w.AppendEnsemble(en.Steps(), en.LnPost(0), en.LnLike(0), en.Positions(0)); err != nil {
+				return err
+			}
+			if en.Steps()%flushEvery == 0 {
+				if err := w.StartFlush(); err != nil {
 					return err
 				}
 			}
@@ -304,15 +325,16 @@ func fitSharesOnce(p *likelihood.Posterior, steps int, write bool) (shares, erro
 			return nil
 		},
 	})
+	if write {
+		t := time.Now()
+		if cerr := w.Close(); err == nil && cerr != nil {
+			err = cerr
+		}
+		csv += time.Since(t)
+	}
 	if err != nil {
-		w.Close()
 		return shares{}, err
 	}
-	t := time.Now()
-	if err := w.Close(); err != nil {
-		return shares{}, err
-	}
-	csv += time.Since(t)
 	total := time.Since(t0).Seconds()
 	d := res.DiagnosticsTime.Seconds()
 	return shares{total: total, diag: d, csv: csv.Seconds()}, nil
