@@ -75,10 +75,12 @@ func run(steps int, e2e bool, py string, cmp bool, before string) error {
 		return err
 	}
 	xs := []float64{-14.6, 13.0 / 3}
-	full := nsPer(func() { pS.LogLike(xs) })
 	hand := handPowerLaw(smbhb, fsS, h0)
-	hv := nsPer(func() { hand.logLike(xs) })
-	fmt.Printf("SMBHB likelihood, 30 bins:                    %7.1f ns   hand-written lookup %5.1f ns: ratio %.2f (goal <= 3)\n", full, hv, full/hv)
+	lk := bestOf(5,
+		func() float64 { return nsPer(func() { pS.LogLike(xs) }) },
+		func() float64 { return nsPer(func() { hand.logLike(xs) }) })
+	full, hv := lk[0], lk[1]
+	fmt.Printf("SMBHB likelihood, 30 bins:                    %7.1f ns   hand-written lookup %5.1f ns: ratio %.2f (goal <= 3; best of 5 alternated runs each)\n", full, hv, full/hv)
 
 	tab, err := cosmicstrings.LoadTable(cosmicstrings.DefaultSettings(), "", cosmicstrings.BuildOptions{Workers: runtime.NumCPU(), Seed: 1})
 	if err != nil {
@@ -90,10 +92,12 @@ func run(steps int, e2e bool, py string, cmp bool, before string) error {
 		return err
 	}
 	xt := midPrior(pT)
-	strNs := nsPer(func() { pT.LogLike(xt) })
-	over := samplerOverhead(pT.Dim())
+	so := bestOf(5,
+		func() float64 { return nsPer(func() { pT.LogLike(xt) }) },
+		func() float64 { return samplerOverhead(pT.Dim()) })
+	strNs, over := so[0], so[1]
 	fmt.Printf("string likelihood, 30 bins:                   %7.1f ns\n", strNs)
-	fmt.Printf("sampler overhead per walker-step:             %7.1f ns   %.1f %% of a string likelihood (goal <= 10 %%)\n", over, 100*over/strNs)
+	fmt.Printf("sampler overhead per walker-step:             %7.1f ns   %.1f %% of a string likelihood (goal <= 10 %%; best of 5 alternated runs each)\n", over, 100*over/strNs)
 
 	// In-process replica of `fit --workers 1` on both demos: shares of time.
 	for _, c := range []struct {
@@ -139,6 +143,23 @@ func midPrior(p *likelihood.Posterior) []float64 {
 }
 
 // nsPer returns the mean time of f over about 0.2 s, in ns.
+// bestOf runs the measurements ms in turn k times and returns the smallest
+// value of each: alternating them puts a change in the machine's load on
+// all of them alike, and the smallest is the run least disturbed by other
+// work.
+func bestOf(k int, ms ...func() float64) []float64 {
+	best := make([]float64, len(ms))
+	for i := range best {
+		best[i] = math.Inf(1)
+	}
+	for range k {
+		for i, m := range ms {
+			best[i] = math.Min(best[i], m())
+		}
+	}
+	return best
+}
+
 func nsPer(f func()) float64 {
 	n := 1000
 	for {
