@@ -246,17 +246,16 @@ type lagTable struct {
 	c          []float64
 	dev        [2][]float64 // a centred series per goroutine
 	par        bool
+	chunk      int // lags computed at once (acf.SumsWidth)
 	// load writes walker w's series, centred, into dev.
 	load func(w int, dev []float64)
 }
-
-// lagChunk is the number of lags computed at once.
-const lagChunk = 16
 
 func (t *lagTable) reset(n, walkers int, par bool, load func(w int, dev []float64)) {
 	t.n, t.walkers, t.load = n, walkers, load
 	t.limit = min(lagLimit(n), n)
 	t.have = 0
+	t.chunk = acf.SumsWidth()
 	t.c = growF64(t.c, walkers*t.limit)
 	t.par = par && n*walkers >= parMin
 	for i := range t.dev {
@@ -270,7 +269,7 @@ func (t *lagTable) ensure(m int) bool {
 		if t.have >= t.limit {
 			return false
 		}
-		lo, hi := t.have, min(t.have+lagChunk, t.limit)
+		lo, hi := t.have, min(t.have+t.chunk, t.limit)
 		split(t.par, t.walkers, func(w0, w1 int) {
 			dev := t.dev[0]
 			if w0 > 0 {

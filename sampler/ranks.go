@@ -23,7 +23,8 @@ type ranker struct {
 	keys []uint64    // sortKey of the values, in order after sort
 	idx  []int32     // idx[p] is the index of the value at position p
 	tmpI []int32
-	tmpK []uint64 // the sort's second key buffer, if spare is not given
+	tmpK []uint64   // the sort's second key buffer
+	cnt  [2][]int32 // bucketSort's bucket ends, per round
 }
 
 // A scoreTable holds the normal scores of the untied ranks of size values,
@@ -60,24 +61,19 @@ func (r *ranker) scores(S int) []float64 {
 }
 
 // sortKey maps a float64 to a uint64 whose unsigned order is the order of
-// cmp.Compare on the floats (NaNs first, all mapped to 0).
+// cmp.Compare on the floats (NaNs first, all mapped to 0): the bits of a
+// negative float inverted, of a positive one with the sign bit set.
 func sortKey(v float64) uint64 {
 	if v != v {
 		return 0
 	}
 	b := math.Float64bits(v)
-	if b>>63 != 0 {
-		return ^b
-	}
-	return b | 1<<63
+	return b ^ (uint64(int64(b)>>63) | 1<<63) // without a branch on the sign
 }
 
 // keyValue inverts sortKey (a NaN key gives a NaN).
 func keyValue(k uint64) float64 {
-	if k>>63 != 0 {
-		return math.Float64frombits(k &^ (1 << 63))
-	}
-	return math.Float64frombits(^k)
+	return math.Float64frombits(k ^ ((k>>63 - 1) | 1<<63))
 }
 
 // load sets the values to rank: n of them, value i being v(i).
@@ -135,15 +131,149 @@ func (r *ranker) normalize(v, z []float64) []float64 {
 }
 
 // sort orders the loaded values; spare, if at least as long as the
-// values, is overwritten as the sort's second key buffer.
+// values, may be overwritten as the sort's second key buffer.
 func (r *ranker) sort(spare []uint64) {
 	n := len(r.keys)
 	if len(spare) < n {
 		r.tmpK = growU64(r.tmpK, n)
 		spare = r.tmpK
 	}
+	spare = spare[:n]
 	r.tmpI = growI32(r.tmpI, n)
-	sortPairs(r.keys, r.idx, spare[:n], r.tmpI)
+	if n >= bucketMin && r.bucketSort(r.keys, r.idx, spare, r.tmpI) {
+		return
+	}
+	sortPairs(r.keys, r.idx, spare, r.tmpI)
+}
+
+// bucketMin is the number of values from which sort distributes them
+// into buckets by value before sorting each bucket.
+const bucketMin = 1 << 12
+
+// coarseLoad and fineLoad are the mean numbers of values per bucket of
+// the two rounds of bucketSort.
+const (
+	coarseLoad = 1024
+	fineLoad   = 1
+)
+
+// insertMax is the largest bucket bucketSort orders by insertion.
+const insertMax = 48
+
+// A bucketing maps the finite values lo <= v <= hi to nb buckets of equal
+// width, (v - lo) * nb/(hi - lo) truncated: monotone in v, since each
+// operation rounds monotonically.
+type bucketing struct {
+	lo, scale float64
+	last      int
+}
+
+// newBucketing returns the bucketing of the keys into about n/load
+// buckets, and false if the keys are not those of finite values of a
+// positive range that the buckets resolve.
+func newBucketing(keys []uint64, load int) (bucketing, bool) {
+	minK, maxK := keys[0], keys[0]
+	for _, k := range keys {
+		minK = min(minK, k)
+		maxK = max(maxK, k)
+	}
+	lo, hi := keyValue(minK), keyValue(maxK)
+	nb := max(len(keys)/load, 1)
+	scale := float64(nb) / (hi - lo)
+	if minK == 0 || math.IsInf(hi-lo, 0) || !(hi > lo) || math.IsInf(scale, 0) {
+		// NaNs, infinities, a range beyond the floats, no range (zeros
+		// of both signs) or too little of it for the scale.
+		return bucketing{}, false
+	}
+	return bucketing{lo: lo, scale: scale, last: nb - 1}, true
+}
+
+func (g bucketing) of(k uint64) int {
+	return min(int((keyValue(k)-g.lo)*g.scale), g.last)
+}
+
+// scatter writes the pairs (keys[i], idx[i]) into dk, di bucket by bucket
+// in order, stably, and returns the end of every bucket (in cnt, which it
+// grows).
+func (g bucketing) scatter(keys []uint64, idx []int32, dk []uint64, di []int32, cnt []int32) []int32 {
+	nb := g.last + 1
+	cnt = growI32(cnt, nb+1)
+	clear(cnt)
+	for _, k := range keys {
+		cnt[g.of(k)+1]++
+	}
+	for b := 1; b <= nb; b++ {
+		cnt[b] += cnt[b-1]
+	}
+	// cnt[b] is now the start of bucket b; after the loop, its end.
+	for i, k := range keys {
+		b := g.of(k)
+		p := cnt[b]
+		cnt[b] = p + 1
+		dk[p] = k
+		di[p] = idx[i]
+	}
+	return cnt[:nb]
+}
+
+// bucketSort sorts keys in increasing order, permuting idx alike, stably,
+// with tk and ti (as long as keys) as its second buffers, and returns
+// true; it returns false, having done nothing, when the keys are not those
+// of finite values of positive range. The values are distributed into
+// buckets of equal width, ordered since the bucketing is monotone, each
+// small enough to fit in the first-level cache, and each of those in
+// turn into buckets of a few values (a bucket can only hold more when
+// its values crowd together: those are radix sorted), which insertion
+// then orders.
+func (r *ranker) bucketSort(keys []uint64, idx []int32, tk []uint64, ti []int32) bool {
+	g, ok := newBucketing(keys, coarseLoad)
+	if !ok {
+		return false
+	}
+	r.cnt[0] = g.scatter(keys, idx, tk, ti, r.cnt[0])
+	start := 0
+	for _, e := range r.cnt[0] {
+		end := int(e)
+		k, i, sk, si := keys[start:end], idx[start:end], tk[start:end], ti[start:end]
+		start = end
+		if len(k) <= insertMax {
+			copy(k, sk)
+			copy(i, si)
+			insertionSort(k, i)
+			continue
+		}
+		f, ok := newBucketing(sk, fineLoad)
+		if !ok {
+			copy(k, sk)
+			copy(i, si)
+			sortPairs(k, i, sk, si)
+			continue
+		}
+		r.cnt[1] = f.scatter(sk, si, k, i, r.cnt[1])
+		s := 0
+		for _, e := range r.cnt[1] {
+			if int(e)-s > insertMax {
+				sortPairs(k[s:e], i[s:e], sk[s:e], si[s:e])
+			}
+			s = int(e)
+		}
+		// The buckets being in order, no value moves out of its own.
+		insertionSort(k, i)
+	}
+	return true
+}
+
+// insertionSort sorts keys in increasing order, permuting idx alike,
+// stably.
+func insertionSort(keys []uint64, idx []int32) {
+	for j := 1; j < len(keys); j++ {
+		k, x := keys[j], idx[j]
+		i := j - 1
+		for ; i >= 0 && keys[i] > k; i-- {
+			keys[i+1], idx[i+1] = keys[i], idx[i]
+		}
+		keys[i+1], idx[i+1] = k, x
+	}
 }
 
 // tiedScore is the score of the ranks i+1 .. j+1 of S values, sc being

@@ -1,0 +1,132 @@
+package sampler
+
+import (
+	"fmt"
+	"slices"
+	"testing"
+	"time"
+)
+
+// abBench times old and new alternately (swapping which goes first) in
+// every iteration, so that both see the same load of a shared machine,
+// and reports the median time of each and the median ratio new/old of
+// the pairs.
+func abBench(b *testing.B, old, new func()) {
+	var to, tn, ratio []float64
+	for i := 0; b.Loop(); i++ {
+		var do, dn time.Duration
+		for j := range 2 {
+			t := time.Now()
+			if (i+j)%2 == 0 {
+				old()
+				do = time.Since(t)
+			} else {
+				new()
+				dn = time.Since(t)
+			}
+		}
+		to = append(to, do.Seconds()*1e3)
+		tn = append(tn, dn.Seconds()*1e3)
+		ratio = append(ratio, dn.Seconds()/do.Seconds())
+	}
+	med := func(v []float64) float64 {
+		slices.Sort(v)
+		return v[len(v)/2]
+	}
+	b.ReportMetric(med(to), "old-ms")
+	b.ReportMetric(med(tn), "new-ms")
+	b.ReportMetric(med(ratio), "new/old")
+}
+
+// gaussHistory returns an ensemble of 32 walkers on a correlated Gaussian
+// in dim 2 or 3 that has recorded steps steps.
+func gaussHistory(b *testing.B, dim, steps int) *Ensemble {
+	b.Helper()
+	mu := []float64{0, 1, 2}[:dim]
+	cov := [][]float64{{1, 0.5, 0}, {0.5, 2, 0.3}, {0, 0.3, 1}}[:dim]
+	for i := range cov {
+		cov[i] = cov[i][:dim]
+	}
+	tg := newGaussTarget(b, mu, cov)
+	e, err := New(tg, Config{Walkers: 32, Seed: 1, Workers: 1})
+	if err != nil {
+		b.Fatal(err)
+	}
+	b.Cleanup(e.Close)
+	e.hist = newHistory(e)
+	e.hist.reserve(steps)
+	for range steps {
+		if err := e.Step(); err != nil { // Step records into e.hist
+			b.Fatal(err)
+		}
+	}
+	return e
+}
+
+// BenchmarkFinalReport times Run's final report (evaluate with final set)
+// on the history of a 20000-step, 32-walker run in 2 and 3 dimensions:
+// warm reuses the diagnostics' buffers and score table of the previous
+// report, as repeated checks of one size do; fresh starts from a new pool,
+// as the final report of a run does (its checks had other sizes).
+func BenchmarkFinalReport(b *testing.B) {
+	for _, dim := range []int{2, 3} {
+		e := gaussHistory(b, dim, 20000)
+		opt := RunOptions{MaxSteps: 20000, Burn: -1}
+		for _, fresh := range []bool{false, true} {
+			name := fmt.Sprintf("dim=%d/warm", dim)
+			if fresh {
+				name = fmt.Sprintf("dim=%d/fresh", dim)
+			}
+			b.Run(name, func(b *testing.B) {
+				for b.Loop() {
+					if fresh {
+						e.hist.diag = nil
+					}
+					evaluate(e, opt, true)
+				}
+			})
+		}
+	}
+}
+
+// finalDraws returns parameter k of the chain a final report of
+// gaussHistory(dim, 20000) diagnoses (burn-in 2000 steps, thinned by 3),
+// in the layout x[s*walkers+w], plus shift.
+func finalDraws(b *testing.B, e *Ensemble, k int, shift float64) []float64 {
+	v := e.hist.view(2000, 3, 6000)
+	x := v.gather(nil, k)
+	out := make([]float64, len(x))
+	for w := range v.walkers {
+		for s := range v.steps {
+			out[s*v.walkers+w] = x[w*v.steps+s] + shift
+		}
+	}
+	return out
+}
+
+// BenchmarkRankSort compares the ranker's sort of 192000 draws of a final
+// report with the radix sort alone (sortPairs), on the two parameters of
+// a Gaussian and on the first shifted to -14.6 (all of one sign and
+// binade).
+func BenchmarkRankSort(b *testing.B) {
+	e := gaussHistory(b, 2, 20000)
+	for _, c := range []struct {
+		name  string
+		k     int
+		shift float64
+	}{{"p0", 0, 0}, {"p1", 1, 0}, {"p0-14.6", 0, -14.6}} {
+		x := finalDraws(b, e, c.k, c.shift)
+		b.Run(c.name, func(b *testing.B) {
+			var r, q ranker
+			abBench(b, func() {
+				q.load(len(x), func(i int) float64 { return x[i] })
+				q.tmpK = growU64(q.tmpK, len(x))
+				q.tmpI = growI32(q.tmpI, len(x))
+				sortPairs(q.keys, q.idx, q.tmpK, q.tmpI)
+			}, func() {
+				r.load(len(x), func(i int) float64 { return x[i] })
+				r.sort(nil)
+			})
+		})
+	}
+}
