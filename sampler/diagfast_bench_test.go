@@ -2,6 +2,7 @@ package sampler
 
 import (
 	"fmt"
+	"math"
 	"slices"
 	"testing"
 	"time"
@@ -78,12 +79,14 @@ func BenchmarkFinalReport(b *testing.B) {
 				name = fmt.Sprintf("dim=%d/fresh", dim)
 			}
 			b.Run(name, func(b *testing.B) {
+				c0 := cpuTime()
 				for b.Loop() {
 					if fresh {
 						e.hist.diag = nil
 					}
 					evaluate(e, opt, true)
 				}
+				b.ReportMetric((cpuTime()-c0).Seconds()*1e3/float64(b.N), "cpu-ms/op")
 			})
 		}
 	}
@@ -129,4 +132,111 @@ func BenchmarkRankSort(b *testing.B) {
 			})
 		})
 	}
+}
+
+// BenchmarkScores compares ranker.score and foldScore with the versions
+// kept below, on the draws of BenchmarkRankSort.
+func BenchmarkScores(b *testing.B) {
+	e := gaussHistory(b, 2, 20000)
+	x := finalDraws(b, e, 1, 0)
+	var r ranker
+	r.load(len(x), func(i int) float64 { return x[i] })
+	r.sort(nil)
+	z := make([]float64, len(x))
+	med := r.median()
+	b.Run("score", func(b *testing.B) {
+		abBench(b, func() { oldScore(&r, z) }, func() { r.score(z) })
+	})
+	b.Run("fold", func(b *testing.B) {
+		abBench(b, func() { oldFoldScore(&r, z, med) }, func() { r.foldScore(z, med) })
+	})
+}
+
+// oldScore is ranker.score before it was tuned, kept for A/B timing: it writes the score of every loaded, ordered value into z[i] for
+// its index i, with average ranks for equal values.
+func oldScore(r *ranker, z []float64) {
+	S := len(r.keys)
+	sc := r.scores(S)
+	keys, idx := r.keys, r.idx
+	for i := 0; i < S; {
+		vi := keyValue(keys[i])
+		j := i
+		for j+1 < S && keyValue(keys[j+1]) == vi {
+			j++
+		}
+		q := tiedScore(sc, i, j, S)
+		for k := i; k <= j; k++ {
+			z[idx[k]] = q
+		}
+		i = j + 1
+	}
+}
+
+// oldFoldScore is ranker.foldScore before it was tuned, kept for A/B
+// timing: it writes into z[i] the score of |v_i - med| among the folded
+// values, for the ordered values v of the ranker, and reports whether it
+// could: the folded values are ordered by merging those below med
+// (decreasing) with those above (increasing), which needs finite values;
+// it leaves z alone and returns false otherwise. Rounding is monotone, so
+// the merge orders the folded values exactly as sorting them would.
+func oldFoldScore(r *ranker, z []float64, med float64) bool {
+	S := len(r.keys)
+	if S == 0 || math.IsNaN(med) || math.IsInf(med, 0) {
+		return false
+	}
+	if lo, hi := r.at(0), r.at(S-1); math.IsNaN(lo) || math.IsInf(lo, 0) || math.IsInf(hi, 0) {
+		return false
+	}
+	sc := r.scores(S)
+	keys, idx := r.keys, r.idx
+	// p0 is the first position whose value is at least med.
+	p0, hi := 0, S
+	for p0 < hi {
+		m := int(uint(p0+hi) >> 1)
+		if keyValue(keys[m]) < med {
+			p0 = m + 1
+		} else {
+			hi = m
+		}
+	}
+	// Merge the run below med, read downwards, with the run above; fl and
+	// fu are the folded values at their heads l and u (+Inf past the end,
+	// with the runs' lengths deciding which is exhausted).
+	l, u := p0-1, p0
+	inf := math.Inf(1)
+	fold := func(p int) float64 { return math.Abs(keyValue(keys[p]) - med) }
+	fl, fu := inf, inf
+	if l >= 0 {
+		fl = fold(l)
+	}
+	if u < S {
+		fu = fold(u)
+	}
+	for rank := 0; rank < S; {
+		g := fu
+		if l >= 0 && (u >= S || fl < fu) {
+			g = fl
+		}
+		l0, u0 := l, u
+		for l >= 0 && fl == g {
+			if l--; l >= 0 {
+				fl = fold(l)
+			}
+		}
+		for u < S && fu == g {
+			if u++; u < S {
+				fu = fold(u)
+			}
+		}
+		n := (l0 - l) + (u - u0)
+		q := tiedScore(sc, rank, rank+n-1, S)
+		for p := l + 1; p <= l0; p++ {
+			z[idx[p]] = q
+		}
+		for p := u0; p < u; p++ {
+			z[idx[p]] = q
+		}
+		rank += n
+	}
+	return true
 }

@@ -95,7 +95,7 @@ func (sc *diagScratch) vehtari(x []float64, steps, walkers int, ess bool) (rh, b
 	r := &sc.rk
 	// Draw i = w*S+s is step drop+s of walker w; the order of the labels
 	// does not matter to ranks.
-	r.load(N, func(i int) float64 { return x[(i/S)*steps+drop+i%S] })
+	r.loadRuns(x, walkers, steps, drop)
 	r.sort(asKeys(x)) // the draws are no longer needed: the ranker holds them
 	med := r.median()
 	z := x[:N]
@@ -122,11 +122,22 @@ func (sc *diagScratch) vehtari(x []float64, steps, walkers int, ess bool) (rh, b
 					hi = m
 				}
 			}
+			// Filled with the more frequent value, then the others set.
 			ind := z
-			for p, i := range r.idx {
-				ind[i] = 0
-				if p >= nan && p < c {
+			if c-nan <= N/2 {
+				clear(ind)
+				for _, i := range r.idx[nan:c] {
 					ind[i] = 1
+				}
+			} else {
+				for i := range ind {
+					ind[i] = 1
+				}
+				for _, i := range r.idx[:nan] {
+					ind[i] = 0
+				}
+				for _, i := range r.idx[c:] {
+					ind[i] = 0
 				}
 			}
 			tail = math.Min(tail, Nf/sc.ensembleTau(ind, S, walkers))

@@ -2,6 +2,7 @@ package sampler
 
 import (
 	"math"
+	"unsafe"
 
 	"gonum.org/v1/gonum/stat/distuv"
 )
@@ -24,6 +25,7 @@ type ranker struct {
 	idx  []int32     // idx[p] is the index of the value at position p
 	tmpI []int32
 	tmpK []uint64   // the sort's second key buffer
+	tmpF []float64  // foldScore's folded values in order
 	cnt  [2][]int32 // bucketSort's bucket ends, per round
 }
 
@@ -82,6 +84,24 @@ func (r *ranker) load(n int, v func(i int) float64) {
 	r.idx = growI32(r.idx, n)
 	for i := range n {
 		r.keys[i] = sortKey(v(i))
+		r.idx[i] = int32(i)
+	}
+}
+
+// loadRuns is load of the values x[j*stride+skip+s] for runs j < runs
+// and s < stride-skip, value i = j*(stride-skip)+s.
+func (r *ranker) loadRuns(x []float64, runs, stride, skip int) {
+	m := stride - skip
+	n := runs * m
+	r.keys = growU64(r.keys, n)
+	r.idx = growI32(r.idx, n)
+	for j := range runs {
+		keys := r.keys[j*m : (j+1)*m]
+		for s, v := range x[j*stride+skip : (j+1)*stride] {
+			keys[s] = sortKey(v)
+		}
+	}
+	for i := range r.idx {
 		r.idx[i] = int32(i)
 	}
 }
@@ -298,6 +318,11 @@ func (r *ranker) score(z []float64) {
 		for j+1 < S && keyValue(keys[j+1]) == vi {
 			j++
 		}
+		if i == j {
+			z[idx[i]] = sc[i]
+			i++
+			continue
+		}
 		q := tiedScore(sc, i, j, S)
 		for k := i; k <= j; k++ {
 			z[idx[k]] = q
@@ -332,46 +357,79 @@ func (r *ranker) foldScore(z []float64, med float64) bool {
 			hi = m
 		}
 	}
-	// Merge the run below med, read downwards, with the run above; fl and
-	// fu are the folded values at their heads l and u (+Inf past the end,
-	// with the runs' lengths deciding which is exhausted).
-	l, u := p0-1, p0
+	// Merge the run below med, read downwards, with the run above, into
+	// the folded values fm in increasing order and the indices order of
+	// their draws; fl
+	// and fu are the folded values at the runs' heads l and u (+Inf past
+	// the end, with the runs' lengths deciding which is exhausted). The
+	// folded values are computed first (f[p] for position p), so that the
+	// merge waits on loads only, and it chooses without a branch (which is
+	// as unpredictable as the draws); which of two equal folded values
+	// comes first does not matter, they tie.
+	r.tmpK = growU64(r.tmpK, S)
+	r.tmpI = growI32(r.tmpI, S)
+	r.tmpF = growF64(r.tmpF, S)
+	f, fm, order := asFloats(r.tmpK), r.tmpF, r.tmpI
+	for p, k := range keys {
+		f[p] = math.Abs(keyValue(k) - med)
+	}
 	inf := math.Inf(1)
-	fold := func(p int) float64 { return math.Abs(keyValue(keys[p]) - med) }
+	l, u := p0-1, p0
 	fl, fu := inf, inf
 	if l >= 0 {
-		fl = fold(l)
+		fl = f[l]
 	}
 	if u < S {
-		fu = fold(u)
+		fu = f[u]
 	}
-	for rank := 0; rank < S; {
-		g := fu
-		if l >= 0 && (u >= S || fl < fu) {
-			g = fl
+	for rank := range S {
+		down := 0
+		if fl < fu {
+			down = 1
 		}
-		l0, u0 := l, u
-		for l >= 0 && fl == g {
-			if l--; l >= 0 {
-				fl = fold(l)
-			}
+		if u >= S {
+			down = 1
 		}
-		for u < S && fu == g {
-			if u++; u < S {
-				fu = fold(u)
-			}
+		p := u ^ ((u ^ l) & -down) // l if down, else u
+		order[rank] = idx[p]
+		fm[rank] = min(fl, fu)
+		l -= down
+		u += 1 - down
+		fl, fu = inf, inf
+		if l >= 0 {
+			fl = f[l]
 		}
-		n := (l0 - l) + (u - u0)
-		q := tiedScore(sc, rank, rank+n-1, S)
-		for p := l + 1; p <= l0; p++ {
-			z[idx[p]] = q
+		if u < S {
+			fu = f[u]
 		}
-		for p := u0; p < u; p++ {
-			z[idx[p]] = q
+	}
+	for i := 0; i < S; {
+		g := fm[i]
+		j := i
+		for j+1 < S && fm[j+1] == g {
+			j++
 		}
-		rank += n
+		if i == j {
+			z[order[i]] = sc[i]
+			i++
+			continue
+		}
+		q := tiedScore(sc, i, j, S)
+		for k := i; k <= j; k++ {
+			z[order[k]] = q
+		}
+		i = j + 1
 	}
 	return true
+}
+
+// asFloats is k's memory as float64 values (the sizes and alignments of
+// the two types agree).
+func asFloats(k []uint64) []float64 {
+	if len(k) == 0 {
+		return nil
+	}
+	return unsafe.Slice((*float64)(unsafe.Pointer(&k[0])), len(k))
 }
 
 // sortPairs sorts keys in increasing order, permuting idx alike: a
