@@ -160,6 +160,7 @@ type diagScratch struct {
 	tab  lagTable
 	c0   []float64
 	mean []float64
+	dev  []float64 // the walkers' series centred, for tab
 	rho  []float64
 	ac   []float64
 	fft  *acf.Work
@@ -244,23 +245,20 @@ type lagTable struct {
 	limit      int // lags from limit on are not computed
 	have       int // lags [0, have) are in c
 	c          []float64
-	dev        [2][]float64 // a centred series per goroutine
 	par        bool
-	chunk      int // lags computed at once (acf.SumsWidth)
-	// load writes walker w's series, centred, into dev.
-	load func(w int, dev []float64)
+	chunk      int       // lags computed at once (acf.SumsWidth)
+	dev        []float64 // the centred series, walker w's at dev[w*n:(w+1)*n]
 }
 
-func (t *lagTable) reset(n, walkers int, par bool, load func(w int, dev []float64)) {
-	t.n, t.walkers, t.load = n, walkers, load
+// reset prepares the table for the centred series in dev (walkers series
+// of n values, walker-major), which it reads until the next reset.
+func (t *lagTable) reset(n, walkers int, par bool, dev []float64) {
+	t.n, t.walkers, t.dev = n, walkers, dev
 	t.limit = min(lagLimit(n), n)
 	t.have = 0
 	t.chunk = acf.SumsWidth()
 	t.c = growF64(t.c, walkers*t.limit)
 	t.par = par && n*walkers >= parMin
-	for i := range t.dev {
-		t.dev[i] = growF64(t.dev[i], n)
-	}
 }
 
 // ensure makes lag m available; false if m is at or beyond the limit.
@@ -271,13 +269,8 @@ func (t *lagTable) ensure(m int) bool {
 		}
 		lo, hi := t.have, min(t.have+t.chunk, t.limit)
 		split(t.par, t.walkers, func(w0, w1 int) {
-			dev := t.dev[0]
-			if w0 > 0 {
-				dev = t.dev[1]
-			}
 			for w := w0; w < w1; w++ {
-				t.load(w, dev)
-				acf.Sums(dev, lo, t.c[w*t.limit+lo:w*t.limit+hi])
+				acf.Sums(t.dev[w*t.n:(w+1)*t.n], lo, t.c[w*t.limit+lo:w*t.limit+hi])
 			}
 		})
 		t.have = hi
@@ -332,21 +325,18 @@ func (sc *diagScratch) autocorrDirect(x []float64, n, walkers int) (tau float64,
 	sc.mean = growF64(sc.mean, walkers)
 	sc.c0 = growF64(sc.c0, walkers)
 	mean, c0 := sc.mean, sc.c0
+	// The means summed in step order, as acf.Lags centres a series.
+	runMeans(mean, x[:walkers*n], n)
+	sc.dev = growF64(sc.dev, walkers*n)
 	for w := range walkers {
-		// The mean summed in step order, as acf.Lags centres a series.
-		mu := 0.0
-		for _, v := range x[w*n : (w+1)*n] {
-			mu += v
-		}
-		mean[w] = mu / float64(n)
-	}
-	t := &sc.tab
-	t.reset(n, walkers, sc.par, func(w int, dev []float64) {
 		mu := mean[w]
+		dev := sc.dev[w*n : (w+1)*n]
 		for i, v := range x[w*n : (w+1)*n] {
 			dev[i] = v - mu
 		}
-	})
+	}
+	t := &sc.tab
+	t.reset(n, walkers, sc.par, sc.dev)
 	t.ensure(0)
 	used := 0
 	for w := range walkers {

@@ -240,3 +240,93 @@ func oldFoldScore(r *ranker, z []float64, med float64) bool {
 	}
 	return true
 }
+
+// BenchmarkRhats compares segmentRhat (with the ensemble mean, as the bulk
+// ESS needs it, and an ensemble mean summed as before) and
+// walkerHalvesRhat with the versions kept below, on 6000 steps of 32
+// walkers.
+func BenchmarkRhats(b *testing.B) {
+	e := gaussHistory(b, 2, 20000)
+	v := e.hist.view(2000, 3, 6000)
+	z := v.gather(nil, 1)
+	b.Run("segments", func(b *testing.B) {
+		abBench(b, func() {
+			oldSegmentRhat(z, v.steps, v.walkers)
+			mean := 0.0
+			for s := range v.steps {
+				for w := range v.walkers {
+					mean += z[w*v.steps+s]
+				}
+			}
+			_ = mean / float64(len(z))
+		}, func() { segmentRhat(z, v.steps, v.walkers, true) })
+	})
+	b.Run("halves", func(b *testing.B) {
+		abBench(b, func() { oldWalkerHalvesRhat(z, v.steps, v.walkers) }, func() { walkerHalvesRhat(z, v.steps, v.walkers) })
+	})
+}
+
+// oldSegmentRhat is segmentRhat before it was tuned, kept for A/B
+// timing: the R-hat of Gelman & Rubin (1992) (Vehtari et al. 2021,
+// eq. 1-4) of rhatSegments chains, consecutive time segments of the whole
+// ensemble, each summed step by step over the walkers, read from the
+// walker-major z[w*steps+s] (steps a multiple of rhatSegments).
+func oldSegmentRhat(z []float64, steps, walkers int) float64 {
+	const m = rhatSegments
+	seg := steps / m
+	n := seg * walkers
+	if n < 2 {
+		return math.NaN()
+	}
+	var means, ss [m]float64
+	for j := range m {
+		mu := 0.0
+		for s := j * seg; s < (j+1)*seg; s++ {
+			for w := range walkers {
+				mu += z[w*steps+s]
+			}
+		}
+		mu /= float64(n)
+		s2 := 0.0
+		for s := j * seg; s < (j+1)*seg; s++ {
+			for w := range walkers {
+				d := z[w*steps+s] - mu
+				s2 += d * d
+			}
+		}
+		means[j], ss[j] = mu, s2
+	}
+	return rhatMoments(means[:], ss[:], n)
+}
+
+// oldWalkerHalvesRhat is walkerHalvesRhat before it was tuned, kept for
+// A/B timing: the R-hat of Gelman & Rubin (1992) (Vehtari et al.
+// 2021, eq. 1-4) of the 2 x walkers chains made of each walker's first and
+// second half (chain h*walkers+w), read in place from the walker-major
+// z[w*steps+s] (steps even).
+func oldWalkerHalvesRhat(z []float64, steps, walkers int) float64 {
+	n := steps / 2
+	if n < 2 {
+		return math.NaN()
+	}
+	m := 2 * walkers
+	sum := make([]float64, m)
+	ss := make([]float64, m)
+	for h := range 2 {
+		for w := range walkers {
+			ch := z[w*steps+h*n : w*steps+(h+1)*n]
+			mu := 0.0
+			for _, v := range ch {
+				mu += v
+			}
+			mu /= float64(n)
+			s2 := 0.0
+			for _, v := range ch {
+				d := v - mu
+				s2 += d * d
+			}
+			sum[h*walkers+w], ss[h*walkers+w] = mu, s2
+		}
+	}
+	return rhatMoments(sum, ss, n)
+}
