@@ -161,6 +161,7 @@ type diagScratch struct {
 	c0   []float64
 	mean []float64
 	dev  []float64 // the walkers' series centred, for tab
+	z    []float64 // vehtari's scores and indicators
 	rho  []float64
 	ac   []float64
 	fft  *acf.Work
@@ -171,7 +172,7 @@ func newDiagScratch() *diagScratch {
 }
 
 // maxDiagWorkers bounds the goroutines that diagnose parameters at once;
-// each keeps buffers of about 24 bytes per value of the chain.
+// each keeps buffers of about 60 bytes per value of the chain.
 const maxDiagWorkers = 2
 
 // A diagPool diagnoses the parameters of a chain on up to maxDiagWorkers
@@ -182,7 +183,8 @@ const maxDiagWorkers = 2
 // and is reused by every check. A diagPool is not safe for concurrent use.
 type diagPool struct {
 	workers []*diagScratch
-	tab     scoreTable // shared by the workers' rankers
+	tab     scoreTable  // shared by the workers' rankers
+	params  [][]float64 // the parameters of the chain, gathered (gatherAll)
 }
 
 func newDiagPool() *diagPool {
@@ -750,21 +752,47 @@ type chainView struct {
 // gather writes parameter k walker-major, dst[w*steps+s].
 func (v chainView) gather(dst []float64, k int) []float64 {
 	dst = growF64(dst, v.steps*v.walkers)
+	v.gatherSteps([][]float64{dst}, k, 0, v.steps)
+	return dst
+}
+
+// gatherSteps writes steps [s0, s1) of parameters k0, k0+1, ... (one per
+// dst) walker-major, dst[j][w*steps+s] being parameter k0+j.
+func (v chainView) gatherSteps(dst [][]float64, k0, s0, s1 int) {
 	row := v.stride * v.walkers * v.dim
 	// Eight steps at a time, so that each walker's eight values fill one
 	// cache line of dst rather than touching a line per value.
 	const block = 8
-	for s0 := 0; s0 < v.steps; s0 += block {
-		s1 := min(s0+block, v.steps)
+	for b0 := s0; b0 < s1; b0 += block {
+		b1 := min(b0+block, s1)
 		for w := range v.walkers {
-			d := dst[w*v.steps+s0 : w*v.steps+s1]
-			src := w*v.dim + k + s0*row
-			for i := range d {
-				d[i] = v.pos[src+i*row]
+			for j, p := range dst {
+				d := p[w*v.steps+b0 : w*v.steps+b1]
+				src := w*v.dim + k0 + j + b0*row
+				for i := range d {
+					d[i] = v.pos[src+i*row]
+				}
 			}
 		}
 	}
-	return dst
+}
+
+// gatherAll gathers every parameter of v into p.params, each history line
+// read once for all of them, the steps shared between two goroutines for
+// long chains.
+func (p *diagPool) gatherAll(v chainView) {
+	n := v.steps * v.walkers
+	if len(p.params) < v.dim {
+		p.params = append(p.params, make([][]float64, v.dim-len(p.params))...)
+	}
+	for k := range v.dim {
+		p.params[k] = growF64(p.params[k], n)
+	}
+	dst := p.params[:v.dim]
+	par := len(p.workers) > 1 && n*v.dim >= parMin
+	split(par, v.steps, func(s0, s1 int) {
+		v.gatherSteps(dst, 0, s0, s1)
+	})
 }
 
 // diagnose is Diagnose of the chain v (which the caller has checked).
@@ -779,6 +807,8 @@ func (p *diagPool) diagnose(v chainView, acc []float64, names []string, rhat, ta
 	if !rhat && show > 1 {
 		if t := (steps + show - 1) / show; t >= 2*rhatSegments {
 			rsteps = t
+		} else {
+			show = 1
 		}
 		rhat = true
 	} else {
@@ -787,53 +817,34 @@ func (p *diagPool) diagnose(v chainView, acc []float64, names []string, rhat, ta
 	if rhat {
 		p.setScores(rsteps, walkers)
 	}
+	p.gatherAll(v)
 	rep.Params = make([]ParamReport, v.dim)
-	tau := func(sc *diagScratch, k int) {
-		sc.a = v.gather(sc.a, k)
-		t, err := sc.autocorr(sc.a, steps, walkers)
+	for k := range rep.Params {
 		pr := &rep.Params[k]
-		pr.Index, pr.Tau, pr.TauReliable, pr.ESS = k, t, err == nil, float64(steps*walkers)/t
+		pr.Index = k
 		if names != nil {
 			pr.Name = names[k]
 		}
-	}
-	vehtari := func(sc *diagScratch, k int, gathered bool) {
-		pr := &rep.Params[k]
 		pr.Rhat, pr.BulkESS, pr.TailESS = math.NaN(), math.NaN(), math.NaN()
-		if !rhat {
-			return
-		}
-		if !gathered {
-			sc.a = v.gather(sc.a, k)
-		}
-		if rsteps < steps {
-			// Every show-th step, compacted in place (the destination
-			// never passes the source).
-			x := sc.a
-			for w := range walkers {
-				for s := range rsteps {
-					x[w*rsteps+s] = x[w*steps+s*show]
-				}
-			}
-		}
-		pr.Rhat, pr.BulkESS, pr.TailESS = sc.vehtari(sc.a, rsteps, walkers, tails)
 	}
-	if w := len(p.workers); rhat && w > 1 && v.dim > 1 && v.dim%w != 0 {
-		// Parameters do not share out evenly among the goroutines: split
-		// each into its R-hat and ESS (the larger part, first) and its tau,
-		// each reading the chain afresh. Every statistic is computed as
-		// below, so the report is the same.
-		p.each(2*v.dim, func(sc *diagScratch, k int) {
-			if k < v.dim {
-				vehtari(sc, k, false)
-			} else {
-				tau(sc, k-v.dim)
-			}
-		})
+	tau := func(sc *diagScratch, k int) {
+		t, err := sc.autocorr(p.params[k], steps, walkers)
+		pr := &rep.Params[k]
+		pr.Tau, pr.TauReliable, pr.ESS = t, err == nil, float64(steps*walkers)/t
+	}
+	if !rhat {
+		p.each(v.dim, tau)
 	} else {
-		p.each(v.dim, func(sc *diagScratch, k int) {
-			tau(sc, k) // leaves the chain in sc.a
-			vehtari(sc, k, true)
+		// Every parameter's R-hat and ESS (the larger part, first) and
+		// its tau are separate tasks, so that the goroutines share them
+		// out evenly; each reads the gathered chain.
+		p.each(2*v.dim, func(sc *diagScratch, k int) {
+			if k >= v.dim {
+				tau(sc, k-v.dim)
+				return
+			}
+			pr := &rep.Params[k]
+			pr.Rhat, pr.BulkESS, pr.TailESS = sc.vehtari(p.params[k], steps, show, walkers, tails)
 		})
 	}
 	for _, pr := range rep.Params {
@@ -862,12 +873,24 @@ func (p *diagPool) setScores(steps, walkers int) {
 // rhats returns the ensemble R-hat (EnsembleRhat) of every parameter of v.
 func (p *diagPool) rhats(v chainView) []float64 {
 	p.setScores(v.steps, v.walkers)
+	p.gatherAll(v)
 	rh := make([]float64, v.dim)
 	p.each(v.dim, func(sc *diagScratch, k int) {
-		sc.a = v.gather(sc.a, k)
-		rh[k], _, _ = sc.vehtari(sc.a, v.steps, v.walkers, false)
+		rh[k], _, _ = sc.vehtari(p.params[k], v.steps, 1, v.walkers, false)
 	})
 	return rh
+}
+
+// taus returns the autocorrelation time (AutocorrTime, and whether it is
+// reliable) of every parameter of v, gathering the chain once for all.
+func (p *diagPool) taus(v chainView) (tau []float64, reliable []bool) {
+	p.gatherAll(v)
+	tau, reliable = make([]float64, v.dim), make([]bool, v.dim)
+	p.each(v.dim, func(sc *diagScratch, k int) {
+		t, err := sc.autocorr(p.params[k], v.steps, v.walkers)
+		tau[k], reliable[k] = t, err == nil
+	})
+	return tau, reliable
 }
 
 // nanMax and nanMin propagate NaN so that an undefined diagnostic is not

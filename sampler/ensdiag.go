@@ -76,16 +76,18 @@ func EnsembleTailESS(x []float64, steps, walkers int) float64 {
 func ensembleVehtari(x []float64, steps, walkers int, ess bool) (rh, bulk, tail float64) {
 	sc := newDiagScratch()
 	sc.a = transpose(sc.a, x, steps, walkers)
-	return sc.vehtari(sc.a, steps, walkers, ess)
+	return sc.vehtari(sc.a, steps, 1, walkers, ess)
 }
 
 // vehtari returns the ensemble R-hat and, with ess, the ensemble bulk and
-// tail ESS of one parameter from its walker-major chain x[w*steps+s],
-// which it overwrites. One ordering of the draws serves every statistic:
-// the normal scores of the draws, the quantiles, the tail indicators, and
-// the scores of the folded draws |x - median| (merged from it).
-func (sc *diagScratch) vehtari(x []float64, steps, walkers int, ess bool) (rh, bulk, tail float64) {
+// tail ESS of one parameter from the walker-major chain x[w*n+s*every],
+// s < steps = ceil(n/every), which it only reads. One ordering of the draws
+// serves every statistic: the normal scores of the draws, the quantiles,
+// the tail indicators, and the scores of the folded draws |x - median|
+// (merged from it).
+func (sc *diagScratch) vehtari(x []float64, n, every, walkers int, ess bool) (rh, bulk, tail float64) {
 	bulk, tail = math.NaN(), math.NaN()
+	steps := (n + every - 1) / every
 	if steps < 2*rhatSegments {
 		return math.NaN(), bulk, tail
 	}
@@ -95,10 +97,11 @@ func (sc *diagScratch) vehtari(x []float64, steps, walkers int, ess bool) (rh, b
 	r := &sc.rk
 	// Draw i = w*S+s is step drop+s of walker w; the order of the labels
 	// does not matter to ranks.
-	r.loadRuns(x, walkers, steps, drop)
-	r.sort(asKeys(x)) // the draws are no longer needed: the ranker holds them
+	r.loadRuns(x, walkers, n, drop, every, S)
+	sc.z = growF64(sc.z, N)
+	z := sc.z
+	r.sort(asKeys(z)) // z is free until scored
 	med := r.median()
-	z := x[:N]
 	r.score(z)
 	rz, zbar := segmentRhat(z, S, walkers, ess)
 	hz := walkerHalvesRhat(z, S, walkers)
@@ -151,7 +154,7 @@ func (sc *diagScratch) vehtari(x []float64, steps, walkers int, ess bool) (rh, b
 			fz[i] = math.Abs(r.at(p) - med)
 		}
 		r.load(N, func(i int) float64 { return fz[i] })
-		r.sort(asKeys(x))
+		r.sort(nil)
 		r.score(fz)
 	}
 	rh = math.Max(

@@ -88,17 +88,21 @@ func (r *ranker) load(n int, v func(i int) float64) {
 	}
 }
 
-// loadRuns is load of the values x[j*stride+skip+s] for runs j < runs
-// and s < stride-skip, value i = j*(stride-skip)+s.
-func (r *ranker) loadRuns(x []float64, runs, stride, skip int) {
-	m := stride - skip
-	n := runs * m
-	r.keys = growU64(r.keys, n)
-	r.idx = growI32(r.idx, n)
+// loadRuns is load of the values x[j*n+(skip+s)*every] for runs j < runs
+// and s < m, value i = j*m+s.
+func (r *ranker) loadRuns(x []float64, runs, n, skip, every, m int) {
+	r.keys = growU64(r.keys, runs*m)
+	r.idx = growI32(r.idx, runs*m)
 	for j := range runs {
 		keys := r.keys[j*m : (j+1)*m]
-		for s, v := range x[j*stride+skip : (j+1)*stride] {
-			keys[s] = sortKey(v)
+		if every == 1 {
+			for s, v := range x[j*n+skip : j*n+skip+m] {
+				keys[s] = sortKey(v)
+			}
+			continue
+		}
+		for s := range keys {
+			keys[s] = sortKey(x[j*n+(skip+s)*every])
 		}
 	}
 	for i := range r.idx {
