@@ -80,3 +80,59 @@ func TestSortKeyOrder(t *testing.T) {
 		}
 	}
 }
+
+// TestFoldScoreCases checks the scores of the folded draws |x - median|,
+// merged from the order of the draws, against the reference ranker of
+// diagref_test.go ranking the folded draws afresh (the definition,
+// Vehtari et al. 2021, eq. 14), to the bit: draws symmetric about the
+// median (folded ties across the two runs), repeats, all equal, an even
+// and odd number of draws, folded values that overflow to +Inf, and
+// centres other than the median.
+func TestFoldScoreCases(t *testing.T) {
+	r := rand.New(rand.NewPCG(13, 14))
+	cases := map[string]func(i int) float64{
+		"symmetric": func(i int) float64 { return float64(i%7) - 3 },
+		"repeats":   func(i int) float64 { return math.Round(r.NormFloat64() * 4) },
+		"normal":    func(int) float64 { return r.NormFloat64() },
+		"constant":  func(int) float64 { return -1.5 },
+		"overflow": func(i int) float64 {
+			return []float64{-math.MaxFloat64, math.MaxFloat64 / 2, math.MaxFloat64 / 2, math.MaxFloat64 / 4}[i%4]
+		},
+		"skewed": func(i int) float64 { return map[bool]float64{true: 5}[i%3 == 0] + r.Float64() },
+		"far": func(i int) float64 {
+			return map[bool]float64{true: math.MaxFloat64 / 2, false: -math.MaxFloat64}[i == 0]
+		},
+	}
+	for name, g := range cases {
+		for _, n := range []int{1, 2, 3, 10, 11, 1000, 1001} {
+			v := make([]float64, n)
+			for i := range v {
+				v[i] = g(i)
+			}
+			var rk ranker
+			rk.normalize(v, nil)
+			// About the median, as vehtari folds, and about other centres
+			// (the merge does not rely on the median's being central).
+			for _, med := range []float64{rk.median(), rk.at(0), rk.at(n - 1), rk.at(n / 3)} {
+				if math.IsInf(med, 0) { // a median overflowing (far): nothing to merge about
+					continue
+				}
+				f := make([]float64, n)
+				for i, x := range v {
+					f[i] = math.Abs(x - med)
+				}
+				var ref refRanker
+				want := ref.normalize(f, nil)
+				got := make([]float64, n)
+				if !rk.foldScore(got, med) {
+					t.Fatalf("%s n=%d: the merge refused finite draws (centre %v)", name, n, med)
+				}
+				for i := range got {
+					if !sameFloat(got[i], want[i]) {
+						t.Fatalf("%s n=%d centre %v: folded score of v[%d] = %v (folded %v): %v, want %v", name, n, med, i, v[i], f[i], got[i], want[i])
+					}
+				}
+			}
+		}
+	}
+}

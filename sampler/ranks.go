@@ -363,13 +363,15 @@ func (r *ranker) foldScore(z []float64, med float64) bool {
 	}
 	// Merge the run below med, read downwards, with the run above, into
 	// the folded values fm in increasing order and the indices order of
-	// their draws; fl
-	// and fu are the folded values at the runs' heads l and u (+Inf past
-	// the end, with the runs' lengths deciding which is exhausted). The
-	// folded values are computed first (f[p] for position p), so that the
-	// merge waits on loads only, and it chooses without a branch (which is
-	// as unpredictable as the draws); which of two equal folded values
-	// comes first does not matter, they tie.
+	// their draws. The folded values are computed first (f[p] for
+	// position p), so that the merge waits on loads only, and it chooses
+	// without a branch (which is as unpredictable as the draws). Equal
+	// folded values, which tie, are taken from the run above first: the
+	// order is then strict, so the merge can run from both ends at once,
+	// two independent chains meeting at rank h. From the front, fl and fu
+	// are the folded values at the heads l and u (+Inf past the end, with
+	// the runs' lengths deciding which is exhausted); from the back, bl and
+	// bu those at the tails a and b (-Inf past the end).
 	r.tmpK = growU64(r.tmpK, S)
 	r.tmpI = growI32(r.tmpI, S)
 	r.tmpF = growF64(r.tmpF, S)
@@ -379,15 +381,37 @@ func (r *ranker) foldScore(z []float64, med float64) bool {
 	}
 	inf := math.Inf(1)
 	l, u := p0-1, p0
-	fl, fu := inf, inf
+	a, b := 0, S-1
+	fl, fu, bl, bu := inf, inf, -inf, -inf
 	if l >= 0 {
-		fl = f[l]
+		fl, bl = f[l], f[a]
 	}
 	if u < S {
-		fu = f[u]
+		fu, bu = f[u], f[b]
 	}
-	for rank := range S {
-		down := 0
+	h := S / 2
+	for rank := range S - h {
+		end := S - 1 - rank
+		up := 0 // take the run below from the back
+		if bl < bu {
+			up = 1
+		}
+		q := a ^ ((a ^ b) & -up) // b if up, else a
+		order[end] = idx[q]
+		fm[end] = max(bl, bu)
+		a += 1 - up
+		b -= up
+		bl, bu = -inf, -inf
+		if a < p0 {
+			bl = f[a]
+		}
+		if b >= p0 {
+			bu = f[b]
+		}
+		if rank >= h {
+			break
+		}
+		down := 0 // take the run below from the front
 		if fl < fu {
 			down = 1
 		}
