@@ -183,8 +183,7 @@ const maxDiagWorkers = 2
 // and is reused by every check. A diagPool is not safe for concurrent use.
 type diagPool struct {
 	workers []*diagScratch
-	tab     scoreTable  // shared by the workers' rankers
-	params  [][]float64 // the parameters of the chain, gathered (gatherAll)
+	tab     scoreTable // shared by the workers' rankers
 }
 
 func newDiagPool() *diagPool {
@@ -327,16 +326,18 @@ func (sc *diagScratch) autocorrDirect(x []float64, n, walkers int) (tau float64,
 	sc.mean = growF64(sc.mean, walkers)
 	sc.c0 = growF64(sc.c0, walkers)
 	mean, c0 := sc.mean, sc.c0
-	// The means summed in step order, as acf.Lags centres a series.
-	runMeans(mean, x[:walkers*n], n)
 	sc.dev = growF64(sc.dev, walkers*n)
-	for w := range walkers {
-		mu := mean[w]
-		dev := sc.dev[w*n : (w+1)*n]
-		for i, v := range x[w*n : (w+1)*n] {
-			dev[i] = v - mu
+	split(sc.par && n*walkers >= parMin, walkers, func(w0, w1 int) {
+		// The means summed in step order, as acf.Lags centres a series.
+		runMeans(mean[w0:w1], x[w0*n:w1*n], n)
+		for w := w0; w < w1; w++ {
+			mu := mean[w]
+			dev := sc.dev[w*n : (w+1)*n]
+			for i, v := range x[w*n : (w+1)*n] {
+				dev[i] = v - mu
+			}
 		}
-	}
+	})
 	t := &sc.tab
 	t.reset(n, walkers, sc.par, sc.dev)
 	t.ensure(0)
@@ -752,47 +753,21 @@ type chainView struct {
 // gather writes parameter k walker-major, dst[w*steps+s].
 func (v chainView) gather(dst []float64, k int) []float64 {
 	dst = growF64(dst, v.steps*v.walkers)
-	v.gatherSteps([][]float64{dst}, k, 0, v.steps)
-	return dst
-}
-
-// gatherSteps writes steps [s0, s1) of parameters k0, k0+1, ... (one per
-// dst) walker-major, dst[j][w*steps+s] being parameter k0+j.
-func (v chainView) gatherSteps(dst [][]float64, k0, s0, s1 int) {
 	row := v.stride * v.walkers * v.dim
 	// Eight steps at a time, so that each walker's eight values fill one
 	// cache line of dst rather than touching a line per value.
 	const block = 8
-	for b0 := s0; b0 < s1; b0 += block {
-		b1 := min(b0+block, s1)
+	for s0 := 0; s0 < v.steps; s0 += block {
+		s1 := min(s0+block, v.steps)
 		for w := range v.walkers {
-			for j, p := range dst {
-				d := p[w*v.steps+b0 : w*v.steps+b1]
-				src := w*v.dim + k0 + j + b0*row
-				for i := range d {
-					d[i] = v.pos[src+i*row]
-				}
+			d := dst[w*v.steps+s0 : w*v.steps+s1]
+			src := w*v.dim + k + s0*row
+			for i := range d {
+				d[i] = v.pos[src+i*row]
 			}
 		}
 	}
-}
-
-// gatherAll gathers every parameter of v into p.params, each history line
-// read once for all of them, the steps shared between two goroutines for
-// long chains.
-func (p *diagPool) gatherAll(v chainView) {
-	n := v.steps * v.walkers
-	if len(p.params) < v.dim {
-		p.params = append(p.params, make([][]float64, v.dim-len(p.params))...)
-	}
-	for k := range v.dim {
-		p.params[k] = growF64(p.params[k], n)
-	}
-	dst := p.params[:v.dim]
-	par := len(p.workers) > 1 && n*v.dim >= parMin
-	split(par, v.steps, func(s0, s1 int) {
-		v.gatherSteps(dst, 0, s0, s1)
-	})
+	return dst
 }
 
 // diagnose is Diagnose of the chain v (which the caller has checked).
@@ -817,7 +792,6 @@ func (p *diagPool) diagnose(v chainView, acc []float64, names []string, rhat, ta
 	if rhat {
 		p.setScores(rsteps, walkers)
 	}
-	p.gatherAll(v)
 	rep.Params = make([]ParamReport, v.dim)
 	for k := range rep.Params {
 		pr := &rep.Params[k]
@@ -828,23 +802,33 @@ func (p *diagPool) diagnose(v chainView, acc []float64, names []string, rhat, ta
 		pr.Rhat, pr.BulkESS, pr.TailESS = math.NaN(), math.NaN(), math.NaN()
 	}
 	tau := func(sc *diagScratch, k int) {
-		t, err := sc.autocorr(p.params[k], steps, walkers)
+		t, err := sc.autocorr(sc.a, steps, walkers)
 		pr := &rep.Params[k]
 		pr.Tau, pr.TauReliable, pr.ESS = t, err == nil, float64(steps*walkers)/t
 	}
-	if !rhat {
-		p.each(v.dim, tau)
-	} else {
-		// Every parameter's R-hat and ESS (the larger part, first) and
-		// its tau are separate tasks, so that the goroutines share them
-		// out evenly; each reads the gathered chain.
+	vehtari := func(sc *diagScratch, k int) {
+		pr := &rep.Params[k]
+		pr.Rhat, pr.BulkESS, pr.TailESS = sc.vehtari(sc.a, steps, show, walkers, tails)
+	}
+	if w := len(p.workers); rhat && w > 1 && v.dim%w != 0 {
+		// Parameters do not share out evenly among the goroutines: split
+		// each into its R-hat and ESS (the larger part, first) and its
+		// tau, each reading the chain afresh.
 		p.each(2*v.dim, func(sc *diagScratch, k int) {
-			if k >= v.dim {
+			sc.a = v.gather(sc.a, k%v.dim)
+			if k < v.dim {
+				vehtari(sc, k)
+			} else {
 				tau(sc, k-v.dim)
-				return
 			}
-			pr := &rep.Params[k]
-			pr.Rhat, pr.BulkESS, pr.TailESS = sc.vehtari(p.params[k], steps, show, walkers, tails)
+		})
+	} else {
+		p.each(v.dim, func(sc *diagScratch, k int) {
+			sc.a = v.gather(sc.a, k)
+			tau(sc, k)
+			if rhat {
+				vehtari(sc, k)
+			}
 		})
 	}
 	for _, pr := range rep.Params {
@@ -873,24 +857,12 @@ func (p *diagPool) setScores(steps, walkers int) {
 // rhats returns the ensemble R-hat (EnsembleRhat) of every parameter of v.
 func (p *diagPool) rhats(v chainView) []float64 {
 	p.setScores(v.steps, v.walkers)
-	p.gatherAll(v)
 	rh := make([]float64, v.dim)
 	p.each(v.dim, func(sc *diagScratch, k int) {
-		rh[k], _, _ = sc.vehtari(p.params[k], v.steps, 1, v.walkers, false)
+		sc.a = v.gather(sc.a, k)
+		rh[k], _, _ = sc.vehtari(sc.a, v.steps, 1, v.walkers, false)
 	})
 	return rh
-}
-
-// taus returns the autocorrelation time (AutocorrTime, and whether it is
-// reliable) of every parameter of v, gathering the chain once for all.
-func (p *diagPool) taus(v chainView) (tau []float64, reliable []bool) {
-	p.gatherAll(v)
-	tau, reliable = make([]float64, v.dim), make([]bool, v.dim)
-	p.each(v.dim, func(sc *diagScratch, k int) {
-		t, err := sc.autocorr(p.params[k], v.steps, v.walkers)
-		tau[k], reliable[k] = t, err == nil
-	})
-	return tau, reliable
 }
 
 // nanMax and nanMin propagate NaN so that an undefined diagnostic is not

@@ -107,8 +107,9 @@ func finalDraws(b *testing.B, e *Ensemble, k int, shift float64) []float64 {
 	return out
 }
 
-// BenchmarkRankSort compares the ranker's sort of 192000 draws of a final
-// report with the radix sort alone (sortPairs), on the two parameters of
+// BenchmarkRankSort compares the ranker's loading and sort of 192000 draws
+// of a final report (loadRuns, sort) with loading and the radix sort alone
+// (load, sortPairs), on the two parameters of
 // a Gaussian and on the first shifted to -14.6 (all of one sign and
 // binade).
 func BenchmarkRankSort(b *testing.B) {
@@ -127,7 +128,7 @@ func BenchmarkRankSort(b *testing.B) {
 				q.tmpI = growI32(q.tmpI, len(x))
 				sortPairs(q.keys, q.idx, q.tmpK, q.tmpI)
 			}, func() {
-				r.load(len(x), func(i int) float64 { return x[i] })
+				r.loadRuns(x, 1, len(x), 0, 1, len(x))
 				r.sort(nil)
 			})
 		})

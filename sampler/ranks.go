@@ -177,7 +177,7 @@ const bucketMin = 1 << 12
 // coarseLoad and fineLoad are the mean numbers of values per bucket of
 // the two rounds of bucketSort.
 const (
-	coarseLoad = 1024
+	coarseLoad = 512
 	fineLoad   = 1
 )
 
