@@ -126,6 +126,10 @@ func BenchmarkRankSort(b *testing.B) {
 				q.load(len(x), func(i int) float64 { return x[i] })
 				q.tmpK = growU64(q.tmpK, len(x))
 				q.tmpI = growI32(q.tmpI, len(x))
+				q.idx = growI32(q.idx, len(x))
+				for i := range q.idx {
+					q.idx[i] = int32(i)
+				}
 				sortPairs(q.keys, q.idx, q.tmpK, q.tmpI)
 			}, func() {
 				r.loadRuns(x, 1, len(x), 0, 1, len(x))

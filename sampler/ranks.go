@@ -24,9 +24,11 @@ type ranker struct {
 	keys []uint64    // sortKey of the values, in order after sort
 	idx  []int32     // idx[p] is the index of the value at position p
 	tmpI []int32
-	tmpK []uint64   // the sort's second key buffer
-	tmpF []float64  // foldScore's folded values in order
-	cnt  [2][]int32 // bucketSort's bucket ends, per round
+	tmpK []uint64  // the sort's second key buffer
+	tmpF []float64 // foldScore's folded values in order
+	// minK and maxK are the least and greatest loaded keys.
+	minK, maxK uint64
+	cnt        [2][]int32 // bucketSort's bucket ends, per round
 }
 
 // A scoreTable holds the normal scores of the untied ranks of size values,
@@ -81,33 +83,37 @@ func keyValue(k uint64) float64 {
 // load sets the values to rank: n of them, value i being v(i).
 func (r *ranker) load(n int, v func(i int) float64) {
 	r.keys = growU64(r.keys, n)
-	r.idx = growI32(r.idx, n)
+	minK, maxK := uint64(math.MaxUint64), uint64(0)
 	for i := range n {
-		r.keys[i] = sortKey(v(i))
-		r.idx[i] = int32(i)
+		k := sortKey(v(i))
+		r.keys[i] = k
+		minK, maxK = min(minK, k), max(maxK, k)
 	}
+	r.minK, r.maxK = minK, maxK
 }
 
 // loadRuns is load of the values x[j*n+(skip+s)*every] for runs j < runs
 // and s < m, value i = j*m+s.
 func (r *ranker) loadRuns(x []float64, runs, n, skip, every, m int) {
 	r.keys = growU64(r.keys, runs*m)
-	r.idx = growI32(r.idx, runs*m)
+	minK, maxK := uint64(math.MaxUint64), uint64(0)
 	for j := range runs {
 		keys := r.keys[j*m : (j+1)*m]
 		if every == 1 {
 			for s, v := range x[j*n+skip : j*n+skip+m] {
-				keys[s] = sortKey(v)
+				k := sortKey(v)
+				keys[s] = k
+				minK, maxK = min(minK, k), max(maxK, k)
 			}
 			continue
 		}
 		for s := range keys {
-			keys[s] = sortKey(x[j*n+(skip+s)*every])
+			k := sortKey(x[j*n+(skip+s)*every])
+			keys[s] = k
+			minK, maxK = min(minK, k), max(maxK, k)
 		}
 	}
-	for i := range r.idx {
-		r.idx[i] = int32(i)
-	}
+	r.minK, r.maxK = minK, maxK
 }
 
 // at returns the value at position p of the order.
@@ -164,8 +170,12 @@ func (r *ranker) sort(spare []uint64) {
 	}
 	spare = spare[:n]
 	r.tmpI = growI32(r.tmpI, n)
+	r.idx = growI32(r.idx, n)
 	if n >= bucketMin && r.bucketSort(r.keys, r.idx, spare, r.tmpI) {
 		return
+	}
+	for i := range r.idx {
+		r.idx[i] = int32(i)
 	}
 	sortPairs(r.keys, r.idx, spare, r.tmpI)
 }
@@ -192,17 +202,12 @@ type bucketing struct {
 	last      int
 }
 
-// newBucketing returns the bucketing of the keys into about n/load
-// buckets, and false if the keys are not those of finite values of a
-// positive range that the buckets resolve.
-func newBucketing(keys []uint64, load int) (bucketing, bool) {
-	minK, maxK := keys[0], keys[0]
-	for _, k := range keys {
-		minK = min(minK, k)
-		maxK = max(maxK, k)
-	}
+// newBucketing returns the bucketing of the keys, of least and greatest
+// minK and maxK, into about n/load buckets, and false if the keys are not
+// those of finite values of a positive range that the buckets resolve.
+func newBucketing(minK, maxK uint64, n, load int) (bucketing, bool) {
 	lo, hi := keyValue(minK), keyValue(maxK)
-	nb := max(len(keys)/load, 1)
+	nb := max(n/load, 1)
 	scale := float64(nb) / (hi - lo)
 	if minK == 0 || math.IsInf(hi-lo, 0) || !(hi > lo) || math.IsInf(scale, 0) {
 		// NaNs, infinities, a range beyond the floats, no range (zeros
@@ -212,13 +217,23 @@ func newBucketing(keys []uint64, load int) (bucketing, bool) {
 	return bucketing{lo: lo, scale: scale, last: nb - 1}, true
 }
 
+// keyRange returns the least and greatest of the keys.
+func keyRange(keys []uint64) (minK, maxK uint64) {
+	minK, maxK = keys[0], keys[0]
+	for _, k := range keys {
+		minK = min(minK, k)
+		maxK = max(maxK, k)
+	}
+	return minK, maxK
+}
+
 func (g bucketing) of(k uint64) int {
 	return min(int((keyValue(k)-g.lo)*g.scale), g.last)
 }
 
-// scatter writes the pairs (keys[i], idx[i]) into dk, di bucket by bucket
-// in order, stably, and returns the end of every bucket (in cnt, which it
-// grows).
+// scatter writes the pairs (keys[i], idx[i]) (with idx nil, (keys[i], i))
+// into dk, di bucket by bucket in order, stably, and returns the end of
+// every bucket (in cnt, which it grows).
 func (g bucketing) scatter(keys []uint64, idx []int32, dk []uint64, di []int32, cnt []int32) []int32 {
 	nb := g.last + 1
 	cnt = growI32(cnt, nb+1)
@@ -230,6 +245,16 @@ func (g bucketing) scatter(keys []uint64, idx []int32, dk []uint64, di []int32, 
 		cnt[b] += cnt[b-1]
 	}
 	// cnt[b] is now the start of bucket b; after the loop, its end.
+	if idx == nil {
+		for i, k := range keys {
+			b := g.of(k)
+			p := cnt[b]
+			cnt[b] = p + 1
+			dk[p] = k
+			di[p] = int32(i)
+		}
+		return cnt[:nb]
+	}
 	for i, k := range keys {
 		b := g.of(k)
 		p := cnt[b]
@@ -240,21 +265,22 @@ func (g bucketing) scatter(keys []uint64, idx []int32, dk []uint64, di []int32, 
 	return cnt[:nb]
 }
 
-// bucketSort sorts keys in increasing order, permuting idx alike, stably,
-// with tk and ti (as long as keys) as its second buffers, and returns
-// true; it returns false, having done nothing, when the keys are not those
-// of finite values of positive range. The values are distributed into
-// buckets of equal width, ordered since the bucketing is monotone, each
-// small enough to fit in the first-level cache, and each of those in
-// turn into buckets of a few values (a bucket can only hold more when
-// its values crowd together: those are radix sorted), which insertion
-// then orders.
+// bucketSort sorts the loaded keys (least and greatest r.minK and r.maxK)
+// in increasing order, stably, setting idx[p] to the index of the value
+// at position p, with tk and ti (as long as keys) as its second buffers,
+// and returns true; it returns false, having done nothing, when the keys
+// are not those of finite values of positive range. The values are
+// distributed into buckets of equal width, ordered since the bucketing is
+// monotone, each small enough to fit in the first-level cache, and each
+// of those in turn into buckets of a few values (a bucket can only hold
+// more when its values crowd together: those are radix sorted), which
+// insertion then orders.
 func (r *ranker) bucketSort(keys []uint64, idx []int32, tk []uint64, ti []int32) bool {
-	g, ok := newBucketing(keys, coarseLoad)
+	g, ok := newBucketing(r.minK, r.maxK, len(keys), coarseLoad)
 	if !ok {
 		return false
 	}
-	r.cnt[0] = g.scatter(keys, idx, tk, ti, r.cnt[0])
+	r.cnt[0] = g.scatter(keys, nil, tk, ti, r.cnt[0])
 	start := 0
 	for _, e := range r.cnt[0] {
 		end := int(e)
@@ -266,7 +292,8 @@ func (r *ranker) bucketSort(keys []uint64, idx []int32, tk []uint64, ti []int32)
 			insertionSort(k, i)
 			continue
 		}
-		f, ok := newBucketing(sk, fineLoad)
+		minK, maxK := keyRange(sk)
+		f, ok := newBucketing(minK, maxK, len(sk), fineLoad)
 		if !ok {
 			copy(k, sk)
 			copy(i, si)
