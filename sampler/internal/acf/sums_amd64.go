@@ -10,7 +10,8 @@ import "golang.org/x/sys/cpu"
 //go:noescape
 func sums16(d, e *float64, n int, s *[16]float64)
 
-// sums32avx2 is sums16 for i < 32 with AVX2; e must hold n+31 values.
+// sums32avx2 is sums16 for i < 32 with AVX2, for n >= 16; e must hold
+// n+31 values.
 //
 //go:noescape
 func sums32avx2(d, e *float64, n int, s *[32]float64)
@@ -47,9 +48,10 @@ func block32(d []float64, k0 int) [32]float64 {
 		return s
 	}
 	full := max(n-(k0+31), 0)
-	if full > 0 {
-		sums32avx2(&d[0], &d[k0], full, &s)
+	if full < 16 {
+		return pair16(d, k0)
 	}
+	sums32avx2(&d[0], &d[k0], full, &s)
 	tail(d, k0, full, s[:])
 	return s
 }
