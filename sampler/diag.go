@@ -813,7 +813,8 @@ func (p *diagPool) diagnose(v chainView, acc []float64, names []string, rhat, ta
 	if w := len(p.workers); rhat && w > 1 && v.dim%w != 0 {
 		// Parameters do not share out evenly among the goroutines: split
 		// each into its R-hat and ESS (the larger part, first) and its
-		// tau, each reading the chain afresh.
+		// tau, each reading the chain afresh. Every statistic is computed
+		// as below, so the report is the same.
 		p.each(2*v.dim, func(sc *diagScratch, k int) {
 			sc.a = v.gather(sc.a, k%v.dim)
 			if k < v.dim {

@@ -178,8 +178,9 @@ func asKeys(x []float64) []uint64 {
 // walker-major z[w*steps+s] (steps a multiple of rhatSegments). With
 // total it also returns the mean of all of z summed step by step over the
 // walkers (ensembleTau's), else NaN. The sums of different segments are
-// independent: they are interleaved so that none waits for another's
-// additions, each keeping its own order.
+// independent: they are interleaved (or, with total, each summed along
+// with the total) so that none waits for another's additions, each
+// keeping its own order.
 func segmentRhat(z []float64, steps, walkers int, total bool) (rh, mean float64) {
 	const m = rhatSegments
 	seg := steps / m

@@ -14,10 +14,11 @@ import (
 //
 // with average ranks r for ties, reusing its buffers and the scores of
 // untied ranks between calls on samples of one size. It orders the values
-// by an in-place radix sort of their bit patterns (the order of
-// cmp.Compare: NaN first, then increasing), so its scores equal those of a
-// comparison sort, and keeps the ordered values as their sort keys (no
-// copy of the values).
+// by their bit patterns (the order of cmp.Compare: NaN first, then
+// increasing), with a stable bucket sort by value for many finite values
+// and a radix sort otherwise, so its scores equal those of a comparison
+// sort, and keeps the ordered values as their sort keys (no copy of the
+// values).
 type ranker struct {
 	own  scoreTable
 	tab  *scoreTable // if not nil, shared scores set up for the sizes ranked
