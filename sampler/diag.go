@@ -160,8 +160,7 @@ type diagScratch struct {
 	tab  lagTable
 	c0   []float64
 	mean []float64
-	dev  []float64 // the walkers' series centred, for tab
-	z    []float64 // vehtari's scores and indicators
+	dev  []float64 // the walkers' series centred, for tab; vehtari's scores
 	rho  []float64
 	ac   []float64
 	fft  *acf.Work
@@ -172,7 +171,7 @@ func newDiagScratch() *diagScratch {
 }
 
 // maxDiagWorkers bounds the goroutines that diagnose parameters at once;
-// each keeps buffers of about 60 bytes per value of the chain.
+// each keeps buffers of about 40 bytes per value of the chain.
 const maxDiagWorkers = 2
 
 // A diagPool diagnoses the parameters of a chain on up to maxDiagWorkers

@@ -81,10 +81,11 @@ func ensembleVehtari(x []float64, steps, walkers int, ess bool) (rh, bulk, tail 
 
 // vehtari returns the ensemble R-hat and, with ess, the ensemble bulk and
 // tail ESS of one parameter from the walker-major chain x[w*n+s*every],
-// s < steps = ceil(n/every), which it only reads. One ordering of the draws
-// serves every statistic: the normal scores of the draws, the quantiles,
-// the tail indicators, and the scores of the folded draws |x - median|
-// (merged from it).
+// s < steps = ceil(n/every), which it overwrites once read. One ordering
+// of the draws serves every statistic: the normal scores of the draws, the
+// quantiles, the tail indicators, and the scores of the folded draws
+// |x - median| (merged from it). Its scores share their buffer with the
+// lag table's series (autocorr), which no call of vehtari overlaps.
 func (sc *diagScratch) vehtari(x []float64, n, every, walkers int, ess bool) (rh, bulk, tail float64) {
 	bulk, tail = math.NaN(), math.NaN()
 	steps := (n + every - 1) / every
@@ -98,8 +99,8 @@ func (sc *diagScratch) vehtari(x []float64, n, every, walkers int, ess bool) (rh
 	// Draw i = w*S+s is step drop+s of walker w; the order of the labels
 	// does not matter to ranks.
 	r.loadRuns(x, walkers, n, drop, every, S)
-	sc.z = growF64(sc.z, N)
-	z := sc.z
+	sc.dev = growF64(sc.dev, N)
+	z := sc.dev
 	r.sort(asKeys(z)) // z is free until scored
 	med := r.median()
 	r.score(z)
@@ -148,7 +149,10 @@ func (sc *diagScratch) vehtari(x []float64, n, every, walkers int, ess bool) (rh
 		}
 	}
 	fz := z
-	if !r.foldScore(fz, med) {
+	r.spareF = x // the draws are no longer needed: the ranker holds them
+	folded := r.foldScore(fz, med)
+	r.spareF = nil
+	if !folded {
 		// Non-finite draws: rank the folded draws afresh.
 		for p, i := range r.idx {
 			fz[i] = math.Abs(r.at(p) - med)

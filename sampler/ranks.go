@@ -26,7 +26,10 @@ type ranker struct {
 	idx  []int32     // idx[p] is the index of the value at position p
 	tmpI []int32
 	tmpK []uint64  // the sort's second key buffer
-	tmpF []float64 // foldScore's folded values in order
+	tmpF []float64 // foldScore's folded values in order, unless spareF holds them
+	// spareF, if long enough, is lent by the caller for foldScore's
+	// folded values in order.
+	spareF []float64
 	// minK and maxK are the least and greatest loaded keys.
 	minK, maxK uint64
 	cnt        [2][]int32 // bucketSort's bucket ends, per round
@@ -402,8 +405,12 @@ func (r *ranker) foldScore(z []float64, med float64) bool {
 	// bu those at the tails a and b (-Inf past the end).
 	r.tmpK = growU64(r.tmpK, S)
 	r.tmpI = growI32(r.tmpI, S)
-	r.tmpF = growF64(r.tmpF, S)
-	f, fm, order := asFloats(r.tmpK), r.tmpF, r.tmpI
+	fm := r.spareF
+	if len(fm) < S {
+		r.tmpF = growF64(r.tmpF, S)
+		fm = r.tmpF
+	}
+	f, order := asFloats(r.tmpK), r.tmpI
 	for p, k := range keys {
 		f[p] = math.Abs(keyValue(k) - med)
 	}
