@@ -160,6 +160,7 @@ type diagScratch struct {
 	tab  lagTable
 	c0   []float64
 	mean []float64
+	dev  []float64 // the walkers' series centred, for tab; vehtari's scores
 	rho  []float64
 	ac   []float64
 	fft  *acf.Work
@@ -170,7 +171,7 @@ func newDiagScratch() *diagScratch {
 }
 
 // maxDiagWorkers bounds the goroutines that diagnose parameters at once;
-// each keeps buffers of about 24 bytes per value of the chain.
+// each keeps buffers of about 40 bytes per value of the chain.
 const maxDiagWorkers = 2
 
 // A diagPool diagnoses the parameters of a chain on up to maxDiagWorkers
@@ -244,24 +245,20 @@ type lagTable struct {
 	limit      int // lags from limit on are not computed
 	have       int // lags [0, have) are in c
 	c          []float64
-	dev        [2][]float64 // a centred series per goroutine
 	par        bool
-	// load writes walker w's series, centred, into dev.
-	load func(w int, dev []float64)
+	chunk      int       // lags computed at once (acf.SumsWidth)
+	dev        []float64 // the centred series, walker w's at dev[w*n:(w+1)*n]
 }
 
-// lagChunk is the number of lags computed at once.
-const lagChunk = 16
-
-func (t *lagTable) reset(n, walkers int, par bool, load func(w int, dev []float64)) {
-	t.n, t.walkers, t.load = n, walkers, load
+// reset prepares the table for the centred series in dev (walkers series
+// of n values, walker-major), which it reads until the next reset.
+func (t *lagTable) reset(n, walkers int, par bool, dev []float64) {
+	t.n, t.walkers, t.dev = n, walkers, dev
 	t.limit = min(lagLimit(n), n)
 	t.have = 0
+	t.chunk = acf.SumsWidth()
 	t.c = growF64(t.c, walkers*t.limit)
 	t.par = par && n*walkers >= parMin
-	for i := range t.dev {
-		t.dev[i] = growF64(t.dev[i], n)
-	}
 }
 
 // ensure makes lag m available; false if m is at or beyond the limit.
@@ -270,15 +267,10 @@ func (t *lagTable) ensure(m int) bool {
 		if t.have >= t.limit {
 			return false
 		}
-		lo, hi := t.have, min(t.have+lagChunk, t.limit)
+		lo, hi := t.have, min(t.have+t.chunk, t.limit)
 		split(t.par, t.walkers, func(w0, w1 int) {
-			dev := t.dev[0]
-			if w0 > 0 {
-				dev = t.dev[1]
-			}
 			for w := w0; w < w1; w++ {
-				t.load(w, dev)
-				acf.Sums(dev, lo, t.c[w*t.limit+lo:w*t.limit+hi])
+				acf.Sums(t.dev[w*t.n:(w+1)*t.n], lo, t.c[w*t.limit+lo:w*t.limit+hi])
 			}
 		})
 		t.have = hi
@@ -333,21 +325,20 @@ func (sc *diagScratch) autocorrDirect(x []float64, n, walkers int) (tau float64,
 	sc.mean = growF64(sc.mean, walkers)
 	sc.c0 = growF64(sc.c0, walkers)
 	mean, c0 := sc.mean, sc.c0
-	for w := range walkers {
-		// The mean summed in step order, as acf.Lags centres a series.
-		mu := 0.0
-		for _, v := range x[w*n : (w+1)*n] {
-			mu += v
-		}
-		mean[w] = mu / float64(n)
-	}
-	t := &sc.tab
-	t.reset(n, walkers, sc.par, func(w int, dev []float64) {
-		mu := mean[w]
-		for i, v := range x[w*n : (w+1)*n] {
-			dev[i] = v - mu
+	sc.dev = growF64(sc.dev, walkers*n)
+	split(sc.par && n*walkers >= parMin, walkers, func(w0, w1 int) {
+		// The means summed in step order, as acf.Lags centres a series.
+		runMeans(mean[w0:w1], x[w0*n:w1*n], n)
+		for w := w0; w < w1; w++ {
+			mu := mean[w]
+			dev := sc.dev[w*n : (w+1)*n]
+			for i, v := range x[w*n : (w+1)*n] {
+				dev[i] = v - mu
+			}
 		}
 	})
+	t := &sc.tab
+	t.reset(n, walkers, sc.par, sc.dev)
 	t.ensure(0)
 	used := 0
 	for w := range walkers {
@@ -790,6 +781,8 @@ func (p *diagPool) diagnose(v chainView, acc []float64, names []string, rhat, ta
 	if !rhat && show > 1 {
 		if t := (steps + show - 1) / show; t >= 2*rhatSegments {
 			rsteps = t
+		} else {
+			show = 1
 		}
 		rhat = true
 	} else {
@@ -799,52 +792,43 @@ func (p *diagPool) diagnose(v chainView, acc []float64, names []string, rhat, ta
 		p.setScores(rsteps, walkers)
 	}
 	rep.Params = make([]ParamReport, v.dim)
-	tau := func(sc *diagScratch, k int) {
-		sc.a = v.gather(sc.a, k)
-		t, err := sc.autocorr(sc.a, steps, walkers)
+	for k := range rep.Params {
 		pr := &rep.Params[k]
-		pr.Index, pr.Tau, pr.TauReliable, pr.ESS = k, t, err == nil, float64(steps*walkers)/t
+		pr.Index = k
 		if names != nil {
 			pr.Name = names[k]
 		}
-	}
-	vehtari := func(sc *diagScratch, k int, gathered bool) {
-		pr := &rep.Params[k]
 		pr.Rhat, pr.BulkESS, pr.TailESS = math.NaN(), math.NaN(), math.NaN()
-		if !rhat {
-			return
-		}
-		if !gathered {
-			sc.a = v.gather(sc.a, k)
-		}
-		if rsteps < steps {
-			// Every show-th step, compacted in place (the destination
-			// never passes the source).
-			x := sc.a
-			for w := range walkers {
-				for s := range rsteps {
-					x[w*rsteps+s] = x[w*steps+s*show]
-				}
-			}
-		}
-		pr.Rhat, pr.BulkESS, pr.TailESS = sc.vehtari(sc.a, rsteps, walkers, tails)
 	}
-	if w := len(p.workers); rhat && w > 1 && v.dim > 1 && v.dim%w != 0 {
+	tau := func(sc *diagScratch, k int) {
+		t, err := sc.autocorr(sc.a, steps, walkers)
+		pr := &rep.Params[k]
+		pr.Tau, pr.TauReliable, pr.ESS = t, err == nil, float64(steps*walkers)/t
+	}
+	vehtari := func(sc *diagScratch, k int) {
+		pr := &rep.Params[k]
+		pr.Rhat, pr.BulkESS, pr.TailESS = sc.vehtari(sc.a, steps, show, walkers, tails)
+	}
+	if w := len(p.workers); rhat && w > 1 && v.dim%w != 0 {
 		// Parameters do not share out evenly among the goroutines: split
-		// each into its R-hat and ESS (the larger part, first) and its tau,
-		// each reading the chain afresh. Every statistic is computed as
-		// below, so the report is the same.
+		// each into its R-hat and ESS (the larger part, first) and its
+		// tau, each reading the chain afresh. Every statistic is computed
+		// as below, so the report is the same.
 		p.each(2*v.dim, func(sc *diagScratch, k int) {
+			sc.a = v.gather(sc.a, k%v.dim)
 			if k < v.dim {
-				vehtari(sc, k, false)
+				vehtari(sc, k)
 			} else {
 				tau(sc, k-v.dim)
 			}
 		})
 	} else {
 		p.each(v.dim, func(sc *diagScratch, k int) {
-			tau(sc, k) // leaves the chain in sc.a
-			vehtari(sc, k, true)
+			sc.a = v.gather(sc.a, k)
+			tau(sc, k)
+			if rhat {
+				vehtari(sc, k)
+			}
 		})
 	}
 	for _, pr := range rep.Params {
@@ -876,7 +860,7 @@ func (p *diagPool) rhats(v chainView) []float64 {
 	rh := make([]float64, v.dim)
 	p.each(v.dim, func(sc *diagScratch, k int) {
 		sc.a = v.gather(sc.a, k)
-		rh[k], _, _ = sc.vehtari(sc.a, v.steps, v.walkers, false)
+		rh[k], _, _ = sc.vehtari(sc.a, v.steps, 1, v.walkers, false)
 	})
 	return rh
 }

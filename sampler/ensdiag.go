@@ -76,16 +76,19 @@ func EnsembleTailESS(x []float64, steps, walkers int) float64 {
 func ensembleVehtari(x []float64, steps, walkers int, ess bool) (rh, bulk, tail float64) {
 	sc := newDiagScratch()
 	sc.a = transpose(sc.a, x, steps, walkers)
-	return sc.vehtari(sc.a, steps, walkers, ess)
+	return sc.vehtari(sc.a, steps, 1, walkers, ess)
 }
 
 // vehtari returns the ensemble R-hat and, with ess, the ensemble bulk and
-// tail ESS of one parameter from its walker-major chain x[w*steps+s],
-// which it overwrites. One ordering of the draws serves every statistic:
-// the normal scores of the draws, the quantiles, the tail indicators, and
-// the scores of the folded draws |x - median| (merged from it).
-func (sc *diagScratch) vehtari(x []float64, steps, walkers int, ess bool) (rh, bulk, tail float64) {
+// tail ESS of one parameter from the walker-major chain x[w*n+s*every],
+// s < steps = ceil(n/every), which it overwrites once read. One ordering
+// of the draws serves every statistic: the normal scores of the draws, the
+// quantiles, the tail indicators, and the scores of the folded draws
+// |x - median| (merged from it). Its scores share their buffer with the
+// lag table's series (autocorr), which no call of vehtari overlaps.
+func (sc *diagScratch) vehtari(x []float64, n, every, walkers int, ess bool) (rh, bulk, tail float64) {
 	bulk, tail = math.NaN(), math.NaN()
+	steps := (n + every - 1) / every
 	if steps < 2*rhatSegments {
 		return math.NaN(), bulk, tail
 	}
@@ -95,15 +98,17 @@ func (sc *diagScratch) vehtari(x []float64, steps, walkers int, ess bool) (rh, b
 	r := &sc.rk
 	// Draw i = w*S+s is step drop+s of walker w; the order of the labels
 	// does not matter to ranks.
-	r.load(N, func(i int) float64 { return x[(i/S)*steps+drop+i%S] })
-	r.sort(asKeys(x)) // the draws are no longer needed: the ranker holds them
+	r.loadRuns(x, walkers, n, drop, every, S)
+	sc.dev = growF64(sc.dev, N)
+	z := sc.dev
+	r.sort(asKeys(z)) // z is free until scored
 	med := r.median()
-	z := x[:N]
 	r.score(z)
-	rz, hz := segmentRhat(z, S, walkers), walkerHalvesRhat(z, S, walkers)
+	rz, zbar := segmentRhat(z, S, walkers, ess)
+	hz := walkerHalvesRhat(z, S, walkers)
 	if ess {
 		Nf := float64(N)
-		bulk = Nf / sc.ensembleTau(z, S, walkers)
+		bulk = Nf / sc.ensembleTau(z, S, walkers, zbar)
 		// The indicators I(x <= q) are 1 on the positions of the order
 		// from the first non-NaN value to the last one <= q.
 		nan := 0
@@ -122,28 +127,42 @@ func (sc *diagScratch) vehtari(x []float64, steps, walkers int, ess bool) (rh, b
 					hi = m
 				}
 			}
+			// Filled with the more frequent value, then the others set.
 			ind := z
-			for p, i := range r.idx {
-				ind[i] = 0
-				if p >= nan && p < c {
+			if c-nan <= N/2 {
+				clear(ind)
+				for _, i := range r.idx[nan:c] {
 					ind[i] = 1
 				}
+			} else {
+				for i := range ind {
+					ind[i] = 1
+				}
+				for _, i := range r.idx[:nan] {
+					ind[i] = 0
+				}
+				for _, i := range r.idx[c:] {
+					ind[i] = 0
+				}
 			}
-			tail = math.Min(tail, Nf/sc.ensembleTau(ind, S, walkers))
+			tail = math.Min(tail, Nf/sc.ensembleTau(ind, S, walkers, float64(c-nan)/Nf))
 		}
 	}
 	fz := z
-	if !r.foldScore(fz, med) {
+	r.spareF = x // the draws are no longer needed: the ranker holds them
+	folded := r.foldScore(fz, med)
+	r.spareF = nil
+	if !folded {
 		// Non-finite draws: rank the folded draws afresh.
 		for p, i := range r.idx {
 			fz[i] = math.Abs(r.at(p) - med)
 		}
 		r.load(N, func(i int) float64 { return fz[i] })
-		r.sort(asKeys(x))
+		r.sort(nil)
 		r.score(fz)
 	}
 	rh = math.Max(
-		math.Max(rz, segmentRhat(fz, S, walkers)),
+		math.Max(rz, first(segmentRhat(fz, S, walkers, false))),
 		math.Max(hz, walkerHalvesRhat(fz, S, walkers)))
 	return rh, bulk, tail
 }
@@ -160,33 +179,76 @@ func asKeys(x []float64) []uint64 {
 // segmentRhat is the R-hat of Gelman & Rubin (1992) (Vehtari et al. 2021,
 // eq. 1-4) of rhatSegments chains, consecutive time segments of the whole
 // ensemble, each summed step by step over the walkers, read from the
-// walker-major z[w*steps+s] (steps a multiple of rhatSegments).
-func segmentRhat(z []float64, steps, walkers int) float64 {
+// walker-major z[w*steps+s] (steps a multiple of rhatSegments). With
+// total it also returns the mean of all of z summed step by step over the
+// walkers (ensembleTau's), else NaN. The sums of different segments are
+// independent: they are interleaved (or, with total, each summed along
+// with the total) so that none waits for another's additions, each
+// keeping its own order.
+func segmentRhat(z []float64, steps, walkers int, total bool) (rh, mean float64) {
 	const m = rhatSegments
 	seg := steps / m
 	n := seg * walkers
+	mean = math.NaN()
 	if n < 2 {
-		return math.NaN()
+		if total {
+			mean = 0
+			for s := range steps {
+				for w := range walkers {
+					mean += z[w*steps+s]
+				}
+			}
+			mean /= float64(steps * walkers)
+		}
+		return math.NaN(), mean
 	}
 	var means, ss [m]float64
-	for j := range m {
-		mu := 0.0
-		for s := j * seg; s < (j+1)*seg; s++ {
+	if total {
+		tot := 0.0
+		for j := range m {
+			mu := 0.0
+			for s := j * seg; s < (j+1)*seg; s++ {
+				for w := range walkers {
+					v := z[w*steps+s]
+					mu += v
+					tot += v
+				}
+			}
+			means[j] = mu
+		}
+		mean = tot / float64(steps*walkers)
+	} else {
+		var s0, s1, s2, s3 float64
+		for s := range seg {
 			for w := range walkers {
-				mu += z[w*steps+s]
+				i := w*steps + s
+				s0 += z[i]
+				s1 += z[i+seg]
+				s2 += z[i+2*seg]
+				s3 += z[i+3*seg]
 			}
 		}
-		mu /= float64(n)
-		s2 := 0.0
-		for s := j * seg; s < (j+1)*seg; s++ {
-			for w := range walkers {
-				d := z[w*steps+s] - mu
-				s2 += d * d
-			}
-		}
-		means[j], ss[j] = mu, s2
+		means = [m]float64{s0, s1, s2, s3}
 	}
-	return rhatMoments(means[:], ss[:], n)
+	for j := range means {
+		means[j] /= float64(n)
+	}
+	var q0, q1, q2, q3 float64
+	for s := range seg {
+		for w := range walkers {
+			i := w*steps + s
+			d0 := z[i] - means[0]
+			d1 := z[i+seg] - means[1]
+			d2 := z[i+2*seg] - means[2]
+			d3 := z[i+3*seg] - means[3]
+			q0 += d0 * d0
+			q1 += d1 * d1
+			q2 += d2 * d2
+			q3 += d3 * d3
+		}
+	}
+	ss = [m]float64{q0, q1, q2, q3}
+	return rhatMoments(means[:], ss[:], n), mean
 }
 
 // walkerHalvesRhat is the R-hat of Gelman & Rubin (1992) (Vehtari et al.
@@ -199,25 +261,78 @@ func walkerHalvesRhat(z []float64, steps, walkers int) float64 {
 		return math.NaN()
 	}
 	m := 2 * walkers
-	sum := make([]float64, m)
-	ss := make([]float64, m)
-	for h := range 2 {
-		for w := range walkers {
-			ch := z[w*steps+h*n : w*steps+(h+1)*n]
-			mu := 0.0
-			for _, v := range ch {
-				mu += v
-			}
-			mu /= float64(n)
-			s2 := 0.0
-			for _, v := range ch {
-				d := v - mu
-				s2 += d * d
-			}
-			sum[h*walkers+w], ss[h*walkers+w] = mu, s2
+	// Run r = 2w+h of z, z[r*n:(r+1)*n], is chain h*walkers+w.
+	mean := make([]float64, 2*m)
+	ss := mean[m:]
+	mean = mean[:m]
+	runMeans(mean, z[:m*n], n)
+	runSquares(ss, z[:m*n], mean, n)
+	cm, cs := make([]float64, m), make([]float64, m)
+	for w := range walkers {
+		for h := range 2 {
+			cm[h*walkers+w], cs[h*walkers+w] = mean[2*w+h], ss[2*w+h]
 		}
 	}
-	return rhatMoments(sum, ss, n)
+	return rhatMoments(cm, cs, n)
+}
+
+// runMeans sets mean[j] to the mean of run j of x, x[j*n:(j+1)*n], summed
+// in order. The sums of different runs are independent: four at a time
+// are interleaved so that none waits for another's additions.
+func runMeans(mean, x []float64, n int) {
+	nf := float64(n)
+	j := 0
+	for ; j+4 <= len(mean); j += 4 {
+		a := x[j*n : (j+1)*n]
+		b := x[(j+1)*n : (j+2)*n][:len(a)]
+		c := x[(j+2)*n : (j+3)*n][:len(a)]
+		d := x[(j+3)*n : (j+4)*n][:len(a)]
+		var sa, sb, sc, sd float64
+		for t, v := range a {
+			sa += v
+			sb += b[t]
+			sc += c[t]
+			sd += d[t]
+		}
+		mean[j], mean[j+1], mean[j+2], mean[j+3] = sa/nf, sb/nf, sc/nf, sd/nf
+	}
+	for ; j < len(mean); j++ {
+		s := 0.0
+		for _, v := range x[j*n : (j+1)*n] {
+			s += v
+		}
+		mean[j] = s / nf
+	}
+}
+
+// runSquares sets ss[j] to the sum of (x_t - mean[j])^2 over run j of x,
+// in order, four runs at a time as runMeans.
+func runSquares(ss, x, mean []float64, n int) {
+	j := 0
+	for ; j+4 <= len(ss); j += 4 {
+		a := x[j*n : (j+1)*n]
+		b := x[(j+1)*n : (j+2)*n][:len(a)]
+		c := x[(j+2)*n : (j+3)*n][:len(a)]
+		d := x[(j+3)*n : (j+4)*n][:len(a)]
+		ma, mb, mc, md := mean[j], mean[j+1], mean[j+2], mean[j+3]
+		var sa, sb, sc, sd float64
+		for t, v := range a {
+			da, db, dc, dd := v-ma, b[t]-mb, c[t]-mc, d[t]-md
+			sa += da * da
+			sb += db * db
+			sc += dc * dc
+			sd += dd * dd
+		}
+		ss[j], ss[j+1], ss[j+2], ss[j+3] = sa, sb, sc, sd
+	}
+	for ; j < len(ss); j++ {
+		s := 0.0
+		for _, v := range x[j*n : (j+1)*n] {
+			d := v - mean[j]
+			s += d * d
+		}
+		ss[j] = s
+	}
 }
 
 // ensembleTau is the integrated autocorrelation time, Sokal's window c =
@@ -228,18 +343,19 @@ func walkerHalvesRhat(z []float64, steps, walkers int) float64 {
 //
 // with xbar the mean over all walkers and steps: the walker-averaged
 // autocovariance about the ensemble's mean, of the walker-major chain
-// x[w*steps+s]. NaN for a constant chain.
-func (sc *diagScratch) ensembleTau(x []float64, steps, walkers int) float64 {
-	// The mean summed step by step over the walkers.
-	mean := 0.0
-	for s := range steps {
-		for w := range walkers {
-			mean += x[w*steps+s]
-		}
-	}
-	mean /= float64(steps * walkers)
+// x[w*steps+s]. NaN for a constant chain. mean is xbar, summed step by
+// step over the walkers (segmentRhat's, or for values 0 and 1, whose
+// partial sums are exact, their count over steps x walkers). It may
+// overwrite x with x - mean.
+func (sc *diagScratch) ensembleTau(x []float64, steps, walkers int, mean float64) float64 {
 	if steps >= directMinLen {
-		if tau, ok := sc.ensembleTauDirect(x, steps, walkers, mean); ok {
+		// Centred in place: x - mean - 0 is x - mean, to the bit, so the
+		// FFT below can take these deviations about 0.
+		for i, v := range x[:steps*walkers] {
+			x[i] = v - mean
+		}
+		mean = 0
+		if tau, ok := sc.ensembleTauDirect(x, steps, walkers); ok {
 			return tau
 		}
 	}
@@ -261,15 +377,12 @@ func (sc *diagScratch) ensembleTau(x []float64, steps, walkers int) float64 {
 	return tau
 }
 
-// ensembleTauDirect is ensembleTau with the autocovariances summed lag by
-// lag; ok is false beyond lagLimit.
-func (sc *diagScratch) ensembleTauDirect(x []float64, steps, walkers int, mean float64) (float64, bool) {
+// ensembleTauDirect is ensembleTau of the deviations dev from the
+// ensemble's mean, with the autocovariances summed lag by lag; ok is false
+// beyond lagLimit.
+func (sc *diagScratch) ensembleTauDirect(dev []float64, steps, walkers int) (float64, bool) {
 	t := &sc.tab
-	t.reset(steps, walkers, sc.par, func(w int, dev []float64) {
-		for i, v := range x[w*steps : (w+1)*steps] {
-			dev[i] = v - mean
-		}
-	})
+	t.reset(steps, walkers, sc.par, dev)
 	t.ensure(0)
 	c0 := 0.0
 	for w := range walkers {
@@ -290,3 +403,6 @@ func (sc *diagScratch) ensembleTauDirect(x []float64, steps, walkers int, mean f
 	})
 	return tau, ok
 }
+
+// first returns the first of two values.
+func first(a, _ float64) float64 { return a }

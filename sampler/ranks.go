@@ -2,6 +2,7 @@ package sampler
 
 import (
 	"math"
+	"unsafe"
 
 	"gonum.org/v1/gonum/stat/distuv"
 )
@@ -13,17 +14,25 @@ import (
 //
 // with average ranks r for ties, reusing its buffers and the scores of
 // untied ranks between calls on samples of one size. It orders the values
-// by an in-place radix sort of their bit patterns (the order of
-// cmp.Compare: NaN first, then increasing), so its scores equal those of a
-// comparison sort, and keeps the ordered values as their sort keys (no
-// copy of the values).
+// by their bit patterns (the order of cmp.Compare: NaN first, then
+// increasing), with a stable bucket sort by value for many finite values
+// and a radix sort otherwise, so its scores equal those of a comparison
+// sort, and keeps the ordered values as their sort keys (no copy of the
+// values).
 type ranker struct {
 	own  scoreTable
 	tab  *scoreTable // if not nil, shared scores set up for the sizes ranked
 	keys []uint64    // sortKey of the values, in order after sort
 	idx  []int32     // idx[p] is the index of the value at position p
 	tmpI []int32
-	tmpK []uint64 // the sort's second key buffer, if spare is not given
+	tmpK []uint64  // the sort's second key buffer
+	tmpF []float64 // foldScore's folded values in order, unless spareF holds them
+	// spareF, if long enough, is lent by the caller for foldScore's
+	// folded values in order.
+	spareF []float64
+	// minK and maxK are the least and greatest loaded keys.
+	minK, maxK uint64
+	cnt        [2][]int32 // bucketSort's bucket ends, per round
 }
 
 // A scoreTable holds the normal scores of the untied ranks of size values,
@@ -60,34 +69,55 @@ func (r *ranker) scores(S int) []float64 {
 }
 
 // sortKey maps a float64 to a uint64 whose unsigned order is the order of
-// cmp.Compare on the floats (NaNs first, all mapped to 0).
+// cmp.Compare on the floats (NaNs first, all mapped to 0): the bits of a
+// negative float inverted, of a positive one with the sign bit set.
 func sortKey(v float64) uint64 {
 	if v != v {
 		return 0
 	}
 	b := math.Float64bits(v)
-	if b>>63 != 0 {
-		return ^b
-	}
-	return b | 1<<63
+	return b ^ (uint64(int64(b)>>63) | 1<<63) // without a branch on the sign
 }
 
 // keyValue inverts sortKey (a NaN key gives a NaN).
 func keyValue(k uint64) float64 {
-	if k>>63 != 0 {
-		return math.Float64frombits(k &^ (1 << 63))
-	}
-	return math.Float64frombits(^k)
+	return math.Float64frombits(k ^ ((k>>63 - 1) | 1<<63))
 }
 
 // load sets the values to rank: n of them, value i being v(i).
 func (r *ranker) load(n int, v func(i int) float64) {
 	r.keys = growU64(r.keys, n)
-	r.idx = growI32(r.idx, n)
+	minK, maxK := uint64(math.MaxUint64), uint64(0)
 	for i := range n {
-		r.keys[i] = sortKey(v(i))
-		r.idx[i] = int32(i)
+		k := sortKey(v(i))
+		r.keys[i] = k
+		minK, maxK = min(minK, k), max(maxK, k)
 	}
+	r.minK, r.maxK = minK, maxK
+}
+
+// loadRuns is load of the values x[j*n+(skip+s)*every] for runs j < runs
+// and s < m, value i = j*m+s.
+func (r *ranker) loadRuns(x []float64, runs, n, skip, every, m int) {
+	r.keys = growU64(r.keys, runs*m)
+	minK, maxK := uint64(math.MaxUint64), uint64(0)
+	for j := range runs {
+		keys := r.keys[j*m : (j+1)*m]
+		if every == 1 {
+			for s, v := range x[j*n+skip : j*n+skip+m] {
+				k := sortKey(v)
+				keys[s] = k
+				minK, maxK = min(minK, k), max(maxK, k)
+			}
+			continue
+		}
+		for s := range keys {
+			k := sortKey(x[j*n+(skip+s)*every])
+			keys[s] = k
+			minK, maxK = min(minK, k), max(maxK, k)
+		}
+	}
+	r.minK, r.maxK = minK, maxK
 }
 
 // at returns the value at position p of the order.
@@ -135,15 +165,170 @@ func (r *ranker) normalize(v, z []float64) []float64 {
 }
 
 // sort orders the loaded values; spare, if at least as long as the
-// values, is overwritten as the sort's second key buffer.
+// values, may be overwritten as the sort's second key buffer.
 func (r *ranker) sort(spare []uint64) {
 	n := len(r.keys)
 	if len(spare) < n {
 		r.tmpK = growU64(r.tmpK, n)
 		spare = r.tmpK
 	}
+	spare = spare[:n]
 	r.tmpI = growI32(r.tmpI, n)
-	sortPairs(r.keys, r.idx, spare[:n], r.tmpI)
+	r.idx = growI32(r.idx, n)
+	if n >= bucketMin && r.bucketSort(r.keys, r.idx, spare, r.tmpI) {
+		return
+	}
+	for i := range r.idx {
+		r.idx[i] = int32(i)
+	}
+	sortPairs(r.keys, r.idx, spare, r.tmpI)
+}
+
+// bucketMin is the number of values from which sort distributes them
+// into buckets by value before sorting each bucket.
+const bucketMin = 1 << 12
+
+// coarseLoad and fineLoad are the mean numbers of values per bucket of
+// the two rounds of bucketSort.
+const (
+	coarseLoad = 512
+	fineLoad   = 1
+)
+
+// insertMax is the largest bucket bucketSort orders by insertion.
+const insertMax = 48
+
+// A bucketing maps the finite values lo <= v <= hi to nb buckets of equal
+// width, (v - lo) * nb/(hi - lo) truncated: monotone in v, since each
+// operation rounds monotonically.
+type bucketing struct {
+	lo, scale float64
+	last      int
+}
+
+// newBucketing returns the bucketing of the keys, of least and greatest
+// minK and maxK, into about n/load buckets, and false if the keys are not
+// those of finite values of a positive range that the buckets resolve.
+func newBucketing(minK, maxK uint64, n, load int) (bucketing, bool) {
+	lo, hi := keyValue(minK), keyValue(maxK)
+	nb := max(n/load, 1)
+	scale := float64(nb) / (hi - lo)
+	if minK == 0 || math.IsInf(hi-lo, 0) || !(hi > lo) || math.IsInf(scale, 0) {
+		// NaNs, infinities, a range beyond the floats, no range (zeros
+		// of both signs) or too little of it for the scale.
+		return bucketing{}, false
+	}
+	return bucketing{lo: lo, scale: scale, last: nb - 1}, true
+}
+
+// keyRange returns the least and greatest of the keys.
+func keyRange(keys []uint64) (minK, maxK uint64) {
+	minK, maxK = keys[0], keys[0]
+	for _, k := range keys {
+		minK = min(minK, k)
+		maxK = max(maxK, k)
+	}
+	return minK, maxK
+}
+
+func (g bucketing) of(k uint64) int {
+	return min(int((keyValue(k)-g.lo)*g.scale), g.last)
+}
+
+// scatter writes the pairs (keys[i], idx[i]) (with idx nil, (keys[i], i))
+// into dk, di bucket by bucket in order, stably, and returns the end of
+// every bucket (in cnt, which it grows).
+func (g bucketing) scatter(keys []uint64, idx []int32, dk []uint64, di []int32, cnt []int32) []int32 {
+	nb := g.last + 1
+	cnt = growI32(cnt, nb+1)
+	clear(cnt)
+	for _, k := range keys {
+		cnt[g.of(k)+1]++
+	}
+	for b := 1; b <= nb; b++ {
+		cnt[b] += cnt[b-1]
+	}
+	// cnt[b] is now the start of bucket b; after the loop, its end.
+	if idx == nil {
+		for i, k := range keys {
+			b := g.of(k)
+			p := cnt[b]
+			cnt[b] = p + 1
+			dk[p] = k
+			di[p] = int32(i)
+		}
+		return cnt[:nb]
+	}
+	for i, k := range keys {
+		b := g.of(k)
+		p := cnt[b]
+		cnt[b] = p + 1
+		dk[p] = k
+		di[p] = idx[i]
+	}
+	return cnt[:nb]
+}
+
+// bucketSort sorts the loaded keys (least and greatest r.minK and r.maxK)
+// in increasing order, stably, setting idx[p] to the index of the value
+// at position p, with tk and ti (as long as keys) as its second buffers,
+// and returns true; it returns false, having done nothing, when the keys
+// are not those of finite values of positive range. The values are
+// distributed into buckets of equal width, ordered since the bucketing is
+// monotone, each small enough to fit in the first-level cache, and each
+// of those in turn into buckets of a few values (a bucket can only hold
+// more when its values crowd together: those are radix sorted), which
+// insertion then orders.
+func (r *ranker) bucketSort(keys []uint64, idx []int32, tk []uint64, ti []int32) bool {
+	g, ok := newBucketing(r.minK, r.maxK, len(keys), coarseLoad)
+	if !ok {
+		return false
+	}
+	r.cnt[0] = g.scatter(keys, nil, tk, ti, r.cnt[0])
+	start := 0
+	for _, e := range r.cnt[0] {
+		end := int(e)
+		k, i, sk, si := keys[start:end], idx[start:end], tk[start:end], ti[start:end]
+		start = end
+		if len(k) <= insertMax {
+			copy(k, sk)
+			copy(i, si)
+			insertionSort(k, i)
+			continue
+		}
+		minK, maxK := keyRange(sk)
+		f, ok := newBucketing(minK, maxK, len(sk), fineLoad)
+		if !ok {
+			copy(k, sk)
+			copy(i, si)
+			sortPairs(k, i, sk, si)
+			continue
+		}
+		r.cnt[1] = f.scatter(sk, si, k, i, r.cnt[1])
+		s := 0
+		for _, e := range r.cnt[1] {
+			if int(e)-s > insertMax {
+				sortPairs(k[s:e], i[s:e], sk[s:e], si[s:e])
+			}
+			s = int(e)
+		}
+		// The buckets being in order, no value moves out of its own.
+		insertionSort(k, i)
+	}
+	return true
+}
+
+// insertionSort sorts keys in increasing order, permuting idx alike,
+// stably.
+func insertionSort(keys []uint64, idx []int32) {
+	for j := 1; j < len(keys); j++ {
+		k, x := keys[j], idx[j]
+		i := j - 1
+		for ; i >= 0 && keys[i] > k; i-- {
+			keys[i+1], idx[i+1] = keys[i], idx[i]
+		}
+		keys[i+1], idx[i+1] = k, x
+	}
 }
 
 // tiedScore is the score of the ranks i+1 .. j+1 of S values, sc being
@@ -167,6 +352,11 @@ func (r *ranker) score(z []float64) {
 		j := i
 		for j+1 < S && keyValue(keys[j+1]) == vi {
 			j++
+		}
+		if i == j {
+			z[idx[i]] = sc[i]
+			i++
+			continue
 		}
 		q := tiedScore(sc, i, j, S)
 		for k := i; k <= j; k++ {
@@ -202,46 +392,107 @@ func (r *ranker) foldScore(z []float64, med float64) bool {
 			hi = m
 		}
 	}
-	// Merge the run below med, read downwards, with the run above; fl and
-	// fu are the folded values at their heads l and u (+Inf past the end,
-	// with the runs' lengths deciding which is exhausted).
-	l, u := p0-1, p0
+	// Merge the run below med, read downwards, with the run above, into
+	// the folded values fm in increasing order and the indices order of
+	// their draws. The folded values are computed first (f[p] for
+	// position p), so that the merge waits on loads only, and it chooses
+	// without a branch (which is as unpredictable as the draws). Equal
+	// folded values, which tie, are taken from the run above first: the
+	// order is then strict, so the merge can run from both ends at once,
+	// two independent chains meeting at rank h. From the front, fl and fu
+	// are the folded values at the heads l and u (+Inf past the end, with
+	// the runs' lengths deciding which is exhausted); from the back, bl and
+	// bu those at the tails a and b (-Inf past the end).
+	r.tmpK = growU64(r.tmpK, S)
+	r.tmpI = growI32(r.tmpI, S)
+	fm := r.spareF
+	if len(fm) < S {
+		r.tmpF = growF64(r.tmpF, S)
+		fm = r.tmpF
+	}
+	f, order := asFloats(r.tmpK), r.tmpI
+	for p, k := range keys {
+		f[p] = math.Abs(keyValue(k) - med)
+	}
 	inf := math.Inf(1)
-	fold := func(p int) float64 { return math.Abs(keyValue(keys[p]) - med) }
-	fl, fu := inf, inf
+	l, u := p0-1, p0
+	a, b := 0, S-1
+	fl, fu, bl, bu := inf, inf, -inf, -inf
 	if l >= 0 {
-		fl = fold(l)
+		fl, bl = f[l], f[a]
 	}
 	if u < S {
-		fu = fold(u)
+		fu, bu = f[u], f[b]
 	}
-	for rank := 0; rank < S; {
-		g := fu
-		if l >= 0 && (u >= S || fl < fu) {
-			g = fl
+	h := S / 2
+	for rank := range S - h {
+		end := S - 1 - rank
+		up := 0 // take the run below from the back
+		if bl < bu {
+			up = 1
 		}
-		l0, u0 := l, u
-		for l >= 0 && fl == g {
-			if l--; l >= 0 {
-				fl = fold(l)
-			}
+		q := a ^ ((a ^ b) & -up) // b if up, else a
+		order[end] = idx[q]
+		fm[end] = max(bl, bu)
+		a += 1 - up
+		b -= up
+		bl, bu = -inf, -inf
+		if a < p0 {
+			bl = f[a]
 		}
-		for u < S && fu == g {
-			if u++; u < S {
-				fu = fold(u)
-			}
+		if b >= p0 {
+			bu = f[b]
 		}
-		n := (l0 - l) + (u - u0)
-		q := tiedScore(sc, rank, rank+n-1, S)
-		for p := l + 1; p <= l0; p++ {
-			z[idx[p]] = q
+		if rank >= h {
+			break
 		}
-		for p := u0; p < u; p++ {
-			z[idx[p]] = q
+		down := 0 // take the run below from the front
+		if fl < fu {
+			down = 1
 		}
-		rank += n
+		if u >= S {
+			down = 1
+		}
+		p := u ^ ((u ^ l) & -down) // l if down, else u
+		order[rank] = idx[p]
+		fm[rank] = min(fl, fu)
+		l -= down
+		u += 1 - down
+		fl, fu = inf, inf
+		if l >= 0 {
+			fl = f[l]
+		}
+		if u < S {
+			fu = f[u]
+		}
+	}
+	for i := 0; i < S; {
+		g := fm[i]
+		j := i
+		for j+1 < S && fm[j+1] == g {
+			j++
+		}
+		if i == j {
+			z[order[i]] = sc[i]
+			i++
+			continue
+		}
+		q := tiedScore(sc, i, j, S)
+		for k := i; k <= j; k++ {
+			z[order[k]] = q
+		}
+		i = j + 1
 	}
 	return true
+}
+
+// asFloats is k's memory as float64 values (the sizes and alignments of
+// the two types agree).
+func asFloats(k []uint64) []float64 {
+	if len(k) == 0 {
+		return nil
+	}
+	return unsafe.Slice((*float64)(unsafe.Pointer(&k[0])), len(k))
 }
 
 // sortPairs sorts keys in increasing order, permuting idx alike: a

@@ -9,28 +9,18 @@
 // FFT's circular correlation is the linear one. Cost O(n log n).
 package acf
 
-import "gonum.org/v1/gonum/dsp/fourier"
-
 // Work holds the FFT plan and buffers for series of up to a fixed length,
 // so that Autocov allocates nothing. A Work is not safe for concurrent use.
 type Work struct {
-	max   int
-	fft   *fourier.FFT
-	buf   []float64
-	coeff []complex128
-	out   []float64
+	max int
+	fft *rfft
+	buf []float64
 }
 
 // New returns a Work for series of up to n values.
 func New(n int) *Work {
 	m := padded(n)
-	return &Work{
-		max:   n,
-		fft:   fourier.NewFFT(m),
-		buf:   make([]float64, m),
-		coeff: make([]complex128, m/2+1),
-		out:   make([]float64, m),
-	}
+	return &Work{max: n, fft: newRFFT(m), buf: make([]float64, m)}
 }
 
 // padded is the FFT length of New(n): the least power of 2 >= 2n.
@@ -79,20 +69,30 @@ func (a *Work) AutocovAbout(series []float64, centre float64, acov []float64) {
 		return
 	}
 	mean := centre
-	for i := range a.buf {
-		a.buf[i] = 0
+	buf := a.buf
+	for i := range buf {
+		buf[i] = 0
 	}
 	for i, v := range series {
-		a.buf[i] = v - mean
+		buf[i] = v - mean
 	}
-	a.fft.Coefficients(a.coeff, a.buf)
-	for i, c := range a.coeff {
-		a.coeff[i] = complex(real(c)*real(c)+imag(c)*imag(c), 0)
+	// The power spectrum |c_k|^2 in FFTPACK's packed order, computed as
+	// from the complex coefficients (re*re + im*im, the imaginary parts 0
+	// at k = 0 and m/2), then transformed back.
+	a.fft.forward(buf)
+	m := len(buf)
+	buf[0] = buf[0]*buf[0] + 0*0
+	if m > 1 {
+		buf[m-1] = buf[m-1]*buf[m-1] + 0*0
+		for i := 1; 2*i < m; i++ {
+			re, im := buf[2*i-1], buf[2*i]
+			buf[2*i-1], buf[2*i] = re*re+im*im, 0
+		}
 	}
-	a.fft.Sequence(a.out, a.coeff)
-	// gonum's inverse transform is unnormalised: divide by the FFT length.
-	scale := 1 / float64(len(a.buf)) / float64(n)
+	a.fft.backward(buf)
+	// The inverse transform is unnormalised: divide by the FFT length.
+	scale := 1 / float64(m) / float64(n)
 	for k := range n {
-		acov[k] = a.out[k] * scale
+		acov[k] = buf[k] * scale
 	}
 }

@@ -153,3 +153,41 @@ func TestFits(t *testing.T) {
 		}
 	}
 }
+
+// TestKernelsAgree checks every lag-sum kernel (the SSE2 and, where the
+// CPU has it, AVX2 assembly, and the pure-Go blocks) against the defining
+// sum in the package doc accumulated in t order, to the bit, for series
+// shorter and longer than a kernel's lags.
+func TestKernelsAgree(t *testing.T) {
+	r := rand.New(rand.NewPCG(7, 8))
+	for _, n := range []int{1, 16, 31, 32, 33, 47, 100, 1000} {
+		d := make([]float64, n)
+		for i := range d {
+			d[i] = r.NormFloat64()
+		}
+		for _, k0 := range []int{0, 1, 15, 16, 31, 32, 40, n - 1, n} {
+			if k0 < 0 {
+				continue
+			}
+			b32, p32 := block32(d, k0), pair16(d, k0)
+			b8a, b8b := block(d, k0), block(d, k0+LagBlock)
+			b16 := block16(d, k0)
+			for i := range 32 {
+				k := k0 + i
+				want := 0.0
+				for s := 0; s+k < n; s++ {
+					want += d[s] * d[s+k]
+				}
+				if b32[i] != want || p32[i] != want {
+					t.Fatalf("n=%d k0=%d lag %d: block32 %v, pair16 %v, want %v", n, k0, k, b32[i], p32[i], want)
+				}
+				if i < 16 && b16[i] != want {
+					t.Fatalf("n=%d k0=%d lag %d: block16 %v, want %v", n, k0, k, b16[i], want)
+				}
+				if i < LagBlock && (b8a[i] != want || b8b[i] != b16[i+LagBlock]) {
+					t.Fatalf("n=%d k0=%d lag %d: block %v and %v, want %v and %v", n, k0, k, b8a[i], b8b[i], want, b16[i+LagBlock])
+				}
+			}
+		}
+	}
+}

@@ -95,14 +95,56 @@ func (l *Lags) Block(k0 int, out []float64) {
 //
 // lags at or beyond n being 0. Each sum is accumulated in t order, as
 // Block's, so a lag's value does not depend on the lags computed with it
-// (on amd64 sixteen lags at a time, one per SIMD lane).
+// (on amd64 sixteen or, with AVX2, thirty-two lags at a time, one per
+// SIMD lane).
 func Sums(d []float64, k0 int, out []float64) {
 	nf := float64(len(d))
-	for i := 0; i < len(out); i += 16 {
+	for i := 0; i < len(out); {
+		if len(out)-i > 16 && wide() {
+			s := block32(d, k0+i)
+			o := out[i:min(i+32, len(out))]
+			for j := range o {
+				o[j] = s[j] / nf
+			}
+			i += 32
+			continue
+		}
 		s := block16(d, k0+i)
 		o := out[i:min(i+16, len(out))]
 		for j := range o {
 			o[j] = s[j] / nf
+		}
+		i += 16
+	}
+}
+
+// SumsWidth is the number of lags Sums computes at once most cheaply per
+// lag: 32 where it has a 32-lag kernel (AVX2), else 16.
+func SumsWidth() int {
+	if wide() {
+		return 32
+	}
+	return 16
+}
+
+// pair16 is block32 from two calls of block16.
+func pair16(d []float64, k0 int) [32]float64 {
+	var s [32]float64
+	a, b := block16(d, k0), block16(d, k0+16)
+	copy(s[:16], a[:])
+	copy(s[16:], b[:])
+	return s
+}
+
+// tail adds to s[i] the terms d_t d_{t+k0+i} of t >= full that lie inside
+// the series, in t order after those of t < full.
+func tail(d []float64, k0, full int, s []float64) {
+	n := len(d)
+	for t := full; t < n-k0; t++ {
+		for i := range s {
+			if t+k0+i < n {
+				s[i] += d[t] * d[t+k0+i]
+			}
 		}
 	}
 }

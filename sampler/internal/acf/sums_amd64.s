@@ -62,3 +62,101 @@ loop:
 	MOVUPD X6, 96(DX)
 	MOVUPD X7, 112(DX)
 	RET
+
+// func sums32avx2(d, e *float64, n int, s *[32]float64)
+//
+// s[i] = sum_{t<n} d[t]*e[t+i], i < 32, n >= 16, each lag in one lane of
+// eight AVX2 accumulators, every product rounded then added in t order
+// (VMULPD then VADDPD: no fused multiply-add), as the scalar loop does.
+// Lags 16-31 at step t read e[t+16 : t+32], as lags 0-15 do at step t+16:
+// the main loop runs the first half 16 steps ahead of the second so that
+// they share these loads, after a prologue (the first half's first 16
+// steps) and before an epilogue (the second half's last 16).
+TEXT ·sums32avx2(SB), NOSPLIT, $0-32
+	MOVQ d+0(FP), SI
+	MOVQ e+8(FP), DI
+	MOVQ n+16(FP), CX
+	MOVQ s+24(FP), DX
+	VXORPD Y0, Y0, Y0
+	VXORPD Y1, Y1, Y1
+	VXORPD Y2, Y2, Y2
+	VXORPD Y3, Y3, Y3
+	VXORPD Y4, Y4, Y4
+	VXORPD Y5, Y5, Y5
+	VXORPD Y6, Y6, Y6
+	VXORPD Y7, Y7, Y7
+	MOVQ $16, BX
+
+pro32:
+	VBROADCASTSD (SI), Y8
+	VMULPD 0(DI), Y8, Y12
+	VADDPD Y12, Y0, Y0
+	VMULPD 32(DI), Y8, Y13
+	VADDPD Y13, Y1, Y1
+	VMULPD 64(DI), Y8, Y14
+	VADDPD Y14, Y2, Y2
+	VMULPD 96(DI), Y8, Y15
+	VADDPD Y15, Y3, Y3
+	ADDQ $8, SI
+	ADDQ $8, DI
+	DECQ BX
+	JNZ  pro32
+	SUBQ $16, CX
+	JZ   epi32
+
+main32:
+	VBROADCASTSD (SI), Y8
+	VBROADCASTSD -128(SI), Y9
+	VMOVUPD 0(DI), Y10
+	VMULPD Y10, Y8, Y12
+	VADDPD Y12, Y0, Y0
+	VMULPD Y10, Y9, Y13
+	VADDPD Y13, Y4, Y4
+	VMOVUPD 32(DI), Y11
+	VMULPD Y11, Y8, Y14
+	VADDPD Y14, Y1, Y1
+	VMULPD Y11, Y9, Y15
+	VADDPD Y15, Y5, Y5
+	VMOVUPD 64(DI), Y10
+	VMULPD Y10, Y8, Y12
+	VADDPD Y12, Y2, Y2
+	VMULPD Y10, Y9, Y13
+	VADDPD Y13, Y6, Y6
+	VMOVUPD 96(DI), Y11
+	VMULPD Y11, Y8, Y14
+	VADDPD Y14, Y3, Y3
+	VMULPD Y11, Y9, Y15
+	VADDPD Y15, Y7, Y7
+	ADDQ $8, SI
+	ADDQ $8, DI
+	DECQ CX
+	JNZ  main32
+
+epi32:
+	MOVQ $16, BX
+
+epiloop32:
+	VBROADCASTSD -128(SI), Y9
+	VMULPD 0(DI), Y9, Y12
+	VADDPD Y12, Y4, Y4
+	VMULPD 32(DI), Y9, Y13
+	VADDPD Y13, Y5, Y5
+	VMULPD 64(DI), Y9, Y14
+	VADDPD Y14, Y6, Y6
+	VMULPD 96(DI), Y9, Y15
+	VADDPD Y15, Y7, Y7
+	ADDQ $8, SI
+	ADDQ $8, DI
+	DECQ BX
+	JNZ  epiloop32
+
+	VMOVUPD Y0, 0(DX)
+	VMOVUPD Y1, 32(DX)
+	VMOVUPD Y2, 64(DX)
+	VMOVUPD Y3, 96(DX)
+	VMOVUPD Y4, 128(DX)
+	VMOVUPD Y5, 160(DX)
+	VMOVUPD Y6, 192(DX)
+	VMOVUPD Y7, 224(DX)
+	VZEROUPPER
+	RET
