@@ -272,6 +272,49 @@ cdone:
 	VZEROUPPER
 	RET
 
+// LOOKUP4 evaluates, for x in Y0 and the stencils s (4 x int32) in X1,
+// the cubics of the table at R9 (Slots cubics of 32 bytes) at u = x - s:
+// float64(s), u, the slots s & 255 (AX, R10, R11, R12), the four cubics
+// loaded and transposed into their coefficient vectors (VUNPCKLPD and
+// VUNPCKHPD, then VPERM2F128), and Estrin's (q0 + u q1) + (u u)(q2 + u q3),
+// left in Y4. It uses Y1-Y9.
+#define LOOKUP4 \
+	VCVTDQ2PD   X1, Y2; \
+	VSUBPD      Y2, Y0, Y3; \
+	VMOVQ       X1, AX; \
+	VPEXTRQ     $1, X1, R10; \
+	MOVQ        AX, R11; \
+	SHRQ        $32, R11; \
+	MOVQ        R10, R12; \
+	SHRQ        $32, R12; \
+	ANDQ        $255, AX; \
+	ANDQ        $255, R11; \
+	ANDQ        $255, R10; \
+	ANDQ        $255, R12; \
+	SHLQ        $5, AX; \
+	SHLQ        $5, R11; \
+	SHLQ        $5, R10; \
+	SHLQ        $5, R12; \
+	VMOVUPD     (R9)(AX*1), Y4; \
+	VMOVUPD     (R9)(R11*1), Y5; \
+	VMOVUPD     (R9)(R10*1), Y6; \
+	VMOVUPD     (R9)(R12*1), Y7; \
+	VUNPCKLPD   Y5, Y4, Y1; \
+	VUNPCKHPD   Y5, Y4, Y2; \
+	VUNPCKLPD   Y7, Y6, Y8; \
+	VUNPCKHPD   Y7, Y6, Y9; \
+	VPERM2F128  $0x20, Y8, Y1, Y4; \
+	VPERM2F128  $0x20, Y9, Y2, Y5; \
+	VPERM2F128  $0x31, Y8, Y1, Y6; \
+	VPERM2F128  $0x31, Y9, Y2, Y7; \
+	VMULPD      Y5, Y3, Y5; \
+	VADDPD      Y5, Y4, Y4; \
+	VMULPD      Y7, Y3, Y7; \
+	VADDPD      Y7, Y6, Y6; \
+	VMULPD      Y3, Y3, Y3; \
+	VMULPD      Y6, Y3, Y6; \
+	VADDPD      Y6, Y4, Y4
+
 // func seriesAVX(dst, xs, invF *float64, n int, cf *float64, c float64, a *[5]float64, terms int)
 //
 // Four frequencies per iteration: x = xs - c; s = int(x) (VCVTTPD2DQ
@@ -301,41 +344,7 @@ sloop:
 	VMOVUPD     (SI)(BX*8), Y0
 	VSUBPD      Y15, Y0, Y0     // x = xs - c
 	VCVTTPD2DQY Y0, X1          // s
-	VCVTDQ2PD   X1, Y2          // float64(s)
-	VSUBPD      Y2, Y0, Y3      // u = x - s
-	VMOVQ       X1, AX
-	VPEXTRQ     $1, X1, R10
-	MOVQ        AX, R11
-	SHRQ        $32, R11
-	MOVQ        R10, R12
-	SHRQ        $32, R12
-	ANDQ        $255, AX
-	ANDQ        $255, R11
-	ANDQ        $255, R10
-	ANDQ        $255, R12
-	SHLQ        $5, AX
-	SHLQ        $5, R11
-	SHLQ        $5, R10
-	SHLQ        $5, R12
-	VMOVUPD     (R9)(AX*1), Y4  // cubic of frequency 0
-	VMOVUPD     (R9)(R11*1), Y5 // 1
-	VMOVUPD     (R9)(R10*1), Y6 // 2
-	VMOVUPD     (R9)(R12*1), Y7 // 3
-	VUNPCKLPD   Y5, Y4, Y1      // q0[0] q0[1] q2[0] q2[1]
-	VUNPCKHPD   Y5, Y4, Y2      // q1[0] q1[1] q3[0] q3[1]
-	VUNPCKLPD   Y7, Y6, Y8      // q0[2] q0[3] q2[2] q2[3]
-	VUNPCKHPD   Y7, Y6, Y9      // q1[2] q1[3] q3[2] q3[3]
-	VPERM2F128  $0x20, Y8, Y1, Y4 // q0
-	VPERM2F128  $0x20, Y9, Y2, Y5 // q1
-	VPERM2F128  $0x31, Y8, Y1, Y6 // q2
-	VPERM2F128  $0x31, Y9, Y2, Y7 // q3
-	VMULPD      Y5, Y3, Y5      // u q1
-	VADDPD      Y5, Y4, Y4      // q0 + u q1
-	VMULPD      Y7, Y3, Y7      // u q3
-	VADDPD      Y7, Y6, Y6      // q2 + u q3
-	VMULPD      Y3, Y3, Y3      // u u
-	VMULPD      Y6, Y3, Y6      // (u u)(q2 + u q3)
-	VADDPD      Y6, Y4, Y4      // the cubic
+	LOOKUP4
 	VMOVUPD     (DX)(BX*8), Y0  // y
 	CMPQ        R13, $5
 	JEQ         five
@@ -547,41 +556,7 @@ cloop:
 	VPMAXSD     X12, X1, X1     // max(., 0)
 	VPMINSD     X14, X1, X1     // min(., last)
 	VPADDD      X13, X1, X1     // s = ... + 1
-	VCVTDQ2PD   X1, Y2          // float64(s)
-	VSUBPD      Y2, Y0, Y3      // u = x - s
-	VMOVQ       X1, AX
-	VPEXTRQ     $1, X1, R10
-	MOVQ        AX, R11
-	SHRQ        $32, R11
-	MOVQ        R10, R12
-	SHRQ        $32, R12
-	ANDQ        $255, AX
-	ANDQ        $255, R11
-	ANDQ        $255, R10
-	ANDQ        $255, R12
-	SHLQ        $5, AX
-	SHLQ        $5, R11
-	SHLQ        $5, R10
-	SHLQ        $5, R12
-	VMOVUPD     (R9)(AX*1), Y4
-	VMOVUPD     (R9)(R11*1), Y5
-	VMOVUPD     (R9)(R10*1), Y6
-	VMOVUPD     (R9)(R12*1), Y7
-	VUNPCKLPD   Y5, Y4, Y1
-	VUNPCKHPD   Y5, Y4, Y2
-	VUNPCKLPD   Y7, Y6, Y8
-	VUNPCKHPD   Y7, Y6, Y9
-	VPERM2F128  $0x20, Y8, Y1, Y4 // q0
-	VPERM2F128  $0x20, Y9, Y2, Y5 // q1
-	VPERM2F128  $0x31, Y8, Y1, Y6 // q2
-	VPERM2F128  $0x31, Y9, Y2, Y7 // q3
-	VMULPD      Y5, Y3, Y5
-	VADDPD      Y5, Y4, Y4
-	VMULPD      Y7, Y3, Y7
-	VADDPD      Y7, Y6, Y6
-	VMULPD      Y3, Y3, Y3
-	VMULPD      Y6, Y3, Y6
-	VADDPD      Y6, Y4, Y4      // the cubic
+	LOOKUP4
 	VADDPD      (DI)(BX*8), Y4, Y4
 	VMOVUPD     Y4, (DI)(BX*8)
 	ADDQ        $4, BX
