@@ -172,22 +172,7 @@ func FuzzWriterMatchesStrconv(f *testing.F) {
 			if flushes == 8 {
 				continue
 			}
-			switch ctl >> 6 {
-			case 1:
-				flushes++
-				off, err := w.Flush()
-				if err != nil {
-					t.Fatal(err)
-				}
-				if off != int64(len(want)) {
-					t.Fatalf("Flush offset %d, text so far %d bytes", off, len(want))
-				}
-			case 2:
-				flushes++
-				if err := w.StartFlush(); err != nil {
-					t.Fatal(err)
-				}
-			}
+			flushes += fuzzFlush(t, w, ctl, len(want))
 		}
 		if err := w.Close(); err != nil {
 			t.Fatal(err)
@@ -587,4 +572,28 @@ func TestStartFlushWhenBehind(t *testing.T) {
 	if !bytes.Equal(got, want) {
 		t.Errorf("file differs from strconv's formatting (%d vs %d bytes)", len(got), len(want))
 	}
+}
+
+// fuzzFlush carries out the flush a fuzz input's control byte asks for
+// (ctl>>6: 1 Flush, whose offset must be textLen, the length of the text
+// appended so far; 2 StartFlush) and returns how many it made (0 or 1).
+func fuzzFlush(t *testing.T, w *Writer, ctl byte, textLen int) int {
+	t.Helper()
+	switch ctl >> 6 {
+	case 1:
+		off, err := w.Flush()
+		if err != nil {
+			t.Fatal(err)
+		}
+		if off != int64(textLen) {
+			t.Fatalf("Flush offset %d, text so far %d bytes", off, textLen)
+		}
+		return 1
+	case 2:
+		if err := w.StartFlush(); err != nil {
+			t.Fatal(err)
+		}
+		return 1
+	}
+	return 0
 }

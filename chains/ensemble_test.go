@@ -392,22 +392,7 @@ func FuzzAppendEnsembleMatchesStrconv(f *testing.F) {
 			if flushes == 8 {
 				continue
 			}
-			switch ctl >> 6 {
-			case 1:
-				flushes++
-				off, err := w.Flush()
-				if err != nil {
-					t.Fatal(err)
-				}
-				if off != int64(len(want)) {
-					t.Fatalf("Flush offset %d, text so far %d bytes", off, len(want))
-				}
-			case 2:
-				flushes++
-				if err := w.StartFlush(); err != nil {
-					t.Fatal(err)
-				}
-			}
+			flushes += fuzzFlush(t, w, ctl, len(want))
 		}
 		if err := w.Close(); err != nil {
 			t.Fatal(err)
