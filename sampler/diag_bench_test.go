@@ -10,7 +10,13 @@ import (
 // Gaussian that has recorded steps steps (the size of the demo fits).
 func benchHistory(b *testing.B, steps int) *Ensemble {
 	b.Helper()
-	tg := newGaussTarget(b, []float64{0, 0}, [][]float64{{1, 0.5}, {0.5, 1}})
+	return recordedHistory(b, newGaussTarget(b, []float64{0, 0}, [][]float64{{1, 0.5}, {0.5, 1}}), steps)
+}
+
+// recordedHistory returns an ensemble of 32 walkers on tg that has
+// recorded steps steps.
+func recordedHistory(b *testing.B, tg Target, steps int) *Ensemble {
+	b.Helper()
 	e, err := New(tg, Config{Walkers: 32, Seed: 1, Workers: 1})
 	if err != nil {
 		b.Fatal(err)

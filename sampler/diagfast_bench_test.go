@@ -47,20 +47,7 @@ func gaussHistory(b *testing.B, dim, steps int) *Ensemble {
 	for i := range cov {
 		cov[i] = cov[i][:dim]
 	}
-	tg := newGaussTarget(b, mu, cov)
-	e, err := New(tg, Config{Walkers: 32, Seed: 1, Workers: 1})
-	if err != nil {
-		b.Fatal(err)
-	}
-	b.Cleanup(e.Close)
-	e.hist = newHistory(e)
-	e.hist.reserve(steps)
-	for range steps {
-		if err := e.Step(); err != nil { // Step records into e.hist
-			b.Fatal(err)
-		}
-	}
-	return e
+	return recordedHistory(b, newGaussTarget(b, mu, cov), steps)
 }
 
 // BenchmarkFinalReport times Run's final report (evaluate with final set)
