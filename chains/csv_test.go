@@ -5,6 +5,7 @@ import (
 	"bytes"
 	"encoding/binary"
 	"errors"
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"os"
@@ -102,16 +103,7 @@ func TestWriterMatchesStrconv(t *testing.T) {
 				}
 			}
 		}
-		if err := w.Close(); err != nil {
-			t.Fatal(err)
-		}
-		got, err := os.ReadFile(p)
-		if err != nil {
-			t.Fatal(err)
-		}
-		if !bytes.Equal(got, want) {
-			t.Errorf("batch %d: file differs from strconv's formatting (%d vs %d bytes)", batch, len(got), len(want))
-		}
+		closeAndCompare(t, w, p, want, fmt.Sprintf("batch %d", batch))
 	}
 }
 
@@ -174,16 +166,7 @@ func FuzzWriterMatchesStrconv(f *testing.F) {
 			}
 			flushes += fuzzFlush(t, w, ctl, len(want))
 		}
-		if err := w.Close(); err != nil {
-			t.Fatal(err)
-		}
-		got, err := os.ReadFile(p)
-		if err != nil {
-			t.Fatal(err)
-		}
-		if !bytes.Equal(got, want) {
-			t.Fatalf("file differs from strconv's formatting:\n%q\nwant\n%q", got, want)
-		}
+		closeAndCompare(t, w, p, want, "")
 	})
 }
 
@@ -562,16 +545,7 @@ func TestStartFlushWhenBehind(t *testing.T) {
 			t.Fatal("the full batch went without the waiting request")
 		}
 	}
-	if err := w.Close(); err != nil {
-		t.Fatal(err)
-	}
-	got, err := os.ReadFile(p)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if !bytes.Equal(got, want) {
-		t.Errorf("file differs from strconv's formatting (%d vs %d bytes)", len(got), len(want))
-	}
+	closeAndCompare(t, w, p, want, "")
 }
 
 // fuzzFlush carries out the flush a fuzz input's control byte asks for
@@ -596,4 +570,24 @@ func fuzzFlush(t *testing.T, w *Writer, ctl byte, textLen int) int {
 		return 1
 	}
 	return 0
+}
+
+// closeAndCompare closes w and fails the test unless the file p holds
+// exactly want (strconv's formatting of the rows appended); what, if not
+// empty, says which case failed.
+func closeAndCompare(t *testing.T, w *Writer, p string, want []byte, what string) {
+	t.Helper()
+	if err := w.Close(); err != nil {
+		t.Fatal(err)
+	}
+	got, err := os.ReadFile(p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !bytes.Equal(got, want) {
+		if what != "" {
+			what += ": "
+		}
+		t.Fatalf("%sfile differs from strconv's formatting (%d vs %d bytes)%s", what, len(got), len(want), firstDiff(got, want))
+	}
 }

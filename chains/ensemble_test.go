@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"encoding/binary"
 	"errors"
+	"fmt"
 	"io"
 	"math"
 	"math/rand/v2"
@@ -288,16 +289,7 @@ func TestWriterRepeatsText(t *testing.T) {
 			}
 			want = strconvRows(want, r)
 		}
-		if err := w.Close(); err != nil {
-			t.Fatal(err)
-		}
-		got, err := os.ReadFile(p)
-		if err != nil {
-			t.Fatal(err)
-		}
-		if !bytes.Equal(got, want) {
-			t.Fatalf("batch %d: file differs from strconv's formatting (%d vs %d bytes)%s", batch, len(got), len(want), firstDiff(got, want))
-		}
+		closeAndCompare(t, w, p, want, fmt.Sprintf("batch %d", batch))
 	}
 }
 
@@ -394,16 +386,7 @@ func FuzzAppendEnsembleMatchesStrconv(f *testing.F) {
 			}
 			flushes += fuzzFlush(t, w, ctl, len(want))
 		}
-		if err := w.Close(); err != nil {
-			t.Fatal(err)
-		}
-		got, err := os.ReadFile(p)
-		if err != nil {
-			t.Fatal(err)
-		}
-		if !bytes.Equal(got, want) {
-			t.Fatalf("file differs from strconv's formatting%s", firstDiff(got, want))
-		}
+		closeAndCompare(t, w, p, want, "")
 	})
 }
 
