@@ -68,6 +68,35 @@ func TestAppendFloatEdges(t *testing.T) {
 	}
 }
 
+// TestAppendFloatEveryLayout compares appendFloat with strconv on values
+// of every digit count (1 to 17) at every place of the decimal point that
+// selects a different layout or shift (0.digits x 10^dp for dp from -6 to
+// 9: the exponent form on both sides, the leading "0.", "0.0", "0.00" and
+// "0.000", the point after each of the first six digits and integers
+// padded with zeros), each sign, 50 random digit strings each.
+func TestAppendFloatEveryLayout(t *testing.T) {
+	r := rand.New(rand.NewPCG(13, 17))
+	for nd := 1; nd <= 17; nd++ {
+		for dp := -6; dp <= 9; dp++ {
+			for range 50 {
+				digits := make([]byte, nd)
+				for i := range digits {
+					digits[i] = byte('0' + r.IntN(10))
+				}
+				digits[0] = byte('1' + r.IntN(9))
+				digits[nd-1] = byte('1' + r.IntN(9))
+				text := "0." + string(digits) + "e" + strconv.Itoa(dp)
+				v, err := strconv.ParseFloat(text, 64)
+				if err != nil {
+					t.Fatal(err)
+				}
+				checkFloat(t, v)
+				checkFloat(t, -v)
+			}
+		}
+	}
+}
+
 // chainLike returns n values like those of a chain file: long fractions
 // around log posteriors and parameters, values rounded to a few decimals,
 // tiny and huge magnitudes, small integers (steps and walker indices),
