@@ -144,7 +144,6 @@ func midPrior(p *likelihood.Posterior) []float64 {
 	return x
 }
 
-// nsPer returns the mean time of f over about 0.2 s, in ns.
 // bestOf runs the measurements ms in turn k times and returns the smallest
 // value of each: alternating them puts a change in the machine's load on
 // all of them alike, and the smallest is the run least disturbed by other
@@ -162,6 +161,7 @@ func bestOf(k int, ms ...func() float64) []float64 {
 	return best
 }
 
+// nsPer returns the mean time of f over about 0.2 s, in ns.
 func nsPer(f func()) float64 {
 	n := 1000
 	for {
