@@ -51,29 +51,33 @@ func gaussHistory(b *testing.B, dim, steps int) *Ensemble {
 }
 
 // BenchmarkFinalReport times Run's final report (evaluate with final set)
-// on the history of a 20000-step, 32-walker run in 2 and 3 dimensions:
-// warm reuses the diagnostics' buffers and score table of the previous
-// report, as repeated checks of one size do; fresh starts from a new pool,
-// as the final report of a run does (its checks had other sizes).
+// on the history of a 6000- and a 20000-step, 32-walker run in 2 and 3
+// dimensions: warm reuses the diagnostics' buffers and score table of the
+// previous report, as repeated checks of one size do; fresh starts from a
+// new pool, as the final report of a run does (its checks had other
+// sizes). The short history is the length of an --until run that stops
+// early, whose first estimate of tau is of a coarsely thinned chain.
 func BenchmarkFinalReport(b *testing.B) {
-	for _, dim := range []int{2, 3} {
-		e := gaussHistory(b, dim, 20000)
-		opt := RunOptions{MaxSteps: 20000, Burn: -1}
-		for _, fresh := range []bool{false, true} {
-			name := fmt.Sprintf("dim=%d/warm", dim)
-			if fresh {
-				name = fmt.Sprintf("dim=%d/fresh", dim)
-			}
-			b.Run(name, func(b *testing.B) {
-				c0 := cpuTime()
-				for b.Loop() {
-					if fresh {
-						e.hist.diag = nil
-					}
-					evaluate(e, opt, true)
+	for _, steps := range []int{6000, 20000} {
+		for _, dim := range []int{2, 3} {
+			e := gaussHistory(b, dim, steps)
+			opt := RunOptions{MaxSteps: steps, Burn: -1}
+			for _, fresh := range []bool{false, true} {
+				kind := "warm"
+				if fresh {
+					kind = "fresh"
 				}
-				b.ReportMetric((cpuTime()-c0).Seconds()*1e3/float64(b.N), "cpu-ms/op")
-			})
+				b.Run(fmt.Sprintf("steps=%d/dim=%d/%s", steps, dim, kind), func(b *testing.B) {
+					c0 := cpuTime()
+					for b.Loop() {
+						if fresh {
+							e.hist.diag = nil
+						}
+						evaluate(e, opt, true)
+					}
+					b.ReportMetric((cpuTime()-c0).Seconds()*1e3/float64(b.N), "cpu-ms/op")
+				})
+			}
 		}
 	}
 }

@@ -127,16 +127,21 @@ type thinning struct {
 
 // finalThinning is that of the diagnostics Run returns: by tau/10, where
 // k tau(thinned) differs from tau by less than 0.5 % for an exponentially
-// decaying autocorrelation.
-var finalThinning = thinning{Coarse: 4096, Divisor: 10}
+// decaying autocorrelation. The coarse first estimate reads about 1024
+// steps: a history shorter than 2 Coarse steps is first estimated
+// unthinned, and for tau of tens of steps that window outruns the direct
+// lag sums and is summed again by FFT, the bulk of a short run's report.
+// Wherever the refinement starts, it ends at a thinning of at most tau/10.
+var finalThinning = thinning{Coarse: 1024, Divisor: 10}
 
 // checkThinning is that of the convergence checks during a run: the chain
 // is thinned to about 2048 steps but by no more than tau/4. For an
 // exponentially decaying autocorrelation, k tau(thinned) then overstates
 // tau by at most (k/tau)^2/3 = 2 % (so ESS is understated, the
 // conservative side for a stopping rule), while a check costs a fixed
-// amount of work instead of one growing with the run.
-var checkThinning = thinning{Coarse: 1024, Divisor: 4, Steps: 2048}
+// amount of work instead of one growing with the run. The coarse first
+// estimate reads about 256 steps, for the reason given at finalThinning.
+var checkThinning = thinning{Coarse: 256, Divisor: 4, Steps: 2048}
 
 // interval returns the thinning interval for n steps and tau, at least 1.
 func (th thinning) interval(n int, tau float64) int {
