@@ -4,7 +4,8 @@
 // the likelihood against hand-written lookups, the sampler's overhead per
 // walker-step, (with -e2e) the end-to-end effective samples per second of
 // the command against a vectorized NumPy stretch-move fit
-// (scripts/bench/numpy_fit.py), and (with -compare) the default `compare`
+// (scripts/bench/numpy_fit.py) and the share of diagnostics in
+// `fit --until` runs, and (with -compare) the default `compare`
 // run of this tree against the one of commit -before, built in a temporary
 // git worktree under the system temporary folder and removed afterwards.
 // It is not part of `go test ./...`.
@@ -491,6 +492,33 @@ func endToEnd(steps int, py string, smbhbData *likelihood.Dataset, sm *cosmicstr
 		}
 		fmt.Printf("tautline fit %-8s %d steps: %.2f s (fastest of %d runs), min ESS %.0f: %.0f ESS/s; diagnostics %.1f %% of the command's wall time, chain.csv %.1f %% (the replica's added wall time above; goals <= 10 %%)\n",
 			demo, steps, wall, cmdRuns, ess, ess/wall, 100*diag/wall, 100*csvAdded[demo]/wall)
+		// With --until every check decides, so none is skipped for its cost.
+		for _, until := range untilRuns {
+			out := filepath.Join(tmp, fmt.Sprintf("until-%s", demo))
+			args := []string{"fit", "--data", "demo:" + demo, "--model", demo, "--until", until, "--workers", "1", "--checkpoint-every", "0", "--out", out}
+			uwall, ufrac, usteps := math.Inf(1), 0.0, 0
+			for range cmdRuns {
+				os.RemoveAll(out)
+				t := time.Now()
+				if b, err := exec.Command(bin, args...).CombinedOutput(); err != nil {
+					return fmt.Errorf("tautline %s: %v\n%s", strings.Join(args, " "), err, b)
+				}
+				w := time.Since(t).Seconds()
+				_, d, err := minESS(filepath.Join(out, "meta.json"))
+				if err != nil {
+					return err
+				}
+				n, err := chainSteps(filepath.Join(out, "meta.json"))
+				if err != nil {
+					return err
+				}
+				if w < uwall {
+					uwall, ufrac, usteps = w, d/w, n
+				}
+			}
+			fmt.Printf("tautline fit %-8s --until %s: %.2f s (fastest of %d runs), stopped at %d steps; diagnostics %.1f %% of the command's wall time (goal <= 10 %%)\n",
+				demo, until, uwall, cmdRuns, usteps, 100*ufrac)
+		}
 		if !hasNumPy {
 			continue
 		}
@@ -511,6 +539,28 @@ func endToEnd(steps int, py string, smbhbData *likelihood.Dataset, sm *cosmicstr
 			demo, steps, pwall, pess, pess/pwall, (ess/wall)/(pess/pwall))
 	}
 	return nil
+}
+
+// untilRuns are the criteria of the --until fits timed: one stopping
+// early (a few thousand steps on the SMBHB demo) and one that also asks
+// for R-hat.
+var untilRuns = []string{"ess=5000", "ess=20000,rhat=1.01"}
+
+// chainSteps returns the ensemble steps a fit ran, from its meta.json.
+func chainSteps(meta string) (int, error) {
+	raw, err := os.ReadFile(meta)
+	if err != nil {
+		return 0, err
+	}
+	var m struct {
+		Sampling struct {
+			Steps int `json:"steps"`
+		} `json:"sampling"`
+	}
+	if err := json.Unmarshal(raw, &m); err != nil {
+		return 0, fmt.Errorf("%s: %w", meta, err)
+	}
+	return m.Sampling.Steps, nil
 }
 
 // minESS returns the smallest ESS of a fit and the seconds its
