@@ -831,6 +831,13 @@ func (p *diagPool) diagnose(v chainView, acc []float64, names []string, rhat, ta
 			}
 		})
 	}
+	rep.summarize(acc)
+	return rep
+}
+
+// summarize sets the report's extremes over its parameters and, with acc,
+// the acceptance entries.
+func (rep *Report) summarize(acc []float64) {
 	for _, pr := range rep.Params {
 		rep.MaxTau = nanMax(rep.MaxTau, pr.Tau)
 		rep.MinESS = nanMin(rep.MinESS, pr.ESS)
@@ -841,8 +848,34 @@ func (p *diagPool) diagnose(v chainView, acc []float64, names []string, rhat, ta
 			rep.MeanAcceptance += a
 		}
 		rep.MeanAcceptance /= float64(len(acc))
-		rep.StuckWalkers = StuckWalkers(acc, steps)
+		rep.StuckWalkers = StuckWalkers(acc, rep.Steps)
 	}
+}
+
+// diagnoseWithTaus is diagnose of a check (no rhat, no tails) whose taus
+// pass estimated on v itself (pass.from and pass.k are v's start and
+// stride): it reads them instead of estimating them again, and reads only
+// the steps of the R-hat shown (every show-th, as diagnose), so that the
+// report is the same as diagnose's.
+func (p *diagPool) diagnoseWithTaus(v chainView, acc []float64, pass *tauPass, show int) Report {
+	steps, walkers := v.steps, v.walkers
+	rep := Report{Steps: steps, Walkers: walkers, MaxTau: math.Inf(-1), MinESS: math.Inf(1), MaxRhat: math.Inf(-1)}
+	rv := v // the steps R-hat is computed from
+	if t := (steps + show - 1) / show; show > 1 && t >= 2*rhatSegments {
+		rv.steps, rv.stride = t, v.stride*show
+	}
+	p.setScores(rv.steps, walkers)
+	rep.Params = make([]ParamReport, v.dim)
+	for k := range rep.Params {
+		t := pass.taus[k]
+		rep.Params[k] = ParamReport{Index: k, Tau: t, TauReliable: pass.errs[k] == nil, ESS: float64(steps*walkers) / t,
+			Rhat: math.NaN(), BulkESS: math.NaN(), TailESS: math.NaN()}
+	}
+	p.each(v.dim, func(sc *diagScratch, k int) {
+		sc.a = rv.gather(sc.a, k)
+		rep.Params[k].Rhat, _, _ = sc.vehtari(sc.a, rv.steps, 1, walkers, false)
+	})
+	rep.summarize(acc)
 	return rep
 }
 

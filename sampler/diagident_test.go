@@ -111,9 +111,20 @@ func TestEvaluateMatchesReference(t *testing.T) {
 		{Burn: -1, Until: Criteria{ESS: 1e9, Rhat: 1.01}},
 	}
 	exact, shown := 0, 0
-	for _, c := range identityCases(t) {
+	var routes [3]int // checks estimating tau once, twice (checkPass), by the final report's rule
+	cases := identityCases(t)
+	for _, c := range cases {
 		for i, opt := range opts {
 			opt.MaxSteps = c.e.steps
+			first := max(c.e.frozenAt, c.e.hist.start)
+			switch _, burn, ok := checkPass(c.e, opt, first); {
+			case !ok:
+				routes[2]++
+			case opt.Burn >= 0 || burn == first+(c.e.steps-first)/10:
+				routes[0]++
+			default:
+				routes[1]++
+			}
 			for _, final := range []bool{false, true} {
 				got := evaluate(c.e, opt, final)
 				want := refEvaluate(c.e, opt, final)
@@ -142,6 +153,9 @@ func TestEvaluateMatchesReference(t *testing.T) {
 	}
 	if exact == 0 || shown == 0 {
 		t.Errorf("%d checks with a deciding R-hat, %d with a shown one: both routes must run", exact, shown)
+	}
+	if routes[0] == 0 || routes[1] == 0 || routes[2] == 0 {
+		t.Errorf("checks estimating tau once, twice and by the final report's rule: %v; every route must run", routes)
 	}
 }
 

@@ -37,21 +37,23 @@ func (l *refLags) Mean(j int) float64 { return l.mean[j] }
 
 const refLagBlock = 8
 
-func refMaxTauThinned(h *History, from int, th thinning) float64 {
+// refTauPass is maxTauThinned from the reference's estimates, with the
+// thinning it ends at.
+func refTauPass(h *History, from int, th thinning) (tau float64, k int) {
 	n := h.n - from
 	if n < 4 {
-		return math.NaN()
+		return math.NaN(), 1
 	}
-	k := max(1, n/th.Coarse)
+	k = max(1, n/th.Coarse)
 	for range 8 {
-		tau := h.thinnedTau(from, k)
+		tau := refThinnedTau(h, from, k)
 		next := th.interval(n, tau)
 		if next >= k || math.IsNaN(tau) {
-			return tau
+			return tau, k
 		}
 		k = next
 	}
-	return h.thinnedTau(from, k)
+	return refThinnedTau(h, from, k), k
 }
 
 func refThinnedTau(h *History, from, k int) float64 {
@@ -85,25 +87,52 @@ func refEvaluate(e *Ensemble, opt RunOptions, final bool) evaluation {
 	if final {
 		th = finalThinning
 	}
-	tau0 := h.maxTauThinned(u0, th)
+	// A check first estimates tau after the least burn-in it could
+	// choose (a tenth of the usable run, or the fixed burn-in), and, if
+	// 1.5 x 5 tau is later, again after that at the same thinning
+	// (checkPass).
+	checkK := 0
 	burn := first
-	if opt.Burn >= 0 {
-		burn = max(opt.Burn, first)
-	} else if !math.IsNaN(tau0) {
-		// Five autocorrelation times, but at least a tenth of the usable
-		// run (common practice): a walker that started far out can take
-		// longer than 5 tau of the settled ensemble to join it.
-		burn = first + max(int(math.Ceil(5*tau0)), (e.steps-first)/10)
+	if !final {
+		b := first + (e.steps-first)/10
+		if opt.Burn >= 0 {
+			b = max(opt.Burn, first)
+		}
+		from := min(b-h.start, h.n)
+		tau, k := refTauPass(h, from, th)
+		if !math.IsNaN(tau) && opt.Burn < 0 {
+			if nb := first + int(math.Ceil(checkBurnMargin*5*tau)); nb > b {
+				b = nb
+				tau = refThinnedTau(h, min(b-h.start, h.n), k)
+			}
+		}
+		if !math.IsNaN(tau) {
+			burn, checkK = b, k
+		}
+	}
+	var k int
+	if checkK == 0 {
+		tau0 := h.maxTauThinned(u0, th)
+		if opt.Burn >= 0 {
+			burn = max(opt.Burn, first)
+		} else if !math.IsNaN(tau0) {
+			// Five autocorrelation times, but at least a tenth of the usable
+			// run (common practice): a walker that started far out can take
+			// longer than 5 tau of the settled ensemble to join it.
+			burn = first + max(int(math.Ceil(5*tau0)), (e.steps-first)/10)
+		}
+		// The diagnostics are computed on the post-burn-in chain thinned by
+		// k = floor(tau0/10) for the final report (checks: see checkThinning):
+		// for an exponentially decaying autocorrelation k tau(thinned) differs
+		// from tau by less than 0.5 %, and the ESS is unchanged, while the work
+		// drops k-fold.
+		k = th.interval(h.n-min(burn-h.start, h.n), tau0)
+	} else {
+		k = checkK
 	}
 	ev.burn = burn
 	ev.burnIndex = min(burn-h.start, h.n)
 	n := h.n - ev.burnIndex
-	// The diagnostics are computed on the post-burn-in chain thinned by
-	// k = floor(tau0/10) for the final report (checks: see checkThinning):
-	// for an exponentially decaying autocorrelation k tau(thinned) differs
-	// from tau by less than 0.5 %, and the ESS is unchanged, while the work
-	// drops k-fold.
-	k := th.interval(n, tau0)
 	ns := (n + k - 1) / k
 	if ns < 8 {
 		return ev

@@ -165,20 +165,35 @@ func (th thinning) interval(n int, tau float64) int {
 // tau/10) thinning changes the estimate by less than 0.5 % (see evaluate).
 // The result depends only on the history.
 func (h *History) maxTauThinned(from int, th thinning) float64 {
+	return h.tauPass(from, th).max
+}
+
+// A tauPass is the last estimate of maxTauThinned: the chain of recorded
+// steps from, from+k, ... and the autocorrelation time of each parameter
+// (in thinned steps, with its error) and the largest (in steps).
+type tauPass struct {
+	from, k int
+	taus    []float64
+	errs    []error
+	max     float64
+}
+
+// tauPass is maxTauThinned with the estimate it ends at.
+func (h *History) tauPass(from int, th thinning) tauPass {
 	n := h.n - from
 	if n < 4 {
-		return math.NaN()
+		return tauPass{from: from, k: 1, max: math.NaN()}
 	}
 	k := max(1, n/th.Coarse)
 	for range 8 {
-		tau := h.thinnedTau(from, k)
-		next := th.interval(n, tau)
-		if next >= k || math.IsNaN(tau) {
-			return tau
+		p := h.thinnedTaus(from, k)
+		next := th.interval(n, p.max)
+		if next >= k || math.IsNaN(p.max) {
+			return p
 		}
 		k = next
 	}
-	return h.thinnedTau(from, k)
+	return h.thinnedTaus(from, k)
 }
 
 // view is the chain of ns recorded steps from, from+k, ..., read in place.
@@ -188,24 +203,27 @@ func (h *History) view(from, k, ns int) chainView {
 
 // thinnedTau is the largest autocorrelation time over the parameters of
 // the chain of recorded steps from, from+k, ..., in unthinned steps.
-func (h *History) thinnedTau(from, k int) float64 {
+func (h *History) thinnedTau(from, k int) float64 { return h.thinnedTaus(from, k).max }
+
+// thinnedTaus is thinnedTau with the estimate of every parameter.
+func (h *History) thinnedTaus(from, k int) tauPass {
+	p := tauPass{from: from, k: k, max: math.NaN()}
 	ns := (h.n - from + k - 1) / k
 	if ns < 4 {
-		return math.NaN()
+		return p
 	}
 	v := h.view(from, k, ns)
-	taus := make([]float64, h.dim)
-	h.pool().each(h.dim, func(sc *diagScratch, p int) {
-		sc.a = v.gather(sc.a, p)
-		taus[p], _ = sc.autocorr(sc.a, ns, h.walkers)
+	p.taus, p.errs = make([]float64, h.dim), make([]error, h.dim)
+	h.pool().each(h.dim, func(sc *diagScratch, i int) {
+		sc.a = v.gather(sc.a, i)
+		p.taus[i], p.errs[i] = sc.autocorr(sc.a, ns, h.walkers)
 	})
-	tau := math.NaN()
-	for _, t := range taus {
-		if !math.IsNaN(t) && !(t*float64(k) <= tau) {
-			tau = t * float64(k)
+	for _, t := range p.taus {
+		if !math.IsNaN(t) && !(t*float64(k) <= p.max) {
+			p.max = t * float64(k)
 		}
 	}
-	return tau
+	return p
 }
 
 // Criteria are the convergence conditions of Run; a zero field is not
@@ -427,6 +445,44 @@ type evaluation struct {
 	rhatExact bool
 }
 
+// checkBurnMargin is the factor on five autocorrelation times, estimated
+// after a tenth of the usable run, in a check's burn-in (checkPass): the
+// estimate on the whole usable run, which the final report's rule reads,
+// also counts the settling walkers and is larger.
+const checkBurnMargin = 1.5
+
+// checkPass returns a check's estimate of tau on the chain it will check
+// and that chain's burn-in, or false to apply the rule of the final report
+// (evaluate). A check with automatic burn-in estimates tau after a tenth
+// of the usable run (tauPass, thinning by at most tau/4: checkThinning),
+// and takes as burn-in the larger of that tenth and checkBurnMargin x 5
+// tau, the final report's rule with a margin; once the run is some 75 tau
+// long the tenth is the larger, and that one estimate is the check's tau.
+// Otherwise tau is estimated again, at the same thinning, on the chain
+// after the burn-in. This takes one or two passes over the thinned chain
+// instead of the final report's refinement on the whole usable run and a
+// pass over the chain after burn-in. A fixed burn-in is the start of the
+// chain checked. Like the rule it replaces, it depends only on the history
+// and options.
+func checkPass(e *Ensemble, opt RunOptions, first int) (tauPass, int, bool) {
+	h := e.hist
+	burn := first + (e.steps-first)/10
+	if opt.Burn >= 0 {
+		burn = max(opt.Burn, first)
+	}
+	p := h.tauPass(min(burn-h.start, h.n), checkThinning)
+	if math.IsNaN(p.max) || p.taus == nil {
+		return p, 0, false
+	}
+	if b := first + int(math.Ceil(checkBurnMargin*5*p.max)); opt.Burn < 0 && b > burn {
+		burn = b
+		if p = h.thinnedTaus(min(burn-h.start, h.n), p.k); math.IsNaN(p.max) || p.taus == nil {
+			return p, 0, false
+		}
+	}
+	return p, burn, true
+}
+
 // rhatShowThin is the further thinning of the chain from which a check
 // estimates an R-hat that decides nothing: a check thins to at most tau/4
 // (checkThinning), so this spaces the draws about one autocorrelation time
@@ -447,25 +503,38 @@ func evaluate(e *Ensemble, opt RunOptions, final bool) evaluation {
 	if final {
 		th = finalThinning
 	}
-	tau0 := h.maxTauThinned(u0, th)
-	burn := first
-	if opt.Burn >= 0 {
-		burn = max(opt.Burn, first)
-	} else if !math.IsNaN(tau0) {
-		// Five autocorrelation times, but at least a tenth of the usable
-		// run (common practice): a walker that started far out can take
-		// longer than 5 tau of the settled ensemble to join it.
-		burn = first + max(int(math.Ceil(5*tau0)), (e.steps-first)/10)
+	var pass *tauPass // a check's estimate of tau on the chain it checks
+	if !final {
+		if p, burn, ok := checkPass(e, opt, first); ok {
+			pass = &p
+			ev.burn = burn
+		}
 	}
-	ev.burn = burn
-	ev.burnIndex = min(burn-h.start, h.n)
+	var k int
+	if pass == nil {
+		tau0 := h.maxTauThinned(u0, th)
+		burn := first
+		if opt.Burn >= 0 {
+			burn = max(opt.Burn, first)
+		} else if !math.IsNaN(tau0) {
+			// Five autocorrelation times, but at least a tenth of the
+			// usable run (common practice): a walker that started far out
+			// can take longer than 5 tau of the settled ensemble to join
+			// it.
+			burn = first + max(int(math.Ceil(5*tau0)), (e.steps-first)/10)
+		}
+		ev.burn = burn
+		// The diagnostics are computed on the post-burn-in chain thinned
+		// by k = floor(tau0/10) for the final report (checks: see
+		// checkThinning): for an exponentially decaying autocorrelation
+		// k tau(thinned) differs from tau by less than 0.5 %, and the ESS
+		// is unchanged, while the work drops k-fold.
+		k = th.interval(h.n-min(burn-h.start, h.n), tau0)
+	} else {
+		k = pass.k
+	}
+	ev.burnIndex = min(ev.burn-h.start, h.n)
 	n := h.n - ev.burnIndex
-	// The diagnostics are computed on the post-burn-in chain thinned by
-	// k = floor(tau0/10) for the final report (checks: see checkThinning):
-	// for an exponentially decaying autocorrelation k tau(thinned) differs
-	// from tau by less than 0.5 %, and the ESS is unchanged, while the work
-	// drops k-fold.
-	k := th.interval(n, tau0)
 	ns := (n + k - 1) / k
 	if ns < 8 {
 		return ev
@@ -476,7 +545,12 @@ func evaluate(e *Ensemble, opt RunOptions, final bool) evaluation {
 	if final {
 		show = 1
 	}
-	rep := pool.diagnose(view, e.AcceptanceFractions(0), nil, final, final, show)
+	var rep Report
+	if pass != nil {
+		rep = pool.diagnoseWithTaus(view, e.AcceptanceFractions(0), pass, show)
+	} else {
+		rep = pool.diagnose(view, e.AcceptanceFractions(0), nil, final, final, show)
+	}
 	rep.Steps = n
 	rep.MaxTau, rep.MinESS = math.Inf(-1), math.Inf(1)
 	for i := range rep.Params {
