@@ -10,6 +10,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
 )
@@ -346,4 +347,91 @@ func quoteBytes(b []byte) string {
 	}
 	s.WriteByte('"')
 	return s.String()
+}
+
+// TestResumePredictedChecks resumes a run that converges after a few
+// deciding checks, each put off to the step its predecessor predicted
+// (nextDecision), from checkpoints between those checks and at them: the
+// resumed run must repeat the recorded decisions and stop where the
+// straight run did, with the same report.
+func TestResumePredictedChecks(t *testing.T) {
+	tg, cfg := checkpointSetup(t)
+	opt := RunOptions{MaxSteps: 20000, Burn: -1, CheckEvery: 50, Until: Criteria{ESS: 3000, Rhat: 1.05}}
+	var decided []int
+	count := opt
+	count.OnCheck = func(p Progress) {
+		if p.Decides {
+			decided = append(decided, p.Steps)
+		}
+	}
+	straight, err := New(tg, cfg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	want, err := Run(context.Background(), straight, count)
+	if err != nil || want.Status != Converged {
+		t.Fatalf("straight run: %v, %v", want.Status, err)
+	}
+	steps := 0
+	for s := 1; s <= want.Steps; s++ {
+		if isCheckStep(s, opt.CheckEvery) {
+			steps++
+		}
+	}
+	if len(decided) >= steps {
+		t.Errorf("%d deciding checks for %d check steps: no decision was put off", len(decided), steps)
+	}
+	// Just after every decision but the last (where a run that forgot the
+	// recorded decisions would decide at the next check step), at one and
+	// at the stop.
+	var ats []int
+	for _, s := range decided[:len(decided)-1] {
+		ats = append(ats, s+1)
+	}
+	for _, at := range append(ats, decided[len(decided)/2], want.Steps) {
+		var data []byte
+		snap := opt
+		snap.MaxSteps = at
+		snap.OnStep = func(e *Ensemble) error {
+			if e.Steps() == at {
+				data, err = e.MarshalBinary()
+				return err
+			}
+			return nil
+		}
+		first, err := New(tg, cfg)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if _, err := Run(context.Background(), first, snap); err != nil {
+			t.Fatal(err)
+		}
+		resumed, err := Restore(tg, cfg, data, replay(first.hist))
+		if err != nil {
+			t.Fatal(err)
+		}
+		var again []int
+		ropt := opt
+		ropt.OnCheck = func(p Progress) {
+			if p.Decides {
+				again = append(again, p.Steps)
+			}
+		}
+		got, err := Run(context.Background(), resumed, ropt)
+		if err != nil {
+			t.Fatal(err)
+		}
+		sameResult(t, want, got)
+		var rest []int // the straight run's decisions from the resumed step on
+		for _, s := range decided {
+			if s >= at {
+				rest = append(rest, s)
+			}
+		}
+		if !slices.Equal(again, rest) {
+			t.Errorf("resumed at step %d: decided at %v, the straight run at %v", at, again, rest)
+		}
+		first.Close()
+		resumed.Close()
+	}
 }

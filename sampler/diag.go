@@ -887,17 +887,6 @@ func (p *diagPool) setScores(steps, walkers int) {
 	}
 }
 
-// rhats returns the ensemble R-hat (EnsembleRhat) of every parameter of v.
-func (p *diagPool) rhats(v chainView) []float64 {
-	p.setScores(v.steps, v.walkers)
-	rh := make([]float64, v.dim)
-	p.each(v.dim, func(sc *diagScratch, k int) {
-		sc.a = v.gather(sc.a, k)
-		rh[k], _, _ = sc.vehtari(sc.a, v.steps, 1, v.walkers, false)
-	})
-	return rh
-}
-
 // nanMax and nanMin propagate NaN so that an undefined diagnostic is not
 // hidden by a defined one.
 func nanMax(a, b float64) float64 {

@@ -101,8 +101,8 @@ func identityCases(t testing.TB) []struct {
 // TestEvaluateMatchesReference checks every check and final evaluation
 // against the implementation kept in diagref_test.go, to the bit, for
 // several burn-in, thinning and criteria settings: all of the final
-// report, and of a check all but an R-hat that decided nothing (shown as
-// progress, estimated from a thinner chain), which must stay close.
+// report, and of a check all but its R-hat, which decides nothing (shown
+// as progress, estimated from a thinner chain) and must stay close.
 func TestEvaluateMatchesReference(t *testing.T) {
 	opts := []RunOptions{
 		{Burn: -1},
@@ -110,14 +110,13 @@ func TestEvaluateMatchesReference(t *testing.T) {
 		{Burn: -1, MinSteps: 10, Until: Criteria{Rhat: 1.2}},
 		{Burn: -1, Until: Criteria{ESS: 1e9, Rhat: 1.01}},
 	}
-	exact, shown := 0, 0
 	var routes [3]int // checks estimating tau once, twice (checkPass), by the final report's rule
 	cases := identityCases(t)
 	for _, c := range cases {
 		for i, opt := range opts {
 			opt.MaxSteps = c.e.steps
 			first := max(c.e.frozenAt, c.e.hist.start)
-			switch _, burn, ok := checkPass(c.e, opt, first); {
+			switch _, burn, ok := checkPass(stateOf(c.e), opt, first); {
 			case !ok:
 				routes[2]++
 			case opt.Burn >= 0 || burn == first+(c.e.steps-first)/10:
@@ -128,8 +127,7 @@ func TestEvaluateMatchesReference(t *testing.T) {
 			for _, final := range []bool{false, true} {
 				got := evaluate(c.e, opt, final)
 				want := refEvaluate(c.e, opt, final)
-				if !final && !got.rhatExact {
-					shown++
+				if !final {
 					// Tolerance (common practice): R-hat - 1 from a
 					// quarter of the draws, spaced about tau apart,
 					// within a third of the checked chain's R-hat - 1
@@ -142,17 +140,12 @@ func TestEvaluateMatchesReference(t *testing.T) {
 					for k := range got.report.Params {
 						got.report.Params[k].Rhat = want.report.Params[k].Rhat
 					}
-				} else if !final {
-					exact++
 				}
 				if d := evaluationDiff(got, want); d != "" {
 					t.Errorf("%s, options %d, final %v: %s", c.name, i, final, d)
 				}
 			}
 		}
-	}
-	if exact == 0 || shown == 0 {
-		t.Errorf("%d checks with a deciding R-hat, %d with a shown one: both routes must run", exact, shown)
 	}
 	if routes[0] == 0 || routes[1] == 0 || routes[2] == 0 {
 		t.Errorf("checks estimating tau once, twice and by the final report's rule: %v; every route must run", routes)

@@ -171,7 +171,7 @@ func refEvaluate(e *Ensemble, opt RunOptions, final bool) evaluation {
 		ok = ok && float64(n) >= c.TauMultiple*rep.MaxTau
 		need = math.Max(need, c.TauMultiple*rep.MaxTau)
 	}
-	if c.Rhat > 0 {
+	if c.Rhat > 0 && final { // a check's R-hat decides nothing
 		ok = ok && rep.MaxRhat <= c.Rhat
 	}
 	ev.converged = ok

@@ -245,13 +245,16 @@ type RunOptions struct {
 	// CheckEvery is the interval between convergence checks, 0 meaning
 	// 500. From the 8th check on the interval doubles whenever the step
 	// count doubles (4 checks per doubling; see isCheckStep), and a check
-	// thins the history to a fixed size (see checkThinning), which keeps
-	// the checks a small fraction of a long run; a run stops at most a
-	// quarter past the step where it converged. The check at MaxSteps is
-	// the final report itself. Without criteria the checks only feed
+	// thins the history to a fixed size (see checkThinning). With criteria
+	// a check decides only from the step the previous deciding check
+	// estimated the criteria to hold at (at most 4 times the usable run;
+	// see nextDecision), so a run decides a few times, and when the other
+	// conditions hold the final report decides with all of them (decideAt),
+	// so a run that converges reports that it meets its criteria. The
+	// check at MaxSteps is the final report itself. Other checks only feed
 	// OnCheck: none runs when OnCheck is nil, and one is skipped while the
 	// checks so far took more than progressShare of the run's time; the
-	// results do not depend on it.
+	// results do not depend on them.
 	CheckEvery int
 	// OnStep, if not nil, is called after every step (to write chains); an
 	// error stops the run and is returned.
@@ -272,7 +275,8 @@ type Progress struct {
 	// chain thinned 4 times more.
 	MaxRhat   float64
 	Burn      int           // burn-in chosen at this check
-	Converged bool          // all criteria hold
+	Converged bool          // all criteria hold, at a check that decides (false at the others)
+	Decides   bool          // the check decided (with criteria; see RunOptions.CheckEvery)
 	ETA       time.Duration // estimated time to convergence; -1 if unknown
 }
 
@@ -360,17 +364,43 @@ func Run(ctx context.Context, e *Ensemble, opt RunOptions) (Result, error) {
 	c := opt.Until
 	decides := c.ESS > 0 || c.TauMultiple > 0 || c.Rhat > 0
 	var spent time.Duration
+	// Checks decide from step next on (nextDecision), and in between only
+	// show progress, within its share of the time.
+	next := 0
+	first := max(e.frozenAt, e.hist.start)
+	if decides && e.hist.n > 0 {
+		// Which check decides depends on the one that decided before it:
+		// repeat the recorded steps' decisions, so that a resumed run
+		// decides as the original did.
+		t := time.Now()
+		st := stateOf(e)
+		for s := e.hist.start + 1; s < e.steps; s++ {
+			if isCheckStep(s, opt.CheckEvery) && s >= next {
+				_, _, next = decideAt(st.at(s), opt, first)
+			}
+		}
+		spent += time.Since(t)
+	}
+	reported := false // ev is the final report
 	check := func() bool {
-		if !decides && (opt.OnCheck == nil || spent > time.Duration(float64(time.Since(t0))*progressShare)) {
+		deciding := decides && e.steps >= next
+		if !deciding && (opt.OnCheck == nil || spent > time.Duration(float64(time.Since(t0))*progressShare)) {
 			return false // a check nobody reads, or progress past its share
 		}
 		t := time.Now()
-		ev = evaluate(e, opt, false)
+		if deciding {
+			ev, reported, next = decideAt(stateOf(e), opt, first)
+		} else {
+			ev = evaluate(e, opt, false)
+			ev.converged = false // progress only
+		}
 		spent += time.Since(t)
 		if opt.OnCheck != nil {
-			opt.OnCheck(ev.progress(e, opt, t0, s0))
+			p := ev.progress(e, opt, t0, s0)
+			p.Decides = deciding
+			opt.OnCheck(p)
 		}
-		return ev.converged
+		return reported
 	}
 	status := MaxStepsReached
 	var runErr error
@@ -397,17 +427,19 @@ func Run(ctx context.Context, e *Ensemble, opt RunOptions) (Result, error) {
 			status = Converged
 		}
 	}
-	// The final report adds bulk and tail ESS, which no decision uses. At
+	// The final report, if the check that converged did not make it. At
 	// MaxSteps it is also the last check.
-	tf := time.Now()
-	ev = evaluate(e, opt, true)
-	spent += time.Since(tf)
-	if status == MaxStepsReached {
-		if ev.converged {
-			status = Converged
-		}
-		if opt.OnCheck != nil {
-			opt.OnCheck(ev.progress(e, opt, t0, s0))
+	if !reported || status != Converged {
+		tf := time.Now()
+		ev = evaluate(e, opt, true)
+		spent += time.Since(tf)
+		if status == MaxStepsReached {
+			if ev.converged {
+				status = Converged
+			}
+			if opt.OnCheck != nil {
+				opt.OnCheck(ev.progress(e, opt, t0, s0))
+			}
 		}
 	}
 	return Result{
@@ -417,6 +449,47 @@ func Run(ctx context.Context, e *Ensemble, opt RunOptions) (Result, error) {
 		DiagnosticsTime: spent,
 	}, runErr
 }
+
+// decideAt is the deciding check at state st: if the check's conditions
+// hold (all but R-hat, on the check's thinned chain), the final report at
+// this step decides with all of them, so that a run that converges reports
+// that it meets its criteria; converged says it did, ev then being that
+// final report. Otherwise next is the step from which checks decide again.
+func decideAt(st chainState, opt RunOptions, first int) (ev evaluation, converged bool, next int) {
+	ev = st.evaluate(opt, false)
+	if ev.converged {
+		if ev = st.evaluate(opt, true); ev.converged {
+			return ev, true, st.steps + 1
+		}
+	}
+	ev.converged = false
+	return ev, false, nextDecision(ev, st.steps, first, opt)
+}
+
+// nextDecision returns the first step from which checks decide again
+// after the check at step s, of evaluation ev, did not converge: the step
+// at which the criteria's estimate (needSteps, post-burn-in steps) says
+// they will hold, the burn-in being the larger of this check's and a tenth
+// of the usable run, but no later than decisionReach times the usable run
+// of step s, and no earlier than the next step or MinSteps. With an R-hat
+// criterion alone there is no estimate and every check decides. A run thus
+// decides a few times instead of about four times per doubling of its
+// length. Early estimates of tau are mostly too small (the walkers have
+// not yet spread), which costs a check; one too large makes the run
+// sample past the step it would have stopped at, by at most the reach.
+func nextDecision(ev evaluation, s, first int, opt RunOptions) int {
+	next := s + 1
+	if need := ev.needSteps; !math.IsNaN(need) && !math.IsInf(need, 0) {
+		at := math.Max(float64(first)+need/0.9, float64(ev.burn)+need)
+		reach := first + max(decisionReach*(s-first), opt.CheckEvery)
+		next = max(next, int(math.Min(math.Ceil(at), float64(reach))))
+	}
+	return max(next, opt.MinSteps)
+}
+
+// decisionReach bounds how far a decision is put off (nextDecision), as a
+// multiple of the usable run at the check.
+const decisionReach = 4
 
 // isCheckStep reports whether Run checks convergence after step s: at
 // multiples of every up to 8 every, then at multiples of 2^j every for
@@ -440,9 +513,6 @@ type evaluation struct {
 	report                Report
 	converged             bool
 	needSteps             float64 // post-burn steps the criteria need (estimate)
-	// rhatExact says that the R-hat of a check is that of the checked
-	// chain (it decided); otherwise it is the estimate shown as progress.
-	rhatExact bool
 }
 
 // checkBurnMargin is the factor on five autocorrelation times, estimated
@@ -464,9 +534,9 @@ const checkBurnMargin = 1.5
 // pass over the chain after burn-in. A fixed burn-in is the start of the
 // chain checked. Like the rule it replaces, it depends only on the history
 // and options.
-func checkPass(e *Ensemble, opt RunOptions, first int) (tauPass, int, bool) {
-	h := e.hist
-	burn := first + (e.steps-first)/10
+func checkPass(st chainState, opt RunOptions, first int) (tauPass, int, bool) {
+	h := st.h
+	burn := first + (st.steps-first)/10
 	if opt.Burn >= 0 {
 		burn = max(opt.Burn, first)
 	}
@@ -495,9 +565,39 @@ const rhatShowThin = 4
 // diagnostics reuse the history's buffers (History.pool), and run the
 // parameters concurrently, with results that do not depend on it.
 func evaluate(e *Ensemble, opt RunOptions, final bool) evaluation {
-	h := e.hist
+	return stateOf(e).evaluate(opt, final)
+}
+
+// A chainState is what evaluate reads of an ensemble: the history, the
+// step count, the step the ladder froze at, and the cold rung's acceptance
+// fractions, which only the report's acceptance entries read.
+type chainState struct {
+	h        *History
+	steps    int
+	frozenAt int
+	acc      []float64
+}
+
+func stateOf(e *Ensemble) chainState {
+	return chainState{h: e.hist, steps: e.steps, frozenAt: e.frozenAt, acc: e.AcceptanceFractions(0)}
+}
+
+// at returns the state as of step s, recorded in the history (s >
+// h.Start()), with the acceptance fractions of now: what evaluate decides
+// from it is what it decided at step s.
+func (st chainState) at(s int) chainState {
+	st.h.pool() // shared by the copy
+	h := *st.h
+	h.n = s - h.start
+	st.h, st.steps = &h, s
+	return st
+}
+
+// evaluate is evaluate of the ensemble in state st.
+func (st chainState) evaluate(opt RunOptions, final bool) evaluation {
+	h := st.h
 	ev := evaluation{thin: max(opt.Thin, 1), needSteps: math.NaN()}
-	first := max(e.frozenAt, h.start) // ensemble step after which samples are usable
+	first := max(st.frozenAt, h.start) // ensemble step after which samples are usable
 	u0 := min(first-h.start, h.n)
 	th := checkThinning
 	if final {
@@ -505,7 +605,7 @@ func evaluate(e *Ensemble, opt RunOptions, final bool) evaluation {
 	}
 	var pass *tauPass // a check's estimate of tau on the chain it checks
 	if !final {
-		if p, burn, ok := checkPass(e, opt, first); ok {
+		if p, burn, ok := checkPass(st, opt, first); ok {
 			pass = &p
 			ev.burn = burn
 		}
@@ -521,7 +621,7 @@ func evaluate(e *Ensemble, opt RunOptions, final bool) evaluation {
 			// usable run (common practice): a walker that started far out
 			// can take longer than 5 tau of the settled ensemble to join
 			// it.
-			burn = first + max(int(math.Ceil(5*tau0)), (e.steps-first)/10)
+			burn = first + max(int(math.Ceil(5*tau0)), (st.steps-first)/10)
 		}
 		ev.burn = burn
 		// The diagnostics are computed on the post-burn-in chain thinned
@@ -547,9 +647,9 @@ func evaluate(e *Ensemble, opt RunOptions, final bool) evaluation {
 	}
 	var rep Report
 	if pass != nil {
-		rep = pool.diagnoseWithTaus(view, e.AcceptanceFractions(0), pass, show)
+		rep = pool.diagnoseWithTaus(view, st.acc, pass, show)
 	} else {
-		rep = pool.diagnose(view, e.AcceptanceFractions(0), nil, final, final, show)
+		rep = pool.diagnose(view, st.acc, nil, final, final, show)
 	}
 	rep.Steps = n
 	rep.MaxTau, rep.MinESS = math.Inf(-1), math.Inf(1)
@@ -560,13 +660,13 @@ func evaluate(e *Ensemble, opt RunOptions, final bool) evaluation {
 		rep.MaxTau = nanMax(rep.MaxTau, p.Tau)
 		rep.MinESS = nanMin(rep.MinESS, p.ESS)
 	}
-	rep.StuckWalkers = StuckWalkers(e.AcceptanceFractions(0), e.steps)
+	rep.StuckWalkers = StuckWalkers(st.acc, st.steps)
 	if opt.Thin == 0 && rep.MaxTau > 0 {
 		ev.thin = max(1, int(rep.MaxTau/2))
 	}
 	c := opt.Until
 	need := 0.0
-	ok := e.steps >= opt.MinSteps && (c.ESS > 0 || c.TauMultiple > 0 || c.Rhat > 0)
+	ok := st.steps >= opt.MinSteps && (c.ESS > 0 || c.TauMultiple > 0 || c.Rhat > 0)
 	if c.ESS > 0 {
 		ok = ok && rep.MinESS >= c.ESS
 		need = math.Max(need, float64(n)*c.ESS/rep.MinESS)
@@ -575,22 +675,11 @@ func evaluate(e *Ensemble, opt RunOptions, final bool) evaluation {
 		ok = ok && float64(n) >= c.TauMultiple*rep.MaxTau
 		need = math.Max(need, c.TauMultiple*rep.MaxTau)
 	}
-	if !final {
-		// A check's R-hat decides only when every other condition holds;
-		// otherwise it only shows progress, and diagnose estimated it from
-		// the chain thinned rhatShowThin times more, which costs a
-		// fraction. When it decides, it is that of the checked chain.
-		if ev.rhatExact = c.Rhat > 0 && ok; ev.rhatExact {
-			for i, r := range pool.rhats(view) {
-				rep.Params[i].Rhat = r
-			}
-		}
-		rep.MaxRhat = math.Inf(-1)
-		for _, p := range rep.Params {
-			rep.MaxRhat = nanMax(rep.MaxRhat, p.Rhat)
-		}
-	}
-	if c.Rhat > 0 {
+	// A check's R-hat only shows progress (diagnose estimated it from the
+	// chain thinned rhatShowThin times more, which costs a fraction): when
+	// the other conditions hold at a check, Run's decision is the final
+	// report's (decideAt).
+	if c.Rhat > 0 && final {
 		ok = ok && rep.MaxRhat <= c.Rhat
 	}
 	ev.report = rep
