@@ -283,10 +283,16 @@ func (t *lagTable) at(w, k int) float64 { return t.c[w*t.limit+k] }
 
 // autocorr is AutocorrTime of the walker-major chain x[w*n+s].
 func (sc *diagScratch) autocorr(x []float64, n, walkers int) (float64, error) {
+	return sc.autocorrFrom(x, n, walkers, directMinLen)
+}
+
+// autocorrFrom is autocorr with the direct sums tried from series of
+// direct steps.
+func (sc *diagScratch) autocorrFrom(x []float64, n, walkers, direct int) (float64, error) {
 	if n < 2 {
 		return math.NaN(), fmt.Errorf("%w: %d step", ErrShortChain, n)
 	}
-	if n >= directMinLen {
+	if n >= direct {
 		if tau, err, ok := sc.autocorrDirect(x, n, walkers); ok {
 			return tau, err
 		}

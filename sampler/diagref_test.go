@@ -46,17 +46,17 @@ func refTauPass(h *History, from int, th thinning) (tau float64, k int) {
 	}
 	k = max(1, n/th.Coarse)
 	for range 8 {
-		tau := refThinnedTau(h, from, k)
+		tau := refThinnedTau(h, from, k, th.DirectFrom)
 		next := th.interval(n, tau)
 		if next >= k || math.IsNaN(tau) {
 			return tau, k
 		}
 		k = next
 	}
-	return refThinnedTau(h, from, k), k
+	return refThinnedTau(h, from, k, th.DirectFrom), k
 }
 
-func refThinnedTau(h *History, from, k int) float64 {
+func refThinnedTau(h *History, from, k, direct int) float64 {
 	ns := (h.n - from + k - 1) / k
 	if ns < 4 {
 		return math.NaN()
@@ -70,7 +70,7 @@ func refThinnedTau(h *History, from, k int) float64 {
 				x[i*h.walkers+w] = h.pos[(s*h.walkers+w)*h.dim+p]
 			}
 		}
-		t, _ := refAutocorrTime(x, ns, h.walkers)
+		t, _ := refAutocorrTimeFrom(x, ns, h.walkers, direct)
 		if !math.IsNaN(t) && !(t*float64(k) <= tau) {
 			tau = t * float64(k)
 		}
@@ -103,7 +103,7 @@ func refEvaluate(e *Ensemble, opt RunOptions, final bool) evaluation {
 		if !math.IsNaN(tau) && opt.Burn < 0 {
 			if nb := first + int(math.Ceil(checkBurnMargin*5*tau)); nb > b {
 				b = nb
-				tau = refThinnedTau(h, min(b-h.start, h.n), k)
+				tau = refThinnedTau(h, min(b-h.start, h.n), k, th.DirectFrom)
 			}
 		}
 		if !math.IsNaN(tau) {
@@ -142,7 +142,11 @@ func refEvaluate(e *Ensemble, opt RunOptions, final bool) evaluation {
 	for s := ev.burnIndex; s < h.n; s += k {
 		pos = append(pos, h.pos[s*row:(s+1)*row]...)
 	}
-	rep, err := refDiagnose(pos, ns, h.walkers, h.dim, e.AcceptanceFractions(0), nil, final)
+	direct := directMinLen // the check's tau is that of its estimate (checkPass)
+	if checkK != 0 {
+		direct = th.DirectFrom
+	}
+	rep, err := refDiagnoseFrom(pos, ns, h.walkers, h.dim, e.AcceptanceFractions(0), nil, final, direct)
 	if err != nil {
 		return ev
 	}
@@ -182,13 +186,19 @@ func refEvaluate(e *Ensemble, opt RunOptions, final bool) evaluation {
 }
 
 func refAutocorrTime(x []float64, steps, walkers int) (float64, error) {
+	return refAutocorrTimeFrom(x, steps, walkers, directMinLen)
+}
+
+// refAutocorrTimeFrom is refAutocorrTime with the direct sums tried from
+// series of direct steps.
+func refAutocorrTimeFrom(x []float64, steps, walkers, direct int) (float64, error) {
 	if err := checkLayout(x, steps, walkers); err != nil {
 		return math.NaN(), err
 	}
 	if steps < 2 {
 		return math.NaN(), fmt.Errorf("%w: %d step", ErrShortChain, steps)
 	}
-	if steps >= directMinLen {
+	if steps >= direct {
 		if tau, err, ok := refAutocorrDirect(x, steps, walkers); ok {
 			return tau, err
 		}
@@ -328,6 +338,12 @@ func refRhatMoments(means, ss []float64, n int) float64 {
 }
 
 func refDiagnose(pos []float64, steps, walkers, dim int, acc []float64, names []string, tails bool) (Report, error) {
+	return refDiagnoseFrom(pos, steps, walkers, dim, acc, names, tails, directMinLen)
+}
+
+// refDiagnoseFrom is refDiagnose with tau's direct sums tried from series
+// of direct steps.
+func refDiagnoseFrom(pos []float64, steps, walkers, dim int, acc []float64, names []string, tails bool, direct int) (Report, error) {
 	if dim < 1 || steps < 1 || walkers < 1 || len(pos) != steps*walkers*dim {
 		return Report{}, fmt.Errorf("sampler: Diagnose: have %d values, want steps x walkers x dim = %d x %d x %d", len(pos), steps, walkers, dim)
 	}
@@ -341,7 +357,7 @@ func refDiagnose(pos []float64, steps, walkers, dim int, acc []float64, names []
 		for i := range x {
 			x[i] = pos[i*dim+k]
 		}
-		tau, err := refAutocorrTime(x, steps, walkers)
+		tau, err := refAutocorrTimeFrom(x, steps, walkers, direct)
 		p := ParamReport{Index: k, Tau: tau, TauReliable: err == nil, ESS: float64(steps*walkers) / tau}
 		p.Rhat, p.BulkESS, p.TailESS = refEnsembleVehtari(&rk, x, steps, walkers, tails)
 		if names != nil {

@@ -123,6 +123,10 @@ type thinning struct {
 	Coarse  int     // steps of the first, coarse estimate of tau
 	Divisor float64 // the thinning interval is at most tau/Divisor
 	Steps   int     // least thinned steps the diagnostics use (0: no cap on the thinning)
+	// DirectFrom is the series length from which the estimates of tau
+	// sum the autocovariances lag by lag (see directMinLen) rather than
+	// by FFT.
+	DirectFrom int
 }
 
 // finalThinning is that of the diagnostics Run returns: by tau/10, where
@@ -132,7 +136,7 @@ type thinning struct {
 // unthinned, and for tau of tens of steps that window outruns the direct
 // lag sums and is summed again by FFT, the bulk of a short run's report.
 // Wherever the refinement starts, it ends at a thinning of at most tau/10.
-var finalThinning = thinning{Coarse: 1024, Divisor: 10}
+var finalThinning = thinning{Coarse: 1024, Divisor: 10, DirectFrom: directMinLen}
 
 // checkThinning is that of the convergence checks during a run: the chain
 // is thinned to about 2048 steps but by no more than tau/4. For an
@@ -140,8 +144,11 @@ var finalThinning = thinning{Coarse: 1024, Divisor: 10}
 // tau by at most (k/tau)^2/3 = 2 % (so ESS is understated, the
 // conservative side for a stopping rule), while a check costs a fixed
 // amount of work instead of one growing with the run. The coarse first
-// estimate reads about 256 steps, for the reason given at finalThinning.
-var checkThinning = thinning{Coarse: 256, Divisor: 4, Steps: 2048}
+// estimate reads about 256 steps, for the reason given at finalThinning,
+// and the sums are direct from 64 steps: a thinned check's window is a few
+// dozen lags, which direct sums reach at a fraction of the FFT's cost for
+// series of a few hundred steps (they agree to rounding).
+var checkThinning = thinning{Coarse: 256, Divisor: 4, Steps: 2048, DirectFrom: 64}
 
 // interval returns the thinning interval for n steps and tau, at least 1.
 func (th thinning) interval(n int, tau float64) int {
@@ -186,14 +193,14 @@ func (h *History) tauPass(from int, th thinning) tauPass {
 	}
 	k := max(1, n/th.Coarse)
 	for range 8 {
-		p := h.thinnedTaus(from, k)
+		p := h.thinnedTaus(from, k, th.DirectFrom)
 		next := th.interval(n, p.max)
 		if next >= k || math.IsNaN(p.max) {
 			return p
 		}
 		k = next
 	}
-	return h.thinnedTaus(from, k)
+	return h.thinnedTaus(from, k, th.DirectFrom)
 }
 
 // view is the chain of ns recorded steps from, from+k, ..., read in place.
@@ -203,10 +210,13 @@ func (h *History) view(from, k, ns int) chainView {
 
 // thinnedTau is the largest autocorrelation time over the parameters of
 // the chain of recorded steps from, from+k, ..., in unthinned steps.
-func (h *History) thinnedTau(from, k int) float64 { return h.thinnedTaus(from, k).max }
+func (h *History) thinnedTau(from, k int) float64 {
+	return h.thinnedTaus(from, k, directMinLen).max
+}
 
-// thinnedTaus is thinnedTau with the estimate of every parameter.
-func (h *History) thinnedTaus(from, k int) tauPass {
+// thinnedTaus is thinnedTau with the estimate of every parameter, the
+// autocovariances of series of at least direct steps summed lag by lag.
+func (h *History) thinnedTaus(from, k, direct int) tauPass {
 	p := tauPass{from: from, k: k, max: math.NaN()}
 	ns := (h.n - from + k - 1) / k
 	if ns < 4 {
@@ -216,7 +226,7 @@ func (h *History) thinnedTaus(from, k int) tauPass {
 	p.taus, p.errs = make([]float64, h.dim), make([]error, h.dim)
 	h.pool().each(h.dim, func(sc *diagScratch, i int) {
 		sc.a = v.gather(sc.a, i)
-		p.taus[i], p.errs[i] = sc.autocorr(sc.a, ns, h.walkers)
+		p.taus[i], p.errs[i] = sc.autocorrFrom(sc.a, ns, h.walkers, direct)
 	})
 	for _, t := range p.taus {
 		if !math.IsNaN(t) && !(t*float64(k) <= p.max) {
@@ -546,7 +556,7 @@ func checkPass(st chainState, opt RunOptions, first int) (tauPass, int, bool) {
 	}
 	if b := first + int(math.Ceil(checkBurnMargin*5*p.max)); opt.Burn < 0 && b > burn {
 		burn = b
-		if p = h.thinnedTaus(min(burn-h.start, h.n), p.k); math.IsNaN(p.max) || p.taus == nil {
+		if p = h.thinnedTaus(min(burn-h.start, h.n), p.k, checkThinning.DirectFrom); math.IsNaN(p.max) || p.taus == nil {
 			return p, 0, false
 		}
 	}
