@@ -45,6 +45,9 @@ func refTauPass(h *History, from int, th thinning) (tau float64, k int) {
 		return math.NaN(), 1
 	}
 	k = max(1, n/th.Coarse)
+	if th.ShortCoarse > 0 && n < 2*th.Coarse {
+		k = max(1, n/th.ShortCoarse)
+	}
 	for range 8 {
 		tau := refThinnedTau(h, from, k, th.DirectFrom)
 		next := th.interval(n, tau)

@@ -120,9 +120,12 @@ func (h *History) LnLike(r, from int) []float64 {
 // parameter, and never to fewer than about Steps steps unless that would
 // thin by more than floor(tau/Divisor).
 type thinning struct {
-	Coarse  int     // steps of the first, coarse estimate of tau
-	Divisor float64 // the thinning interval is at most tau/Divisor
-	Steps   int     // least thinned steps the diagnostics use (0: no cap on the thinning)
+	Coarse int // steps of the first, coarse estimate of tau
+	// ShortCoarse, if not 0, is Coarse for a history shorter than
+	// 2 Coarse steps, which Coarse would leave unthinned.
+	ShortCoarse int
+	Divisor     float64 // the thinning interval is at most tau/Divisor
+	Steps       int     // least thinned steps the diagnostics use (0: no cap on the thinning)
 	// DirectFrom is the series length from which the estimates of tau
 	// sum the autocovariances lag by lag (see directMinLen) rather than
 	// by FFT.
@@ -131,12 +134,13 @@ type thinning struct {
 
 // finalThinning is that of the diagnostics Run returns: by tau/10, where
 // k tau(thinned) differs from tau by less than 0.5 % for an exponentially
-// decaying autocorrelation. The coarse first estimate reads about 1024
-// steps: a history shorter than 2 Coarse steps is first estimated
-// unthinned, and for tau of tens of steps that window outruns the direct
-// lag sums and is summed again by FFT, the bulk of a short run's report.
+// decaying autocorrelation. The coarse first estimate reads about 4096
+// steps, or 1024 from a history of under 8192: unthinned, the window of
+// tau of tens of steps outruns the direct lag sums and is summed again by
+// FFT, the bulk of a short run's report, while for a long history a
+// coarser start, thinned far more than tau, costs one more refinement.
 // Wherever the refinement starts, it ends at a thinning of at most tau/10.
-var finalThinning = thinning{Coarse: 1024, Divisor: 10, DirectFrom: directMinLen}
+var finalThinning = thinning{Coarse: 4096, ShortCoarse: 1024, Divisor: 10, DirectFrom: directMinLen}
 
 // checkThinning is that of the convergence checks during a run: the chain
 // is thinned to about 2048 steps but by no more than tau/4. For an
@@ -149,6 +153,15 @@ var finalThinning = thinning{Coarse: 1024, Divisor: 10, DirectFrom: directMinLen
 // dozen lags, which direct sums reach at a fraction of the FFT's cost for
 // series of a few hundred steps (they agree to rounding).
 var checkThinning = thinning{Coarse: 256, Divisor: 4, Steps: 2048, DirectFrom: 64}
+
+// start returns the thinning of the first, coarse estimate of tau of n
+// steps.
+func (th thinning) start(n int) int {
+	if th.ShortCoarse > 0 && n < 2*th.Coarse {
+		return max(1, n/th.ShortCoarse)
+	}
+	return max(1, n/th.Coarse)
+}
 
 // interval returns the thinning interval for n steps and tau, at least 1.
 func (th thinning) interval(n int, tau float64) int {
@@ -191,7 +204,7 @@ func (h *History) tauPass(from int, th thinning) tauPass {
 	if n < 4 {
 		return tauPass{from: from, k: 1, max: math.NaN()}
 	}
-	k := max(1, n/th.Coarse)
+	k := th.start(n)
 	for range 8 {
 		p := h.thinnedTaus(from, k, th.DirectFrom)
 		next := th.interval(n, p.max)
