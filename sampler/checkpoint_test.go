@@ -118,20 +118,36 @@ func TestResumeAtCheck(t *testing.T) {
 	if err != nil || want.Status != Converged {
 		t.Fatalf("straight run: %v, %v", want.Status, err)
 	}
+	resumed := checkpointedAt(t, tg, cfg, opt, want.Steps)
+	defer resumed.Close()
+	got, err := Run(context.Background(), resumed, opt)
+	if err != nil {
+		t.Fatal(err)
+	}
+	sameResult(t, want, got)
+}
+
+// checkpointedAt runs opt from a new ensemble to step at, checkpointing
+// inside OnStep at that step (before that step's check), and returns the
+// ensemble restored from the checkpoint.
+func checkpointedAt(t *testing.T, tg Target, cfg Config, opt RunOptions, at int) *Ensemble {
+	t.Helper()
 	var data []byte
+	var err error
 	snap := opt
+	snap.MaxSteps = at
 	snap.OnStep = func(e *Ensemble) error {
-		if e.Steps() == want.Steps {
+		if e.Steps() == at {
 			data, err = e.MarshalBinary()
 			return err
 		}
 		return nil
 	}
-	snap.MaxSteps = want.Steps
 	first, err := New(tg, cfg)
 	if err != nil {
 		t.Fatal(err)
 	}
+	defer first.Close()
 	if _, err := Run(context.Background(), first, snap); err != nil {
 		t.Fatal(err)
 	}
@@ -139,11 +155,7 @@ func TestResumeAtCheck(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	got, err := Run(context.Background(), resumed, opt)
-	if err != nil {
-		t.Fatal(err)
-	}
-	sameResult(t, want, got)
+	return resumed
 }
 
 func TestCorruptCheckpoint(t *testing.T) {
@@ -389,27 +401,7 @@ func TestResumePredictedChecks(t *testing.T) {
 		ats = append(ats, s+1)
 	}
 	for _, at := range append(ats, decided[len(decided)/2], want.Steps) {
-		var data []byte
-		snap := opt
-		snap.MaxSteps = at
-		snap.OnStep = func(e *Ensemble) error {
-			if e.Steps() == at {
-				data, err = e.MarshalBinary()
-				return err
-			}
-			return nil
-		}
-		first, err := New(tg, cfg)
-		if err != nil {
-			t.Fatal(err)
-		}
-		if _, err := Run(context.Background(), first, snap); err != nil {
-			t.Fatal(err)
-		}
-		resumed, err := Restore(tg, cfg, data, replay(first.hist))
-		if err != nil {
-			t.Fatal(err)
-		}
+		resumed := checkpointedAt(t, tg, cfg, opt, at)
 		var again []int
 		ropt := opt
 		ropt.OnCheck = func(p Progress) {
@@ -431,7 +423,6 @@ func TestResumePredictedChecks(t *testing.T) {
 		if !slices.Equal(again, rest) {
 			t.Errorf("resumed at step %d: decided at %v, the straight run at %v", at, again, rest)
 		}
-		first.Close()
 		resumed.Close()
 	}
 }

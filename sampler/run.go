@@ -221,14 +221,10 @@ func (h *History) view(from, k, ns int) chainView {
 	return chainView{pos: h.pos[from*h.walkers*h.dim:], steps: ns, walkers: h.walkers, dim: h.dim, stride: k}
 }
 
-// thinnedTau is the largest autocorrelation time over the parameters of
-// the chain of recorded steps from, from+k, ..., in unthinned steps.
-func (h *History) thinnedTau(from, k int) float64 {
-	return h.thinnedTaus(from, k, directMinLen).max
-}
-
-// thinnedTaus is thinnedTau with the estimate of every parameter, the
-// autocovariances of series of at least direct steps summed lag by lag.
+// thinnedTaus estimates the autocorrelation time of every parameter of
+// the chain of recorded steps from, from+k, ..., and the largest in
+// unthinned steps, with the autocovariances of series of at least direct
+// steps summed lag by lag.
 func (h *History) thinnedTaus(from, k, direct int) tauPass {
 	p := tauPass{from: from, k: k, max: math.NaN()}
 	ns := (h.n - from + k - 1) / k
@@ -452,7 +448,7 @@ func Run(ctx context.Context, e *Ensemble, opt RunOptions) (Result, error) {
 	}
 	// The final report, if the check that converged did not make it. At
 	// MaxSteps it is also the last check.
-	if !reported || status != Converged {
+	if !reported {
 		tf := time.Now()
 		ev = evaluate(e, opt, true)
 		spent += time.Since(tf)

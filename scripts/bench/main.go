@@ -471,53 +471,21 @@ func endToEnd(steps int, py string, smbhbData *likelihood.Dataset, sm *cosmicstr
 		}
 	}
 	for _, demo := range []string{"smbhb", "strings"} {
-		// The fastest of cmdRuns runs (the same seed, so the same ESS),
-		// with the diagnostics' time of that run.
-		wall, ess, diag := math.Inf(1), 0.0, 0.0
-		for i := range cmdRuns {
-			out := filepath.Join(tmp, fmt.Sprintf("fit-%s-%d", demo, i))
-			args := []string{"fit", "--data", "demo:" + demo, "--model", demo, "--steps", fmt.Sprint(steps), "--workers", "1", "--checkpoint-every", "0", "--out", out}
-			t := time.Now()
-			if b, err := exec.Command(bin, args...).CombinedOutput(); err != nil {
-				return fmt.Errorf("tautline %s: %v\n%s", strings.Join(args, " "), err, b)
-			}
-			w := time.Since(t).Seconds()
-			e, d, err := minESS(filepath.Join(out, "meta.json"))
+		args := []string{"fit", "--data", "demo:" + demo, "--model", demo, "--steps", fmt.Sprint(steps), "--workers", "1", "--checkpoint-every", "0"}
+		fit, err := fastestFit(bin, filepath.Join(tmp, "fit-"+demo), args)
+		if err != nil {
+			return err
+		}
+		fmt.Printf("tautline fit %-8s %d steps: %.2f s (fastest of %d runs), min ESS %.0f: %.0f ESS/s; diagnostics %.1f %% of the command's wall time, chain.csv %.1f %% (the replica's added wall time above; goals <= 10 %%)\n",
+			demo, steps, fit.wall, cmdRuns, fit.MinESS, fit.MinESS/fit.wall, 100*fit.Diag/fit.wall, 100*csvAdded[demo]/fit.wall)
+		for _, until := range untilRuns {
+			args := []string{"fit", "--data", "demo:" + demo, "--model", demo, "--until", until, "--workers", "1", "--checkpoint-every", "0"}
+			f, err := fastestFit(bin, filepath.Join(tmp, "until-"+demo), args)
 			if err != nil {
 				return err
 			}
-			if w < wall {
-				wall, ess, diag = w, e, d
-			}
-		}
-		fmt.Printf("tautline fit %-8s %d steps: %.2f s (fastest of %d runs), min ESS %.0f: %.0f ESS/s; diagnostics %.1f %% of the command's wall time, chain.csv %.1f %% (the replica's added wall time above; goals <= 10 %%)\n",
-			demo, steps, wall, cmdRuns, ess, ess/wall, 100*diag/wall, 100*csvAdded[demo]/wall)
-		// With --until every check decides, so none is skipped for its cost.
-		for _, until := range untilRuns {
-			out := filepath.Join(tmp, fmt.Sprintf("until-%s", demo))
-			args := []string{"fit", "--data", "demo:" + demo, "--model", demo, "--until", until, "--workers", "1", "--checkpoint-every", "0", "--out", out}
-			uwall, ufrac, usteps := math.Inf(1), 0.0, 0
-			for range cmdRuns {
-				os.RemoveAll(out)
-				t := time.Now()
-				if b, err := exec.Command(bin, args...).CombinedOutput(); err != nil {
-					return fmt.Errorf("tautline %s: %v\n%s", strings.Join(args, " "), err, b)
-				}
-				w := time.Since(t).Seconds()
-				_, d, err := minESS(filepath.Join(out, "meta.json"))
-				if err != nil {
-					return err
-				}
-				n, err := chainSteps(filepath.Join(out, "meta.json"))
-				if err != nil {
-					return err
-				}
-				if w < uwall {
-					uwall, ufrac, usteps = w, d/w, n
-				}
-			}
 			fmt.Printf("tautline fit %-8s --until %s: %.2f s (fastest of %d runs), stopped at %d steps; diagnostics %.1f %% of the command's wall time (goal <= 10 %%)\n",
-				demo, until, uwall, cmdRuns, usteps, 100*ufrac)
+				demo, until, f.wall, cmdRuns, f.Steps, 100*f.Diag/f.wall)
 		}
 		if !hasNumPy {
 			continue
@@ -536,7 +504,7 @@ func endToEnd(steps int, py string, smbhbData *likelihood.Dataset, sm *cosmicstr
 			}
 		}
 		fmt.Printf("numpy    fit %-8s %d steps: %.2f s, min ESS %.0f: %.0f ESS/s; tautline/NumPy = %.1fx (goal >= 20x)\n",
-			demo, steps, pwall, pess, pess/pwall, (ess/wall)/(pess/pwall))
+			demo, steps, pwall, pess, pess/pwall, (fit.MinESS/fit.wall)/(pess/pwall))
 	}
 	return nil
 }
@@ -546,45 +514,67 @@ func endToEnd(steps int, py string, smbhbData *likelihood.Dataset, sm *cosmicstr
 // for R-hat.
 var untilRuns = []string{"ess=5000", "ess=20000,rhat=1.01"}
 
-// chainSteps returns the ensemble steps a fit ran, from its meta.json.
-func chainSteps(meta string) (int, error) {
-	raw, err := os.ReadFile(meta)
-	if err != nil {
-		return 0, err
-	}
-	var m struct {
-		Sampling struct {
-			Steps int `json:"steps"`
-		} `json:"sampling"`
-	}
-	if err := json.Unmarshal(raw, &m); err != nil {
-		return 0, fmt.Errorf("%s: %w", meta, err)
-	}
-	return m.Sampling.Steps, nil
+// A fitRun holds the figures of a fit the bench reads from its meta.json
+// and its wall time.
+type fitRun struct {
+	wall   float64 // seconds
+	MinESS float64 // smallest ESS
+	Diag   float64 // seconds the convergence diagnostics took
+	Steps  int     // ensemble steps run
 }
 
-// minESS returns the smallest ESS of a fit and the seconds its
-// convergence diagnostics took, from its meta.json.
-func minESS(meta string) (ess, diag float64, err error) {
+// fastestFit runs `tautline args --out out` cmdRuns times (the same seed,
+// so the same chain), clearing out before each, and returns the fastest
+// run's figures.
+func fastestFit(bin, out string, args []string) (fitRun, error) {
+	best := fitRun{wall: math.Inf(1)}
+	args = append(args, "--out", out)
+	for range cmdRuns {
+		if err := os.RemoveAll(out); err != nil {
+			return best, err
+		}
+		t := time.Now()
+		if b, err := exec.Command(bin, args...).CombinedOutput(); err != nil {
+			return best, fmt.Errorf("tautline %s: %v\n%s", strings.Join(args, " "), err, b)
+		}
+		w := time.Since(t).Seconds()
+		f, err := readFit(filepath.Join(out, "meta.json"))
+		if err != nil {
+			return best, err
+		}
+		if f.wall = w; w < best.wall {
+			best = f
+		}
+	}
+	return best, nil
+}
+
+// readFit returns the smallest ESS, the seconds the convergence
+// diagnostics took and the steps of a fit, from its meta.json.
+func readFit(meta string) (fitRun, error) {
 	raw, err := os.ReadFile(meta)
 	if err != nil {
-		return 0, 0, err
+		return fitRun{}, err
 	}
 	var m struct {
 		Diagnostics struct {
 			MinESS float64 `json:"min_ess"`
 		} `json:"diagnostics"`
+		Sampling struct {
+			Steps int `json:"steps"`
+		} `json:"sampling"`
 		Timings []chains.Timing `json:"timings"`
 	}
 	if err := json.Unmarshal(raw, &m); err != nil {
-		return 0, 0, fmt.Errorf("%s: %w", meta, err)
+		return fitRun{}, fmt.Errorf("%s: %w", meta, err)
 	}
+	f := fitRun{MinESS: m.Diagnostics.MinESS, Steps: m.Sampling.Steps}
 	for _, t := range m.Timings {
 		if t.Phase == "diagnostics" {
-			diag = t.Seconds
+			f.Diag = t.Seconds
 		}
 	}
-	return m.Diagnostics.MinESS, diag, nil
+	return f, nil
 }
 
 // exportStringGrid writes what scripts/bench/numpy_fit.py needs for the
