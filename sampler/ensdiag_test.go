@@ -89,7 +89,9 @@ func TestESSAgainstReplicates(t *testing.T) {
 // target needs tau underestimated by half, five standard errors even after
 // allowing for the handful of checks per doubling of the run (the checks
 // thin by at most tau/4, which overstates tau by up to 2 %: the safe side).
-// The reference's own 10 % error is inside the factor two.
+// The reference's own 10 % error is inside the factor two. The final
+// report decides (decideAt), so the reported ESS of a converged run is at
+// least the target.
 func TestUntilNeverStopsFarShort(t *testing.T) {
 	if testing.Short() {
 		t.Skip("uses the replicate reference")
@@ -116,6 +118,9 @@ func TestUntilNeverStopsFarShort(t *testing.T) {
 		t.Logf("seed %d: stopped at %d steps, reported ESS %.0f, true ESS %.0f", seed, res.Steps, res.Report.MinESS, trueESS)
 		if trueESS < target/2 {
 			t.Errorf("seed %d: stopped with true ESS %.0f < half the target %v", seed, trueESS, target)
+		}
+		if !(res.Report.MinESS >= target) {
+			t.Errorf("seed %d: converged reporting ESS %.0f < the target %v", seed, res.Report.MinESS, target)
 		}
 	}
 }
