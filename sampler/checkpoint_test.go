@@ -372,7 +372,7 @@ func TestResumePredictedChecks(t *testing.T) {
 	var decided []int
 	count := opt
 	count.OnCheck = func(p Progress) {
-		if p.Decides {
+		if p.decides {
 			decided = append(decided, p.Steps)
 		}
 	}
@@ -405,7 +405,7 @@ func TestResumePredictedChecks(t *testing.T) {
 		var again []int
 		ropt := opt
 		ropt.OnCheck = func(p Progress) {
-			if p.Decides {
+			if p.decides {
 				again = append(again, p.Steps)
 			}
 		}

@@ -115,8 +115,9 @@ func TestEvaluateMatchesReference(t *testing.T) {
 	for _, c := range cases {
 		for i, opt := range opts {
 			opt.MaxSteps = c.e.steps
-			first := max(c.e.frozenAt, c.e.hist.start)
-			switch _, burn, ok := checkPass(stateOf(c.e), opt, first); {
+			st := stateOf(c.e)
+			first := st.first()
+			switch _, burn, ok := checkPass(st, opt); {
 			case !ok:
 				routes[2]++
 			case opt.Burn >= 0 || burn == first+(c.e.steps-first)/10:

@@ -295,7 +295,7 @@ type Progress struct {
 	MaxRhat   float64
 	Burn      int           // burn-in chosen at this check
 	Converged bool          // all criteria hold, at a check that decides (false at the others)
-	Decides   bool          // the check decided (with criteria; see RunOptions.CheckEvery)
+	decides   bool          // the check decided (with criteria; see RunOptions.CheckEvery), for the tests
 	ETA       time.Duration // estimated time to convergence; -1 if unknown
 }
 
@@ -386,7 +386,6 @@ func Run(ctx context.Context, e *Ensemble, opt RunOptions) (Result, error) {
 	// Checks decide from step next on (nextDecision), and in between only
 	// show progress, within its share of the time.
 	next := 0
-	first := max(e.frozenAt, e.hist.start)
 	if decides && e.hist.n > 0 {
 		// Which check decides depends on the one that decided before it:
 		// repeat the recorded steps' decisions, so that a resumed run
@@ -395,7 +394,7 @@ func Run(ctx context.Context, e *Ensemble, opt RunOptions) (Result, error) {
 		st := stateOf(e)
 		for s := e.hist.start + 1; s < e.steps; s++ {
 			if isCheckStep(s, opt.CheckEvery) && s >= next {
-				_, _, next = decideAt(st.at(s), opt, first)
+				_, _, next = decideAt(st.at(s), opt)
 			}
 		}
 		spent += time.Since(t)
@@ -408,7 +407,7 @@ func Run(ctx context.Context, e *Ensemble, opt RunOptions) (Result, error) {
 		}
 		t := time.Now()
 		if deciding {
-			ev, reported, next = decideAt(stateOf(e), opt, first)
+			ev, reported, next = decideAt(stateOf(e), opt)
 		} else {
 			ev = evaluate(e, opt, false)
 			ev.converged = false // progress only
@@ -416,7 +415,7 @@ func Run(ctx context.Context, e *Ensemble, opt RunOptions) (Result, error) {
 		spent += time.Since(t)
 		if opt.OnCheck != nil {
 			p := ev.progress(e, opt, t0, s0)
-			p.Decides = deciding
+			p.decides = deciding
 			opt.OnCheck(p)
 		}
 		return reported
@@ -474,7 +473,7 @@ func Run(ctx context.Context, e *Ensemble, opt RunOptions) (Result, error) {
 // this step decides with all of them, so that a run that converges reports
 // that it meets its criteria; converged says it did, ev then being that
 // final report. Otherwise next is the step from which checks decide again.
-func decideAt(st chainState, opt RunOptions, first int) (ev evaluation, converged bool, next int) {
+func decideAt(st chainState, opt RunOptions) (ev evaluation, converged bool, next int) {
 	ev = st.evaluate(opt, false)
 	if ev.converged {
 		if ev = st.evaluate(opt, true); ev.converged {
@@ -482,7 +481,7 @@ func decideAt(st chainState, opt RunOptions, first int) (ev evaluation, converge
 		}
 	}
 	ev.converged = false
-	return ev, false, nextDecision(ev, st.steps, first, opt)
+	return ev, false, nextDecision(ev, st.steps, st.first(), opt)
 }
 
 // nextDecision returns the first step from which checks decide again
@@ -530,7 +529,7 @@ func isCheckStep(s, every int) bool {
 type evaluation struct {
 	burn, burnIndex, thin int
 	report                Report
-	converged             bool
+	converged             bool    // all criteria hold; at a check, all but R-hat (decideAt)
 	needSteps             float64 // post-burn steps the criteria need (estimate)
 }
 
@@ -553,8 +552,8 @@ const checkBurnMargin = 1.5
 // pass over the chain after burn-in. A fixed burn-in is the start of the
 // chain checked. Like the rule it replaces, it depends only on the history
 // and options.
-func checkPass(st chainState, opt RunOptions, first int) (tauPass, int, bool) {
-	h := st.h
+func checkPass(st chainState, opt RunOptions) (tauPass, int, bool) {
+	h, first := st.h, st.first()
 	burn := first + (st.steps-first)/10
 	if opt.Burn >= 0 {
 		burn = max(opt.Burn, first)
@@ -612,11 +611,15 @@ func (st chainState) at(s int) chainState {
 	return st
 }
 
+// first returns the ensemble step after which samples are usable: the
+// later of the ladder's freezing and the history's start.
+func (st chainState) first() int { return max(st.frozenAt, st.h.start) }
+
 // evaluate is evaluate of the ensemble in state st.
 func (st chainState) evaluate(opt RunOptions, final bool) evaluation {
 	h := st.h
 	ev := evaluation{thin: max(opt.Thin, 1), needSteps: math.NaN()}
-	first := max(st.frozenAt, h.start) // ensemble step after which samples are usable
+	first := st.first()
 	u0 := min(first-h.start, h.n)
 	th := checkThinning
 	if final {
@@ -624,7 +627,7 @@ func (st chainState) evaluate(opt RunOptions, final bool) evaluation {
 	}
 	var pass *tauPass // a check's estimate of tau on the chain it checks
 	if !final {
-		if p, burn, ok := checkPass(st, opt, first); ok {
+		if p, burn, ok := checkPass(st, opt); ok {
 			pass = &p
 			ev.burn = burn
 		}

@@ -33,7 +33,7 @@ func TestRunConverges(t *testing.T) {
 	}
 	// A check at most every 1000 steps (those that decide nothing only
 	// within their share of the time), the last one deciding.
-	if last := checks[len(checks)-1]; onStep != res.Steps || len(checks) > res.Steps/1000 || !last.Converged || !last.Decides {
+	if last := checks[len(checks)-1]; onStep != res.Steps || len(checks) > res.Steps/1000 || !last.Converged || !last.decides {
 		t.Errorf("OnStep called %d times, OnCheck %d times for %d steps, the last %+v", onStep, len(checks), res.Steps, last)
 	}
 	rep := res.Report

@@ -477,7 +477,7 @@ func endToEnd(steps int, py string, smbhbData *likelihood.Dataset, sm *cosmicstr
 			return err
 		}
 		fmt.Printf("tautline fit %-8s %d steps: %.2f s (fastest of %d runs), min ESS %.0f: %.0f ESS/s; diagnostics %.1f %% of the command's wall time, chain.csv %.1f %% (the replica's added wall time above; goals <= 10 %%)\n",
-			demo, steps, fit.wall, cmdRuns, fit.MinESS, fit.MinESS/fit.wall, 100*fit.Diag/fit.wall, 100*csvAdded[demo]/fit.wall)
+			demo, steps, fit.wall, cmdRuns, fit.minESS, fit.minESS/fit.wall, 100*fit.diag/fit.wall, 100*csvAdded[demo]/fit.wall)
 		for _, until := range untilRuns {
 			args := []string{"fit", "--data", "demo:" + demo, "--model", demo, "--until", until, "--workers", "1", "--checkpoint-every", "0"}
 			f, err := fastestFit(bin, filepath.Join(tmp, "until-"+demo), args)
@@ -485,7 +485,7 @@ func endToEnd(steps int, py string, smbhbData *likelihood.Dataset, sm *cosmicstr
 				return err
 			}
 			fmt.Printf("tautline fit %-8s --until %s: %.2f s (fastest of %d runs), stopped at %d steps; diagnostics %.1f %% of the command's wall time (goal <= 10 %%)\n",
-				demo, until, f.wall, cmdRuns, f.Steps, 100*f.Diag/f.wall)
+				demo, until, f.wall, cmdRuns, f.steps, 100*f.diag/f.wall)
 		}
 		if !hasNumPy {
 			continue
@@ -504,7 +504,7 @@ func endToEnd(steps int, py string, smbhbData *likelihood.Dataset, sm *cosmicstr
 			}
 		}
 		fmt.Printf("numpy    fit %-8s %d steps: %.2f s, min ESS %.0f: %.0f ESS/s; tautline/NumPy = %.1fx (goal >= 20x)\n",
-			demo, steps, pwall, pess, pess/pwall, (fit.MinESS/fit.wall)/(pess/pwall))
+			demo, steps, pwall, pess, pess/pwall, (fit.minESS/fit.wall)/(pess/pwall))
 	}
 	return nil
 }
@@ -518,9 +518,9 @@ var untilRuns = []string{"ess=5000", "ess=20000,rhat=1.01"}
 // and its wall time.
 type fitRun struct {
 	wall   float64 // seconds
-	MinESS float64 // smallest ESS
-	Diag   float64 // seconds the convergence diagnostics took
-	Steps  int     // ensemble steps run
+	minESS float64 // smallest ESS
+	diag   float64 // seconds the convergence diagnostics took
+	steps  int     // ensemble steps run
 }
 
 // fastestFit runs `tautline args --out out` cmdRuns times (the same seed,
@@ -568,10 +568,10 @@ func readFit(meta string) (fitRun, error) {
 	if err := json.Unmarshal(raw, &m); err != nil {
 		return fitRun{}, fmt.Errorf("%s: %w", meta, err)
 	}
-	f := fitRun{MinESS: m.Diagnostics.MinESS, Steps: m.Sampling.Steps}
+	f := fitRun{minESS: m.Diagnostics.MinESS, steps: m.Sampling.Steps}
 	for _, t := range m.Timings {
 		if t.Phase == "diagnostics" {
-			f.Diag = t.Seconds
+			f.diag = t.Seconds
 		}
 	}
 	return f, nil
