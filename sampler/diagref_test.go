@@ -50,7 +50,7 @@ func refTauPass(h *History, from int, th thinning) (tau float64, k int) {
 	}
 	for range 8 {
 		tau := refThinnedTau(h, from, k, th.DirectFrom)
-		next := th.interval(n, tau)
+		next := th.interval(tau)
 		if next >= k || math.IsNaN(tau) {
 			return tau, k
 		}
@@ -92,8 +92,8 @@ func refEvaluate(e *Ensemble, opt RunOptions, final bool) evaluation {
 	}
 	// A check first estimates tau after the least burn-in it could
 	// choose (a tenth of the usable run, or the fixed burn-in), and, if
-	// 1.5 x 5 tau is later, again after that at the same thinning
-	// (checkPass).
+	// 1.5 x 5 tau is later, again after that, at the thinning that
+	// estimate asks for if coarser (checkPass).
 	checkK := 0
 	burn := first
 	if !final {
@@ -106,6 +106,7 @@ func refEvaluate(e *Ensemble, opt RunOptions, final bool) evaluation {
 		if !math.IsNaN(tau) && opt.Burn < 0 {
 			if nb := first + int(math.Ceil(checkBurnMargin*5*tau)); nb > b {
 				b = nb
+				k = max(k, th.interval(tau))
 				tau = refThinnedTau(h, min(b-h.start, h.n), k, th.DirectFrom)
 			}
 		}
@@ -129,7 +130,7 @@ func refEvaluate(e *Ensemble, opt RunOptions, final bool) evaluation {
 		// for an exponentially decaying autocorrelation k tau(thinned) differs
 		// from tau by less than 0.5 %, and the ESS is unchanged, while the work
 		// drops k-fold.
-		k = th.interval(h.n-min(burn-h.start, h.n), tau0)
+		k = th.interval(tau0)
 	} else {
 		k = checkK
 	}

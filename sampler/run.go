@@ -116,16 +116,14 @@ func (h *History) LnLike(r, from int) []float64 {
 }
 
 // A thinning sets how far evaluate thins the history: the chain is first
-// thinned to about Coarse steps, then by floor(tau/Divisor) of the slowest
-// parameter, and never to fewer than about Steps steps unless that would
-// thin by more than floor(tau/Divisor).
+// thinned to about Coarse steps, then by floor(tau/Divisor) of the
+// slowest parameter.
 type thinning struct {
 	Coarse int // steps of the first, coarse estimate of tau
 	// ShortCoarse, if not 0, is Coarse for a history shorter than
 	// 2 Coarse steps, which Coarse would leave unthinned.
 	ShortCoarse int
 	Divisor     float64 // the thinning interval is at most tau/Divisor
-	Steps       int     // least thinned steps the diagnostics use (0: no cap on the thinning)
 	// DirectFrom is the series length from which the estimates of tau
 	// sum the autocovariances lag by lag (see directMinLen) rather than
 	// by FFT.
@@ -143,16 +141,17 @@ type thinning struct {
 var finalThinning = thinning{Coarse: 4096, ShortCoarse: 1024, Divisor: 10, DirectFrom: directMinLen}
 
 // checkThinning is that of the convergence checks during a run: the chain
-// is thinned to about 2048 steps but by no more than tau/4. For an
-// exponentially decaying autocorrelation, k tau(thinned) then overstates
-// tau by at most (k/tau)^2/3 = 2 % (so ESS is understated, the
-// conservative side for a stopping rule), while a check costs a fixed
-// amount of work instead of one growing with the run. The coarse first
-// estimate reads about 256 steps, for the reason given at finalThinning,
-// and the sums are direct from 64 steps: a thinned check's window is a few
-// dozen lags, which direct sums reach at a fraction of the FFT's cost for
-// series of a few hundred steps (they agree to rounding).
-var checkThinning = thinning{Coarse: 256, Divisor: 4, Steps: 2048, DirectFrom: 64}
+// is thinned by tau/4, at which k tau(thinned) overstates tau by at most
+// (k/tau)^2/3 = 2 % for an exponentially decaying autocorrelation (so ESS
+// is understated, the conservative side for a stopping rule), while a
+// check reads 2.5 times fewer steps than the final report, about 4 steps
+// per autocorrelation time of the run. The coarse first estimate reads
+// about 256 steps, or 64 from a history of under 512, for the reason
+// given at finalThinning, and the sums are direct from 64 steps: a
+// thinned check's window is a few dozen lags, which direct sums reach at
+// a fraction of the FFT's cost for series of a few hundred steps (they
+// agree to rounding).
+var checkThinning = thinning{Coarse: 256, ShortCoarse: 64, Divisor: 4, DirectFrom: 64}
 
 // start returns the thinning of the first, coarse estimate of tau of n
 // steps.
@@ -163,16 +162,12 @@ func (th thinning) start(n int) int {
 	return max(1, n/th.Coarse)
 }
 
-// interval returns the thinning interval for n steps and tau, at least 1.
-func (th thinning) interval(n int, tau float64) int {
+// interval returns the thinning interval for tau: floor(tau/Divisor) from
+// tau = 2 Divisor on, else 1.
+func (th thinning) interval(tau float64) int {
 	k := 1
 	if tau >= 2*th.Divisor {
 		k = int(tau / th.Divisor)
-	}
-	if th.Steps > 0 && tau >= 2*th.Divisor {
-		// Cap the steps used at about th.Steps, thinning by at least the
-		// final rule's tau/10 and at most tau/Divisor.
-		k = min(k, max(int(tau/finalThinning.Divisor), (n+th.Steps-1)/th.Steps))
 	}
 	return max(k, 1)
 }
@@ -207,7 +202,7 @@ func (h *History) tauPass(from int, th thinning) tauPass {
 	k := th.start(n)
 	for range 8 {
 		p := h.thinnedTaus(from, k, th.DirectFrom)
-		next := th.interval(n, p.max)
+		next := th.interval(p.max)
 		if next >= k || math.IsNaN(p.max) {
 			return p
 		}
@@ -564,7 +559,10 @@ func checkPass(st chainState, opt RunOptions) (tauPass, int, bool) {
 	}
 	if b := first + int(math.Ceil(checkBurnMargin*5*p.max)); opt.Burn < 0 && b > burn {
 		burn = b
-		if p = h.thinnedTaus(min(burn-h.start, h.n), p.k, checkThinning.DirectFrom); math.IsNaN(p.max) || p.taus == nil {
+		// At the thinning the estimate asks for, if coarser: the first
+		// pass, begun finer on a short run, stops at its start.
+		k := max(p.k, checkThinning.interval(p.max))
+		if p = h.thinnedTaus(min(burn-h.start, h.n), k, checkThinning.DirectFrom); math.IsNaN(p.max) || p.taus == nil {
 			return p, 0, false
 		}
 	}
@@ -577,6 +575,12 @@ func checkPass(st chainState, opt RunOptions) (tauPass, int, bool) {
 // apart, which keeps most of the information in the chain at a quarter of
 // the cost.
 const rhatShowThin = 4
+
+// rhatShowSteps is the least number of thinned steps a check's R-hat is
+// estimated from, unless the checked chain is shorter: fewer draws,
+// though about tau apart, make R-hat - 1 noisier than the display can
+// bear.
+const rhatShowSteps = 128
 
 // evaluate applies the burn-in, thinning and convergence rules to the
 // history; it depends on nothing but the history and options. The
@@ -651,7 +655,7 @@ func (st chainState) evaluate(opt RunOptions, final bool) evaluation {
 		// checkThinning): for an exponentially decaying autocorrelation
 		// k tau(thinned) differs from tau by less than 0.5 %, and the ESS
 		// is unchanged, while the work drops k-fold.
-		k = th.interval(h.n-min(burn-h.start, h.n), tau0)
+		k = th.interval(tau0)
 	} else {
 		k = pass.k
 	}
@@ -663,7 +667,9 @@ func (st chainState) evaluate(opt RunOptions, final bool) evaluation {
 	}
 	pool := h.pool()
 	view := h.view(ev.burnIndex, k, ns)
-	show := rhatShowThin // a check's R-hat, if it does not decide (below)
+	// A check's R-hat, which decides nothing (below), from at most every
+	// rhatShowThin-th step, keeping rhatShowSteps.
+	show := max(1, min(rhatShowThin, ns/rhatShowSteps))
 	if final {
 		show = 1
 	}
