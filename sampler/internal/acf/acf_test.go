@@ -155,7 +155,8 @@ func TestFits(t *testing.T) {
 }
 
 // TestKernelsAgree checks every lag-sum kernel (the SSE2 and, where the
-// CPU has it, AVX2 assembly, and the pure-Go blocks) against the defining
+// CPU has it, AVX2 or AVX-512 assembly, as block32 picks it, and the
+// pure-Go blocks; TestKernels32 takes each 32-lag kernel in turn) against the defining
 // sum in the package doc accumulated in t order, to the bit, for series
 // shorter and longer than a kernel's lags.
 func TestKernelsAgree(t *testing.T) {

@@ -95,8 +95,8 @@ func (l *Lags) Block(k0 int, out []float64) {
 //
 // lags at or beyond n being 0. Each sum is accumulated in t order, as
 // Block's, so a lag's value does not depend on the lags computed with it
-// (on amd64 sixteen or, with AVX2, thirty-two lags at a time, one per
-// SIMD lane).
+// (on amd64 sixteen or, with AVX2 or AVX-512, thirty-two lags at a time,
+// one per SIMD lane).
 func Sums(d []float64, k0 int, out []float64) {
 	nf := float64(len(d))
 	for i := 0; i < len(out); {
@@ -119,7 +119,7 @@ func Sums(d []float64, k0 int, out []float64) {
 }
 
 // SumsWidth is the number of lags Sums computes at once most cheaply per
-// lag: 32 where it has a 32-lag kernel (AVX2), else 16.
+// lag: 32 where it has a 32-lag kernel (AVX2, or AVX-512), else 16.
 func SumsWidth() int {
 	if wide() {
 		return 32

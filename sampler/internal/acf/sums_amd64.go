@@ -16,6 +16,13 @@ func sums16(d, e *float64, n int, s *[16]float64)
 //go:noescape
 func sums32avx2(d, e *float64, n int, s *[32]float64)
 
+// sums32avx512 is sums32avx2 with AVX-512, for n >= 24; e must hold
+// n+31 values. It takes about 0.8 of sums32avx2's time (BenchmarkKernels32):
+// the same additions in the same order, in half as many instructions.
+//
+//go:noescape
+func sums32avx512(d, e *float64, n int, s *[32]float64)
+
 // wide reports whether block32 has a kernel of its own (AVX2), which
 // computes 32 lags in about the time block16 takes for 16.
 func wide() bool { return cpu.X86.HasAVX2 }
@@ -51,7 +58,11 @@ func block32(d []float64, k0 int) [32]float64 {
 	if full < 16 {
 		return pair16(d, k0)
 	}
-	sums32avx2(&d[0], &d[k0], full, &s)
+	if full >= 24 && cpu.X86.HasAVX512F {
+		sums32avx512(&d[0], &d[k0], full, &s)
+	} else {
+		sums32avx2(&d[0], &d[k0], full, &s)
+	}
 	tail(d, k0, full, s[:])
 	return s
 }

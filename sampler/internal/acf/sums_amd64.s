@@ -160,3 +160,129 @@ epiloop32:
 	VMOVUPD Y7, 224(DX)
 	VZEROUPPER
 	RET
+
+// func sums32avx512(d, e *float64, n int, s *[32]float64)
+//
+// s[i] = sum_{t<n} d[t]*e[t+i], i < 32, n >= 24, each lag in one lane of
+// four AVX-512 accumulators, every product rounded then added in t order
+// (VMULPD then VADDPD: no fused multiply-add), as the scalar loop does.
+// Accumulator g holds lags 8g .. 8g+7, whose terms at step t read
+// e[t+8g : t+8g+8], as accumulator 0 does at step t+8g: at "time" u the
+// kernel loads e[u : u+8] once and accumulator g adds d[u-8g] times it,
+// for 8g <= u < n+8g. The first 24 and last 24 times, when some
+// accumulators are idle, have loops of their own.
+TEXT ·sums32avx512(SB), NOSPLIT, $0-32
+	MOVQ d+0(FP), SI
+	MOVQ e+8(FP), DI
+	MOVQ n+16(FP), CX
+	MOVQ s+24(FP), DX
+	VPXORQ Z0, Z0, Z0
+	VPXORQ Z1, Z1, Z1
+	VPXORQ Z2, Z2, Z2
+	VPXORQ Z3, Z3, Z3
+	MOVQ $8, BX
+pro0:
+	VMOVUPD (DI), Z9
+	VBROADCASTSD (SI), Z10
+	VMULPD Z9, Z10, Z10
+	VADDPD Z10, Z0, Z0
+	ADDQ $8, SI
+	ADDQ $8, DI
+	DECQ BX
+	JNZ  pro0
+	MOVQ $8, BX
+pro1:
+	VMOVUPD (DI), Z9
+	VBROADCASTSD (SI), Z10
+	VMULPD Z9, Z10, Z10
+	VADDPD Z10, Z0, Z0
+	VBROADCASTSD -64(SI), Z11
+	VMULPD Z9, Z11, Z11
+	VADDPD Z11, Z1, Z1
+	ADDQ $8, SI
+	ADDQ $8, DI
+	DECQ BX
+	JNZ  pro1
+	MOVQ $8, BX
+pro2:
+	VMOVUPD (DI), Z9
+	VBROADCASTSD (SI), Z10
+	VMULPD Z9, Z10, Z10
+	VADDPD Z10, Z0, Z0
+	VBROADCASTSD -64(SI), Z11
+	VMULPD Z9, Z11, Z11
+	VADDPD Z11, Z1, Z1
+	VBROADCASTSD -128(SI), Z12
+	VMULPD Z9, Z12, Z12
+	VADDPD Z12, Z2, Z2
+	ADDQ $8, SI
+	ADDQ $8, DI
+	DECQ BX
+	JNZ  pro2
+	SUBQ $24, CX
+	JZ   epi0
+	MOVQ CX, BX
+main:
+	VMOVUPD (DI), Z9
+	VBROADCASTSD (SI), Z10
+	VMULPD Z9, Z10, Z10
+	VADDPD Z10, Z0, Z0
+	VBROADCASTSD -64(SI), Z11
+	VMULPD Z9, Z11, Z11
+	VADDPD Z11, Z1, Z1
+	VBROADCASTSD -128(SI), Z12
+	VMULPD Z9, Z12, Z12
+	VADDPD Z12, Z2, Z2
+	VBROADCASTSD -192(SI), Z13
+	VMULPD Z9, Z13, Z13
+	VADDPD Z13, Z3, Z3
+	ADDQ $8, SI
+	ADDQ $8, DI
+	DECQ BX
+	JNZ  main
+epi0:
+	MOVQ $8, BX
+epi0x:
+	VMOVUPD (DI), Z9
+	VBROADCASTSD -64(SI), Z11
+	VMULPD Z9, Z11, Z11
+	VADDPD Z11, Z1, Z1
+	VBROADCASTSD -128(SI), Z12
+	VMULPD Z9, Z12, Z12
+	VADDPD Z12, Z2, Z2
+	VBROADCASTSD -192(SI), Z13
+	VMULPD Z9, Z13, Z13
+	VADDPD Z13, Z3, Z3
+	ADDQ $8, SI
+	ADDQ $8, DI
+	DECQ BX
+	JNZ  epi0x
+	MOVQ $8, BX
+epi1x:
+	VMOVUPD (DI), Z9
+	VBROADCASTSD -128(SI), Z12
+	VMULPD Z9, Z12, Z12
+	VADDPD Z12, Z2, Z2
+	VBROADCASTSD -192(SI), Z13
+	VMULPD Z9, Z13, Z13
+	VADDPD Z13, Z3, Z3
+	ADDQ $8, SI
+	ADDQ $8, DI
+	DECQ BX
+	JNZ  epi1x
+	MOVQ $8, BX
+epi2x:
+	VMOVUPD (DI), Z9
+	VBROADCASTSD -192(SI), Z13
+	VMULPD Z9, Z13, Z13
+	VADDPD Z13, Z3, Z3
+	ADDQ $8, SI
+	ADDQ $8, DI
+	DECQ BX
+	JNZ  epi2x
+	VMOVUPD Z0, 0(DX)
+	VMOVUPD Z1, 64(DX)
+	VMOVUPD Z2, 128(DX)
+	VMOVUPD Z3, 192(DX)
+	VZEROUPPER
+	RET
