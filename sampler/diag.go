@@ -300,6 +300,25 @@ func (sc *diagScratch) autocorrFrom(x []float64, n, walkers, direct int) (float6
 	return sc.autocorrFFT(x, n, walkers)
 }
 
+// autocorrView is autocorrFrom of parameter k of v, gathered straight into
+// the buffer of the centred series, which the direct sums centre in place:
+// an estimate of tau alone needs no other copy of the chain. If the direct
+// sums give up, the chain is gathered again for the FFT.
+func (sc *diagScratch) autocorrView(v chainView, k, direct int) (float64, error) {
+	n, walkers := v.steps, v.walkers
+	if n < 2 {
+		return math.NaN(), fmt.Errorf("%w: %d step", ErrShortChain, n)
+	}
+	sc.dev = v.gather(sc.dev, k)
+	if n >= direct {
+		if tau, err, ok := sc.autocorrDirect(sc.dev, n, walkers); ok {
+			return tau, err
+		}
+		sc.dev = v.gather(sc.dev, k)
+	}
+	return sc.autocorrFFT(sc.dev, n, walkers)
+}
+
 // autocorrFFT is autocorr with every walker's autocovariance by FFT.
 func (sc *diagScratch) autocorrFFT(x []float64, n, walkers int) (float64, error) {
 	w := sc.work(n)
@@ -327,6 +346,7 @@ func (sc *diagScratch) autocorrFFT(x []float64, n, walkers int) (float64, error)
 
 // autocorrDirect is autocorr with the autocovariances summed lag by lag
 // up to the window; ok is false if that would take lags beyond lagLimit.
+// x may be sc.dev, which it then centres in place.
 func (sc *diagScratch) autocorrDirect(x []float64, n, walkers int) (tau float64, err error, ok bool) {
 	sc.mean = growF64(sc.mean, walkers)
 	sc.c0 = growF64(sc.c0, walkers)
@@ -806,8 +826,7 @@ func (p *diagPool) diagnose(v chainView, acc []float64, names []string, rhat, ta
 		}
 		pr.Rhat, pr.BulkESS, pr.TailESS = math.NaN(), math.NaN(), math.NaN()
 	}
-	tau := func(sc *diagScratch, k int) {
-		t, err := sc.autocorr(sc.a, steps, walkers)
+	setTau := func(k int, t float64, err error) {
 		pr := &rep.Params[k]
 		pr.Tau, pr.TauReliable, pr.ESS = t, err == nil, float64(steps*walkers)/t
 	}
@@ -815,26 +834,35 @@ func (p *diagPool) diagnose(v chainView, acc []float64, names []string, rhat, ta
 		pr := &rep.Params[k]
 		pr.Rhat, pr.BulkESS, pr.TailESS = sc.vehtari(sc.a, steps, show, walkers, tails)
 	}
+	// tau alone reads the chain into the centred series' buffer only
+	// (autocorrView); with R-hat the values are kept for it.
+	tauAlone := func(sc *diagScratch, k int) {
+		t, err := sc.autocorrView(v, k, directMinLen)
+		setTau(k, t, err)
+	}
 	if w := len(p.workers); rhat && w > 1 && v.dim%w != 0 {
 		// Parameters do not share out evenly among the goroutines: split
 		// each into its R-hat and ESS (the larger part, first) and its
 		// tau, each reading the chain afresh. Every statistic is computed
 		// as below, so the report is the same.
 		p.each(2*v.dim, func(sc *diagScratch, k int) {
-			sc.a = v.gather(sc.a, k%v.dim)
 			if k < v.dim {
+				sc.a = v.gather(sc.a, k)
 				vehtari(sc, k)
 			} else {
-				tau(sc, k-v.dim)
+				tauAlone(sc, k-v.dim)
 			}
 		})
 	} else {
 		p.each(v.dim, func(sc *diagScratch, k int) {
-			sc.a = v.gather(sc.a, k)
-			tau(sc, k)
-			if rhat {
-				vehtari(sc, k)
+			if !rhat {
+				tauAlone(sc, k)
+				return
 			}
+			sc.a = v.gather(sc.a, k)
+			t, err := sc.autocorr(sc.a, steps, walkers)
+			setTau(k, t, err)
+			vehtari(sc, k)
 		})
 	}
 	rep.summarize(acc)

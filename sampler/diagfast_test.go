@@ -117,6 +117,7 @@ func TestFoldScoreCases(t *testing.T) {
 				if math.IsInf(med, 0) { // a median overflowing (far): nothing to merge about
 					continue
 				}
+				rk.normalize(v, nil) // foldScore consumes the order
 				f := make([]float64, n)
 				for i, x := range v {
 					f[i] = math.Abs(x - med)

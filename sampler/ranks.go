@@ -371,7 +371,9 @@ func (r *ranker) score(z []float64) {
 // could: the folded values are ordered by merging those below med
 // (decreasing) with those above (increasing), which needs finite values;
 // it leaves z alone and returns false otherwise. Rounding is monotone, so
-// the merge orders the folded values exactly as sorting them would.
+// the merge orders the folded values exactly as sorting them would. When
+// it returns true it has consumed the order: the ranker holds no values
+// until the next load.
 func (r *ranker) foldScore(z []float64, med float64) bool {
 	S := len(r.keys)
 	if S == 0 || math.IsNaN(med) || math.IsInf(med, 0) {
@@ -403,14 +405,15 @@ func (r *ranker) foldScore(z []float64, med float64) bool {
 	// are the folded values at the heads l and u (+Inf past the end, with
 	// the runs' lengths deciding which is exhausted); from the back, bl and
 	// bu those at the tails a and b (-Inf past the end).
-	r.tmpK = growU64(r.tmpK, S)
 	r.tmpI = growI32(r.tmpI, S)
 	fm := r.spareF
 	if len(fm) < S {
 		r.tmpF = growF64(r.tmpF, S)
 		fm = r.tmpF
 	}
-	f, order := asFloats(r.tmpK), r.tmpI
+	// The folded values replace the keys they are computed from, which
+	// nothing reads after this (a buffer fewer).
+	f, order := asFloats(keys), r.tmpI
 	for p, k := range keys {
 		f[p] = math.Abs(keyValue(k) - med)
 	}

@@ -229,8 +229,7 @@ func (h *History) thinnedTaus(from, k, direct int) tauPass {
 	v := h.view(from, k, ns)
 	p.taus, p.errs = make([]float64, h.dim), make([]error, h.dim)
 	h.pool().each(h.dim, func(sc *diagScratch, i int) {
-		sc.a = v.gather(sc.a, i)
-		p.taus[i], p.errs[i] = sc.autocorrFrom(sc.a, ns, h.walkers, direct)
+		p.taus[i], p.errs[i] = sc.autocorrView(v, i, direct)
 	})
 	for _, t := range p.taus {
 		if !math.IsNaN(t) && !(t*float64(k) <= p.max) {
