@@ -8,7 +8,6 @@ import (
 	"math/bits"
 	"runtime"
 	"slices"
-	"sync"
 	"sync/atomic"
 
 	"tautline/internal/numeric"
@@ -121,25 +120,51 @@ var errConstant = errors.New("sampler: autocorrelation time of a constant chain 
 // step's work between two goroutines.
 const parMin = 1 << 14
 
-// both runs f(0) on a new goroutine and f(1) on this one, and waits.
-func both(f func(part int)) {
-	var wg sync.WaitGroup
-	wg.Add(1)
-	go func() {
-		defer wg.Done()
-		f(0)
-	}()
-	f(1)
-	wg.Wait()
+// share calls f(worker, i) for every i < n, taking the i in turn on this
+// goroutine (worker 0) and on one new goroutine per helper (workers 1 ..
+// helpers), and returns once every call has returned. It does not wait
+// for a helper that has not started: on a virtual machine a goroutine
+// woken onto an idle core took 0.07-0.5 ms to start here, longer than
+// many parts of a check, so this goroutine goes on taking the i, and a
+// helper that starts after the last has been taken returns at once,
+// having called nothing (so it holds no worker's buffers). Which worker
+// calls f for an i therefore depends on timing; the callers' results do
+// not.
+func share(n, helpers int, f func(worker, i int)) {
+	if helpers < 1 || n < 2 {
+		for i := range n {
+			f(0, i)
+		}
+		return
+	}
+	var next, done atomic.Int64
+	finished := make(chan struct{})
+	run := func(worker int) {
+		for {
+			i := int(next.Add(1) - 1)
+			if i >= n {
+				return
+			}
+			f(worker, i)
+			if done.Add(1) == int64(n) {
+				close(finished)
+			}
+		}
+	}
+	for w := 1; w <= min(helpers, n-1); w++ {
+		go run(w)
+	}
+	run(0)
+	<-finished
 }
 
-// split calls f on [0, n) in two halves, concurrently with par.
+// split calls f on [0, n) in two halves, concurrently with par (share).
 func split(par bool, n int, f func(lo, hi int)) {
 	if !par {
 		f(0, n)
 		return
 	}
-	both(func(part int) {
+	share(2, 1, func(_, part int) {
 		if part == 0 {
 			f(0, n/2)
 		} else {
@@ -170,6 +195,15 @@ func newDiagScratch() *diagScratch {
 	return &diagScratch{par: runtime.GOMAXPROCS(0) > 1}
 }
 
+// eachParMin is the number of values of a chain from which diagPool.each
+// shares its calls between goroutines. A check of a short run reads tens
+// of thousands: on this project's 2-core virtual machines the checks of a
+// 6000-step run of the SMBHB demo took 2.4-2.6 ms with GOMAXPROCS=1 and
+// 2.8-3.1 ms with 2 (a second goroutine starts late and grows a second
+// set of buffers), while its final report, reading about 100,000, took
+// 6.6-7.6 ms with 1 and 4.1-4.5 ms with 2.
+const eachParMin = 1 << 16
+
 // maxDiagWorkers bounds the goroutines that diagnose parameters at once;
 // each keeps buffers of about 40 bytes per value of the chain.
 const maxDiagWorkers = 2
@@ -195,37 +229,21 @@ func newDiagPool() *diagPool {
 	return p
 }
 
-// each calls f(sc, k) for every k < n, on up to len(p.workers) goroutines;
-// with one goroutine in use its scratch shares its lag sums between two
-// (the work being one parameter), else not.
-func (p *diagPool) each(n int, f func(sc *diagScratch, k int)) {
+// each calls f(sc, k) for every k < n, each call reading values values of
+// the chain, on up to len(p.workers) goroutines (share), each with its own
+// scratch, or on this one alone if all of them read fewer than
+// eachParMin; with one goroutine in use its scratch shares its lag sums
+// between two (the work being one parameter), else not.
+func (p *diagPool) each(n, values int, f func(sc *diagScratch, k int)) {
 	w := min(len(p.workers), n)
+	if n*values < eachParMin {
+		w = 1
+	}
 	par := w == 1 && runtime.GOMAXPROCS(0) > 1
 	for _, sc := range p.workers {
 		sc.par = par
 	}
-	if w <= 1 {
-		for k := range n {
-			f(p.workers[0], k)
-		}
-		return
-	}
-	var next atomic.Int64
-	var wg sync.WaitGroup
-	run := func(sc *diagScratch) {
-		for k := int(next.Add(1) - 1); k < n; k = int(next.Add(1) - 1) {
-			f(sc, k)
-		}
-	}
-	for _, sc := range p.workers[1:w] {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			run(sc)
-		}()
-	}
-	run(p.workers[0])
-	wg.Wait()
+	share(n, w-1, func(worker, k int) { f(p.workers[worker], k) })
 }
 
 // work returns an FFT work space equivalent to acf.New(n).
@@ -845,7 +863,7 @@ func (p *diagPool) diagnose(v chainView, acc []float64, names []string, rhat, ta
 		// each into its R-hat and ESS (the larger part, first) and its
 		// tau, each reading the chain afresh. Every statistic is computed
 		// as below, so the report is the same.
-		p.each(2*v.dim, func(sc *diagScratch, k int) {
+		p.each(2*v.dim, steps*walkers, func(sc *diagScratch, k int) {
 			if k < v.dim {
 				sc.a = v.gather(sc.a, k)
 				vehtari(sc, k)
@@ -854,7 +872,7 @@ func (p *diagPool) diagnose(v chainView, acc []float64, names []string, rhat, ta
 			}
 		})
 	} else {
-		p.each(v.dim, func(sc *diagScratch, k int) {
+		p.each(v.dim, steps*walkers, func(sc *diagScratch, k int) {
 			if !rhat {
 				tauAlone(sc, k)
 				return
@@ -905,7 +923,7 @@ func (p *diagPool) diagnoseWithTaus(v chainView, acc []float64, pass *tauPass, s
 		rep.Params[k] = ParamReport{Index: k, Tau: t, TauReliable: pass.errs[k] == nil, ESS: float64(steps*walkers) / t,
 			Rhat: math.NaN(), BulkESS: math.NaN(), TailESS: math.NaN()}
 	}
-	p.each(v.dim, func(sc *diagScratch, k int) {
+	p.each(v.dim, rv.steps*walkers, func(sc *diagScratch, k int) {
 		sc.a = rv.gather(sc.a, k)
 		rep.Params[k].Rhat, _, _ = sc.vehtari(sc.a, rv.steps, 1, walkers, false)
 	})
