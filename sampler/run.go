@@ -228,7 +228,7 @@ func (h *History) thinnedTaus(from, k, direct int) tauPass {
 	}
 	v := h.view(from, k, ns)
 	p.taus, p.errs = make([]float64, h.dim), make([]error, h.dim)
-	h.pool().each(h.dim, func(sc *diagScratch, i int) {
+	h.pool().each(h.dim, ns*h.walkers, func(sc *diagScratch, i int) {
 		p.taus[i], p.errs[i] = sc.autocorrView(v, i, direct)
 	})
 	for _, t := range p.taus {
@@ -265,9 +265,10 @@ type RunOptions struct {
 	// conditions hold the final report decides with all of them (decideAt),
 	// so a run that converges reports that it meets its criteria. The
 	// check at MaxSteps is the final report itself. Other checks only feed
-	// OnCheck: none runs when OnCheck is nil, and one is skipped while the
-	// checks so far took more than progressShare of the run's time; the
-	// results do not depend on them.
+	// OnCheck: none runs when OnCheck is nil, and one is skipped within
+	// progressInterval (100 ms) of the run's start or the last check, or
+	// while the checks so far took more than progressShare of the run's
+	// time; the results do not depend on them.
 	CheckEvery int
 	// OnStep, if not nil, is called after every step (to write chains); an
 	// error stops the run and is returned.
@@ -296,6 +297,13 @@ type Progress struct {
 // progressShare is the largest fraction of a run's time spent on checks
 // that decide nothing (a run without criteria).
 const progressShare = 0.02
+
+// progressInterval is the least wall time between a run's start or a
+// check and a check that decides nothing: such a check only feeds a
+// display, which people read at that pace at most (the command redraws
+// its bar at most every 200 ms), so a run of a fraction of a second
+// spends nothing on them.
+const progressInterval = 100 * time.Millisecond
 
 // Status says why Run returned.
 type Status int
@@ -394,12 +402,15 @@ func Run(ctx context.Context, e *Ensemble, opt RunOptions) (Result, error) {
 		spent += time.Since(t)
 	}
 	reported := false // ev is the final report
+	lastCheck := t0
 	check := func() bool {
 		deciding := decides && e.steps >= next
-		if !deciding && (opt.OnCheck == nil || spent > time.Duration(float64(time.Since(t0))*progressShare)) {
-			return false // a check nobody reads, or progress past its share
+		if !deciding && (opt.OnCheck == nil || time.Since(lastCheck) < progressInterval ||
+			spent > time.Duration(float64(time.Since(t0))*progressShare)) {
+			return false // a check nobody reads, too soon, or progress past its share
 		}
 		t := time.Now()
+		defer func() { lastCheck = time.Now() }()
 		if deciding {
 			ev, reported, next = decideAt(stateOf(e), opt)
 		} else {

@@ -7,6 +7,7 @@ import (
 	"math"
 	"strings"
 	"testing"
+	"time"
 
 	"gonum.org/v1/gonum/stat/distuv"
 )
@@ -177,7 +178,15 @@ func TestRunUnreadChecksSkipped(t *testing.T) {
 			t.Fatal(err)
 		}
 		defer e.Close()
-		res, err := Run(context.Background(), e, RunOptions{MaxSteps: 3000, Burn: -1, CheckEvery: 100, OnCheck: onCheck})
+		// Progress checks come at least progressInterval apart: a pause
+		// before each check step lets every one of them run.
+		pause := func(e *Ensemble) error {
+			if isCheckStep(e.Steps(), 100) && e.Steps() < 400 {
+				time.Sleep(progressInterval)
+			}
+			return nil
+		}
+		res, err := Run(context.Background(), e, RunOptions{MaxSteps: 400, Burn: -1, CheckEvery: 100, OnCheck: onCheck, OnStep: pause})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -186,7 +195,7 @@ func TestRunUnreadChecksSkipped(t *testing.T) {
 	checks := 0
 	read := run(func(Progress) { checks++ })
 	unread := run(nil)
-	if checks < 2 {
+	if checks < 4 { // at steps 100, 200, 300 and the final report's
 		t.Fatalf("the run with OnCheck saw %d checks, want several", checks)
 	}
 	if fmt.Sprint(read.Report) != fmt.Sprint(unread.Report) || read.Burn != unread.Burn || read.Thin != unread.Thin || read.Status != unread.Status {
