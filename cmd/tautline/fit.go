@@ -85,15 +85,17 @@ func fit(ctx context.Context, e *env, lg *logrus.Logger, cfg runconfig.Config, r
 	lg.WithFields(logrus.Fields{"data": pb.Name(), "bins": pb.NumBins(), "model": pb.Model.Name(), "params": strings.Join(names, ",")}).Info("fit")
 	prog := newProgress(e, lg, cfg.Sampler.Steps)
 	rule, bw, penalty := pb.Likelihood()
+	checked := "" // the last check's figures, redrawn with every step's bar
 	st := fitrun.Settings{
 		Sampler: scfg, Steps: cfg.Sampler.Steps, Burn: cfg.Sampler.Burn, Thin: cfg.Sampler.Thin,
 		Until: until, UntilSpec: cfg.Sampler.Until,
 		CheckpointEvery: cfg.Sampler.CheckpointEvery, FlushEvery: cfg.Output.FlushEvery, Out: cfg.Output.Dir, Resume: resume,
 		Reporter: fitrun.Reporter{
 			Infof: lg.Infof, Warnf: lg.Warnf,
-			Step: func(n int) { prog.Update(n, "", 0) },
+			Step: func(n int) { prog.Update(n, checked, 0) },
 			Check: func(p sampler.Progress) {
-				prog.Update(p.Steps, fmt.Sprintf("tau %.1f  ESS %.0f  R-hat %.3f", p.MaxTau, p.MinESS, p.MaxRhat), p.ETA)
+				checked = fmt.Sprintf("tau %.1f  ESS %.0f  R-hat %.3f", p.MaxTau, p.MinESS, p.MaxRhat)
+				prog.Update(p.Steps, checked, p.ETA)
 			},
 		},
 	}
