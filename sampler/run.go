@@ -132,13 +132,15 @@ type thinning struct {
 
 // finalThinning is that of the diagnostics Run returns: by tau/10, where
 // k tau(thinned) differs from tau by less than 0.5 % for an exponentially
-// decaying autocorrelation. The coarse first estimate reads about 4096
-// steps, or 1024 from a history of under 8192: unthinned, the window of
-// tau of tens of steps outruns the direct lag sums and is summed again by
-// FFT, the bulk of a short run's report, while for a long history a
-// coarser start, thinned far more than tau, costs one more refinement.
-// Wherever the refinement starts, it ends at a thinning of at most tau/10.
-var finalThinning = thinning{Coarse: 4096, ShortCoarse: 1024, Divisor: 10, DirectFrom: directMinLen}
+// decaying autocorrelation. The coarse first estimate reads about 1024
+// steps: a finer start can leave the window of tau (five times tau in
+// thinned steps) beyond the lags the direct sums reach, so that the sums
+// are thrown away and done again by FFT, the bulk of the report. From
+// 4096 steps, as it was for long histories, the string demo's tau of
+// about 80 took 5-6 ms of a 16000-step report that way. A start thinned
+// more than tau costs one more, small, refinement. Wherever the
+// refinement starts, it ends at a thinning of at most tau/10.
+var finalThinning = thinning{Coarse: 1024, Divisor: 10, DirectFrom: directMinLen}
 
 // checkThinning is that of the convergence checks during a run: the chain
 // is thinned by tau/4, at which k tau(thinned) overstates tau by at most
