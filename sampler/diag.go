@@ -323,11 +323,16 @@ func (sc *diagScratch) autocorrFrom(x []float64, n, walkers, direct int) (float6
 // an estimate of tau alone needs no other copy of the chain. If the direct
 // sums give up, the chain is gathered again for the FFT.
 func (sc *diagScratch) autocorrView(v chainView, k, direct int) (float64, error) {
+	sc.dev = v.gather(sc.dev, k)
+	return sc.autocorrGathered(v, k, direct)
+}
+
+// autocorrGathered is autocorrView once parameter k of v is in sc.dev.
+func (sc *diagScratch) autocorrGathered(v chainView, k, direct int) (float64, error) {
 	n, walkers := v.steps, v.walkers
 	if n < 2 {
 		return math.NaN(), fmt.Errorf("%w: %d step", ErrShortChain, n)
 	}
-	sc.dev = v.gather(sc.dev, k)
 	if n >= direct {
 		if tau, err, ok := sc.autocorrDirect(sc.dev, n, walkers); ok {
 			return tau, err
@@ -850,7 +855,7 @@ func (p *diagPool) diagnose(v chainView, acc []float64, names []string, rhat, ta
 	}
 	vehtari := func(sc *diagScratch, k int) {
 		pr := &rep.Params[k]
-		pr.Rhat, pr.BulkESS, pr.TailESS = sc.vehtari(sc.a, steps, show, walkers, tails)
+		pr.Rhat, pr.BulkESS, pr.TailESS = sc.vehtari(sc.dev, steps, show, walkers, tails)
 	}
 	// tau alone reads the chain into the centred series' buffer only
 	// (autocorrView); with R-hat the values are kept for it.
@@ -865,7 +870,7 @@ func (p *diagPool) diagnose(v chainView, acc []float64, names []string, rhat, ta
 		// as below, so the report is the same.
 		p.each(2*v.dim, steps*walkers, func(sc *diagScratch, k int) {
 			if k < v.dim {
-				sc.a = v.gather(sc.a, k)
+				sc.dev = v.gather(sc.dev, k)
 				vehtari(sc, k)
 			} else {
 				tauAlone(sc, k-v.dim)
@@ -877,10 +882,17 @@ func (p *diagPool) diagnose(v chainView, acc []float64, names []string, rhat, ta
 				tauAlone(sc, k)
 				return
 			}
-			sc.a = v.gather(sc.a, k)
-			t, err := sc.autocorr(sc.a, steps, walkers)
+			// One copy of the chain serves both: the ranker loads the
+			// draws from it, the estimate of tau centres it in place, and
+			// the ranks' statistics take it as their buffer.
+			sc.dev = v.gather(sc.dev, k)
+			loaded := sc.vehtariLoad(sc.dev, steps, show, walkers)
+			t, err := sc.autocorrGathered(v, k, directMinLen)
 			setTau(k, t, err)
-			vehtari(sc, k)
+			if loaded {
+				pr := &rep.Params[k]
+				pr.Rhat, pr.BulkESS, pr.TailESS = sc.vehtariRanked(sc.dev, walkers, tails)
+			}
 		})
 	}
 	rep.summarize(acc)
@@ -924,8 +936,8 @@ func (p *diagPool) diagnoseWithTaus(v chainView, acc []float64, pass *tauPass, s
 			Rhat: math.NaN(), BulkESS: math.NaN(), TailESS: math.NaN()}
 	}
 	p.each(v.dim, rv.steps*walkers, func(sc *diagScratch, k int) {
-		sc.a = rv.gather(sc.a, k)
-		rep.Params[k].Rhat, _, _ = sc.vehtari(sc.a, rv.steps, 1, walkers, false)
+		sc.dev = rv.gather(sc.dev, k)
+		rep.Params[k].Rhat, _, _ = sc.vehtari(sc.dev, rv.steps, 1, walkers, false)
 	})
 	rep.summarize(acc)
 	return rep

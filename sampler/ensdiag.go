@@ -81,26 +81,42 @@ func ensembleVehtari(x []float64, steps, walkers int, ess bool) (rh, bulk, tail 
 
 // vehtari returns the ensemble R-hat and, with ess, the ensemble bulk and
 // tail ESS of one parameter from the walker-major chain x[w*n+s*every],
-// s < steps = ceil(n/every), which it overwrites once read. One ordering
-// of the draws serves every statistic: the normal scores of the draws, the
-// quantiles, the tail indicators, and the scores of the folded draws
-// |x - median| (merged from it). Its scores share their buffer with the
-// lag table's series (autocorr), which no call of vehtari overlaps.
+// s < steps = ceil(n/every), which it overwrites once read: it is
+// vehtariLoad then vehtariRanked.
 func (sc *diagScratch) vehtari(x []float64, n, every, walkers int, ess bool) (rh, bulk, tail float64) {
-	bulk, tail = math.NaN(), math.NaN()
+	if !sc.vehtariLoad(x, n, every, walkers) {
+		return math.NaN(), math.NaN(), math.NaN()
+	}
+	return sc.vehtariRanked(x, walkers, ess)
+}
+
+// vehtariLoad loads the draws vehtari ranks from x (as vehtari) into the
+// ranker, and reports whether there are enough; x is then free for the
+// caller until vehtariRanked, which writes it.
+func (sc *diagScratch) vehtariLoad(x []float64, n, every, walkers int) bool {
 	steps := (n + every - 1) / every
 	if steps < 2*rhatSegments {
-		return math.NaN(), bulk, tail
+		return false
 	}
 	drop := steps % rhatSegments
 	S := steps - drop
-	N := S * walkers
-	r := &sc.rk
 	// Draw i = w*S+s is step drop+s of walker w; the order of the labels
 	// does not matter to ranks.
-	r.loadRuns(x, walkers, n, drop, every, S)
-	sc.dev = growF64(sc.dev, N)
-	z := sc.dev
+	sc.rk.loadRuns(x, walkers, n, drop, every, S)
+	return true
+}
+
+// vehtariRanked is the rest of vehtari, for the draws of walkers walkers
+// vehtariLoad loaded, with x (as long as they are) as its buffer. One
+// ordering of the draws serves every statistic: the normal scores of the
+// draws, the quantiles, the tail indicators, and the scores of the folded
+// draws |x - median| (merged from it).
+func (sc *diagScratch) vehtariRanked(x []float64, walkers int, ess bool) (rh, bulk, tail float64) {
+	bulk, tail = math.NaN(), math.NaN()
+	r := &sc.rk
+	N := len(r.keys)
+	S := N / walkers
+	z := x[:N]
 	r.sort(asKeys(z)) // z is free until scored
 	med := r.median()
 	r.score(z)
@@ -149,10 +165,7 @@ func (sc *diagScratch) vehtari(x []float64, n, every, walkers int, ess bool) (rh
 		}
 	}
 	fz := z
-	r.spareF = x // the draws are no longer needed: the ranker holds them
-	folded := r.foldScore(fz, med)
-	r.spareF = nil
-	if !folded {
+	if !r.foldScore(fz, med) {
 		// Non-finite draws: rank the folded draws afresh.
 		for p, i := range r.idx {
 			fz[i] = math.Abs(r.at(p) - med)

@@ -25,11 +25,7 @@ type ranker struct {
 	keys []uint64    // sortKey of the values, in order after sort
 	idx  []int32     // idx[p] is the index of the value at position p
 	tmpI []int32
-	tmpK []uint64  // the sort's second key buffer
-	tmpF []float64 // foldScore's folded values in order, unless spareF holds them
-	// spareF, if long enough, is lent by the caller for foldScore's
-	// folded values in order.
-	spareF []float64
+	tmpK []uint64 // the sort's second key buffer
 	// minK and maxK are the least and greatest loaded keys.
 	minK, maxK uint64
 	cnt        [2][]int32 // bucketSort's bucket ends, per round
@@ -395,24 +391,18 @@ func (r *ranker) foldScore(z []float64, med float64) bool {
 		}
 	}
 	// Merge the run below med, read downwards, with the run above, into
-	// the folded values fm in increasing order and the indices order of
-	// their draws. The folded values are computed first (f[p] for
-	// position p), so that the merge waits on loads only, and it chooses
-	// without a branch (which is as unpredictable as the draws). Equal
-	// folded values, which tie, are taken from the run above first: the
-	// order is then strict, so the merge can run from both ends at once,
-	// two independent chains meeting at rank h. From the front, fl and fu
-	// are the folded values at the heads l and u (+Inf past the end, with
-	// the runs' lengths deciding which is exhausted); from the back, bl and
-	// bu those at the tails a and b (-Inf past the end).
+	// the order of the folded values: order[rank] is the position of the
+	// draw of that rank. The folded values are computed first (f[p] for
+	// position p, in place of the keys, which nothing reads after this),
+	// so that the merge waits on loads only, and it chooses without a
+	// branch (which is as unpredictable as the draws). Equal folded
+	// values, which tie, are taken from the run above first: the order is
+	// then strict, so the merge can run from both ends at once, two
+	// independent chains meeting at rank h. From the front, fl and fu are
+	// the folded values at the heads l and u (+Inf past the end, with the
+	// runs' lengths deciding which is exhausted); from the back, bl and bu
+	// those at the tails a and b (-Inf past the end).
 	r.tmpI = growI32(r.tmpI, S)
-	fm := r.spareF
-	if len(fm) < S {
-		r.tmpF = growF64(r.tmpF, S)
-		fm = r.tmpF
-	}
-	// The folded values replace the keys they are computed from, which
-	// nothing reads after this (a buffer fewer).
 	f, order := asFloats(keys), r.tmpI
 	for p, k := range keys {
 		f[p] = math.Abs(keyValue(k) - med)
@@ -434,9 +424,7 @@ func (r *ranker) foldScore(z []float64, med float64) bool {
 		if bl < bu {
 			up = 1
 		}
-		q := a ^ ((a ^ b) & -up) // b if up, else a
-		order[end] = idx[q]
-		fm[end] = max(bl, bu)
+		order[end] = int32(a ^ ((a ^ b) & -up)) // b if up, else a
 		a += 1 - up
 		b -= up
 		bl, bu = -inf, -inf
@@ -456,9 +444,7 @@ func (r *ranker) foldScore(z []float64, med float64) bool {
 		if u >= S {
 			down = 1
 		}
-		p := u ^ ((u ^ l) & -down) // l if down, else u
-		order[rank] = idx[p]
-		fm[rank] = min(fl, fu)
+		order[rank] = int32(u ^ ((u ^ l) & -down)) // l if down, else u
 		l -= down
 		u += 1 - down
 		fl, fu = inf, inf
@@ -470,19 +456,19 @@ func (r *ranker) foldScore(z []float64, med float64) bool {
 		}
 	}
 	for i := 0; i < S; {
-		g := fm[i]
+		g := f[order[i]]
 		j := i
-		for j+1 < S && fm[j+1] == g {
+		for j+1 < S && f[order[j+1]] == g {
 			j++
 		}
 		if i == j {
-			z[order[i]] = sc[i]
+			z[idx[order[i]]] = sc[i]
 			i++
 			continue
 		}
 		q := tiedScore(sc, i, j, S)
 		for k := i; k <= j; k++ {
-			z[order[k]] = q
+			z[idx[order[k]]] = q
 		}
 		i = j + 1
 	}
