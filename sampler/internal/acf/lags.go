@@ -141,10 +141,12 @@ func pair16(d []float64, k0 int) [32]float64 {
 func tail(d []float64, k0, full int, s []float64) {
 	n := len(d)
 	for t := full; t < n-k0; t++ {
-		for i := range s {
-			if t+k0+i < n {
-				s[i] += d[t] * d[t+k0+i]
-			}
+		// Lags i < n-t-k0 have a term at t: the loop runs over just those,
+		// without a test per lag.
+		v, e := d[t], d[t+k0:min(n, t+k0+len(s))]
+		ss := s[:len(e)]
+		for i, x := range e {
+			ss[i] += v * x
 		}
 	}
 }
@@ -176,12 +178,6 @@ func block(d []float64, k0 int) [LagBlock]float64 {
 		}
 		s = [LagBlock]float64{s0, s1, s2, s3, s4, s5, s6, s7}
 	}
-	for t := full; t < n-k0; t++ {
-		for i := range LagBlock {
-			if t+k0+i < n {
-				s[i] += d[t] * d[t+k0+i]
-			}
-		}
-	}
+	tail(d, k0, full, s[:])
 	return s
 }
