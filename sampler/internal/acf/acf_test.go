@@ -192,3 +192,38 @@ func TestKernelsAgree(t *testing.T) {
 		}
 	}
 }
+
+// TestTail checks tail, for block sizes that are and are not multiples of
+// its four-lag groups and for every start of the tail, against the
+// defining sum's terms from the tail's first step on, in t order after
+// those before it, to the bit.
+func TestTail(t *testing.T) {
+	r := rand.New(rand.NewPCG(11, 12))
+	for _, n := range []int{1, 5, 40} {
+		d := make([]float64, n)
+		for i := range d {
+			d[i] = r.NormFloat64()
+		}
+		for _, width := range []int{1, 3, 4, 5, 8, 9} {
+			for k0 := 0; k0 <= n; k0++ {
+				for full := 0; full <= n; full++ {
+					got := make([]float64, width)
+					want := make([]float64, width)
+					for i := range got {
+						got[i] = float64(i) + 0.5 // the sums so far
+						want[i] = got[i]
+						for s := full; s+k0+i < n; s++ {
+							want[i] += d[s] * d[s+k0+i]
+						}
+					}
+					tail(d, k0, full, got)
+					for i := range got {
+						if got[i] != want[i] {
+							t.Fatalf("n=%d width %d k0=%d full=%d: lag %d = %v, want %v", n, width, k0, full, k0+i, got[i], want[i])
+						}
+					}
+				}
+			}
+		}
+	}
+}

@@ -140,13 +140,34 @@ func pair16(d []float64, k0 int) [32]float64 {
 // the series, in t order after those of t < full.
 func tail(d []float64, k0, full int, s []float64) {
 	n := len(d)
-	for t := full; t < n-k0; t++ {
-		// Lags i < n-t-k0 have a term at t: the loop runs over just those,
-		// without a test per lag.
-		v, e := d[t], d[t+k0:min(n, t+k0+len(s))]
-		ss := s[:len(e)]
-		for i, x := range e {
-			ss[i] += v * x
+	// Four lags at a time, each in a register of its own: their sums
+	// do not wait on one another.
+	i := 0
+	for ; i+4 <= len(s); i += 4 {
+		s0, s1, s2, s3 := s[i], s[i+1], s[i+2], s[i+3]
+		t := full
+		for ; t < n-k0-i-3; t++ { // all four lags have a term at t
+			v, e := d[t], d[t+k0+i:t+k0+i+4]
+			s0 += v * e[0]
+			s1 += v * e[1]
+			s2 += v * e[2]
+			s3 += v * e[3]
+		}
+		for ; t < n-k0-i; t++ { // the last terms of the first three
+			v := d[t]
+			s0 += v * d[t+k0+i]
+			if t+k0+i+1 < n {
+				s1 += v * d[t+k0+i+1]
+			}
+			if t+k0+i+2 < n {
+				s2 += v * d[t+k0+i+2]
+			}
+		}
+		s[i], s[i+1], s[i+2], s[i+3] = s0, s1, s2, s3
+	}
+	for ; i < len(s); i++ {
+		for t := full; t < n-k0-i; t++ {
+			s[i] += d[t] * d[t+k0+i]
 		}
 	}
 }
