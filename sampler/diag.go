@@ -918,29 +918,39 @@ func (rep *Report) summarize(acc []float64) {
 
 // diagnoseWithTaus is diagnose of a check (no rhat, no tails) whose taus
 // pass estimated on v itself (pass.from and pass.k are v's start and
-// stride): it reads them instead of estimating them again, and reads only
-// the steps of the R-hat shown (every show-th, as diagnose), so that the
-// report is the same as diagnose's.
-func (p *diagPool) diagnoseWithTaus(v chainView, acc []float64, pass *tauPass, show int) Report {
+// stride): it reads them instead of estimating them again. It leaves
+// R-hat NaN, for showRhat.
+func (p *diagPool) diagnoseWithTaus(v chainView, acc []float64, pass *tauPass) Report {
 	steps, walkers := v.steps, v.walkers
 	rep := Report{Steps: steps, Walkers: walkers, MaxTau: math.Inf(-1), MinESS: math.Inf(1), MaxRhat: math.Inf(-1)}
-	rv := v // the steps R-hat is computed from
-	if t := (steps + show - 1) / show; show > 1 && t >= 2*rhatSegments {
-		rv.steps, rv.stride = t, v.stride*show
-	}
-	p.setScores(rv.steps, walkers)
 	rep.Params = make([]ParamReport, v.dim)
 	for k := range rep.Params {
 		t := pass.taus[k]
 		rep.Params[k] = ParamReport{Index: k, Tau: t, TauReliable: pass.errs[k] == nil, ESS: float64(steps*walkers) / t,
 			Rhat: math.NaN(), BulkESS: math.NaN(), TailESS: math.NaN()}
 	}
+	rep.summarize(acc)
+	return rep
+}
+
+// showRhat sets the R-hat of every parameter of rep, and its largest, to
+// those diagnose shows for a check of v: from every show-th step, reading
+// only those, so that the report is the same as diagnose's.
+func (p *diagPool) showRhat(rep *Report, v chainView, show int) {
+	walkers := v.walkers
+	rv := v // the steps R-hat is computed from
+	if t := (v.steps + show - 1) / show; show > 1 && t >= 2*rhatSegments {
+		rv.steps, rv.stride = t, v.stride*show
+	}
+	p.setScores(rv.steps, walkers)
 	p.each(v.dim, rv.steps*walkers, func(sc *diagScratch, k int) {
 		sc.dev = rv.gather(sc.dev, k)
 		rep.Params[k].Rhat, _, _ = sc.vehtari(sc.dev, rv.steps, 1, walkers, false)
 	})
-	rep.summarize(acc)
-	return rep
+	rep.MaxRhat = math.Inf(-1)
+	for _, pr := range rep.Params {
+		rep.MaxRhat = nanMax(rep.MaxRhat, pr.Rhat)
+	}
 }
 
 // setScores prepares the shared scores for chains of steps x walkers:

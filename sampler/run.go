@@ -481,6 +481,7 @@ func Run(ctx context.Context, e *Ensemble, opt RunOptions) (Result, error) {
 // that it meets its criteria; converged says it did, ev then being that
 // final report. Otherwise next is the step from which checks decide again.
 func decideAt(st chainState, opt RunOptions) (ev evaluation, converged bool, next int) {
+	st.gate = true
 	ev = st.evaluate(opt, false)
 	if ev.converged {
 		if ev = st.evaluate(opt, true); ev.converged {
@@ -610,6 +611,10 @@ type chainState struct {
 	steps    int
 	frozenAt int
 	acc      []float64
+	// gate marks a deciding check (decideAt): its R-hat, which only shows
+	// progress, is left out when its other conditions hold, the final
+	// report that follows replacing it.
+	gate bool
 }
 
 func stateOf(e *Ensemble) chainState {
@@ -687,7 +692,10 @@ func (st chainState) evaluate(opt RunOptions, final bool) evaluation {
 	}
 	var rep Report
 	if pass != nil {
-		rep = pool.diagnoseWithTaus(view, st.acc, pass, show)
+		rep = pool.diagnoseWithTaus(view, st.acc, pass)
+		if !st.gate {
+			pool.showRhat(&rep, view, show)
+		}
 	} else {
 		rep = pool.diagnose(view, st.acc, nil, final, final, show)
 	}
@@ -721,6 +729,9 @@ func (st chainState) evaluate(opt RunOptions, final bool) evaluation {
 	// report's (decideAt).
 	if c.Rhat > 0 && final {
 		ok = ok && rep.MaxRhat <= c.Rhat
+	}
+	if pass != nil && st.gate && !ok {
+		pool.showRhat(&rep, view, show)
 	}
 	ev.report = rep
 	ev.converged = ok

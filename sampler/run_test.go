@@ -203,3 +203,35 @@ func TestRunUnreadChecksSkipped(t *testing.T) {
 			read.Report, read.Burn, read.Thin, unread.Report, unread.Burn, unread.Thin)
 	}
 }
+
+// TestDecideAtShownRhat: a deciding check whose conditions fail shows the
+// R-hat a progress check shows; one whose conditions hold is replaced by
+// the final report, R-hat and all, so it leaves its own R-hat out.
+func TestDecideAtShownRhat(t *testing.T) {
+	g := newGaussTarget(t, []float64{2, -1}, [][]float64{{1, 0.8}, {0.8, 1}})
+	e, err := New(g, Config{Walkers: 16, Seed: 5})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer e.Close()
+	e.hist = newHistory(e)
+	for range 3000 {
+		if err := e.Step(); err != nil {
+			t.Fatal(err)
+		}
+	}
+	for _, c := range []struct {
+		ess       float64
+		converged bool
+	}{{1e9, false}, {10, true}} {
+		opt := RunOptions{MaxSteps: 1 << 20, Burn: -1, Until: Criteria{ESS: c.ess}}
+		ev, converged, _ := decideAt(stateOf(e), opt)
+		if converged != c.converged {
+			t.Fatalf("ESS %v: converged %v, want %v", c.ess, converged, c.converged)
+		}
+		want := evaluate(e, opt, converged) // a progress check's, or the final report's
+		if got := ev.report.MaxRhat; math.IsNaN(got) || got != want.report.MaxRhat {
+			t.Errorf("ESS %v: R-hat %v, want %v", c.ess, got, want.report.MaxRhat)
+		}
+	}
+}
