@@ -8,6 +8,7 @@ import (
 	"math/rand/v2"
 	"slices"
 	"strings"
+	"sync/atomic"
 	"testing"
 
 	"gonum.org/v1/gonum/stat/distuv"
@@ -260,5 +261,30 @@ func TestDirectSumsMatchFFT(t *testing.T) {
 	}
 	if fe := multiESSFFT(c, n, m); math.Abs(de-fe) > 1e-10*fe {
 		t.Errorf("ESS direct %.15g, FFT %.15g", de, fe)
+	}
+}
+
+// TestShare checks that share calls f once for every i, on worker 0 or a
+// helper's index, whatever the number of helpers.
+func TestShare(t *testing.T) {
+	for n := range 6 {
+		for helpers := range 3 {
+			calls := make([]atomic.Int32, n)
+			var bad atomic.Bool
+			share(n, helpers, func(worker, i int) {
+				if worker < 0 || worker > helpers {
+					bad.Store(true)
+				}
+				calls[i].Add(1)
+			})
+			if bad.Load() {
+				t.Errorf("n=%d helpers=%d: a call on a worker out of range", n, helpers)
+			}
+			for i := range calls {
+				if c := calls[i].Load(); c != 1 {
+					t.Errorf("n=%d helpers=%d: f(_, %d) called %d times", n, helpers, i, c)
+				}
+			}
+		}
 	}
 }
