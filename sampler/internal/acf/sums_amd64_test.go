@@ -10,31 +10,22 @@ import (
 	"golang.org/x/sys/cpu"
 )
 
-// kernels32 are the 32-lag assembly kernels this CPU can run, with the
-// least series length each takes.
-func kernels32() []struct {
+// A kernel32 is a 32-lag assembly kernel and the least series length it
+// takes.
+type kernel32 struct {
 	name string
 	min  int
 	f    func(d, e *float64, n int, s *[32]float64)
-} {
-	var ks []struct {
-		name string
-		min  int
-		f    func(d, e *float64, n int, s *[32]float64)
-	}
+}
+
+// kernels32 are the 32-lag assembly kernels this CPU can run.
+func kernels32() []kernel32 {
+	var ks []kernel32
 	if cpu.X86.HasAVX2 {
-		ks = append(ks, struct {
-			name string
-			min  int
-			f    func(d, e *float64, n int, s *[32]float64)
-		}{"avx2", 16, sums32avx2})
+		ks = append(ks, kernel32{"avx2", 16, sums32avx2})
 	}
 	if cpu.X86.HasAVX512F {
-		ks = append(ks, struct {
-			name string
-			min  int
-			f    func(d, e *float64, n int, s *[32]float64)
-		}{"avx512", 24, sums32avx512})
+		ks = append(ks, kernel32{"avx512", 24, sums32avx512})
 	}
 	return ks
 }
