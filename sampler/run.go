@@ -135,9 +135,10 @@ type thinning struct {
 // decaying autocorrelation. The coarse first estimate reads about 1024
 // steps: a finer start can leave the window of tau (five times tau in
 // thinned steps) beyond the lags the direct sums reach, so that the sums
-// are thrown away and done again by FFT, the bulk of the report. From
-// 4096 steps, as it was for long histories, the string demo's tau of
-// about 80 took 5-6 ms of a 16000-step report that way. A start thinned
+// are thrown away and done again by FFT, the bulk of the report. Started
+// from 4096 steps, as it was for long histories, the string demo's tau of
+// about 80 made the diagnostics of a 16000-step --until run take 19-21 ms
+// instead of 11-12. A start thinned
 // more than tau costs one more, small, refinement. Wherever the
 // refinement starts, it ends at a thinning of at most tau/10.
 var finalThinning = thinning{Coarse: 1024, Divisor: 10, DirectFrom: directMinLen}
@@ -288,7 +289,7 @@ type Progress struct {
 	// MaxRhat is the largest ensemble R-hat (bulk and tail ESS are left
 	// for the Result). At a check where it decides nothing (another
 	// criterion fails, or there are none) it is estimated from the checked
-	// chain thinned 4 times more.
+	// chain thinned up to 4 times more (keeping at least 128 steps).
 	MaxRhat   float64
 	Burn      int           // burn-in chosen at this check
 	Converged bool          // all criteria hold, at a check that decides (false at the others)
@@ -723,8 +724,9 @@ func (st chainState) evaluate(opt RunOptions, final bool) evaluation {
 		ok = ok && float64(n) >= c.TauMultiple*rep.MaxTau
 		need = math.Max(need, c.TauMultiple*rep.MaxTau)
 	}
-	// A check's R-hat only shows progress (diagnose estimated it from the
-	// chain thinned rhatShowThin times more, which costs a fraction): when
+	// A check's R-hat only shows progress (showRhat estimated it from the
+	// chain thinned up to rhatShowThin times more, which costs a fraction,
+	// or, at a deciding check whose other conditions hold, not at all): when
 	// the other conditions hold at a check, Run's decision is the final
 	// report's (decideAt).
 	if c.Rhat > 0 && final {
