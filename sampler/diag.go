@@ -56,8 +56,9 @@ func AutocorrTime(x []float64, steps, walkers int) (float64, error) {
 		return math.NaN(), err
 	}
 	sc := newDiagScratch()
-	sc.a = transpose(sc.a, x, steps, walkers)
-	return sc.autocorr(sc.a, steps, walkers)
+	load := func() { sc.dev = transpose(sc.dev, x, steps, walkers) }
+	load()
+	return sc.autocorrOf(steps, walkers, directMinLen, load)
 }
 
 // transpose writes the chain x[s*walkers+w] walker-major, dst[w*steps+s].
@@ -180,7 +181,6 @@ func split(par bool, n int, f func(lo, hi int)) {
 // on it. A diagScratch is not safe for concurrent use.
 type diagScratch struct {
 	par  bool
-	a    []float64 // one parameter walker-major, then its scores and indicators
 	rk   ranker
 	tab  lagTable
 	c0   []float64
@@ -299,50 +299,33 @@ func (t *lagTable) ensure(m int) bool {
 // at returns C_w(k) for a k made available by ensure.
 func (t *lagTable) at(w, k int) float64 { return t.c[w*t.limit+k] }
 
-// autocorr is AutocorrTime of the walker-major chain x[w*n+s].
-func (sc *diagScratch) autocorr(x []float64, n, walkers int) (float64, error) {
-	return sc.autocorrFrom(x, n, walkers, directMinLen)
-}
-
-// autocorrFrom is autocorr with the direct sums tried from series of
-// direct steps.
-func (sc *diagScratch) autocorrFrom(x []float64, n, walkers, direct int) (float64, error) {
-	if n < 2 {
-		return math.NaN(), fmt.Errorf("%w: %d step", ErrShortChain, n)
-	}
-	if n >= direct {
-		if tau, err, ok := sc.autocorrDirect(x, n, walkers); ok {
-			return tau, err
-		}
-	}
-	return sc.autocorrFFT(x, n, walkers)
-}
-
-// autocorrView is autocorrFrom of parameter k of v, gathered straight into
-// the buffer of the centred series, which the direct sums centre in place:
-// an estimate of tau alone needs no other copy of the chain. If the direct
-// sums give up, the chain is gathered again for the FFT.
+// autocorrView is autocorrOf parameter k of v, gathered straight into the
+// buffer of the centred series: an estimate of tau alone needs no other
+// copy of the chain.
 func (sc *diagScratch) autocorrView(v chainView, k, direct int) (float64, error) {
-	sc.dev = v.gather(sc.dev, k)
-	return sc.autocorrGathered(v, k, direct)
+	load := func() { sc.dev = v.gather(sc.dev, k) }
+	load()
+	return sc.autocorrOf(v.steps, v.walkers, direct, load)
 }
 
-// autocorrGathered is autocorrView once parameter k of v is in sc.dev.
-func (sc *diagScratch) autocorrGathered(v chainView, k, direct int) (float64, error) {
-	n, walkers := v.steps, v.walkers
+// autocorrOf is AutocorrTime of the walker-major chain sc.dev[w*n+s], with
+// the autocovariances of series of at least direct steps summed lag by lag
+// (autocorrDirect, which centres sc.dev in place), else by FFT. If the
+// direct sums give up, load puts the chain back in sc.dev for the FFT.
+func (sc *diagScratch) autocorrOf(n, walkers, direct int, load func()) (float64, error) {
 	if n < 2 {
 		return math.NaN(), fmt.Errorf("%w: %d step", ErrShortChain, n)
 	}
 	if n >= direct {
-		if tau, err, ok := sc.autocorrDirect(sc.dev, n, walkers); ok {
+		if tau, err, ok := sc.autocorrDirect(n, walkers); ok {
 			return tau, err
 		}
-		sc.dev = v.gather(sc.dev, k)
+		load()
 	}
 	return sc.autocorrFFT(sc.dev, n, walkers)
 }
 
-// autocorrFFT is autocorr with every walker's autocovariance by FFT.
+// autocorrFFT is autocorrOf with every walker's autocovariance by FFT.
 func (sc *diagScratch) autocorrFFT(x []float64, n, walkers int) (float64, error) {
 	w := sc.work(n)
 	sc.ac = growF64(sc.ac, n)
@@ -367,21 +350,20 @@ func (sc *diagScratch) autocorrFFT(x []float64, n, walkers int) (float64, error)
 	return tau, err
 }
 
-// autocorrDirect is autocorr with the autocovariances summed lag by lag
-// up to the window; ok is false if that would take lags beyond lagLimit.
-// x may be sc.dev, which it then centres in place.
-func (sc *diagScratch) autocorrDirect(x []float64, n, walkers int) (tau float64, err error, ok bool) {
+// autocorrDirect is autocorrOf with the autocovariances summed lag by lag
+// up to the window, the walkers' series in sc.dev centred in place; ok is
+// false if that would take lags beyond lagLimit.
+func (sc *diagScratch) autocorrDirect(n, walkers int) (tau float64, err error, ok bool) {
 	sc.mean = growF64(sc.mean, walkers)
 	sc.c0 = growF64(sc.c0, walkers)
-	mean, c0 := sc.mean, sc.c0
-	sc.dev = growF64(sc.dev, walkers*n)
+	mean, c0, x := sc.mean, sc.c0, sc.dev[:walkers*n]
 	split(sc.par && n*walkers >= parMin, walkers, func(w0, w1 int) {
 		// The means summed in step order, as acf.Lags centres a series.
 		runMeans(mean[w0:w1], x[w0*n:w1*n], n)
 		for w := w0; w < w1; w++ {
 			mu := mean[w]
-			dev := sc.dev[w*n : (w+1)*n]
-			for i, v := range x[w*n : (w+1)*n] {
+			dev := x[w*n : (w+1)*n]
+			for i, v := range dev {
 				dev[i] = v - mu
 			}
 		}
@@ -885,9 +867,10 @@ func (p *diagPool) diagnose(v chainView, acc []float64, names []string, rhat, ta
 			// One copy of the chain serves both: the ranker loads the
 			// draws from it, the estimate of tau centres it in place, and
 			// the ranks' statistics take it as their buffer.
-			sc.dev = v.gather(sc.dev, k)
+			load := func() { sc.dev = v.gather(sc.dev, k) }
+			load()
 			loaded := sc.vehtariLoad(sc.dev, steps, show, walkers)
-			t, err := sc.autocorrGathered(v, k, directMinLen)
+			t, err := sc.autocorrOf(steps, walkers, directMinLen, load)
 			setTau(k, t, err)
 			if loaded {
 				pr := &rep.Params[k]

@@ -245,7 +245,8 @@ func TestDirectSumsMatchFFT(t *testing.T) {
 	x := ar1(0.9, steps, walkers, 11)
 	sc := newDiagScratch()
 	xw := transpose(nil, x, steps, walkers)
-	direct, derr, ok := sc.autocorrDirect(xw, steps, walkers)
+	sc.dev = transpose(nil, x, steps, walkers) // centred in place
+	direct, derr, ok := sc.autocorrDirect(steps, walkers)
 	if !ok {
 		t.Fatal("direct sums gave up within their lag budget")
 	}

@@ -75,8 +75,8 @@ func EnsembleTailESS(x []float64, steps, walkers int) float64 {
 // ensembleVehtari is vehtari of the chain x[s*walkers+w].
 func ensembleVehtari(x []float64, steps, walkers int, ess bool) (rh, bulk, tail float64) {
 	sc := newDiagScratch()
-	sc.a = transpose(sc.a, x, steps, walkers)
-	return sc.vehtari(sc.a, steps, 1, walkers, ess)
+	sc.dev = transpose(sc.dev, x, steps, walkers)
+	return sc.vehtari(sc.dev, steps, 1, walkers, ess)
 }
 
 // vehtari returns the ensemble R-hat and, with ess, the ensemble bulk and
