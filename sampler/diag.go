@@ -185,7 +185,7 @@ type diagScratch struct {
 	tab  lagTable
 	c0   []float64
 	mean []float64
-	dev  []float64 // the walkers' series centred, for tab; vehtari's scores
+	dev  []float64 // one parameter walker-major: gathered, then centred for tab, then vehtari's buffer
 	rho  []float64
 	ac   []float64
 	fft  *acf.Work
@@ -205,7 +205,8 @@ func newDiagScratch() *diagScratch {
 const eachParMin = 1 << 16
 
 // maxDiagWorkers bounds the goroutines that diagnose parameters at once;
-// each keeps buffers of about 40 bytes per value of the chain.
+// each keeps buffers of about 24 bytes per value of the chain (the chain,
+// the ranker's keys and its two index buffers), besides the shared scores.
 const maxDiagWorkers = 2
 
 // A diagPool diagnoses the parameters of a chain on up to maxDiagWorkers
