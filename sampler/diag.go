@@ -8,6 +8,7 @@ import (
 	"math/bits"
 	"runtime"
 	"slices"
+	"sync"
 	"sync/atomic"
 
 	"tautline/internal/numeric"
@@ -159,13 +160,120 @@ func share(n, helpers int, f func(worker, i int)) {
 	<-finished
 }
 
-// split calls f on [0, n) in two halves, concurrently with par (share).
-func split(par bool, n int, f func(lo, hi int)) {
+// A crew keeps a diagPool's helper goroutines running while it is held
+// (an evaluation of the history: a check, or the final report), so that
+// each of the evaluation's parallel parts finds them awake instead of
+// waking a goroutine onto an idle core, which took 0.07-0.5 ms here (see
+// share): the helper is started when the hold begins, while this
+// goroutine starts the work, and between the parts it yields
+// (runtime.Gosched) instead of sleeping. Outside a hold, or with no
+// helpers, its shares are share's. Which goroutine calls f for an i
+// depends on timing, the callers' results not. hold and release are
+// called by the pool's owner only; the zero crew (or a nil one) has no
+// helpers.
+type crew struct {
+	helpers int // goroutines besides the owner's, fixed at creation
+	holds   int // nesting depth of hold, read by the owner only
+	job     atomic.Pointer[crewJob]
+	stop    atomic.Bool
+	exited  sync.WaitGroup
+}
+
+// A crewJob is one share's calls, taken in turn by index by workers 0 to
+// last.
+type crewJob struct {
+	n, last    int
+	f          func(worker, i int)
+	next, done atomic.Int64
+}
+
+// run calls f for the job's indices not yet taken, as worker.
+func (j *crewJob) run(worker int) {
+	if worker > j.last {
+		return
+	}
+	for {
+		i := int(j.next.Add(1) - 1)
+		if i >= j.n {
+			return
+		}
+		j.f(worker, i)
+		j.done.Add(1)
+	}
+}
+
+// hold starts the helpers unless they are running; every hold needs its
+// release.
+func (c *crew) hold() {
+	if c == nil || c.helpers < 1 {
+		return
+	}
+	if c.holds++; c.holds > 1 {
+		return
+	}
+	c.stop.Store(false)
+	for w := 1; w <= c.helpers; w++ {
+		c.exited.Add(1)
+		go c.serve(w)
+	}
+}
+
+// release ends a hold, and stops the helpers (waiting for them to
+// return) when it is the outermost.
+func (c *crew) release() {
+	if c == nil || c.helpers < 1 {
+		return
+	}
+	if c.holds--; c.holds > 0 {
+		return
+	}
+	c.stop.Store(true)
+	c.exited.Wait()
+}
+
+// serve is a helper's loop: it takes part in every job published while
+// the crew is held.
+func (c *crew) serve(worker int) {
+	defer c.exited.Done()
+	var last *crewJob
+	for !c.stop.Load() {
+		if j := c.job.Load(); j != nil && j != last {
+			j.run(worker)
+			last = j
+			continue
+		}
+		runtime.Gosched()
+	}
+}
+
+// held reports whether the crew's helpers are running.
+func (c *crew) held() bool { return c != nil && c.helpers > 0 && c.holds > 0 }
+
+// share is share(n, helpers, f) on the crew: with it held, the running
+// helpers take part, and this goroutine waits for a call a helper took by
+// yielding.
+func (c *crew) share(n, helpers int, f func(worker, i int)) {
+	if !c.held() || helpers < 1 || n < 2 {
+		share(n, helpers, f)
+		return
+	}
+	j := &crewJob{n: n, last: helpers, f: f}
+	c.job.Store(j)
+	j.run(0)
+	for j.done.Load() < int64(n) {
+		runtime.Gosched()
+	}
+	c.job.Store(nil)
+}
+
+// split calls f on [0, n) in two halves, concurrently with par (share, on
+// the crew c, which may be nil).
+func split(c *crew, par bool, n int, f func(lo, hi int)) {
 	if !par {
 		f(0, n)
 		return
 	}
-	share(2, 1, func(_, part int) {
+	c.share(2, 1, func(_, part int) {
 		if part == 0 {
 			f(0, n/2)
 		} else {
@@ -189,6 +297,7 @@ type diagScratch struct {
 	rho  []float64
 	ac   []float64
 	fft  *acf.Work
+	crew *crew // the goroutines par shares with (nil: new ones)
 }
 
 func newDiagScratch() *diagScratch {
@@ -204,6 +313,14 @@ func newDiagScratch() *diagScratch {
 // 6.6-7.6 ms with 1 and 4.1-4.5 ms with 2.
 const eachParMin = 1 << 16
 
+// heldParMin is eachParMin while the pool's crew is held: its helper is
+// already running, so that handing it a parameter costs about a
+// microsecond. With the crew, the diagnostics of a 6000-step --until run
+// of the SMBHB demo (checks and final report, in-process, median of 30
+// runs) took 6.5-6.9 ms with 2^8 to 2^12, 7.2 ms with 2^16, and 7.5-7.7
+// ms before the crew.
+const heldParMin = 1 << 10
+
 // maxDiagWorkers bounds the goroutines that diagnose parameters at once;
 // each keeps buffers of about 24 bytes per value of the chain (the chain,
 // the ranker's keys and its two index buffers), besides the shared scores.
@@ -218,6 +335,7 @@ const maxDiagWorkers = 2
 type diagPool struct {
 	workers []*diagScratch
 	tab     scoreTable // shared by the workers' rankers
+	crew    crew       // the workers' goroutines besides the caller's
 }
 
 func newDiagPool() *diagPool {
@@ -225,26 +343,38 @@ func newDiagPool() *diagPool {
 	for range max(1, min(runtime.GOMAXPROCS(0), maxDiagWorkers)) {
 		sc := newDiagScratch()
 		sc.rk.tab = &p.tab
+		sc.crew = &p.crew
 		p.workers = append(p.workers, sc)
 	}
+	p.crew.helpers = len(p.workers) - 1
 	return p
 }
+
+// hold keeps the pool's helper goroutines running until the matching
+// release (crew): an evaluation holds it from start to end.
+func (p *diagPool) hold()    { p.crew.hold() }
+func (p *diagPool) release() { p.crew.release() }
 
 // each calls f(sc, k) for every k < n, each call reading values values of
 // the chain, on up to len(p.workers) goroutines (share), each with its own
 // scratch, or on this one alone if all of them read fewer than
-// eachParMin; with one goroutine in use its scratch shares its lag sums
-// between two (the work being one parameter), else not.
+// eachParMin (heldParMin while the crew is held); with one goroutine in
+// use its scratch shares its lag sums between two (the work being one
+// parameter), else not.
 func (p *diagPool) each(n, values int, f func(sc *diagScratch, k int)) {
 	w := min(len(p.workers), n)
-	if n*values < eachParMin {
+	least := eachParMin
+	if p.crew.held() {
+		least = heldParMin
+	}
+	if n*values < least {
 		w = 1
 	}
 	par := w == 1 && runtime.GOMAXPROCS(0) > 1
 	for _, sc := range p.workers {
 		sc.par = par
 	}
-	share(n, w-1, func(worker, k int) { f(p.workers[worker], k) })
+	p.crew.share(n, w-1, func(worker, k int) { f(p.workers[worker], k) })
 }
 
 // work returns an FFT work space equivalent to acf.New(n).
@@ -267,12 +397,13 @@ type lagTable struct {
 	par        bool
 	chunk      int       // lags computed at once (acf.SumsWidth)
 	dev        []float64 // the centred series, walker w's at dev[w*n:(w+1)*n]
+	crew       *crew     // the goroutines par shares with (nil: new ones)
 }
 
 // reset prepares the table for the centred series in dev (walkers series
 // of n values, walker-major), which it reads until the next reset.
-func (t *lagTable) reset(n, walkers int, par bool, dev []float64) {
-	t.n, t.walkers, t.dev = n, walkers, dev
+func (t *lagTable) reset(n, walkers int, par bool, dev []float64, c *crew) {
+	t.n, t.walkers, t.dev, t.crew = n, walkers, dev, c
 	t.limit = min(lagLimit(n), n)
 	t.have = 0
 	t.chunk = acf.SumsWidth()
@@ -287,7 +418,7 @@ func (t *lagTable) ensure(m int) bool {
 			return false
 		}
 		lo, hi := t.have, min(t.have+t.chunk, t.limit)
-		split(t.par, t.walkers, func(w0, w1 int) {
+		split(t.crew, t.par, t.walkers, func(w0, w1 int) {
 			for w := w0; w < w1; w++ {
 				acf.Sums(t.dev[w*t.n:(w+1)*t.n], lo, t.c[w*t.limit+lo:w*t.limit+hi])
 			}
@@ -358,7 +489,7 @@ func (sc *diagScratch) autocorrDirect(n, walkers int) (tau float64, err error, o
 	sc.mean = growF64(sc.mean, walkers)
 	sc.c0 = growF64(sc.c0, walkers)
 	mean, c0, x := sc.mean, sc.c0, sc.dev[:walkers*n]
-	split(sc.par && n*walkers >= parMin, walkers, func(w0, w1 int) {
+	split(sc.crew, sc.par && n*walkers >= parMin, walkers, func(w0, w1 int) {
 		// The means summed in step order, as acf.Lags centres a series.
 		runMeans(mean[w0:w1], x[w0*n:w1*n], n)
 		for w := w0; w < w1; w++ {
@@ -370,7 +501,7 @@ func (sc *diagScratch) autocorrDirect(n, walkers int) (tau float64, err error, o
 		}
 	})
 	t := &sc.tab
-	t.reset(n, walkers, sc.par, sc.dev)
+	t.reset(n, walkers, sc.par, sc.dev, sc.crew)
 	t.ensure(0)
 	used := 0
 	for w := range walkers {
@@ -941,7 +1072,7 @@ func (p *diagPool) showRhat(rep *Report, v chainView, show int) {
 // every parameter ranks the same number of draws (see vehtari).
 func (p *diagPool) setScores(steps, walkers int) {
 	if steps >= 2*rhatSegments {
-		p.tab.set((steps-steps%rhatSegments)*walkers, len(p.workers) > 1)
+		p.tab.set((steps-steps%rhatSegments)*walkers, len(p.workers) > 1, &p.crew)
 	}
 }
 

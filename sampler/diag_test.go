@@ -6,10 +6,12 @@ import (
 	"errors"
 	"math"
 	"math/rand/v2"
+	"runtime"
 	"slices"
 	"strings"
 	"sync/atomic"
 	"testing"
+	"time"
 
 	"gonum.org/v1/gonum/stat/distuv"
 )
@@ -288,4 +290,70 @@ func TestShare(t *testing.T) {
 			}
 		}
 	}
+}
+
+// TestCrewShare checks that a crew's share calls f once for every i, on
+// worker 0 or one of the share's helpers, held or not, with nested holds
+// and after a release; that a call a helper took is over when share
+// returns; and that the outermost release stops the helpers.
+func TestCrewShare(t *testing.T) {
+	c := &crew{helpers: 2}
+	before := runtime.NumGoroutine()
+	check := func(c *crew, stage string, n, helpers int) {
+		calls := make([]atomic.Int32, n)
+		var bad atomic.Bool
+		var slow atomic.Int32 // calls still running
+		c.share(n, helpers, func(worker, i int) {
+			slow.Add(1)
+			defer slow.Add(-1)
+			if worker < 0 || worker > helpers {
+				bad.Store(true)
+			}
+			if i%2 == 1 {
+				time.Sleep(100 * time.Microsecond) // a helper's call outlasts this goroutine's
+			}
+			calls[i].Add(1)
+		})
+		if slow.Load() != 0 {
+			t.Errorf("%s n=%d helpers=%d: share returned with a call running", stage, n, helpers)
+		}
+		if bad.Load() {
+			t.Errorf("%s n=%d helpers=%d: a call on a worker out of range", stage, n, helpers)
+		}
+		for i := range calls {
+			if k := calls[i].Load(); k != 1 {
+				t.Errorf("%s n=%d helpers=%d: f(_, %d) called %d times", stage, n, helpers, i, k)
+			}
+		}
+	}
+	for _, stage := range []string{"free", "held", "nested", "released once", "released"} {
+		switch stage {
+		case "held", "nested":
+			c.hold()
+		case "released once", "released":
+			c.release()
+		}
+		if want := stage != "free" && stage != "released"; c.held() != want {
+			t.Fatalf("%s: held() = %v", stage, c.held())
+		}
+		for n := range 7 {
+			for helpers := range 3 {
+				check(c, stage, n, helpers)
+			}
+		}
+	}
+	// The helpers have returned (release waits for them), also when held
+	// again at once: helpers left running would be revived by the next
+	// hold and pile up.
+	for range 200 {
+		c.hold()
+		c.release()
+	}
+	if after := runtime.NumGoroutine(); after > before {
+		t.Errorf("%d goroutines after the release, %d before the crew", after, before)
+	}
+	var none *crew // no crew: share's
+	none.hold()
+	check(none, "nil", 5, 1)
+	none.release()
 }

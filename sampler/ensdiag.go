@@ -395,7 +395,7 @@ func (sc *diagScratch) ensembleTau(x []float64, steps, walkers int, mean float64
 // beyond lagLimit.
 func (sc *diagScratch) ensembleTauDirect(dev []float64, steps, walkers int) (float64, bool) {
 	t := &sc.tab
-	t.reset(steps, walkers, sc.par, dev)
+	t.reset(steps, walkers, sc.par, dev, sc.crew)
 	t.ensure(0)
 	c0 := 0.0
 	for w := range walkers {

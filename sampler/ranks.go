@@ -39,14 +39,14 @@ type scoreTable struct {
 }
 
 // set makes t the table for S values, filling it on two goroutines with
-// par.
-func (t *scoreTable) set(S int, par bool) {
+// par (on the crew c, which may be nil).
+func (t *scoreTable) set(S int, par bool, c *crew) {
 	if t.size == S && t.scores != nil {
 		return
 	}
 	t.size = S
 	t.scores = growF64(t.scores, S)
-	split(par && S >= parMin, S, func(lo, hi int) {
+	split(c, par && S >= parMin, S, func(lo, hi int) {
 		for i := lo; i < hi; i++ {
 			rk := float64(i+i)/2 + 1
 			t.scores[i] = distuv.UnitNormal.Quantile((rk - 0.375) / (float64(S) + 0.25))
@@ -60,7 +60,7 @@ func (r *ranker) scores(S int) []float64 {
 	if r.tab != nil && r.tab.size == S && r.tab.scores != nil {
 		return r.tab.scores
 	}
-	r.own.set(S, false)
+	r.own.set(S, false, nil)
 	return r.own.scores
 }
 

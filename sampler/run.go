@@ -482,6 +482,9 @@ func Run(ctx context.Context, e *Ensemble, opt RunOptions) (Result, error) {
 // that it meets its criteria; converged says it did, ev then being that
 // final report. Otherwise next is the step from which checks decide again.
 func decideAt(st chainState, opt RunOptions) (ev evaluation, converged bool, next int) {
+	pool := st.h.pool()
+	pool.hold()
+	defer pool.release()
 	st.gate = true
 	ev = st.evaluate(opt, false)
 	if ev.converged {
@@ -599,7 +602,9 @@ const rhatShowSteps = 128
 // evaluate applies the burn-in, thinning and convergence rules to the
 // history; it depends on nothing but the history and options. The
 // diagnostics reuse the history's buffers (History.pool), and run the
-// parameters concurrently, with results that do not depend on it.
+// parameters concurrently, with results that do not depend on it; the
+// pool's helper goroutine runs from the evaluation's start to its end
+// (diagPool.hold).
 func evaluate(e *Ensemble, opt RunOptions, final bool) evaluation {
 	return stateOf(e).evaluate(opt, final)
 }
@@ -640,6 +645,8 @@ func (st chainState) first() int { return max(st.frozenAt, st.h.start) }
 // evaluate is evaluate of the ensemble in state st.
 func (st chainState) evaluate(opt RunOptions, final bool) evaluation {
 	h := st.h
+	h.pool().hold()
+	defer h.pool().release()
 	ev := evaluation{thin: max(opt.Thin, 1), needSteps: math.NaN()}
 	first := st.first()
 	u0 := min(first-h.start, h.n)
