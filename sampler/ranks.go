@@ -5,6 +5,8 @@ import (
 	"unsafe"
 
 	"gonum.org/v1/gonum/stat/distuv"
+
+	"tautline/sampler/internal/scores"
 )
 
 // A ranker computes the normal scores of pooled ranks of Vehtari et al.
@@ -47,10 +49,8 @@ func (t *scoreTable) set(S int, par bool, c *crew) {
 	t.size = S
 	t.scores = growF64(t.scores, S)
 	split(c, par && S >= parMin, S, func(lo, hi int) {
-		for i := lo; i < hi; i++ {
-			rk := float64(i+i)/2 + 1
-			t.scores[i] = distuv.UnitNormal.Quantile((rk - 0.375) / (float64(S) + 0.25))
-		}
+		// Equal to the bit to the quantile of rank i+1 of tiedScore.
+		scores.Fill(t.scores[lo:hi], lo, S)
 	})
 }
 
