@@ -6,9 +6,9 @@ import (
 	"errors"
 	"math"
 	"math/rand/v2"
-	"runtime"
 	"slices"
 	"strings"
+	"runtime"
 	"sync/atomic"
 	"testing"
 	"time"
@@ -298,7 +298,6 @@ func TestShare(t *testing.T) {
 // returns; and that the outermost release stops the helpers.
 func TestCrewShare(t *testing.T) {
 	c := &crew{helpers: 2}
-	before := runtime.NumGoroutine()
 	check := func(c *crew, stage string, n, helpers int) {
 		calls := make([]atomic.Int32, n)
 		var bad atomic.Bool
@@ -342,18 +341,50 @@ func TestCrewShare(t *testing.T) {
 			}
 		}
 	}
-	// The helpers have returned (release waits for them), also when held
-	// again at once: helpers left running would be revived by the next
-	// hold and pile up.
-	for range 200 {
+	// The helpers have returned when release does, also when held again
+	// at once (helpers left running would be revived by the next hold).
+	for range 100 {
 		c.hold()
+		for deadline := time.Now().Add(time.Second); c.running.Load() < int32(c.helpers) && time.Now().Before(deadline); {
+			runtime.Gosched() // until the helpers run
+		}
 		c.release()
-	}
-	if after := runtime.NumGoroutine(); after > before {
-		t.Errorf("%d goroutines after the release, %d before the crew", after, before)
+		if r := c.running.Load(); r != 0 {
+			t.Fatalf("%d helpers running after the release", r)
+		}
 	}
 	var none *crew // no crew: share's
 	none.hold()
 	check(none, "nil", 5, 1)
 	none.release()
+}
+
+// TestGather checks the scratch's gather against the definition of a
+// chain view, value by value, for views shorter and longer than its
+// blocks and reads ahead, thinned or not.
+func TestGather(t *testing.T) {
+	for _, c := range []struct{ steps, walkers, dim, stride int }{
+		{1, 1, 1, 1}, {7, 3, 2, 1}, {8, 4, 1, 3}, {17, 5, 3, 2}, {40, 32, 2, 7}, {100, 6, 4, 1},
+	} {
+		pos := make([]float64, ((c.steps-1)*c.stride+1)*c.walkers*c.dim)
+		for i := range pos {
+			pos[i] = float64(i) + 0.5
+		}
+		v := chainView{pos: pos, steps: c.steps, walkers: c.walkers, dim: c.dim, stride: c.stride}
+		sc := newDiagScratch()
+		for k := range c.dim {
+			sc.gather(v, k)
+			if len(sc.dev) != c.steps*c.walkers {
+				t.Fatalf("%+v k=%d: %d values, want %d", c, k, len(sc.dev), c.steps*c.walkers)
+			}
+			for w := range c.walkers {
+				for s := range c.steps {
+					want := pos[(s*c.stride*c.walkers+w)*c.dim+k]
+					if got := sc.dev[w*c.steps+s]; got != want {
+						t.Fatalf("%+v k=%d: walker %d step %d: %v, want %v", c, k, w, s, got, want)
+					}
+				}
+			}
+		}
+	}
 }

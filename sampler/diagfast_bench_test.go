@@ -87,7 +87,9 @@ func BenchmarkFinalReport(b *testing.B) {
 // in the layout x[s*walkers+w], plus shift.
 func finalDraws(b *testing.B, e *Ensemble, k int, shift float64) []float64 {
 	v := e.hist.view(2000, 3, 6000)
-	x := v.gather(nil, k)
+	sc := newDiagScratch()
+	sc.gather(v, k)
+	x := sc.dev
 	out := make([]float64, len(x))
 	for w := range v.walkers {
 		for s := range v.steps {
