@@ -388,3 +388,27 @@ func TestGather(t *testing.T) {
 		}
 	}
 }
+
+// TestGrowth checks that the buffers' growth gives the length asked for,
+// keeps the memory while the capacity suffices, and at least doubles the
+// capacity when it reallocates.
+func TestGrowth(t *testing.T) {
+	var f []float64
+	for _, n := range []int{0, 1, 3, 2, 10, 11, 40, 5, 100} {
+		before := cap(f)
+		g := growF64(f, n)
+		if len(g) != n {
+			t.Fatalf("growF64 to %d: length %d", n, len(g))
+		}
+		switch {
+		case n <= before && before > 0 && &g[:1][0] != &f[:1][0]:
+			t.Errorf("growF64 to %d within capacity %d reallocated", n, before)
+		case n > before && cap(g) < max(n, 2*before):
+			t.Errorf("growF64 from capacity %d to %d: capacity %d, want at least %d", before, n, cap(g), max(n, 2*before))
+		}
+		f = g
+	}
+	if k, i := growU64(nil, 7), growI32(make([]int32, 2, 4), 5); len(k) != 7 || len(i) != 5 || cap(i) < 8 {
+		t.Errorf("growU64(nil, 7): %d values; growI32 from capacity 4 to 5: %d values, capacity %d", len(k), len(i), cap(i))
+	}
+}
