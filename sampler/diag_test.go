@@ -6,6 +6,7 @@ import (
 	"errors"
 	"math"
 	"math/rand/v2"
+	"reflect"
 	"runtime"
 	"slices"
 	"strings"
@@ -411,4 +412,50 @@ func TestGrowth(t *testing.T) {
 	if k, i := growU64(nil, 7), growI32(make([]int32, 2, 4), 5); len(k) != 7 || len(i) != 5 || cap(i) < 8 {
 		t.Errorf("growU64(nil, 7): %d values; growI32 from capacity 4 to 5: %d values, capacity %d", len(k), len(i), cap(i))
 	}
+}
+
+// TestPrepare checks that the next hold takes up the buffers of a prepare
+// that has finished (each worker then has room for the values asked for)
+// and gives up one that has not, without waiting, and that a report is
+// the same with prepared buffers as without.
+func TestPrepare(t *testing.T) {
+	const steps, walkers, dim = 3000, 16, 2
+	pos := make([]float64, steps*walkers*dim)
+	r := rand.New(rand.NewPCG(3, 4))
+	for i := range pos {
+		pos[i] = r.NormFloat64()
+	}
+	v := chainView{pos: pos, steps: steps, walkers: walkers, dim: dim, stride: 1}
+	p := newDiagPool()
+	want := p.diagnose(v, nil, nil, true, true, 1)
+
+	const n = 1 << 17
+	p.prepare(n)
+	for deadline := time.Now().Add(10 * time.Second); len(p.ready) == 0 && time.Now().Before(deadline); {
+		time.Sleep(time.Millisecond)
+	}
+	p.hold()
+	if p.ready != nil {
+		t.Error("hold left the prepare pending")
+	}
+	for i, sc := range p.workers {
+		if cap(sc.dev) < n || cap(sc.rk.keys) < n || cap(sc.rk.idx) < n || cap(sc.rk.tmpI) < n {
+			t.Errorf("worker %d: capacities %d %d %d %d after a prepare of %d", i, cap(sc.dev), cap(sc.rk.keys), cap(sc.rk.idx), cap(sc.rk.tmpI), n)
+		}
+	}
+	got := p.diagnose(v, nil, nil, true, true, 1)
+	p.release()
+	if !reflect.DeepEqual(got, want) {
+		t.Errorf("report with prepared buffers %+v, without %+v", got, want)
+	}
+
+	// A prepare still running is given up: hold returns at once.
+	p.prepare(1 << 20)
+	t0 := time.Now()
+	p.hold()
+	p.release()
+	if p.ready != nil {
+		t.Error("hold left the prepare pending")
+	}
+	t.Logf("hold after a large prepare took %v", time.Since(t0))
 }

@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"runtime"
 	"time"
 )
 
@@ -420,6 +421,15 @@ func Run(ctx context.Context, e *Ensemble, opt RunOptions) (Result, error) {
 			ev = evaluate(e, opt, false)
 			ev.converged = false // progress only
 		}
+		if !reported && (deciding || !decides) {
+			// The final report comes at the next deciding check at the
+			// earliest, or at MaxSteps.
+			at := opt.MaxSteps
+			if decides {
+				at = min(next, at)
+			}
+			prepareFinal(e, ev, at)
+		}
 		spent += time.Since(t)
 		if opt.OnCheck != nil {
 			p := ev.progress(e, opt, t0, s0)
@@ -475,6 +485,35 @@ func Run(ctx context.Context, e *Ensemble, opt RunOptions) (Result, error) {
 		DiagnosticsTime: spent,
 	}, runErr
 }
+
+// prepareFinal has the diagnostics' buffers prepared (diagPool.prepare)
+// for a final report at step at, from the estimate of tau of evaluation
+// ev, when the ensemble leaves a core free (fewer workers than
+// GOMAXPROCS): the pages are then touched while Run samples instead of
+// during the report. The size is that of the report's estimate of tau on
+// the whole usable run at the thinning ev's tau asks for, which bounds
+// its other buffers; the report's own tau, on that longer chain, is
+// mostly larger, its thinning coarser and its buffers smaller. It is
+// skipped for reports of under prepareMin values, and when the buffers
+// already have the room.
+func prepareFinal(e *Ensemble, ev evaluation, at int) {
+	tau := ev.report.MaxTau
+	if e.workers >= runtime.GOMAXPROCS(0) || !(tau > 0) || math.IsInf(tau, 0) {
+		return
+	}
+	k := finalThinning.interval(tau)
+	first := max(e.frozenAt, e.hist.start) // chainState.first
+	n := (at - first + k - 1) / k * e.hist.walkers
+	if n < prepareMin {
+		return
+	}
+	e.hist.pool().prepare(n)
+}
+
+// prepareMin is the number of values per parameter from which Run
+// prepares a final report's buffers: about 0.4 MB per worker, which took
+// about 0.2 ms to touch.
+const prepareMin = 1 << 14
 
 // decideAt is the deciding check at state st: if the check's conditions
 // hold (all but R-hat, on the check's thinned chain), the final report at
