@@ -344,6 +344,7 @@ type diagPool struct {
 	tab     scoreTable       // shared by the workers' rankers
 	crew    crew             // the workers' goroutines besides the caller's
 	ready   chan []bufferSet // buffers of the last prepare, for the next hold; nil if none
+	pending int              // values per parameter the buffers on ready hold
 }
 
 func newDiagPool() *diagPool {
@@ -406,8 +407,18 @@ func larger[T any](a, b []T) []T {
 // buffers' contents are never read before they are written), so that
 // results do not depend on it, and nothing waits for it.
 func (p *diagPool) prepare(n int) {
+	if p.ready != nil && p.pending >= n {
+		return // on its way
+	}
+	room := true
+	for _, sc := range p.workers {
+		room = room && cap(sc.dev) >= n && cap(sc.rk.keys) >= n && cap(sc.rk.idx) >= n && cap(sc.rk.tmpI) >= n
+	}
+	if room {
+		return
+	}
 	ready := make(chan []bufferSet, 1)
-	p.ready = ready
+	p.ready, p.pending = ready, n
 	workers := len(p.workers)
 	go func() {
 		bufs := make([]bufferSet, workers)

@@ -449,6 +449,11 @@ func TestPrepare(t *testing.T) {
 		t.Errorf("report with prepared buffers %+v, without %+v", got, want)
 	}
 
+	// A prepare for no more than the buffers hold is skipped.
+	if p.prepare(n); p.ready != nil {
+		t.Error("a prepare for buffers already large enough is pending")
+	}
+
 	// A prepare still running is given up: hold returns at once.
 	p.prepare(1 << 20)
 	t0 := time.Now()
