@@ -8,8 +8,8 @@ import (
 	"math/bits"
 	"runtime"
 	"slices"
-	"sync"
 	"sync/atomic"
+	"time"
 	"unsafe"
 
 	"tautline/internal/numeric"
@@ -161,25 +161,40 @@ func share(n, helpers int, f func(worker, i int)) {
 	<-finished
 }
 
-// A crew keeps a diagPool's helper goroutines running while it is held
+// A crew keeps a diagPool's helper goroutines at hand while it is held
 // (an evaluation of the history: a check, or the final report), so that
 // each of the evaluation's parallel parts finds them awake instead of
 // waking a goroutine onto an idle core, which took 0.07-0.5 ms here (see
 // share): the helper is started when the hold begins, while this
 // goroutine starts the work, and between the parts it yields
-// (runtime.Gosched) instead of sleeping. Outside a hold, or with no
-// helpers, its shares are share's. Which goroutine calls f for an i
-// depends on timing, the callers' results not. hold and release are
-// called by the pool's owner only; the zero crew (or a nil one) has no
-// helpers.
+// (runtime.Gosched) for up to crewSpin before it sleeps until the next
+// part, so that on a machine whose cores are busy with other work it
+// does not keep one. Outside a hold, or with no helpers, its shares are
+// share's. Which goroutine calls f for an i depends on timing, the
+// callers' results not. hold and release are called by the pool's owner
+// only; the zero crew (or a nil one) has no helpers.
 type crew struct {
-	helpers int // goroutines besides the owner's, fixed at creation
-	holds   int // nesting depth of hold, read by the owner only
-	job     atomic.Pointer[crewJob]
-	stop    atomic.Bool
-	exited  sync.WaitGroup
+	helpers int          // goroutines besides the owner's, fixed at creation
+	holds   int          // nesting depth of hold, read by the owner only
+	run     *crewRun     // the helpers of the current hold; nil outside one
 	running atomic.Int32 // helpers that have not returned (for the tests)
 }
+
+// A crewRun is the helpers of one hold and the job they take part in.
+// Helpers of an earlier hold, which may not have returned yet, see only
+// their own run's jobs, so that two goroutines never use one worker's
+// buffers at once.
+type crewRun struct {
+	job      atomic.Pointer[crewJob]
+	stop     atomic.Bool
+	sleeping atomic.Int32  // helpers asleep or about to sleep
+	wake     chan struct{} // a token wakes a sleeper; closed at release
+}
+
+// crewSpin is how long a helper yields for a new part before it sleeps:
+// an evaluation's parts follow each other within microseconds, except
+// around its serial stretches.
+const crewSpin = 50 * time.Microsecond
 
 // A crewJob is one share's calls, taken in turn by index by workers 0 to
 // last.
@@ -213,15 +228,17 @@ func (c *crew) hold() {
 	if c.holds++; c.holds > 1 {
 		return
 	}
-	c.stop.Store(false)
+	r := &crewRun{wake: make(chan struct{}, c.helpers)}
+	c.run = r
 	for w := 1; w <= c.helpers; w++ {
-		c.exited.Add(1)
-		go c.serve(w)
+		c.running.Add(1)
+		go c.serve(r, w)
 	}
 }
 
-// release ends a hold, and stops the helpers (waiting for them to
-// return) when it is the outermost.
+// release ends a hold, and when it is the outermost tells the helpers to
+// return, without waiting for them: a helper is between parts then, and
+// will see no job of a later hold.
 func (c *crew) release() {
 	if c == nil || c.helpers < 1 {
 		return
@@ -229,45 +246,65 @@ func (c *crew) release() {
 	if c.holds--; c.holds > 0 {
 		return
 	}
-	c.stop.Store(true)
-	c.exited.Wait()
+	c.run.stop.Store(true)
+	close(c.run.wake)
+	c.run = nil
 }
 
-// serve is a helper's loop: it takes part in every job published while
-// the crew is held.
-func (c *crew) serve(worker int) {
-	c.running.Add(1)
-	defer c.exited.Done()
+// serve is a helper's loop: it takes part in every job of run r until r
+// stops, sleeping when none has come for crewSpin.
+func (c *crew) serve(r *crewRun, worker int) {
 	defer c.running.Add(-1)
 	var last *crewJob
-	for !c.stop.Load() {
-		if j := c.job.Load(); j != nil && j != last {
+	idle := time.Now()
+	for !r.stop.Load() {
+		if j := r.job.Load(); j != nil && j != last {
 			j.run(worker)
-			last = j
+			last, idle = j, time.Now()
 			continue
 		}
-		runtime.Gosched()
+		if time.Since(idle) < crewSpin {
+			runtime.Gosched()
+			continue
+		}
+		// Asleep until share hands over a token or release closes wake;
+		// announced before the last look at the job, which share stores
+		// before it looks at sleeping, so that one of the two sees the
+		// other.
+		r.sleeping.Add(1)
+		if j := r.job.Load(); (j == nil || j == last) && !r.stop.Load() {
+			<-r.wake
+		}
+		r.sleeping.Add(-1)
+		idle = time.Now()
 	}
 }
 
 // held reports whether the crew's helpers are running.
 func (c *crew) held() bool { return c != nil && c.helpers > 0 && c.holds > 0 }
 
-// share is share(n, helpers, f) on the crew: with it held, the running
-// helpers take part, and this goroutine waits for a call a helper took by
-// yielding.
+// share is share(n, helpers, f) on the crew: with it held, the helpers
+// take part (woken if asleep), and this goroutine waits for a call a
+// helper took by yielding.
 func (c *crew) share(n, helpers int, f func(worker, i int)) {
 	if !c.held() || helpers < 1 || n < 2 {
 		share(n, helpers, f)
 		return
 	}
+	r := c.run
 	j := &crewJob{n: n, last: helpers, f: f}
-	c.job.Store(j)
+	r.job.Store(j)
+	for range min(int(r.sleeping.Load()), c.helpers) {
+		select {
+		case r.wake <- struct{}{}:
+		default: // tokens enough for every sleeper
+		}
+	}
 	j.run(0)
 	for j.done.Load() < int64(n) {
 		runtime.Gosched()
 	}
-	c.job.Store(nil)
+	r.job.Store(nil)
 }
 
 // split calls f on [0, n) in two halves, concurrently with par (share, on

@@ -7,7 +7,6 @@ import (
 	"math"
 	"math/rand/v2"
 	"reflect"
-	"runtime"
 	"slices"
 	"strings"
 	"sync/atomic"
@@ -294,21 +293,30 @@ func TestShare(t *testing.T) {
 }
 
 // TestCrewShare checks that a crew's share calls f once for every i, on
-// worker 0 or one of the share's helpers, held or not, with nested holds
-// and after a release; that a call a helper took is over when share
-// returns; and that the outermost release stops the helpers.
+// worker 0 or one of the share's helpers, held or not, with nested holds,
+// after a release and with the helpers asleep between parts; that a call
+// a helper took is over when share returns; that no two goroutines ever
+// act as one worker at once, also across holds begun right after a
+// release (whose helpers may not have returned); and that released
+// helpers return.
 func TestCrewShare(t *testing.T) {
 	c := &crew{helpers: 2}
+	var busy [3]atomic.Bool // workers in a call
 	check := func(c *crew, stage string, n, helpers int) {
 		calls := make([]atomic.Int32, n)
-		var bad atomic.Bool
+		var bad, twice atomic.Bool
 		var slow atomic.Int32 // calls still running
 		c.share(n, helpers, func(worker, i int) {
 			slow.Add(1)
 			defer slow.Add(-1)
 			if worker < 0 || worker > helpers {
 				bad.Store(true)
+				return
 			}
+			if !busy[worker].CompareAndSwap(false, true) {
+				twice.Store(true)
+			}
+			defer busy[worker].Store(false)
 			if i%2 == 1 {
 				time.Sleep(100 * time.Microsecond) // a helper's call outlasts this goroutine's
 			}
@@ -320,16 +328,21 @@ func TestCrewShare(t *testing.T) {
 		if bad.Load() {
 			t.Errorf("%s n=%d helpers=%d: a call on a worker out of range", stage, n, helpers)
 		}
+		if twice.Load() {
+			t.Errorf("%s n=%d helpers=%d: two goroutines acted as one worker at once", stage, n, helpers)
+		}
 		for i := range calls {
 			if k := calls[i].Load(); k != 1 {
 				t.Errorf("%s n=%d helpers=%d: f(_, %d) called %d times", stage, n, helpers, i, k)
 			}
 		}
 	}
-	for _, stage := range []string{"free", "held", "nested", "released once", "released"} {
+	for _, stage := range []string{"free", "held", "nested", "asleep", "released once", "released"} {
 		switch stage {
 		case "held", "nested":
 			c.hold()
+		case "asleep":
+			time.Sleep(20 * crewSpin) // the helpers go to sleep
 		case "released once", "released":
 			c.release()
 		}
@@ -342,17 +355,18 @@ func TestCrewShare(t *testing.T) {
 			}
 		}
 	}
-	// The helpers have returned when release does, also when held again
-	// at once (helpers left running would be revived by the next hold).
-	for range 100 {
+	// Holds begun right after a release, their helpers racing the last
+	// ones.
+	for range 200 {
 		c.hold()
-		for deadline := time.Now().Add(time.Second); c.running.Load() < int32(c.helpers) && time.Now().Before(deadline); {
-			runtime.Gosched() // until the helpers run
-		}
+		check(c, "again", 4, 2)
 		c.release()
-		if r := c.running.Load(); r != 0 {
-			t.Fatalf("%d helpers running after the release", r)
-		}
+	}
+	for deadline := time.Now().Add(10 * time.Second); c.running.Load() != 0 && time.Now().Before(deadline); {
+		time.Sleep(time.Millisecond)
+	}
+	if r := c.running.Load(); r != 0 {
+		t.Errorf("%d helpers still running 10 s after the last release", r)
 	}
 	var none *crew // no crew: share's
 	none.hold()
