@@ -421,9 +421,11 @@ func Run(ctx context.Context, e *Ensemble, opt RunOptions) (Result, error) {
 			ev = evaluate(e, opt, false)
 			ev.converged = false // progress only
 		}
-		if !reported && (deciding || !decides) {
+		if !reported && (deciding || 2*e.steps >= opt.MaxSteps) {
 			// The final report comes at the next deciding check at the
-			// earliest, or at MaxSteps.
+			// earliest, or at MaxSteps: a run without criteria prepares
+			// for it from half way, with a settled tau, so that a long
+			// run holds the buffers only near its end.
 			at := opt.MaxSteps
 			if decides {
 				at = min(next, at)
