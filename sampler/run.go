@@ -365,7 +365,10 @@ type Result struct {
 // ctx is cancelled, keeping the History (also saved by MarshalBinary, so a
 // restored ensemble resumes with the same decisions). On cancellation it
 // returns after the current step with Status Interrupted and an error
-// wrapping ctx.Err(); the Result is valid in every case.
+// wrapping ctx.Err(); the Result is valid in every case. With fewer
+// ensemble workers than GOMAXPROCS, Run has the final report's buffers
+// made on a goroutine of their own while it samples (prepareFinal),
+// which changes no result.
 func Run(ctx context.Context, e *Ensemble, opt RunOptions) (Result, error) {
 	if opt.MaxSteps <= 0 {
 		return Result{}, fmt.Errorf("sampler: RunOptions.MaxSteps must be > 0, got %d", opt.MaxSteps)
