@@ -359,10 +359,11 @@ const eachParMin = 1 << 16
 
 // heldParMin is eachParMin while the pool's crew is held: its helper is
 // already running, so that handing it a parameter costs about a
-// microsecond. With the crew, the diagnostics of a 6000-step --until run
-// of the SMBHB demo (checks and final report, in-process, median of 30
-// runs) took 6.5-6.9 ms with 2^8 to 2^12, 7.2 ms with 2^16, and 7.5-7.7
-// ms before the crew.
+// microsecond. With the crew's first version (a helper that never
+// slept; the present one measured the same within noise), the
+// diagnostics of a 6000-step --until run of the SMBHB demo (checks and
+// final report, in-process, median of 30 runs) took 6.5-6.9 ms with 2^8
+// to 2^12, 7.2 ms with 2^16, and 7.5-7.7 ms before the crew.
 const heldParMin = 1 << 10
 
 // maxDiagWorkers bounds the goroutines that diagnose parameters at once;

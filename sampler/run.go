@@ -507,7 +507,7 @@ func prepareFinal(e *Ensemble, ev evaluation, at int) {
 		return
 	}
 	k := finalThinning.interval(tau)
-	first := max(e.frozenAt, e.hist.start) // chainState.first
+	first := chainState{h: e.hist, frozenAt: e.frozenAt}.first() // stateOf would copy the acceptances
 	n := (at - first + k - 1) / k * e.hist.walkers
 	if n < prepareMin {
 		return
