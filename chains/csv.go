@@ -26,6 +26,7 @@ import (
 // Append waits when they are all in use. The fsyncs that StartFlush asks
 // for and those of the writeback run on a second goroutine, so that the
 // formatting goes on while the disk works; Flush's waits for the disk.
+// Hold pauses the goroutine while the caller needs every core.
 //
 // Flush waits until everything appended is written and fsynced. An error
 // met in the background (a failed write or fsync) is returned by the next
@@ -43,6 +44,7 @@ type Writer struct {
 	reply chan flushResult // the goroutine's answer to a waiting Flush
 	done  chan struct{}    // closed when the goroutine has returned
 
+	gate  *gate                 // Hold's, shared with the goroutine
 	bgErr atomic.Pointer[error] // the goroutine's first error
 	syncs atomic.Uint64         // flush requests made so far
 	// pending is the number of a StartFlush request that waits in batch
@@ -93,12 +95,44 @@ const (
 // significant digits, and float64 exponents at most three digits).
 const maxValueText = 24
 
+// A gate holds a Writer's goroutine, between blocks of rows and before
+// it starts an fsync, while the caller asks it to (Writer.Hold).
+type gate struct {
+	held atomic.Bool
+	wake chan struct{} // a token after a release, for a goroutine waiting
+}
+
+func newGate() *gate { return &gate{wake: make(chan struct{}, 1)} }
+
+func (g *gate) release() {
+	if g.held.Load() && g.held.Swap(false) {
+		select {
+		case g.wake <- struct{}{}:
+		default: // a token is there already
+		}
+	}
+}
+
+// pass returns once the gate is not held (a nil gate never is). A token
+// left by an earlier release, which no one waited for, only lets it look
+// again.
+func (g *gate) pass() {
+	for g != nil && g.held.Load() {
+		<-g.wake
+	}
+}
+
+// holdRows is the number of rows the goroutine formats between looks at
+// the gate: about 10 us of work.
+const holdRows = 128
+
 // formatter is the state of a Writer's goroutine (and of the fsyncs it
 // has made by syncLoop).
 type formatter struct {
 	path  string
 	f     *os.File
 	fsync func() error // f.Sync
+	gate  *gate
 	ncol  int
 	off   int64  // bytes of the file written so far
 	dirty int64  // bytes written since the last fsync began
@@ -277,6 +311,9 @@ func (fm *formatter) startSync() {
 	if fm.err != nil {
 		return
 	}
+	// Not while the caller holds the goroutine: an fsync costs the kernel
+	// CPU time too.
+	fm.gate.pass()
 	if fm.syncing {
 		fm.owed = true
 		return
@@ -312,7 +349,11 @@ func (fm *formatter) write(rows []float64) {
 	}
 	b := fm.out[:0]
 	ncol := fm.ncol
-	for i := 0; i+ncol <= len(rows); i += ncol {
+	for i, left := 0, 0; i+ncol <= len(rows); i, left = i+ncol, left-1 {
+		if left == 0 {
+			fm.gate.pass()
+			left = holdRows
+		}
 		row := rows[i : i+ncol]
 		if u := math.Float64bits(row[0]); u == fm.firstBits && fm.firstLen > 0 {
 			b = append(b, fm.first[:fm.firstLen]...)
@@ -342,6 +383,7 @@ func (fm *formatter) write(rows []float64) {
 			fm.tails.put(k, tail, b[n:])
 		}
 	}
+	fm.gate.pass()
 	n, err := fm.f.Write(b)
 	fm.off += int64(n)
 	fm.dirty += int64(n)
@@ -424,11 +466,12 @@ func newWriterSync(path string, f *os.File, ncol int, off int64, rows int, sync 
 		free:  make(chan []float64, batchesInFlight),
 		reply: make(chan flushResult, 1),
 		done:  make(chan struct{}),
+		gate:  newGate(),
 	}
 	for range batchesInFlight - 1 {
 		w.free <- make([]float64, 0, rows*ncol)
 	}
-	fm := &formatter{path: path, f: f, fsync: sync, ncol: ncol, off: off, out: make([]byte, 0, rows*ncol*(maxValueText+1))}
+	fm := &formatter{path: path, f: f, fsync: sync, gate: w.gate, ncol: ncol, off: off, out: make([]byte, 0, rows*ncol*(maxValueText+1))}
 	go fm.run(w)
 	return w
 }
@@ -498,6 +541,7 @@ func Resume(path string, columns []string, offset int64) (*Writer, error) {
 // Append returns an error the background met since the last call. It does
 // not allocate.
 func (w *Writer) Append(row []float64) error {
+	w.gate.release()
 	if w.err != nil {
 		return w.err
 	}
@@ -532,6 +576,7 @@ const ensembleColumns = 4
 // Append, it returns an error the background met (rows of this step may
 // then be dropped, with every later one), and it does not allocate.
 func (w *Writer) AppendEnsemble(step int, lnPost, lnLike, pos []float64) error {
+	w.gate.release()
 	if w.err != nil {
 		return w.err
 	}
@@ -588,6 +633,7 @@ func (w *Writer) failed() error {
 // more have been written. It returns an error the goroutine met before; a
 // later call returns an error met by this flush.
 func (w *Writer) StartFlush() error {
+	w.gate.release()
 	if w.err != nil {
 		return w.err
 	}
@@ -620,6 +666,7 @@ func (w *Writer) StartFlush() error {
 // length, the offset at which Resume can continue. It waits for the
 // goroutine, and returns the first error the goroutine met.
 func (w *Writer) Flush() (offset int64, err error) {
+	w.gate.release()
 	if w.err != nil {
 		return 0, w.err
 	}
@@ -639,6 +686,17 @@ func (w *Writer) Flush() (offset int64, err error) {
 	}
 	return r.off, nil
 }
+
+// Hold asks the background goroutine to stop formatting, within about
+// holdRows rows, until Release or the next call of another method (which
+// may need it to go on): a caller about to run work that wants every core
+// for a short while, such as a run's convergence check, has the core the
+// goroutine would share with it. The rows already handed over wait, in
+// order; nothing is lost or reordered.
+func (w *Writer) Hold() { w.gate.held.Store(true) }
+
+// Release ends a Hold: the goroutine goes on with the rows it holds.
+func (w *Writer) Release() { w.gate.release() }
 
 // Close flushes and closes the file and stops the goroutine, also after an
 // error. Later calls to any method return an error.

@@ -591,3 +591,93 @@ func closeAndCompare(t *testing.T, w *Writer, p string, want []byte, what string
 		t.Fatalf("%sfile differs from strconv's formatting (%d vs %d bytes)%s", what, len(got), len(want), firstDiff(got, want))
 	}
 }
+
+// TestWriterHold: while held, the goroutine writes none of the rows
+// handed to it (its batches wait in order); Release lets it go on, and
+// Flush or Append end a hold by themselves, so a caller that forgets to
+// release does not wait forever. The file then holds exactly strconv's
+// text, also after many holds and releases interleaved with appends.
+func TestWriterHold(t *testing.T) {
+	const batch = 5
+	size := func(p string) int64 {
+		t.Helper()
+		st, err := os.Stat(p)
+		if err != nil {
+			t.Fatal(err)
+		}
+		return st.Size()
+	}
+	t.Run("held", func(t *testing.T) {
+		p := filepath.Join(t.TempDir(), "c.csv")
+		w := createBatched(t, p, cols, batch)
+		want := []byte("# step,walker,ln_post,ln_like,log10_A,gamma\n")
+		if _, err := w.Flush(); err != nil {
+			t.Fatal(err)
+		}
+		w.Hold()
+		// Batches handed over as Append does, without a call that ends
+		// the hold.
+		for b := range 3 {
+			rows := <-w.free
+			for k := range batch {
+				r := row(b, k)
+				rows = append(rows, r...)
+				want = strconvRows(want, r)
+			}
+			w.work <- message{rows: rows, sync: b == 2, seq: w.syncs.Add(1)}
+		}
+		// A goroutine that ignored the hold writes within microseconds.
+		time.Sleep(50 * time.Millisecond)
+		if n := size(p); n != int64(len("# step,walker,ln_post,ln_like,log10_A,gamma\n")) {
+			t.Fatalf("held writer wrote: file length %d", n)
+		}
+		w.Release()
+		deadline := time.Now().Add(10 * time.Second)
+		for size(p) != int64(len(want)) {
+			if time.Now().After(deadline) { // ends the test; measures nothing
+				t.Fatalf("released writer did not write its batches: file length %d, want %d", size(p), len(want))
+			}
+			time.Sleep(time.Millisecond)
+		}
+		w.Hold()
+		r := row(9, 0)
+		want = strconvRows(want, r)
+		if err := w.Append(r); err != nil { // ends the hold
+			t.Fatal(err)
+		}
+		w.Hold()
+		if off, err := w.Flush(); err != nil || off != int64(len(want)) { // ends the hold
+			t.Fatalf("Flush of a held writer: offset %d, err %v; want %d", off, err, len(want))
+		}
+		w.Hold()
+		closeAndCompare(t, w, p, want, "after holds")
+	})
+	t.Run("interleaved", func(t *testing.T) {
+		p := filepath.Join(t.TempDir(), "c.csv")
+		w := createBatched(t, p, cols, batch)
+		want := []byte("# step,walker,ln_post,ln_like,log10_A,gamma\n")
+		rng := rand.New(rand.NewPCG(1, 2))
+		for step := range 400 {
+			for k := range 3 {
+				r := row(step, k)
+				if err := w.Append(r); err != nil {
+					t.Fatal(err)
+				}
+				want = strconvRows(want, r)
+			}
+			switch rng.IntN(4) {
+			case 0:
+				w.Hold()
+				runtime.Gosched()
+				w.Release()
+			case 1:
+				w.Hold()
+			case 2:
+				if err := w.StartFlush(); err != nil {
+					t.Fatal(err)
+				}
+			}
+		}
+		closeAndCompare(t, w, p, want, "interleaved holds")
+	})
+}

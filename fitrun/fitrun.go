@@ -181,6 +181,16 @@ func Run(ctx context.Context, p Problem, s Settings) (*Result, error) {
 	res, runErr := sampler.Run(ctx, ens, sampler.RunOptions{
 		MaxSteps: s.Steps, Burn: s.Burn, Thin: s.Thin, Until: s.Until,
 		CheckEvery: checkEvery(s.Steps), OnStep: onStep, OnCheck: rep.Check,
+		// The writer's goroutine formats on the core the diagnostics'
+		// second goroutine wants while the ensemble waits for them; it
+		// catches up while the ensemble samples.
+		Diagnosing: func(on bool) {
+			if on {
+				w.Hold()
+			} else {
+				w.Release()
+			}
+		},
 	})
 	sampled := time.Now()
 	if runErr != nil && !errors.Is(runErr, context.Canceled) {

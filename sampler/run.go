@@ -279,6 +279,14 @@ type RunOptions struct {
 	OnStep func(e *Ensemble) error
 	// OnCheck, if not nil, is called after every convergence check.
 	OnCheck func(Progress)
+	// Diagnosing, if not nil, is called with true before each evaluation
+	// of the chain (a check, or the final report) and with false after it.
+	// The evaluation runs on two goroutines on a machine with two or more
+	// cores, while the ensemble waits for it: a caller whose own
+	// background work would share those cores (a writer formatting the
+	// chain on a goroutine of its own, say) can hold that work meanwhile.
+	// OnStep is not called between the two calls.
+	Diagnosing func(on bool)
 }
 
 // Progress is what Run reports at every check.
@@ -403,7 +411,9 @@ func Run(ctx context.Context, e *Ensemble, opt RunOptions) (Result, error) {
 		st := stateOf(e)
 		for s := e.hist.start + 1; s < e.steps; s++ {
 			if isCheckStep(s, opt.CheckEvery) && s >= next {
+				diagnosing(opt, true)
 				_, _, next = decideAt(st.at(s), opt)
+				diagnosing(opt, false)
 			}
 		}
 		spent += time.Since(t)
@@ -418,6 +428,7 @@ func Run(ctx context.Context, e *Ensemble, opt RunOptions) (Result, error) {
 		}
 		t := time.Now()
 		defer func() { lastCheck = time.Now() }()
+		diagnosing(opt, true)
 		if deciding {
 			ev, reported, next = decideAt(stateOf(e), opt)
 		} else {
@@ -435,6 +446,7 @@ func Run(ctx context.Context, e *Ensemble, opt RunOptions) (Result, error) {
 			}
 			prepareFinal(e, ev, at)
 		}
+		diagnosing(opt, false)
 		spent += time.Since(t)
 		if opt.OnCheck != nil {
 			p := ev.progress(e, opt, t0, s0)
@@ -472,7 +484,9 @@ func Run(ctx context.Context, e *Ensemble, opt RunOptions) (Result, error) {
 	// MaxSteps it is also the last check.
 	if !reported {
 		tf := time.Now()
+		diagnosing(opt, true)
 		ev = evaluate(e, opt, true)
+		diagnosing(opt, false)
 		spent += time.Since(tf)
 		if status == MaxStepsReached {
 			if ev.converged {
@@ -489,6 +503,13 @@ func Run(ctx context.Context, e *Ensemble, opt RunOptions) (Result, error) {
 		LadderFrozenAt: e.frozenAt, Betas: e.Betas(), SwapAcceptance: e.SwapAcceptance(),
 		DiagnosticsTime: spent,
 	}, runErr
+}
+
+// diagnosing calls opt.Diagnosing(on) if it is set.
+func diagnosing(opt RunOptions, on bool) {
+	if opt.Diagnosing != nil {
+		opt.Diagnosing(on)
+	}
 }
 
 // prepareFinal has the diagnostics' buffers prepared (diagPool.prepare)

@@ -235,3 +235,101 @@ func TestDecideAtShownRhat(t *testing.T) {
 		}
 	}
 }
+
+// TestRunDiagnosing: Run calls Diagnosing(true) before and
+// Diagnosing(false) after every evaluation, in pairs, never with OnStep
+// in between, and each OnCheck follows a pair; the run is the same as
+// without the hook. A converging run (its last evaluation a deciding check
+// with the final report), one that reaches MaxSteps (a final report of its
+// own) and a resumed one (whose decisions are repeated) are followed.
+func TestRunDiagnosing(t *testing.T) {
+	g := newGaussTarget(t, []float64{0, 1}, [][]float64{{1, 0.5}, {0.5, 2}})
+	for _, c := range []struct {
+		name   string
+		until  Criteria
+		resume int // steps run first, then resumed; 0: one run
+	}{
+		{"converges", Criteria{ESS: 2000}, 0},
+		{"max steps", Criteria{ESS: 1e9}, 0},
+		{"no criteria", Criteria{}, 0},
+		{"resumed", Criteria{ESS: 2000}, 3000},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			resumedAt := 0 // events before the resumed Run
+			run := func(hook bool) (Result, string) {
+				e, err := New(g, Config{Walkers: 16, Seed: 3})
+				if err != nil {
+					t.Fatal(err)
+				}
+				defer e.Close()
+				var events []byte
+				opt := RunOptions{MaxSteps: 12000, Burn: -1, CheckEvery: 500, Until: c.until,
+					OnStep:  func(*Ensemble) error { events = append(events, 's'); return nil },
+					OnCheck: func(Progress) { events = append(events, 'c') },
+				}
+				if hook {
+					opt.Diagnosing = func(on bool) {
+						if on {
+							events = append(events, '(')
+						} else {
+							events = append(events, ')')
+						}
+					}
+				}
+				if c.resume > 0 {
+					first := opt
+					first.MaxSteps = c.resume
+					if _, err := Run(context.Background(), e, first); err != nil {
+						t.Fatal(err)
+					}
+					if hook {
+						resumedAt = len(events)
+					}
+				}
+				res, err := Run(context.Background(), e, opt)
+				if err != nil {
+					t.Fatal(err)
+				}
+				return res, string(events)
+			}
+			res, events := run(true)
+			plain, _ := run(false)
+			if res.Steps != plain.Steps || res.Burn != plain.Burn || res.Report.MinESS != plain.Report.MinESS || res.Report.MaxRhat != plain.Report.MaxRhat {
+				t.Errorf("with the hook: %d steps, burn %d, ESS %v, R-hat %v; without: %d, %d, %v, %v",
+					res.Steps, res.Burn, res.Report.MinESS, res.Report.MaxRhat, plain.Steps, plain.Burn, plain.Report.MinESS, plain.Report.MaxRhat)
+			}
+			open, pairs := false, 0
+			for i, ev := range events {
+				switch ev {
+				case '(':
+					if open {
+						t.Fatalf("event %d: Diagnosing(true) twice in a row: %s", i, events)
+					}
+					open = true
+				case ')':
+					if !open {
+						t.Fatalf("event %d: Diagnosing(false) without Diagnosing(true): %s", i, events)
+					}
+					open = false
+					pairs++
+				case 's':
+					if open {
+						t.Fatalf("event %d: OnStep while diagnosing", i)
+					}
+				case 'c':
+					if open || i == 0 || events[i-1] != ')' {
+						t.Fatalf("event %d: OnCheck not right after an evaluation: %q", i, events[max(0, i-5):i+1])
+					}
+				}
+			}
+			checks := strings.Count(events, "c")
+			if open || pairs < checks || pairs == 0 {
+				t.Errorf("%d evaluations (open at the end: %v) for %d checks", pairs, open, checks)
+			}
+			// The resumed Run repeats its decisions before its first step.
+			if c.resume > 0 && !strings.HasPrefix(events[resumedAt:], "()") {
+				t.Errorf("the resumed run begins with %q, want its repeated decisions", events[resumedAt:min(len(events), resumedAt+8)])
+			}
+		})
+	}
+}

@@ -332,6 +332,15 @@ func fitSharesOnce(p *likelihood.Posterior, steps int, write bool) (shares, erro
 	res, err := sampler.Run(context.Background(), e, sampler.RunOptions{
 		MaxSteps: steps, Burn: -1, CheckEvery: max(100, min(500, steps/10)),
 		OnCheck: func(sampler.Progress) {}, // fit always reports progress
+		Diagnosing: func(on bool) { // as fitrun holds its writer
+			switch {
+			case !write:
+			case on:
+				w.Hold()
+			default:
+				w.Release()
+			}
+		},
 		OnStep: func(en *sampler.Ensemble) error {
 			if !write {
 				return nil
