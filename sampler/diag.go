@@ -381,8 +381,8 @@ type diagPool struct {
 	workers []*diagScratch
 	tab     scoreTable       // shared by the workers' rankers
 	crew    crew             // the workers' goroutines besides the caller's
-	ready   chan []bufferSet // buffers of the last prepare, for the next hold; nil if none
-	pending int              // values per parameter the buffers on ready hold
+	ready   chan prepared // buffers of the last prepare, for the next hold; nil if none
+	pending int           // values per parameter the buffers on ready hold
 }
 
 func newDiagPool() *diagPool {
@@ -404,9 +404,12 @@ func newDiagPool() *diagPool {
 func (p *diagPool) hold() {
 	if p.ready != nil {
 		select {
-		case bufs := <-p.ready:
+		case pr := <-p.ready:
+			if cap(pr.scores) > cap(p.tab.scores) {
+				p.tab.scores, p.tab.size = pr.scores, 0 // filled again at its next set
+			}
 			for i, sc := range p.workers {
-				b := &bufs[i]
+				b := &pr.sets[i]
 				sc.dev, sc.rk.keys = larger(sc.dev, b.dev), larger(sc.rk.keys, b.keys)
 				sc.rk.idx, sc.rk.tmpI = larger(sc.rk.idx, b.idx), larger(sc.rk.tmpI, b.tmpI)
 			}
@@ -426,6 +429,13 @@ type bufferSet struct {
 	idx, tmpI []int32
 }
 
+// prepared is what prepare makes: every worker's buffers and one for the
+// shared scores.
+type prepared struct {
+	sets   []bufferSet
+	scores []float64
+}
+
 // larger returns the buffer of larger capacity, cut to length 0 if it is
 // b; a's contents are not needed.
 func larger[T any](a, b []T) []T {
@@ -436,7 +446,9 @@ func larger[T any](a, b []T) []T {
 }
 
 // prepare makes, on a goroutine of its own, buffers with room for an
-// evaluation of n values per parameter for every worker, writing a zero
+// evaluation of n values per parameter for every worker and for the
+// shared scores (a score table is filled afresh for each size, and the
+// final report's is the largest), writing a zero
 // into every page so that the evaluation finds them in memory: freshly
 // allocated memory costs about 0.5 ms per MB to touch here (buffers
 // touched in advance took 3.8 ms off the diagnostics of a 28000-step
@@ -453,10 +465,11 @@ func (p *diagPool) prepare(n int) {
 	for _, sc := range p.workers {
 		room = room && cap(sc.dev) >= n && cap(sc.rk.keys) >= n && cap(sc.rk.idx) >= n && cap(sc.rk.tmpI) >= n
 	}
+	room = room && cap(p.tab.scores) >= n
 	if room {
 		return
 	}
-	ready := make(chan []bufferSet, 1)
+	ready := make(chan prepared, 1)
 	p.ready, p.pending = ready, n
 	workers := len(p.workers)
 	go func() {
@@ -464,7 +477,7 @@ func (p *diagPool) prepare(n int) {
 		for i := range bufs {
 			bufs[i] = bufferSet{dev: touched[float64](n), keys: touched[uint64](n), idx: touched[int32](n), tmpI: touched[int32](n)}
 		}
-		ready <- bufs
+		ready <- prepared{sets: bufs, scores: touched[float64](n)}
 	}()
 }
 

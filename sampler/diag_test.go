@@ -457,6 +457,9 @@ func TestPrepare(t *testing.T) {
 			t.Errorf("worker %d: capacities %d %d %d %d after a prepare of %d", i, cap(sc.dev), cap(sc.rk.keys), cap(sc.rk.idx), cap(sc.rk.tmpI), n)
 		}
 	}
+	if cap(p.tab.scores) < n || p.tab.size != 0 {
+		t.Errorf("shared scores: capacity %d, size %d after a prepare of %d; want the room, and no size until filled", cap(p.tab.scores), p.tab.size, n)
+	}
 	got := p.diagnose(v, nil, nil, true, true, 1)
 	p.release()
 	if !reflect.DeepEqual(got, want) {
