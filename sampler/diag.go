@@ -379,8 +379,8 @@ const maxDiagWorkers = 2
 // and is reused by every check. A diagPool is not safe for concurrent use.
 type diagPool struct {
 	workers []*diagScratch
-	tab     scoreTable       // shared by the workers' rankers
-	crew    crew             // the workers' goroutines besides the caller's
+	tab     scoreTable    // shared by the workers' rankers
+	crew    crew          // the workers' goroutines besides the caller's
 	ready   chan prepared // buffers of the last prepare, for the next hold; nil if none
 	pending int           // values per parameter the buffers on ready hold
 }
