@@ -196,6 +196,25 @@ func Run(ctx context.Context, p Problem, s Settings) (*Result, error) {
 	if runErr != nil && !errors.Is(runErr, context.Canceled) {
 		return nil, runErr
 	}
+	var post []float64
+	var n int
+	var sum []rundir.ParamSummary
+	if runErr == nil {
+		// The posterior's files first: meanwhile the writer's goroutine
+		// writes the chain's last rows, which it held during the final
+		// report, and the checkpoint below waits for it.
+		if err := w.StartFlush(); err != nil {
+			return nil, err
+		}
+		post, n = rundir.PosteriorSamples(res, dim)
+		if err := chains.WriteNPY(paths.Posterior, n, dim, post); err != nil {
+			return nil, err
+		}
+		sum = FitSummary(p.Names, post, n, dim)
+		if err := rundir.WriteJSON(paths.Summary, rundir.Summary{Params: sum, Samples: n, Burn: res.Burn, Thin: res.Thin}); err != nil {
+			return nil, err
+		}
+	}
 	if err := writeCheckpoint(ens); err != nil {
 		return nil, fmt.Errorf("checkpoint: %w", err)
 	}
@@ -212,14 +231,6 @@ func Run(ctx context.Context, p Problem, s Settings) (*Result, error) {
 		return nil, fmt.Errorf("interrupted at step %d; the checkpoint is saved: continue with the same command and --resume", ens.Steps())
 	}
 
-	post, n := rundir.PosteriorSamples(res, dim)
-	if err := chains.WriteNPY(paths.Posterior, n, dim, post); err != nil {
-		return nil, err
-	}
-	sum := FitSummary(p.Names, post, n, dim)
-	if err := rundir.WriteJSON(paths.Summary, rundir.Summary{Params: sum, Samples: n, Burn: res.Burn, Thin: res.Thin}); err != nil {
-		return nil, err
-	}
 	meta.Status = res.Status.String()
 	meta.End = time.Now()
 	meta.Diagnostics = res.Report
