@@ -36,6 +36,7 @@ import (
 	"tautline/models/binaries"
 	"tautline/models/cosmicstrings"
 	"tautline/models/gw"
+	"tautline/rundir"
 	"tautline/sampler"
 )
 
@@ -111,7 +112,7 @@ func run(steps int, e2e bool, py string, cmp bool, before string) error {
 		if err != nil {
 			return err
 		}
-		fmt.Printf("fit %-8s %d steps x 32 walkers: %.2f s; diagnostics %.1f %% of this sampling phase (stricter than the goal, which counts the whole command), chain.csv %.1f %% of the caller's time, %.1f %% added wall time (best of %d runs with and %d without, alternated; goal <= 10 %%)\n",
+		fmt.Printf("fit %-8s %d steps x 32 walkers: %.2f s; diagnostics %.1f %% of this run of the sampler and posterior.npy (stricter than the goal, which counts the whole command), chain.csv %.1f %% of the caller's time, %.1f %% added wall time (best of %d runs with and %d without, alternated; goal <= 10 %%)\n",
 			c.name, steps, sh.total, 100*sh.diag/sh.total, 100*sh.csv/sh.total, 100*sh.csvWall/sh.total, fitPairs, fitPairs)
 		csvAdded[c.name] = sh.csvWall
 	}
@@ -280,9 +281,10 @@ const (
 )
 
 // fitShares runs what `fit --workers 1 --checkpoint-every 0` runs for the
-// sampling phase, Run with a chain.csv writer on every step (and a
-// non-waiting flush every flushEvery steps, as by default), and the same
-// run without the writer, fitPairs times each in alternation. It returns
+// sampling phase and posterior.npy, Run with a chain.csv writer on
+// every step (and a non-waiting flush every flushEvery steps, as by
+// default, the writer held during the diagnostics), and the same run
+// without the writer, fitPairs times each in alternation. It returns
 // the shares of the fastest run with the writer: csv is the time spent in
 // the writer's calls, csvWall the wall time the writer adds, that run's
 // time less the fastest run's without the writer (the writer formats and
@@ -359,6 +361,24 @@ func fitSharesOnce(p *likelihood.Posterior, steps int, write bool) (shares, erro
 			return nil
 		},
 	})
+	if err != nil {
+		return shares{}, err
+	}
+	// What fitrun does next: ask the writer to flush without waiting,
+	// write the posterior's files (with or without the writer alike;
+	// here posterior.npy, the larger part, fitrun's summary being the
+	// command's own), then wait for the writer (its checkpoint's flush,
+	// and Close).
+	if write {
+		t := time.Now()
+		err = w.StartFlush()
+		csv += time.Since(t)
+	}
+	if err == nil {
+		dim := len(p.FreeNames())
+		post, n := rundir.PosteriorSamples(res, dim)
+		err = chains.WriteNPY(filepath.Join(dir, "posterior.npy"), n, dim, post)
+	}
 	if write {
 		t := time.Now()
 		if cerr := w.Close(); err == nil && cerr != nil {
