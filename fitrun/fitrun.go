@@ -183,7 +183,8 @@ func Run(ctx context.Context, p Problem, s Settings) (*Result, error) {
 		CheckEvery: checkEvery(s.Steps), OnStep: onStep, OnCheck: rep.Check,
 		// The writer's goroutine formats on the core the diagnostics'
 		// second goroutine wants while the ensemble waits for them; it
-		// catches up while the ensemble samples.
+		// catches up while the ensemble samples, and after the final
+		// report while the posterior's files are written (below).
 		Diagnosing: func(on bool) {
 			if on {
 				w.Hold()
