@@ -605,7 +605,7 @@ func BenchmarkAppendCaller(b *testing.B) {
 	const dim = 2
 	for _, name := range []string{"Append", "AppendEnsemble", "Append#2", "AppendEnsemble#2"} {
 		b.Run(name, func(b *testing.B) {
-			w := &Writer{ncol: len(cols), work: make(chan message, 2*batchesInFlight), free: make(chan []float64, batchesInFlight), done: make(chan struct{})}
+			w := &Writer{ncol: len(cols), work: make(chan message, 2*batchesInFlight), free: make(chan []float64, batchesInFlight), done: make(chan struct{}), gate: newGate()}
 			w.batch = make([]float64, 0, batchFloats/len(cols)*len(cols))
 			for range batchesInFlight - 1 {
 				w.free <- make([]float64, 0, cap(w.batch))
