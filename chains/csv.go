@@ -24,16 +24,17 @@ import (
 // the bytes are exactly those of formatting every value on the spot. A
 // fixed number of batches (batchesInFlight) circulate between the two,
 // which bounds the memory and how far the goroutine may fall behind:
-// Append waits when they are all in use. The fsyncs that StartFlush asks
-// for and those of the writeback run on a second goroutine, so that the
-// formatting goes on while the disk works; Flush's waits for the disk.
+// Append waits when they are all in use. The writebacks to the disk that
+// StartFlush asks for and those the goroutine starts on its own run on a
+// second goroutine, so that the formatting goes on while the disk works;
+// they do not wait for the disk, whereas Flush fsyncs and waits.
 // Hold pauses the goroutine while the caller needs every core. Handing a
 // batch over never wakes the goroutine: when idle, it looks for work at
 // short intervals (idlePoll), and only the calls that wait for it (Flush,
 // Close, an Append that finds no free batch) prompt it.
 //
 // Flush waits until everything appended is written and fsynced. An error
-// met in the background (a failed write or fsync) is returned by the next
+// met in the background (a failed write or writeback) is returned by the next
 // Append, StartFlush, Flush or Close; rows appended after it are dropped.
 // A Writer is not safe for concurrent use. Close must be called, also after
 // an error, to stop the goroutines and close the file.
@@ -62,9 +63,9 @@ type Writer struct {
 }
 
 // A message hands the goroutine a batch of rows (rows may be empty) and
-// says what to do once they are written: nothing, fsync (sync, for the
-// flush request number seq; a later request makes it redundant), or fsync
-// and answer on reply (wait).
+// says what to do once they are written: nothing, start a writeback
+// (sync, for the flush request number seq; a later request makes it
+// redundant), or fsync and answer on reply (wait).
 type message struct {
 	rows       []float64
 	sync, wait bool
@@ -86,10 +87,10 @@ type flushResult struct {
 // With 8 batches (512 KiB) the smbhb demo's caller waited for a free batch
 // about 5 ms per 20000-step run, with 64 under 1 ms.
 //
-// writebackBytes is how much the goroutine writes before it has the file
-// fsynced on its own when it has nothing else to do, so that the data
-// reach the disk while the caller works and the fsync of the next Flush or
-// of Close is short.
+// writebackBytes is how much the goroutine writes before it starts a
+// writeback of the file on its own when it has nothing else to do, so
+// that the data reach the disk while the caller works and the fsync of the
+// next Flush or of Close is short.
 const (
 	batchFloats     = 1 << 13
 	batchesInFlight = 64
@@ -116,7 +117,7 @@ const (
 const maxValueText = 24
 
 // A gate holds a Writer's goroutine, between blocks of rows and before
-// it starts an fsync, while the caller asks it to (Writer.Hold).
+// it starts a writeback, while the caller asks it to (Writer.Hold).
 type gate struct {
 	held atomic.Bool
 	wake chan struct{} // a token after a release, for a goroutine waiting
@@ -147,25 +148,27 @@ func (g *gate) pass() {
 // ensemble that BenchmarkFormatter measured here, short against a check.
 const holdRows = 128
 
-// formatter is the state of a Writer's goroutine (and of the fsyncs it
-// has made by syncLoop).
+// formatter is the state of a Writer's goroutine (and of the writebacks
+// it has made by writebackLoop).
 type formatter struct {
-	path  string
-	f     *os.File
-	fsync func() error // f.Sync
-	gate  *gate
-	ncol  int
-	off   int64  // bytes of the file written so far
-	dirty int64  // bytes written since the last fsync began
-	out   []byte // a batch's text; its capacity fits the longest batch
-	err   error  // first write or fsync error; later batches are dropped
+	path      string
+	f         *os.File
+	fsync     func() error // f.Sync, for Flush
+	writeback func() error // newWriteback(f, f.Sync), for the background
+	gate      *gate
+	ncol      int
+	off       int64  // bytes of the file written so far
+	dirty     int64  // bytes written since the last writeback or fsync began
+	out       []byte // a batch's text; its capacity fits the longest batch
+	err       error  // first write, writeback or fsync error; later batches are dropped
 
-	// kick asks syncLoop for an fsync, whose error comes back on result;
-	// syncing says that one is in progress, owed that another must follow
-	// it (rows were written after it began that a flush request covers).
-	kick          chan struct{}
-	result        chan error
-	syncing, owed bool
+	// kick asks writebackLoop for a writeback, whose error comes back on
+	// result; writingBack says that one is in progress, owed that another
+	// must follow it (rows were written after it began that a flush
+	// request covers).
+	kick              chan struct{}
+	result            chan error
+	writingBack, owed bool
 
 	// The text of the first value of the last row (the step, which all
 	// the rows of an ensemble share): first[:firstLen] is the text of the
@@ -256,26 +259,27 @@ func (mm *memo) put(k int, tail []float64, text []byte) {
 
 // run serves the Writer's messages until work is closed. An error is
 // published in w.bgErr before the batch that met it goes back on w.free,
-// so the Append that takes that batch back sees it; an error of an fsync
-// made in the background (see startSync) is published when it comes back.
+// so the Append that takes that batch back sees it; an error of a
+// writeback made in the background (see startWriteback) is published when
+// it comes back.
 func (fm *formatter) run(w *Writer) {
 	defer close(w.done)
 	fm.kick, fm.result = make(chan struct{}, 1), make(chan error, 1)
-	go syncLoop(fm.fsync, fm.kick, fm.result)
+	go writebackLoop(fm.writeback, fm.kick, fm.result)
 	defer close(fm.kick)
-	defer fm.awaitSync()
+	defer fm.awaitWriteback()
 	look := time.NewTimer(idlePoll)
 	defer look.Stop()
 	wait := idlePoll
 	for {
 		var result <-chan error
-		if fm.syncing {
+		if fm.writingBack {
 			result = fm.result
 		}
 		var m message
 		select {
 		case err := <-result:
-			fm.backgroundSynced(w, err)
+			fm.afterWriteback(w, err)
 			continue
 		case mm, ok := <-w.work:
 			if !ok {
@@ -290,7 +294,7 @@ func (fm *formatter) run(w *Writer) {
 				wait = min(2*wait, idlePollMax)
 			case <-w.nudge:
 			case err := <-result:
-				fm.backgroundSynced(w, err)
+				fm.afterWriteback(w, err)
 			}
 			continue
 		}
@@ -301,11 +305,11 @@ func (fm *formatter) run(w *Writer) {
 		case m.wait:
 			fm.sync()
 		case m.sync && (w.syncs.Load() == m.seq || fm.dirty >= writebackBytes):
-			// A later request, made already, would fsync for both; but
+			// A later request, made already, would write back for both; but
 			// not if its turn could be put off again and again.
-			fm.startSync()
-		case fm.dirty >= writebackBytes && len(w.work) == 0 && !fm.syncing:
-			fm.startSync() // on its own, while idle
+			fm.startWriteback()
+		case fm.dirty >= writebackBytes && len(w.work) == 0 && !fm.writingBack:
+			fm.startWriteback() // on its own, while idle
 		}
 		fm.publish(w)
 		if m.rows != nil {
@@ -317,12 +321,12 @@ func (fm *formatter) run(w *Writer) {
 	}
 }
 
-// backgroundSynced records the outcome of the fsync syncLoop made, and
+// afterWriteback records the outcome of the writeback writebackLoop made, and
 // starts the next one if it is owed or the writeback asks for one.
-func (fm *formatter) backgroundSynced(w *Writer, err error) {
-	fm.synced(err)
+func (fm *formatter) afterWriteback(w *Writer, err error) {
+	fm.writebackDone(err)
 	if fm.owed || fm.dirty >= writebackBytes && len(w.work) == 0 {
-		fm.startSync()
+		fm.startWriteback()
 	}
 	fm.publish(w)
 }
@@ -335,46 +339,48 @@ func (fm *formatter) publish(w *Writer) {
 	}
 }
 
-// syncLoop calls fsync once for every value received on kick and sends
-// the outcome on result, until kick is closed.
-func syncLoop(fsync func() error, kick <-chan struct{}, result chan<- error) {
+// writebackLoop calls writeback once for every value received on kick and
+// sends the outcome on result, until kick is closed.
+func writebackLoop(writeback func() error, kick <-chan struct{}, result chan<- error) {
 	for range kick {
-		result <- fsync()
+		result <- writeback()
 	}
 }
 
-// startSync has everything written so far fsynced in the background, by
-// syncLoop, while the goroutine goes on formatting and writing (an fsync
-// waits for the disk, about a millisecond per MB, which would otherwise
-// hold up the batches): at once, or, when an fsync is in progress (begun
-// before the last writes), as soon as that one is done.
-func (fm *formatter) startSync() {
+// startWriteback has everything written so far written back in the
+// background (see newWriteback), by writebackLoop, while the goroutine
+// goes on formatting and writing (a writeback may wait for the disk's
+// queue, and the fsync that stands in for it where there is none waits
+// for the disk, about a millisecond per MB): at once, or, when a
+// writeback is in progress (begun before the last writes), as soon as
+// that one is done. The data are durable once a Flush has fsynced them.
+func (fm *formatter) startWriteback() {
 	if fm.err != nil {
 		return
 	}
-	// Not while the caller holds the goroutine: an fsync costs the kernel
-	// CPU time too.
+	// Not while the caller holds the goroutine: a writeback costs the
+	// kernel CPU time too.
 	fm.gate.pass()
-	if fm.syncing {
+	if fm.writingBack {
 		fm.owed = true
 		return
 	}
-	fm.syncing, fm.owed, fm.dirty = true, false, 0
-	fm.kick <- struct{}{} // room: syncLoop has sent its last result
+	fm.writingBack, fm.owed, fm.dirty = true, false, 0
+	fm.kick <- struct{}{} // room: writebackLoop has sent its last result
 }
 
-// synced records the outcome of a background fsync.
-func (fm *formatter) synced(err error) {
-	fm.syncing = false
+// writebackDone records the outcome of a background writeback.
+func (fm *formatter) writebackDone(err error) {
+	fm.writingBack = false
 	if err != nil && fm.err == nil {
 		fm.err = fmt.Errorf("chains: %s: %w", fm.path, err)
 	}
 }
 
-// awaitSync waits for the background fsync in progress, if any.
-func (fm *formatter) awaitSync() {
-	if fm.syncing {
-		fm.synced(<-fm.result)
+// awaitWriteback waits for the background writeback in progress, if any.
+func (fm *formatter) awaitWriteback() {
+	if fm.writingBack {
+		fm.writebackDone(<-fm.result)
 	}
 }
 
@@ -434,9 +440,9 @@ func (fm *formatter) write(rows []float64) {
 }
 
 // sync fsyncs everything written so far and waits for it, after the
-// background fsync in progress (whose error it reports too).
+// background writeback in progress (whose error it reports too).
 func (fm *formatter) sync() {
-	fm.awaitSync()
+	fm.awaitWriteback()
 	if fm.err != nil {
 		return
 	}
@@ -493,11 +499,12 @@ func Create(path string, columns []string) (*Writer, error) {
 // newWriter starts the Writer of f, whose length is off, with batches of
 // rows rows, and its goroutine.
 func newWriter(path string, f *os.File, ncol int, off int64, rows int) *Writer {
-	return newWriterSync(path, f, ncol, off, rows, f.Sync)
+	return newWriterSync(path, f, ncol, off, rows, f.Sync, newWriteback(f, f.Sync))
 }
 
-// newWriterSync is newWriter with sync (f.Sync but in tests) to fsync f.
-func newWriterSync(path string, f *os.File, ncol int, off int64, rows int, sync func() error) *Writer {
+// newWriterSync is newWriter with sync to fsync f and writeback to start
+// a writeback of f (f.Sync and newWriteback(f, f.Sync) but in tests).
+func newWriterSync(path string, f *os.File, ncol int, off int64, rows int, sync, writeback func() error) *Writer {
 	w := &Writer{
 		path:  path,
 		f:     f,
@@ -513,7 +520,7 @@ func newWriterSync(path string, f *os.File, ncol int, off int64, rows int, sync 
 	for range batchesInFlight - 1 {
 		w.free <- make([]float64, 0, rows*ncol)
 	}
-	fm := &formatter{path: path, f: f, fsync: sync, gate: w.gate, ncol: ncol, off: off, out: make([]byte, 0, rows*ncol*(maxValueText+1))}
+	fm := &formatter{path: path, f: f, fsync: sync, writeback: writeback, gate: w.gate, ncol: ncol, off: off, out: make([]byte, 0, rows*ncol*(maxValueText+1))}
 	go fm.run(w)
 	return w
 }
@@ -686,13 +693,16 @@ func (w *Writer) failed() error {
 	return nil
 }
 
-// StartFlush is Flush without the wait: it asks the goroutine to write
-// everything appended so far and fsync the file, and returns at once. The
-// rows go with the request now if the goroutine has a batch to give back,
-// else (the goroutine is behind) with the batch once it is full, or with
-// the next Flush or Close. Once written they are fsynced for this request,
-// or for a later one already made, or at the latest once writebackBytes
-// more have been written. It returns an error the goroutine met before; a
+// StartFlush is Flush without the wait and without the fsync: it asks the
+// goroutine to write everything appended so far to the file and start
+// its writeback to the disk, and returns at once. Once written, the rows
+// survive the end of the process (a crash, a kill); only a Flush's fsync
+// makes them durable against a crash of the machine. The rows go with the
+// request now if the goroutine has a batch to give back, else (the
+// goroutine is behind) with the batch once it is full, or with the next
+// Flush or Close. Once written they are written back for this request, or
+// for a later one already made, or at the latest once writebackBytes more
+// have been written. It returns an error the goroutine met before; a
 // later call returns an error met by this flush.
 func (w *Writer) StartFlush() error {
 	w.gate.release()

@@ -28,7 +28,9 @@
 //	x = numpy.genfromtxt("chain.csv", delimiter=",", names=True)  # named columns
 //
 // Writer appends rows through a buffer; Flush makes everything appended so
-// far durable and returns the file length, which a checkpoint records.
+// far durable (fsync) and returns the file length, which a checkpoint
+// records; StartFlush only has the rows written and their writeback to the
+// disk started, without waiting.
 // After a crash, Resume truncates the file back to that length and appends
 // from there, so an interrupted-and-resumed run ends byte-identical to an
 // uninterrupted one (given a deterministic sampler).

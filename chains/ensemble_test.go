@@ -418,10 +418,11 @@ func pipeWriter(t *testing.T, batch int) (*Writer, string) {
 	return w, name
 }
 
-// TestBackgroundSyncErrors: an fsync made in the background, for a
-// StartFlush or on its own after writebackBytes, that fails is returned
-// by a later Append, StartFlush, Flush or Close, wrapped and naming the
-// file, and sticks; so is the fsync of a Flush.
+// TestBackgroundSyncErrors: a writeback made in the background, for a
+// StartFlush or on its own after writebackBytes, that fails (on a pipe,
+// which sync_file_range refuses, the fsync that stands in for it) is
+// returned by a later Append, StartFlush, Flush or Close, wrapped and
+// naming the file, and sticks; so is the fsync of a Flush.
 func TestBackgroundSyncErrors(t *testing.T) {
 	waitErr := func(w *Writer) error {
 		// Wait until the goroutine has met the error (the wait ends the
@@ -504,12 +505,13 @@ func fuzzValue(ctl byte, bits uint64, prev float64) float64 {
 	return float64(int64(bits)) / 1e3
 }
 
-// TestBackgroundSyncs follows the fsyncs of a Writer through its fsync
-// function: a StartFlush whose rows are written while an fsync begun
-// before them is in progress gets an fsync of its own once that one is
-// done, without waiting for a later call; writebackBytes written with no
-// flush request are fsynced on their own; every fsync begins after the
-// rows it is for are in the file.
+// TestBackgroundSyncs follows the writebacks of a Writer through its
+// writeback function: a StartFlush whose rows are written while a
+// writeback begun before them is in progress gets a writeback of its own
+// once that one is done, without waiting for a later call; writebackBytes
+// written with no flush request are written back on their own; every
+// writeback begins after the rows it is for are in the file. None of
+// this fsyncs; Flush does, through the fsync function.
 func TestBackgroundSyncs(t *testing.T) {
 	p := filepath.Join(t.TempDir(), "c.csv")
 	h, _ := header(cols)
@@ -520,19 +522,22 @@ func TestBackgroundSyncs(t *testing.T) {
 	if _, err := f.Write(h); err != nil {
 		t.Fatal(err)
 	}
-	sizes := make(chan int64, 1000) // the file's length as each fsync begins
+	sizes := make(chan int64, 1000) // the file's length as each writeback begins
 	release := make(chan struct{})
-	var calls atomic.Int64
+	var calls, fsyncs atomic.Int64
 	w := newWriterSync(p, f, len(cols), int64(len(h)), 5, func() error {
+		fsyncs.Add(1)
+		return f.Sync()
+	}, func() error {
 		st, err := f.Stat()
 		if err != nil {
 			return err
 		}
 		sizes <- st.Size()
 		if calls.Add(1) == 1 {
-			<-release // the first fsync lasts until the test says
+			<-release // the first writeback lasts until the test says
 		}
-		return f.Sync()
+		return newWriteback(f, f.Sync)()
 	})
 	defer w.Close()
 	next := func(what string) int64 {
@@ -541,7 +546,7 @@ func TestBackgroundSyncs(t *testing.T) {
 		case n := <-sizes:
 			return n
 		case <-time.After(10 * time.Second): // ends the test; measures nothing
-			t.Fatalf("no fsync %s", what)
+			t.Fatalf("no writeback %s", what)
 			return 0
 		}
 	}
@@ -561,14 +566,14 @@ func TestBackgroundSyncs(t *testing.T) {
 		t.Fatal(err)
 	}
 	if n := next("for the first StartFlush"); n != int64(len(want)) {
-		t.Fatalf("first fsync at length %d, want %d", n, len(want))
+		t.Fatalf("first writeback at length %d, want %d", n, len(want))
 	}
 	appendRows(2, 2)
 	if err := w.StartFlush(); err != nil {
 		t.Fatal(err)
 	}
 	// Wait until the rows are written: the goroutine then sees the flush
-	// request with the first fsync still in progress.
+	// request with the first writeback still in progress.
 	for deadline := time.Now().Add(10 * time.Second); ; time.Sleep(time.Millisecond) {
 		if st, err := os.Stat(p); err == nil && st.Size() == int64(len(want)) {
 			break
@@ -579,19 +584,29 @@ func TestBackgroundSyncs(t *testing.T) {
 	}
 	select {
 	case n := <-sizes:
-		t.Fatalf("an fsync (at length %d) began while the first was in progress", n)
+		t.Fatalf("a writeback (at length %d) began while the first was in progress", n)
 	default:
 	}
 	close(release)
-	if n := next("for the StartFlush made during the first fsync"); n != int64(len(want)) {
-		t.Fatalf("second fsync at length %d, want %d", n, len(want))
+	if n := next("for the StartFlush made during the first writeback"); n != int64(len(want)) {
+		t.Fatalf("second writeback at length %d, want %d", n, len(want))
 	}
 	before := len(want)
 	for step := 3; len(want)-before < writebackBytes*3/2; step++ {
 		appendRows(step, 5) // a batch
 	}
 	if n := next("on its own after writebackBytes"); n < int64(before+writebackBytes) {
-		t.Fatalf("writeback fsync at length %d, before %d bytes more than %d were written", n, writebackBytes, before)
+		t.Fatalf("writeback at length %d, before %d bytes more than %d were written", n, writebackBytes, before)
+	}
+	if n := fsyncs.Load(); n != 0 {
+		t.Fatalf("%d fsyncs without a Flush, want none", n)
+	}
+	off, err := w.Flush()
+	if err != nil {
+		t.Fatal(err)
+	}
+	if n := fsyncs.Load(); n != 1 || off != int64(len(want)) {
+		t.Fatalf("Flush: %d fsyncs, offset %d; want 1 fsync, offset %d", n, off, len(want))
 	}
 }
 

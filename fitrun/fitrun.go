@@ -161,13 +161,16 @@ func Run(ctx context.Context, p Problem, s Settings) (*Result, error) {
 				return err
 			}
 		} else if fe > 1 && n%fe == 0 {
-			// Without waiting for the fsync, which at a fast model's pace
-			// costs more than the steps between flushes: the rows reach the
-			// disk while the next steps run (chains.Writer.StartFlush: when
-			// its goroutine is behind, a crash also loses what it has not
-			// written or fsynced yet, a few MB at most), and its errors come
-			// back from a later Append, Flush or Close. A checkpoint, which
-			// records the chain's length, waits (Flush).
+			// Without waiting, and without an fsync, which at a fast
+			// model's pace costs more than the steps between flushes: the
+			// rows are written and reach the disk while the next steps run
+			// (chains.Writer.StartFlush: when its goroutine is behind, a
+			// crash also loses what it has not written yet, a few MB at
+			// most), and its errors come back from a later Append, Flush or
+			// Close. A checkpoint, which records the chain's length, fsyncs
+			// and waits (Flush): resume truncates the chain to that length,
+			// so an fsync between checkpoints would keep only rows that a
+			// resume drops.
 			if err := w.StartFlush(); err != nil {
 				return err
 			}
