@@ -17,9 +17,9 @@ import (
 )
 
 // A Writer appends rows to a chain file. Append (or AppendEnsemble, for a
-// whole ensemble step) only copies rows into a batch of rows; a full batch
-// is handed to the Writer's background goroutine, which formats the
-// batches in order and writes each with one write call, so that formatting
+// whole ensemble step) only copies rows (or the step's slices) into a
+// batch; a full batch is handed to the Writer's background goroutine,
+// which formats the batches in order and writes each with one write call, so that formatting
 // runs beside the caller's work (on another core when one is free) while
 // the bytes are exactly those of formatting every value on the spot. A
 // fixed number of batches (batchesInFlight) circulate between the two,
@@ -43,6 +43,9 @@ type Writer struct {
 	f     *os.File // written only by the goroutine until it has stopped
 	ncol  int
 	batch []float64 // rows appended since the last hand-over
+	// walkers is the batch's layout: 0 for rows of ncol values, else
+	// records of ensemble steps of that many walkers (see AppendEnsemble).
+	walkers int
 
 	work  chan message     // batches and flush requests, in order, to the goroutine
 	free  chan []float64   // emptied batches, back from the goroutine
@@ -62,12 +65,13 @@ type Writer struct {
 	err error // first error the caller saw; every later call returns it
 }
 
-// A message hands the goroutine a batch of rows (rows may be empty) and
-// says what to do once they are written: nothing, start a writeback
-// (sync, for the flush request number seq; a later request makes it
-// redundant), or fsync and answer on reply (wait).
+// A message hands the goroutine a batch (rows may be empty; walkers is
+// its layout, as Writer.walkers) and says what to do once it is written:
+// nothing, start a writeback (sync, for the flush request number seq; a
+// later request makes it redundant), or fsync and answer on reply (wait).
 type message struct {
 	rows       []float64
+	walkers    int
 	sync, wait bool
 	seq        uint64
 }
@@ -78,12 +82,13 @@ type flushResult struct {
 }
 
 // batchFloats is the size of a batch in values (64 KiB): 1365 rows of the
-// smbhb model's 6 columns, about 43 steps of a 32-walker ensemble, formatted
-// into one write of about 115 KB. batchesInFlight batches circulate (4
-// MiB, made once per Writer): one being filled by Append, the others queued
-// for or being written by the goroutine, enough for the caller to go on at
-// a fast model's pace (about 2,700 steps of the smbhb demo, some 15 ms)
-// while the goroutine waits for a core or for a write held up by the disk.
+// smbhb model's 6 columns appended one by one, or 63 steps of its 32-walker
+// ensemble (129 values a step) appended whole, formatted into one write of
+// about 170 KB. batchesInFlight batches circulate (4 MiB, made once per
+// Writer): one being filled by Append, the others queued for or being
+// written by the goroutine, enough for the caller to go on at a fast
+// model's pace (about 4,000 steps of the smbhb demo, some 20 ms) while
+// the goroutine waits for a core or for a write held up by the disk.
 // With 8 batches (512 KiB) the smbhb demo's caller waited for a free batch
 // about 5 ms per 20000-step run, with 64 under 1 ms.
 //
@@ -104,7 +109,7 @@ const (
 // the caller's (5 to 15 us on this 2-core machine, about 600 times in a
 // 20000-step smbhb fit, some 4 % of its time). A batch then waits at most
 // idlePollMax before it is formatted, while the caller has batches left
-// for at least 15 ms of a fast model's steps (see batchFloats).
+// for at least 20 ms of a fast model's steps (see batchFloats).
 const (
 	idlePoll    = time.Millisecond
 	idlePollMax = 4 * time.Millisecond
@@ -157,10 +162,11 @@ type formatter struct {
 	writeback func() error // newWriteback(f, f.Sync), for the background
 	gate      *gate
 	ncol      int
-	off       int64  // bytes of the file written so far
-	dirty     int64  // bytes written since the last writeback or fsync began
-	out       []byte // a batch's text; its capacity fits the longest batch
-	err       error  // first write, writeback or fsync error; later batches are dropped
+	off       int64     // bytes of the file written so far
+	dirty     int64     // bytes written since the last writeback or fsync began
+	out       []byte    // a batch's text; its capacity fits the longest batch
+	row       []float64 // ncol values: a row of an ensemble record
+	err       error     // first write, writeback or fsync error; later batches are dropped
 
 	// kick asks writebackLoop for a writeback, whose error comes back on
 	// result; writingBack says that one is in progress, owed that another
@@ -299,7 +305,7 @@ func (fm *formatter) run(w *Writer) {
 			continue
 		}
 		if len(m.rows) > 0 {
-			fm.write(m.rows)
+			fm.write(m.rows, m.walkers)
 		}
 		switch {
 		case m.wait:
@@ -384,59 +390,89 @@ func (fm *formatter) awaitWriteback() {
 	}
 }
 
-// write formats rows, ncol values each, and writes them with one call.
-// A value's text depends only on its bits, so the text of a value (or row
-// tail) bit-identical to one formatted before is copied instead of
-// formatted again: the first value when it is that of the row before (the
-// step of an ensemble), and the rest of the row when it repeats the last
-// row with the same walker slot (a rejected proposal).
-func (fm *formatter) write(rows []float64) {
+// write formats a batch in the layout walkers (see Writer.walkers) and
+// writes its text with one call: rows of ncol values, or records of
+// ensemble steps, each turned into its rows (step, walker, ln_post,
+// ln_like, parameters) in fm.row before it is formatted.
+func (fm *formatter) write(vals []float64, walkers int) {
 	if fm.err != nil {
 		return
 	}
 	b := fm.out[:0]
 	ncol := fm.ncol
-	for i, left := 0, 0; i+ncol <= len(rows); i, left = i+ncol, left-1 {
-		if left == 0 {
-			fm.gate.pass()
-			left = holdRows
-		}
-		row := rows[i : i+ncol]
-		if u := math.Float64bits(row[0]); u == fm.firstBits && fm.firstLen > 0 {
-			b = append(b, fm.first[:fm.firstLen]...)
-		} else {
-			n := len(b)
-			b = appendFloat(b, row[0])
-			fm.firstBits, fm.firstLen = u, copy(fm.first[:], b[n:])
-		}
-		tail := row[1:]
-		k := -1
-		if ncol > 1 {
-			k = walkerSlot(row[1])
-		}
-		if k >= 0 {
-			if t := fm.tails.get(k, tail); t != nil {
-				b = append(b, t...)
-				continue
+	left := 0 // rows before the next look at the gate
+	if walkers == 0 {
+		for i := 0; i+ncol <= len(vals); i += ncol {
+			if left == 0 {
+				fm.gate.pass()
+				left = holdRows
 			}
+			left--
+			b = fm.appendRow(b, vals[i:i+ncol])
 		}
-		n := len(b)
-		for _, v := range tail {
-			b = append(b, ',')
-			b = appendFloat(b, v)
-		}
-		b = append(b, '\n')
-		if k >= 0 {
-			fm.tails.put(k, tail, b[n:])
+	} else {
+		dim := ncol - ensembleColumns
+		row := fm.row[:ncol]
+		for rec := 1 + walkers*(2+dim); len(vals) >= rec; vals = vals[rec:] {
+			lnPost, lnLike := vals[1:1+walkers], vals[1+walkers:1+2*walkers]
+			pos := vals[1+2*walkers : rec]
+			row[0] = vals[0]
+			for k := range walkers {
+				if left == 0 {
+					fm.gate.pass()
+					left = holdRows
+				}
+				left--
+				row[1], row[2], row[3] = float64(k), lnPost[k], lnLike[k]
+				copy(row[ensembleColumns:], pos[k*dim:(k+1)*dim])
+				b = fm.appendRow(b, row)
+			}
 		}
 	}
 	fm.gate.pass()
 	n, err := fm.f.Write(b)
 	fm.off += int64(n)
 	fm.dirty += int64(n)
+	fm.out = b[:0] // keeps its capacity, grown if a batch needed more
 	if err != nil {
 		fm.err = fmt.Errorf("chains: %s: %w", fm.path, err)
 	}
+}
+
+// appendRow appends the text of row (ncol values, then a newline) to b.
+// A value's text depends only on its bits, so the text of a value (or row
+// tail) bit-identical to one formatted before is copied instead of
+// formatted again: the first value when it is that of the row before (the
+// step of an ensemble), and the rest of the row when it repeats the last
+// row with the same walker slot (a rejected proposal).
+func (fm *formatter) appendRow(b []byte, row []float64) []byte {
+	if u := math.Float64bits(row[0]); u == fm.firstBits && fm.firstLen > 0 {
+		b = append(b, fm.first[:fm.firstLen]...)
+	} else {
+		n := len(b)
+		b = appendFloat(b, row[0])
+		fm.firstBits, fm.firstLen = u, copy(fm.first[:], b[n:])
+	}
+	tail := row[1:]
+	k := -1
+	if len(row) > 1 {
+		k = walkerSlot(row[1])
+	}
+	if k >= 0 {
+		if t := fm.tails.get(k, tail); t != nil {
+			return append(b, t...)
+		}
+	}
+	n := len(b)
+	for _, v := range tail {
+		b = append(b, ',')
+		b = appendFloat(b, v)
+	}
+	b = append(b, '\n')
+	if k >= 0 {
+		fm.tails.put(k, tail, b[n:])
+	}
+	return b
 }
 
 // sync fsyncs everything written so far and waits for it, after the
@@ -520,9 +556,22 @@ func newWriterSync(path string, f *os.File, ncol int, off int64, rows int, sync,
 	for range batchesInFlight - 1 {
 		w.free <- make([]float64, 0, rows*ncol)
 	}
-	fm := &formatter{path: path, f: f, fsync: sync, writeback: writeback, gate: w.gate, ncol: ncol, off: off, out: make([]byte, 0, rows*ncol*(maxValueText+1))}
+	fm := &formatter{path: path, f: f, fsync: sync, writeback: writeback, gate: w.gate, ncol: ncol, off: off,
+		out: make([]byte, 0, textBytes(ncol, rows)), row: make([]float64, ncol)}
 	go fm.run(w)
 	return w
+}
+
+// textBytes returns the room a formatter needs for the text of a batch of
+// rows rows of ncol values: the most rows a batch can hold (rows appended
+// one by one; more in ensemble records, which take ncol-2 values a row
+// and 1 a step) times the longest text of a row.
+func textBytes(ncol, rows int) int {
+	most := rows
+	if ncol >= ensembleColumns {
+		most = rows * ncol / (ncol - 2)
+	}
+	return most * ncol * (maxValueText + 1)
 }
 
 // Resume reopens a chain file written by a Writer, checks that its header
@@ -600,13 +649,28 @@ func (w *Writer) Append(row []float64) error {
 	if err := w.failed(); err != nil {
 		return err
 	}
+	if w.walkers != 0 && len(w.batch) > 0 {
+		if err := w.handOver(); err != nil {
+			return err
+		}
+	}
+	w.walkers = 0
 	w.batch = append(w.batch, row...)
 	if len(w.batch) == cap(w.batch) {
-		w.work <- message{rows: w.batch, sync: w.pending != 0, seq: w.pending}
-		w.pending = 0
-		w.batch = w.takeFree()
+		return w.handOver()
 	}
 	return nil
+}
+
+// handOver hands the batch, with the flush request waiting for it if any,
+// to the goroutine and takes a free one. It returns the goroutine's error
+// if it has met one: the goroutine publishes it before it gives back the
+// batch that met it.
+func (w *Writer) handOver() error {
+	w.work <- message{rows: w.batch, walkers: w.walkers, sync: w.pending != 0, seq: w.pending}
+	w.pending = 0
+	w.batch = w.takeFree()
+	return w.failed()
 }
 
 // ensembleColumns is the number of columns before the parameters in the
@@ -620,10 +684,13 @@ const ensembleColumns = 4
 // of columns less 4. The file gets exactly the bytes of calling Append with
 // each of these rows in turn (step and k are stored as float64, exact up
 // to 2^53), for one call and one check of the background's error per step
-// instead of per row. lnLike must hold len(lnPost) values and pos
-// len(lnPost)*dim, else nothing is appended and an error is returned. Like
-// Append, it returns an error the background met (rows of this step may
-// then be dropped, with every later one), and it does not allocate.
+// instead of per row. It copies the three slices whole, after the step,
+// into the batch (a record of 1+walkers*(2+dim) values), and the
+// goroutine makes the rows; a record larger than a batch is copied row by
+// row. lnLike must hold len(lnPost) values and pos len(lnPost)*dim, else
+// nothing is appended and an error is returned. Like Append, it returns
+// an error the background met (rows of this step may then be dropped,
+// with every later one), and it does not allocate.
 func (w *Writer) AppendEnsemble(step int, lnPost, lnLike, pos []float64) error {
 	w.gate.release()
 	if w.err != nil {
@@ -641,7 +708,32 @@ func (w *Writer) AppendEnsemble(step int, lnPost, lnLike, pos []float64) error {
 	if err := w.failed(); err != nil {
 		return err
 	}
+	if walkers == 0 {
+		return nil
+	}
 	s := float64(step)
+	if rec := 1 + walkers*(2+dim); rec <= cap(w.batch) {
+		if len(w.batch) > 0 && (w.walkers != walkers || len(w.batch)+rec > cap(w.batch)) {
+			if err := w.handOver(); err != nil {
+				return err
+			}
+		}
+		w.walkers = walkers
+		w.batch = append(w.batch, s)
+		w.batch = append(w.batch, lnPost...)
+		w.batch = append(w.batch, lnLike...)
+		w.batch = append(w.batch, pos...)
+		if len(w.batch)+rec > cap(w.batch) {
+			return w.handOver() // no room for the next step
+		}
+		return nil
+	}
+	if w.walkers != 0 && len(w.batch) > 0 {
+		if err := w.handOver(); err != nil {
+			return err
+		}
+	}
+	w.walkers = 0
 	b := w.batch
 	for k := range walkers {
 		// Each batch holds whole rows (its capacity is a multiple of
@@ -723,7 +815,7 @@ func (w *Writer) StartFlush() error {
 	} else {
 		select {
 		case next := <-w.free:
-			m.rows = w.batch
+			m.rows, m.walkers = w.batch, w.walkers
 			w.work <- m // room for every batch: waits at most for a request's turn
 			w.batch, w.pending = next, 0
 			return nil
@@ -744,7 +836,7 @@ func (w *Writer) Flush() (offset int64, err error) {
 	}
 	m := message{wait: true, seq: w.syncs.Add(1)}
 	if len(w.batch) > 0 {
-		m.rows = w.batch
+		m.rows, m.walkers = w.batch, w.walkers
 	}
 	w.work <- m
 	w.prompt()

@@ -185,19 +185,24 @@ func TestValueTextBound(t *testing.T) {
 	if n := len(strconv.AppendFloat(nil, longest[0], 'g', -1, 64)); n != maxValueText {
 		t.Errorf("%v: %d bytes of text, want maxValueText %d", longest[0], n, maxValueText)
 	}
-	const ncol, rows = 5, 64
+	const ncol, rows = 6, 64
 	f, err := os.Create(filepath.Join(t.TempDir(), "x"))
 	if err != nil {
 		t.Fatal(err)
 	}
 	defer f.Close()
-	fm := &formatter{f: f, ncol: ncol, out: make([]byte, 0, rows*ncol*(maxValueText+1))}
-	batch := make([]float64, rows*ncol)
-	for i := range batch {
-		batch[i] = math.Nextafter(longest[i%3], 0) // texts near the longest
-	}
-	if n := testing.AllocsPerRun(20, func() { fm.write(batch) }); n != 0 || fm.err != nil {
-		t.Errorf("formatting a batch of the longest values allocates %v times (error %v)", n, fm.err)
+	// Rows appended one by one, and ensemble records of 1 walker (76
+	// steps of 5 values) and of 95 (one step of 381 values), the most
+	// rows a batch of 384 values holds.
+	for _, walkers := range []int{0, 1, 95} {
+		fm := &formatter{f: f, ncol: ncol, out: make([]byte, 0, textBytes(ncol, rows)), row: make([]float64, ncol)}
+		batch := make([]float64, rows*ncol)
+		for i := range batch {
+			batch[i] = math.Nextafter(longest[i%3], 0) // texts near the longest
+		}
+		if n := testing.AllocsPerRun(20, func() { fm.write(batch, walkers) }); n != 0 || fm.err != nil {
+			t.Errorf("formatting a batch (layout %d walkers) of the longest values allocates %v times (error %v)", walkers, n, fm.err)
+		}
 	}
 }
 

@@ -157,6 +157,55 @@ func TestAppendEnsembleMatchesAppend(t *testing.T) {
 	}
 }
 
+// TestAppendEnsembleLayouts: one Writer takes ensemble steps of changing
+// sizes (1, 3, 5 and 200 walkers; 200 makes a record larger than the
+// smaller batches, appended row by row) mixed with rows appended one by
+// one and with flushes, so that batches switch between rows and records
+// of each size at every place; the file holds exactly strconv's text of
+// the same rows, and every Flush offset is its length so far.
+func TestAppendEnsembleLayouts(t *testing.T) {
+	const dim = 2
+	r := rand.New(rand.NewPCG(23, 24))
+	columns := ensembleColumnNames(dim)
+	sizes := []int{3, 3, 5, 1, 200, 3, 0, 5, 5, 200, 200, 1}
+	for _, batch := range []int{1, 4, 64, 1000} {
+		p := filepath.Join(t.TempDir(), "c.csv")
+		w := createBatched(t, p, columns, batch)
+		want, _ := header(columns)
+		for i := range 60 {
+			walkers := sizes[i%len(sizes)]
+			if walkers == 0 { // a row appended on its own
+				row := append([]float64{float64(i), 7}, chainLike(r, 2+dim)...)
+				if err := w.Append(row); err != nil {
+					t.Fatal(err)
+				}
+				want = strconvRows(want, row)
+				continue
+			}
+			e := randomEnsemble(r, i, 1, walkers, dim)[0]
+			if err := w.AppendEnsemble(e.step, e.lnPost, e.lnLike, e.xs); err != nil {
+				t.Fatal(err)
+			}
+			want = strconvRows(want, e.rows(dim)...)
+			switch i % 7 {
+			case 2:
+				off, err := w.Flush()
+				if err != nil {
+					t.Fatal(err)
+				}
+				if off != int64(len(want)) {
+					t.Fatalf("batch %d, step %d: Flush offset %d, text so far %d bytes", batch, i, off, len(want))
+				}
+			case 5:
+				if err := w.StartFlush(); err != nil {
+					t.Fatal(err)
+				}
+			}
+		}
+		closeAndCompare(t, w, p, want, fmt.Sprintf("batch %d", batch))
+	}
+}
+
 // firstDiff describes the first line where got and want differ.
 func firstDiff(got, want []byte) string {
 	g, w := strings.Split(string(got), "\n"), strings.Split(string(want), "\n")
@@ -655,14 +704,29 @@ func BenchmarkAppendCaller(b *testing.B) {
 
 // BenchmarkFormatter formats the rows of 200 steps of ensembleStream (a
 // 32-walker smbhb-like ensemble, 30 % of the walkers repeating their row)
-// as the Writer's goroutine does (formatter.write, to os.DevNull) and, for
-// reference, formatting every value (appendFloat per value, what the
-// goroutine did before it reused the text of repeated values); ns/op is
-// per batch of 6400 rows, alternated twice.
+// as the Writer's goroutine does (formatter.write, to os.DevNull), from
+// rows (Append's layout) and from ensemble records (AppendEnsemble's),
+// and, for reference, formatting every value (appendFloat per value, what
+// the goroutine did before it reused the text of repeated values); ns/op
+// is per batch of 6400 rows, alternated twice.
 func BenchmarkFormatter(b *testing.B) {
-	var rows []float64
-	for _, r := range ensembleStream(200) {
+	const walkers = 32
+	var rows, records []float64
+	stream := ensembleStream(200)
+	for i, r := range stream {
 		rows = append(rows, r...)
+		if i%walkers == 0 { // a step's record: step, ln_post, ln_like, parameters
+			step := stream[i : i+walkers]
+			records = append(records, r[0])
+			for c := 2; c < 4; c++ {
+				for _, w := range step {
+					records = append(records, w[c])
+				}
+			}
+			for _, w := range step {
+				records = append(records, w[4:]...)
+			}
+		}
 	}
 	f, err := os.OpenFile(os.DevNull, os.O_WRONLY, 0)
 	if err != nil {
@@ -670,12 +734,16 @@ func BenchmarkFormatter(b *testing.B) {
 	}
 	defer f.Close()
 	ncol := len(cols)
-	for _, name := range []string{"every-value", "formatter", "every-value#2", "formatter#2"} {
+	for _, name := range []string{"every-value", "formatter", "records", "every-value#2", "formatter#2", "records#2"} {
 		b.Run(name, func(b *testing.B) {
-			fm := &formatter{f: f, ncol: ncol, out: make([]byte, 0, len(rows)*(maxValueText+1))}
+			fm := &formatter{f: f, ncol: ncol, out: make([]byte, 0, len(rows)*(maxValueText+1)), row: make([]float64, ncol)}
+			vals, layout := rows, 0
+			if strings.HasPrefix(name, "records") {
+				vals, layout = records, walkers
+			}
 			for b.Loop() {
-				if strings.HasPrefix(name, "formatter") {
-					fm.write(rows)
+				if !strings.HasPrefix(name, "every-value") {
+					fm.write(vals, layout)
 					continue
 				}
 				out := fm.out[:0]

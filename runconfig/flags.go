@@ -70,7 +70,7 @@ func BindFit(fs *flag.FlagSet, cfg *Config) {
 	fs.IntVar(&cfg.Sampler.Temperatures, "temperatures", cfg.Sampler.Temperatures, "parallel-tempering rungs, geometric in beta from 1 to --beta-min, swapping walkers every step; helps multimodal posteriors mix; only the beta = 1 rung is written (1: no tempering)")
 	fs.Float64Var(&cfg.Sampler.BetaMin, "beta-min", cfg.Sampler.BetaMin, "inverse temperature of the hottest rung with --temperatures")
 	fs.StringVar(&cfg.Output.Dir, "out", cfg.Output.Dir, "output folder for chains and metadata; empty means runs/fit-MODEL")
-	fs.IntVar(&cfg.Output.FlushEvery, "flush-every", cfg.Output.FlushEvery, "steps between requests to write chain.csv and start its writeback to disk, made without waiting (1: write and fsync at every step, waiting); if the process dies it loses at most these steps plus those queued for the writer (at most 4 MiB of values, about 2,700 steps of 32 walkers and 2 parameters); checkpoints always fsync and wait, so a crash of the machine loses at most the steps after the last checkpoint, from which --resume continues")
+	fs.IntVar(&cfg.Output.FlushEvery, "flush-every", cfg.Output.FlushEvery, "steps between requests to write chain.csv and start its writeback to disk, made without waiting (1: write and fsync at every step, waiting); if the process dies it loses at most these steps plus those queued for the writer (at most 4 MiB of values, about 4,000 steps of 32 walkers and 2 parameters); checkpoints always fsync and wait, so a crash of the machine loses at most the steps after the last checkpoint, from which --resume continues")
 }
 
 // BindCompare registers the flags of the keys compare uses: not the model
