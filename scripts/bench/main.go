@@ -288,7 +288,7 @@ const (
 // the shares of the fastest run with the writer: csv is the time spent in
 // the writer's calls, csvWall the wall time the writer adds, that run's
 // time less the fastest run's without the writer (the writer formats and
-// fsyncs in the background, on another core when one is free). The
+// writes back in the background, on another core when one is free). The
 // fastest run of each kind is the one least slowed by other work on the
 // machine, which moves single runs by tens of percent.
 func fitShares(p *likelihood.Posterior, steps int) (shares, error) {
