@@ -19,9 +19,10 @@ import (
 // A Writer appends rows to a chain file. Append (or AppendEnsemble, for a
 // whole ensemble step) only copies rows (or the step's slices) into a
 // batch; a full batch is handed to the Writer's background goroutine,
-// which formats the batches in order and writes each with one write call, so that formatting
-// runs beside the caller's work (on another core when one is free) while
-// the bytes are exactly those of formatting every value on the spot. A
+// which formats the batches in order and writes each with one write call,
+// so that formatting runs beside the caller's work (on another core when
+// one is free) while the bytes are exactly those of formatting every value
+// on the spot. A
 // fixed number of batches (batchesInFlight) circulate between the two,
 // which bounds the memory and how far the goroutine may fall behind:
 // Append waits when they are all in use. The writebacks to the disk that
@@ -649,16 +650,25 @@ func (w *Writer) Append(row []float64) error {
 	if err := w.failed(); err != nil {
 		return err
 	}
-	if w.walkers != 0 && len(w.batch) > 0 {
-		if err := w.handOver(); err != nil {
-			return err
-		}
+	if err := w.setLayout(0); err != nil {
+		return err
 	}
-	w.walkers = 0
 	w.batch = append(w.batch, row...)
 	if len(w.batch) == cap(w.batch) {
 		return w.handOver()
 	}
+	return nil
+}
+
+// setLayout makes the batch take the layout walkers (see Writer.walkers),
+// handing it over first if it holds values in another layout.
+func (w *Writer) setLayout(walkers int) error {
+	if len(w.batch) > 0 && w.walkers != walkers {
+		if err := w.handOver(); err != nil {
+			return err
+		}
+	}
+	w.walkers = walkers
 	return nil
 }
 
@@ -713,12 +723,9 @@ func (w *Writer) AppendEnsemble(step int, lnPost, lnLike, pos []float64) error {
 	}
 	s := float64(step)
 	if rec := 1 + walkers*(2+dim); rec <= cap(w.batch) {
-		if len(w.batch) > 0 && (w.walkers != walkers || len(w.batch)+rec > cap(w.batch)) {
-			if err := w.handOver(); err != nil {
-				return err
-			}
+		if err := w.setLayout(walkers); err != nil {
+			return err
 		}
-		w.walkers = walkers
 		w.batch = append(w.batch, s)
 		w.batch = append(w.batch, lnPost...)
 		w.batch = append(w.batch, lnLike...)
@@ -728,31 +735,20 @@ func (w *Writer) AppendEnsemble(step int, lnPost, lnLike, pos []float64) error {
 		}
 		return nil
 	}
-	if w.walkers != 0 && len(w.batch) > 0 {
-		if err := w.handOver(); err != nil {
-			return err
-		}
+	if err := w.setLayout(0); err != nil {
+		return err
 	}
-	w.walkers = 0
-	b := w.batch
 	for k := range walkers {
 		// Each batch holds whole rows (its capacity is a multiple of
 		// ncol), so a row never straddles two batches.
-		b = append(b, s, float64(k), lnPost[k], lnLike[k])
-		b = append(b, pos[k*dim:(k+1)*dim]...)
-		if len(b) == cap(b) {
-			w.work <- message{rows: b, sync: w.pending != 0, seq: w.pending}
-			w.pending = 0
-			b = w.takeFree()
-			// The goroutine publishes an error before it gives back the
-			// batch that met it: Append would see it at its next call.
-			if err := w.failed(); err != nil {
-				w.batch = b
+		w.batch = append(w.batch, s, float64(k), lnPost[k], lnLike[k])
+		w.batch = append(w.batch, pos[k*dim:(k+1)*dim]...)
+		if len(w.batch) == cap(w.batch) {
+			if err := w.handOver(); err != nil {
 				return err
 			}
 		}
 	}
-	w.batch = b
 	return nil
 }
 

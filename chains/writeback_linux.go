@@ -16,10 +16,12 @@ import (
 // kernel starts writing the dirty pages and the call returns without
 // waiting for them, with neither the journal commit nor the flush of the
 // device's cache of an fsync. Made as often as the flush requests and the
-// writeback ask, fsyncs cost a fast fit about 20 ms of its 130 ms (the
-// bench's fit replica, smbhb demo, median of 25 runs alternated). Where
-// the file system or the kernel cannot do it (an error other than an I/O
-// error), it calls fsync (f.Sync but in tests) instead, from then on.
+// writeback ask, fsyncs slowed a fast fit: the bench's fit replica (smbhb
+// demo, 20000 steps) took 165-167 ms with them and 145-148 ms with this
+// writeback (medians of 25 runs alternated, in two sets; 126-133 ms
+// without a chain writer). Where the file system or the kernel cannot do
+// it (an error other than an I/O error), it calls fsync (f.Sync but in
+// tests) instead, from then on.
 func newWriteback(f *os.File, fsync func() error) func() error {
 	rc, err := f.SyscallConn()
 	if err != nil {
